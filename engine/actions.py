@@ -1,0 +1,316 @@
+"""What people do to a slot: rewrite, pin, annotate, suppress, revert, approve; and how a slot reads.
+
+Every action checks the slot's version when one is given (optimistic locking), records an event
+with the text before and after, and re-derives the slot's status by comparing its remaining
+human work with the current draft (the same rule a refresh applies).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+from sqlalchemy.orm import Session
+
+from engine import reconcile
+from engine.drafting import Draft as DraftText
+from engine.errors import Conflict, NotFound, StetlineError
+from engine.livefields import LiveFields, LiveFieldError
+from engine.loading import house_style
+from engine.reconcile import Basis, HumanWork, SlotState
+from engine.store import ops
+from engine.store.models import Approval, Draft, Layer, Slot, utcnow
+
+STATUSES = ("draft", "edited", "approved", "recheck", "suppressed")
+LAYER_TYPES = ("rewrite", "pin", "annotate", "suppress")
+
+
+def _slot(session: Session, slot_id: str) -> tuple[Slot, Draft]:
+    slot = ops.get_slot(session, slot_id, lock=True)
+    if slot is None:
+        raise NotFound(f"no statement {slot_id!r}; list them with: stetline list")
+    draft = ops.get_draft(session, slot.draft_id)
+    assert draft is not None
+    return slot, draft
+
+
+def _check_version(slot: Slot, version: int | None) -> None:
+    if version is not None and version != slot.version:
+        raise Conflict(
+            f"{slot.id} changed since you opened it (your version {version}, now {slot.version}); "
+            "reload it and apply your change again"
+        )
+
+
+def _as_text(draft: Draft) -> DraftText:
+    return DraftText(draft.slot_id, "", None, None, draft.text, draft.evidence, draft.claims, draft.interest, draft.phrasing)
+
+
+def _basis(draft: Draft) -> dict[str, Any]:
+    return {"evidence": draft.evidence, "claims": draft.claims, "text": draft.text}
+
+
+def published_text(session: Session, slot: Slot, draft: Draft, layers: list[Layer] | None = None,
+                   live: LiveFields | None = None) -> str | None:
+    """The text that would be published now: the text layer (live fields rendered), else the draft."""
+    if layers is None:
+        layers = ops.active_layers(session, slot.id)
+    if any(layer.type == "suppress" for layer in layers):
+        return None
+    text_layer = next((layer for layer in layers if layer.type in reconcile.TEXT_LAYERS), None)
+    if text_layer is None or text_layer.text is None:
+        return draft.text
+    if text_layer.type == "rewrite":
+        live = live or LiveFields(house_style(session)[0])
+        try:
+            return live.render(text_layer.text, draft.evidence)
+        except LiveFieldError:
+            return text_layer.text
+    return text_layer.text
+
+
+def restatus(session: Session, slot: Slot, draft: Draft) -> None:
+    """Re-derive a slot's status and recheck from its human work and current draft."""
+    layers = ops.active_layers(session, slot.id)
+    approval = ops.active_approval(session, slot.id)
+    work = [HumanWork(x.id, x.type, x.text, x.base_text, Basis.from_json(x.basis)) for x in layers]
+    if approval is not None:
+        work.append(HumanWork(approval.id, "approval", approval.text, None, Basis.from_json(approval.basis)))
+    state = SlotState(slot.id, slot.digest, False, "", work)
+    if slot.gone:
+        if not work:
+            slot.status, slot.recheck, slot.severity = "draft", None, 0
+        return
+    decision = reconcile.decide(state, _as_text(draft))
+    if decision is None:
+        slot.status = "draft" if not work else slot.status
+        return
+    slot.status = decision.status
+    slot.recheck = decision.recheck
+    slot.severity = decision.severity
+
+
+def _touch(slot: Slot) -> None:
+    slot.version += 1
+    slot.updated_at = utcnow()
+
+
+def _text_layer(session: Session, slot_id: str) -> Layer | None:
+    return next((x for x in ops.active_layers(session, slot_id) if x.type in reconcile.TEXT_LAYERS), None)
+
+
+def _drop_approval(session: Session, slot_id: str, by: str) -> None:
+    approval = ops.active_approval(session, slot_id)
+    if approval is not None:
+        ops.drop(session, approval, by)
+
+
+def rewrite(session: Session, slot_id: str, text: str, *, by: str, version: int | None = None) -> Slot:
+    """Replace a slot's text with a person's rewrite (live fields allowed)."""
+    text = text.strip()
+    if not text:
+        raise StetlineError("a rewrite cannot be empty; to leave the statement out, suppress it")
+    slot, draft = _slot(session, slot_id)
+    _check_version(slot, version)
+    LiveFields(house_style(session)[0]).render(text, draft.evidence)  # refuse template errors
+    before = published_text(session, slot, draft)
+    old = _text_layer(session, slot_id)
+    if old is not None:
+        ops.drop(session, old, by)
+    ops.add_layer(session, slot_id, "rewrite", text, draft.text, _basis(draft), by)
+    _drop_approval(session, slot_id, by)
+    session.flush()
+    restatus(session, slot, draft)
+    _touch(slot)
+    ops.add_event(session, by, "rewrite", slot_id, before=before, after=text)
+    return slot
+
+
+def pin(session: Session, slot_id: str, *, by: str, version: int | None = None) -> Slot:
+    """Keep the slot's current text word for word, numbers included."""
+    slot, draft = _slot(session, slot_id)
+    _check_version(slot, version)
+    before = published_text(session, slot, draft)
+    if before is None:
+        raise StetlineError(f"{slot_id} is suppressed; lift the suppression before pinning")
+    old = _text_layer(session, slot_id)
+    if old is not None:
+        ops.drop(session, old, by)
+    ops.add_layer(session, slot_id, "pin", before, draft.text, _basis(draft), by)
+    session.flush()
+    restatus(session, slot, draft)
+    _touch(slot)
+    ops.add_event(session, by, "pin", slot_id, before=before, after=before)
+    return slot
+
+
+def annotate(session: Session, slot_id: str, text: str, *, by: str, version: int | None = None) -> Slot:
+    """Attach a note (context, an anecdote) to a slot; the draft stays automatic."""
+    text = text.strip()
+    if not text:
+        raise StetlineError("a note cannot be empty")
+    slot, draft = _slot(session, slot_id)
+    _check_version(slot, version)
+    ops.add_layer(session, slot_id, "annotate", text, draft.text, _basis(draft), by)
+    session.flush()
+    restatus(session, slot, draft)
+    _touch(slot)
+    ops.add_event(session, by, "annotate", slot_id, after=text)
+    return slot
+
+
+def suppress(session: Session, slot_id: str, *, by: str, lift: bool = False, version: int | None = None) -> Slot:
+    """Leave a slot out of the publication (or, with ``lift``, put it back)."""
+    slot, draft = _slot(session, slot_id)
+    _check_version(slot, version)
+    current = [x for x in ops.active_layers(session, slot_id) if x.type == "suppress"]
+    before = published_text(session, slot, draft)
+    if lift:
+        if not current:
+            raise StetlineError(f"{slot_id} is not suppressed")
+        for layer in current:
+            ops.drop(session, layer, by)
+    elif current:
+        raise StetlineError(f"{slot_id} is already suppressed")
+    else:
+        ops.add_layer(session, slot_id, "suppress", None, draft.text, _basis(draft), by)
+    session.flush()
+    restatus(session, slot, draft)
+    _touch(slot)
+    ops.add_event(session, by, "unsuppress" if lift else "suppress", slot_id, before=before,
+                  after=published_text(session, slot, draft))
+    return slot
+
+
+def revert(session: Session, slot_id: str, *, by: str, version: int | None = None) -> Slot:
+    """Drop the slot's text layer (rewrite or pin): the draft shows again."""
+    slot, draft = _slot(session, slot_id)
+    _check_version(slot, version)
+    layer = _text_layer(session, slot_id)
+    if layer is None:
+        raise StetlineError(f"{slot_id} has no rewrite or pin to revert")
+    before = published_text(session, slot, draft)
+    ops.drop(session, layer, by)
+    _drop_approval(session, slot_id, by)
+    session.flush()
+    restatus(session, slot, draft)
+    _touch(slot)
+    ops.add_event(session, by, "revert", slot_id, before=before, after=draft.text)
+    return slot
+
+
+def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = False,
+            version: int | None = None) -> Slot:
+    """Sign off a slot against the current edition, optionally taking the proposed text first."""
+    slot, draft = _slot(session, slot_id)
+    _check_version(slot, version)
+    layers = ops.active_layers(session, slot_id)
+    if any(x.type == "suppress" for x in layers):
+        raise StetlineError(f"{slot_id} is suppressed: there is no text to approve")
+    before = published_text(session, slot, draft, layers)
+    reasons = list((slot.recheck or {}).get("reasons", []))
+    action = "approve"
+    if accept_proposed:
+        recheck = slot.recheck or {}
+        proposed = recheck.get("proposed")
+        if not proposed:
+            raise StetlineError(f"{slot_id} has no proposed text to accept")
+        if recheck.get("conflicts"):
+            raise StetlineError(
+                f"the proposed text of {slot_id} has a conflict; edit it (stetline rewrite) before approving"
+            )
+        text_layer = next((x for x in layers if x.type in reconcile.TEXT_LAYERS), None)
+        if text_layer is not None:
+            ops.drop(session, text_layer, by)
+            new_type = "pin" if text_layer.type == "pin" else "rewrite"
+            ops.add_layer(session, slot_id, new_type, proposed, draft.text, _basis(draft), by)
+        action = "accept"
+    for layer in layers:
+        if layer.dropped_at is None:
+            layer.basis = _basis(draft)
+    _drop_approval(session, slot_id, by)
+    session.flush()
+    after = published_text(session, slot, draft)
+    ops.add_approval(session, slot_id, after or "", _basis(draft), by)
+    slot.recheck, slot.severity = None, 0
+    slot.status = "approved"
+    _touch(slot)
+    ops.add_event(session, by, action, slot_id, before=before, after=after,
+                  detail={"reasons": reasons})
+    return slot
+
+
+# -- how a slot reads -----------------------------------------------------------------------
+
+@dataclass
+class SlotView:
+    """Everything about one slot that the CLI and the web app show."""
+
+    slot: Slot
+    draft: Draft
+    layers: list[Layer]
+    approval: Approval | None
+
+    def to_json(self, session: Session, live: LiveFields | None = None) -> dict[str, Any]:
+        """The slot as DESIGN's JSON contract gives it."""
+        text_layer = next((x for x in self.layers if x.type in reconcile.TEXT_LAYERS), None)
+        suppressed = any(x.type == "suppress" for x in self.layers)
+        recheck = None
+        if self.slot.recheck:
+            r = self.slot.recheck
+            recheck = {
+                "reasons": list(r.get("reasons", [])), "changes": list(r.get("changes", [])),
+                "proposed": r.get("proposed"), "clean": bool(r.get("clean")),
+                "conflicts": list(r.get("conflicts", [])), "severity": r.get("severity", 0),
+            }
+        return {
+            "slot": self.slot.id,
+            "kind": self.slot.kind,
+            "entity": self.slot.entity,
+            "topic": self.slot.topic,
+            "status": self.slot.status,
+            "text": published_text(session, self.slot, self.draft, self.layers, live),
+            "draft": self.draft.text,
+            "layer": None if text_layer is None else {
+                "type": text_layer.type, "text": text_layer.text, "by": text_layer.by, "at": _iso(text_layer.at),
+            },
+            "notes": [{"text": x.text, "by": x.by, "at": _iso(x.at)} for x in self.layers if x.type == "annotate"],
+            "suppressed": suppressed,
+            "recheck": recheck,
+            "evidence": self.draft.evidence,
+            "claims": self.draft.claims,
+            "version": self.slot.version,
+            "gone": self.slot.gone,
+            "interest": self.slot.interest,
+        }
+
+
+def _iso(at: Any) -> str:
+    return at.isoformat(timespec="seconds") + "Z" if at is not None else ""
+
+
+def view(session: Session, slot_id: str) -> SlotView:
+    """Everything about one slot."""
+    slot = ops.get_slot(session, slot_id)
+    if slot is None:
+        raise NotFound(f"no statement {slot_id!r}; list them with: stetline list")
+    draft = ops.get_draft(session, slot.draft_id)
+    assert draft is not None
+    return SlotView(slot, draft, ops.active_layers(session, slot_id), ops.active_approval(session, slot_id))
+
+
+def views(session: Session, f: ops.SlotFilter, *, order: str = "id", limit: int | None = None,
+          offset: int = 0) -> list[SlotView]:
+    """Many slots with their layers, loaded in bulk."""
+    rows = ops.list_slots(session, f, order=order, limit=limit, offset=offset)
+    layers = ops.layers_for(session, [s.id for s, _ in rows])
+    approvals = {a.slot_id: a for a in ops.all_active_approvals(session)} if rows else {}
+    return [SlotView(s, d, layers.get(s.id, []), approvals.get(s.id)) for s, d in rows if d is not None]
+
+
+def history(session: Session, slot_id: str) -> list[dict[str, Any]]:
+    """A slot's events, oldest first, as JSON objects."""
+    return [
+        {"at": _iso(e.at), "by": e.by, "action": e.action, "before": e.before, "after": e.after, "detail": e.detail}
+        for e in ops.events_for(session, slot_id)
+    ]

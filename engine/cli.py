@@ -1,0 +1,380 @@
+"""The ``stetline`` command: a thin shell that parses options, calls the engine and the store.
+
+Errors the engine raises for people become one message on stderr and exit code 1; nothing here
+holds business rules. Read commands never need ``--by``; commands that change or publish take it.
+"""
+
+from __future__ import annotations
+
+import functools
+import getpass
+import json
+import sys
+from pathlib import Path
+from typing import Any, Callable
+
+import click
+
+from engine import actions, loading, publish as publishing
+from engine import settings as settings_mod
+from engine.errors import StetlineError
+from engine.reconcile import REASONS
+from engine.store import ops
+from engine.workspace import Workspace, default_path, init_workspace, is_workspace, open_workspace
+
+
+def _default_by() -> str:
+    try:
+        return getpass.getuser()
+    except Exception:  # no login name on some containers
+        return "unknown"
+
+
+def handle_errors(fn: Callable[..., Any]) -> Callable[..., Any]:
+    """Turn the engine's errors into one clear message and exit code 1."""
+    @functools.wraps(fn)
+    def wrapper(*args: Any, **kwargs: Any) -> Any:
+        try:
+            return fn(*args, **kwargs)
+        except StetlineError as exc:
+            raise click.ClickException(str(exc)) from None
+        except OSError as exc:
+            raise click.ClickException(f"{exc.strerror or exc}: {exc.filename or ''}".rstrip(": ")) from None
+    return wrapper
+
+
+workspace_option = click.option(
+    "-w", "--workspace", "workspace", type=click.Path(file_okay=False, path_type=Path),
+    default=None, help="Workspace folder (default: $STETLINE_WORKSPACE or ./workspace).",
+)
+by_option = click.option("--by", default=_default_by, show_default="your login name",
+                         help="Who acts (recorded in the history).")
+
+
+def _open(path: Path | None) -> Workspace:
+    return open_workspace(path or default_path())
+
+
+def _echo_json(data: Any) -> None:
+    click.echo(json.dumps(data, indent=2, ensure_ascii=False))
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(package_name="stetline")
+def main() -> None:
+    """Draft, keep and recheck the statements of a recurring data report."""
+
+
+@main.command()
+@workspace_option
+@handle_errors
+def init(workspace: Path | None) -> None:
+    """Create a workspace (or bring an existing one to the newest schema)."""
+    ws = init_workspace(workspace or default_path())
+    click.echo(f"workspace ready: {ws.path}")
+
+
+@main.command()
+@click.argument("observations", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--topics", type=click.Path(dir_okay=False, path_type=Path), help="Topic metadata (CSV or XLSX).")
+@click.option("--entities", type=click.Path(dir_okay=False, path_type=Path), help="Entity metadata (CSV or XLSX).")
+@click.option("--edition", "label", help="Edition label (default: the latest period in the file).")
+@click.option("--dry-run", is_flag=True, help="Show what the load would do; write nothing.")
+@click.option("--json", "as_json", is_flag=True, help="Print the summary as JSON.")
+@workspace_option
+@by_option
+@handle_errors
+def load(observations: Path, topics: Path | None, entities: Path | None, label: str | None,
+         dry_run: bool, as_json: bool, workspace: Path | None, by: str) -> None:
+    """Load an edition: the first load, and every refresh."""
+    ws = _open(workspace)
+    summary = loading.load_edition(ws, observations, topics, entities, label=label, by=by, dry_run=dry_run)
+    if as_json:
+        _echo_json(summary.to_json())
+    else:
+        click.echo("\n".join(summary.lines()))
+
+
+@main.command()
+@workspace_option
+@by_option
+@handle_errors
+def redraft(workspace: Path | None, by: str) -> None:
+    """Redraft the current edition after a phrasing or house-style change."""
+    summary = loading.redraft(_open(workspace), by=by)
+    click.echo("\n".join(summary.lines()))
+
+
+@main.command()
+@click.option("--json", "as_json", is_flag=True, help="Print as JSON.")
+@workspace_option
+@handle_errors
+def status(as_json: bool, workspace: Path | None) -> None:
+    """Show the current edition and how many statements are in each status."""
+    ws = _open(workspace)
+    with ws.session() as session:
+        edition = ops.current_edition(session)
+        counts = ops.status_counts(session)
+        by_status = {s: counts.get(s, 0) for s in actions.STATUSES}
+        reasons = ops.recheck_reason_counts(session)
+        data = {
+            "edition": edition.label if edition else None,
+            "editions": len(ops.editions(session)),
+            "slots": sum(by_status.values()),
+            "by_status": by_status,
+            "recheck_reasons": {r: reasons.get(r, 0) for r in REASONS},
+        }
+    if as_json:
+        _echo_json(data)
+        return
+    click.echo(f"edition {data['edition'] or '(none loaded)'} · {data['editions']} edition(s) · {data['slots']} statements")
+    for s, n in by_status.items():
+        click.echo(f"  {s:<11} {n}")
+    for r, n in data["recheck_reasons"].items():
+        if n:
+            click.echo(f"    {r:<16} {n}")
+
+
+def _filter(kind: str | None, entity: str | None, topic: str | None, status_: str | None) -> ops.SlotFilter:
+    return ops.SlotFilter(kind=kind, entity=entity, topic=topic, status=status_)
+
+
+@main.command(name="list")
+@click.option("--kind", help="Only this statement kind.")
+@click.option("--entity", help="Only this entity key.")
+@click.option("--topic", help="Only this topic key.")
+@click.option("--status", "status_", type=click.Choice(actions.STATUSES), help="Only this status.")
+@click.option("--json", "as_json", is_flag=True, help="Print as JSON.")
+@workspace_option
+@handle_errors
+def list_(kind: str | None, entity: str | None, topic: str | None, status_: str | None,
+          as_json: bool, workspace: Path | None) -> None:
+    """List statements with their status and text."""
+    ws = _open(workspace)
+    with ws.session() as session:
+        rows = actions.views(session, _filter(kind, entity, topic, status_))
+        data = [v.to_json(session) for v in rows]
+    if as_json:
+        _echo_json(data)
+        return
+    for item in data:
+        click.echo(f"{item['slot']}  [{item['status']}]")
+        click.echo(f"    {item['text'] if item['text'] is not None else '(suppressed)'}")
+
+
+@main.command()
+@click.argument("slot")
+@click.option("--json", "as_json", is_flag=True, help="Print as JSON.")
+@workspace_option
+@handle_errors
+def show(slot: str, as_json: bool, workspace: Path | None) -> None:
+    """Show one statement: text, draft, layers, evidence, claims, recheck and history."""
+    ws = _open(workspace)
+    with ws.session() as session:
+        data = actions.view(session, slot).to_json(session)
+        data["history"] = actions.history(session, slot)
+    if as_json:
+        _echo_json(data)
+        return
+    click.echo(f"{data['slot']}  [{data['status']}]  version {data['version']}")
+    click.echo(f"text:  {data['text']}")
+    if data["layer"]:
+        click.echo(f"draft: {data['draft']}")
+        click.echo(f"{data['layer']['type']} by {data['layer']['by']} at {data['layer']['at']}")
+    for note in data["notes"]:
+        click.echo(f"note by {note['by']}: {note['text']}")
+    if data["recheck"]:
+        r = data["recheck"]
+        click.echo(f"recheck: {', '.join(r['reasons'])}")
+        for c in r["changes"]:
+            click.echo(f"    {c['fact']}: {c['old']} → {c['new']}")
+        if r["proposed"]:
+            click.echo(f"proposed ({'clean' if r['clean'] else 'needs a person'}): {r['proposed']}")
+    click.echo("evidence:")
+    for name, e in data["evidence"].items():
+        click.echo(f"    {name}: {e['shown']}  ({e['value']})")
+    click.echo("claims: " + json.dumps(data["claims"], ensure_ascii=False))
+    for h in data["history"]:
+        click.echo(f"  {h['at']}  {h['by']}  {h['action']}")
+
+
+@main.command(name="history")
+@click.argument("slot")
+@click.option("--json", "as_json", is_flag=True, help="Print as JSON.")
+@workspace_option
+@handle_errors
+def history_(slot: str, as_json: bool, workspace: Path | None) -> None:
+    """Show every recorded event of one statement."""
+    ws = _open(workspace)
+    with ws.session() as session:
+        actions.view(session, slot)
+        events = actions.history(session, slot)
+    if as_json:
+        _echo_json(events)
+        return
+    for h in events:
+        click.echo(f"{h['at']}  {h['by']:<12} {h['action']}")
+        if h["after"] is not None and h["after"] != h["before"]:
+            click.echo(f"    {h['after']}")
+
+
+def _act(workspace: Path | None, fn: Callable[..., Any], slot: str, **kwargs: Any) -> None:
+    ws = _open(workspace)
+    with ws.session() as session:
+        row = fn(session, slot, **kwargs)
+        click.echo(f"{row.id}: {row.status}")
+
+
+@main.command(name="rewrite")
+@click.argument("slot")
+@click.argument("text")
+@workspace_option
+@by_option
+@handle_errors
+def rewrite_(slot: str, text: str, workspace: Path | None, by: str) -> None:
+    """Replace a statement's text with your own (live fields such as {{ value }} allowed)."""
+    _act(workspace, actions.rewrite, slot, text=text, by=by)
+
+
+@main.command(name="pin")
+@click.argument("slot")
+@workspace_option
+@by_option
+@handle_errors
+def pin_(slot: str, workspace: Path | None, by: str) -> None:
+    """Keep a statement's current text word for word."""
+    _act(workspace, actions.pin, slot, by=by)
+
+
+@main.command(name="annotate")
+@click.argument("slot")
+@click.argument("text")
+@workspace_option
+@by_option
+@handle_errors
+def annotate_(slot: str, text: str, workspace: Path | None, by: str) -> None:
+    """Attach a note to a statement."""
+    _act(workspace, actions.annotate, slot, text=text, by=by)
+
+
+@main.command(name="suppress")
+@click.argument("slot")
+@click.option("--lift", is_flag=True, help="Put a suppressed statement back.")
+@workspace_option
+@by_option
+@handle_errors
+def suppress_(slot: str, lift: bool, workspace: Path | None, by: str) -> None:
+    """Leave a statement out of the publication."""
+    _act(workspace, actions.suppress, slot, by=by, lift=lift)
+
+
+@main.command(name="revert")
+@click.argument("slot")
+@workspace_option
+@by_option
+@handle_errors
+def revert_(slot: str, workspace: Path | None, by: str) -> None:
+    """Drop a statement's rewrite or pin: the draft shows again."""
+    _act(workspace, actions.revert, slot, by=by)
+
+
+@main.command(name="approve")
+@click.argument("slot")
+@click.option("--accept-proposed", is_flag=True, help="Take the proposed text first, then approve.")
+@workspace_option
+@by_option
+@handle_errors
+def approve_(slot: str, accept_proposed: bool, workspace: Path | None, by: str) -> None:
+    """Approve a statement against the current edition."""
+    _act(workspace, actions.approve, slot, by=by, accept_proposed=accept_proposed)
+
+
+@main.command(name="publish")
+@click.option("--format", "fmt", type=click.Choice(["md"]), default="md", show_default=True)
+@click.option("-o", "--output", type=click.Path(dir_okay=False, path_type=Path), help="File to write (default: stdout).")
+@click.option("--sections", type=click.Choice(["entity", "topic"]), default="entity", show_default=True)
+@click.option("--allow-recheck", is_flag=True, help="Publish statements in recheck with their last approved text.")
+@click.option("--require-approval", is_flag=True, help="Also refuse statements nobody approved.")
+@workspace_option
+@by_option
+@handle_errors
+def publish_(fmt: str, output: Path | None, sections: str, allow_recheck: bool, require_approval: bool,
+             workspace: Path | None, by: str) -> None:
+    """Publish the statements (refused while any statement waits in recheck)."""
+    ws = _open(workspace)
+    with ws.session() as session:
+        data, pub = publishing.publish(session, fmt, by=by, sections=sections, allow_recheck=allow_recheck,
+                                       require_approval=require_approval)
+    for w in pub.warnings:
+        click.echo(f"warning: {w}", err=True)
+    if output is None:
+        sys.stdout.write(data.decode("utf-8"))
+    else:
+        output.write_bytes(data)
+        click.echo(f"wrote {output} ({len(data):,} bytes)")
+
+
+@main.command(name="settings")
+@click.argument("key", required=False)
+@click.argument("value", required=False)
+@workspace_option
+@by_option
+@handle_errors
+def settings_(key: str | None, value: str | None, workspace: Path | None, by: str) -> None:
+    """Show the workspace settings, or read or set one."""
+    ws = _open(workspace)
+    with ws.session() as session:
+        values = settings_mod.with_defaults(ops.get_settings(session))
+        if key is None:
+            for spec in settings_mod.SETTINGS:
+                click.echo(f"{spec.key} = {json.dumps(values[spec.key])}")
+                click.echo(f"    {spec.help}")
+            return
+        spec = settings_mod.spec(key)
+        if value is None:
+            click.echo(json.dumps(values[key]))
+            return
+        parsed = spec.parse(value)
+        ops.put_setting(session, key, parsed)
+        ops.add_event(session, by, "setting", detail={"key": key, "old": values[key], "new": parsed})
+    click.echo(f"{key} = {json.dumps(parsed)}")
+    if key in settings_mod.STYLE_KEYS:
+        click.echo("this setting changes the wording of drafts: run `stetline redraft` to apply it")
+
+
+@main.command()
+@click.option("--host", default="127.0.0.1", show_default=True)
+@click.option("--port", default=5000, show_default=True, type=int)
+@workspace_option
+@handle_errors
+def serve(host: str, port: int, workspace: Path | None) -> None:
+    """Serve the web app for the workspace."""
+    from webapp import create_app  # the one place the engine imports the web app
+
+    ws = _open(workspace)
+    app = create_app(ws)
+    click.echo(f"Stetline is listening on http://{host}:{port}/ (Ctrl+C to stop)")
+    from werkzeug.serving import run_simple
+
+    run_simple(host, port, app, threaded=True, use_reloader=False)
+
+
+@main.command()
+@click.option("--no-serve", is_flag=True, help="Build the demo workspace and stop.")
+@click.option("--host", default="127.0.0.1", show_default=True)
+@click.option("--port", default=5000, show_default=True, type=int)
+@workspace_option
+@handle_errors
+def demo(no_serve: bool, host: str, port: int, workspace: Path | None) -> None:
+    """Build the demo workspace (two editions, example layers, rechecks) and serve it."""
+    from engine import demo as demo_mod
+
+    path = workspace or default_path()
+    if path.exists() and any(path.iterdir()) and not (is_workspace(path) and demo_mod.is_demo(path)):
+        raise StetlineError(f"{path} already holds other work; give an empty folder with -w")
+    ws = demo_mod.build(path, echo=click.echo)
+    if no_serve:
+        click.echo(f"demo workspace ready in {ws.path}; serve it with: stetline serve -w {ws.path}")
+        return
+    ctx = click.get_current_context()
+    ctx.invoke(serve, host=host, port=port, workspace=ws.path)

@@ -1,0 +1,468 @@
+"""Read and validate an edition's input files: observations, topic and entity metadata.
+
+Everything is checked before anything is written: the caller gets a :class:`Dataset` or a
+:class:`~engine.errors.ValidationError` listing every problem with its file, row and column.
+Rows are numbered as a spreadsheet shows them: the header is row 1, the first data row is row 2.
+This module reads files and returns frames; it never touches the database.
+"""
+
+from __future__ import annotations
+
+import difflib
+import io
+import zipfile
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import IO, Iterable
+
+import pandas as pd
+
+from engine import periods
+from engine.errors import Problem, ValidationError
+
+OBSERVATION_COLUMNS = ("entity", "topic", "period", "value")
+OBSERVATION_OPTIONAL = ("margin", "status")
+TOPIC_COLUMNS = ("topic", "label", "unit", "better", "decimals", "category", "target")
+TOPIC_OPTIONAL = ("weight", "source")
+ENTITY_COLUMNS = ("entity", "name", "group")
+ENTITY_OPTIONAL: tuple[str, ...] = ()
+
+STATUSES = ("final", "provisional", "estimated", "break", "confidential")
+DIRECTIONS = ("higher", "lower", "neutral")
+PERCENT = "percent"
+MAX_DECIMALS = 6
+MAX_SHOWN = 20  # how many bad values of one kind a message lists
+FORMULA_PREFIXES = ("=", "+", "@")
+
+Source = str | Path | IO[bytes]
+
+
+@dataclass
+class Dataset:
+    """A validated edition: long-format observations plus the metadata given with them.
+
+    ``observations`` has the columns entity, topic, period (labels as written), value and margin
+    (floats, NaN when empty), status (empty string when final or unstated), time (the period as
+    a float in years) and row (the row in the source file). ``topics`` and ``entities`` are the
+    metadata in force for this edition: the stored rows updated by any file given with it.
+    """
+
+    observations: pd.DataFrame
+    topics: pd.DataFrame
+    entities: pd.DataFrame
+    period_format: str
+    files: list[str] = field(default_factory=list)
+
+    @property
+    def latest_period(self) -> str:
+        """The latest period label in the observations."""
+        idx = self.observations["time"].idxmax()
+        return str(self.observations.at[idx, "period"])
+
+
+@dataclass
+class _Table:
+    """One input table as read: every cell a string, with its display name for messages."""
+
+    name: str
+    frame: pd.DataFrame
+
+
+def _display_name(source: Source, sheet: str | None = None) -> str:
+    base = Path(source).name if isinstance(source, (str, Path)) else getattr(source, "name", "upload")
+    base = Path(str(base)).name
+    return f"{base} [{sheet}]" if sheet else base
+
+
+def _read_bytes(source: Source) -> bytes:
+    if isinstance(source, (str, Path)):
+        return Path(source).read_bytes()
+    data = source.read()
+    return data if isinstance(data, bytes) else str(data).encode("utf-8")
+
+
+def _is_xlsx(source: Source, data: bytes) -> bool:
+    if isinstance(source, (str, Path)) and str(source).lower().endswith((".xlsx", ".xlsm")):
+        return True
+    return data[:4] == b"PK\x03\x04"
+
+
+def _read_csv(name: str, data: bytes) -> _Table:
+    if not data.strip(b"\xef\xbb\xbf \t\r\n"):
+        raise ValidationError([Problem(name, None, None, "the file is empty")])
+    try:
+        text = data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = data[: exc.start].count(b"\n") + 1
+        raise ValidationError([Problem(
+            name, line, None,
+            f"the file is not UTF-8 text (byte 0x{data[exc.start]:02x}); save it as UTF-8 CSV",
+        )]) from None
+    if "\x00" in text:
+        raise ValidationError([Problem(name, None, None, "the file holds NUL bytes: it is not a CSV file")])
+    try:
+        frame = pd.read_csv(
+            io.StringIO(text), dtype="str", keep_default_na=False, na_values=[],
+            skip_blank_lines=True, skipinitialspace=False,
+        )
+    except pd.errors.EmptyDataError:
+        raise ValidationError([Problem(name, None, None, "the file is empty")]) from None
+    except (pd.errors.ParserError, ValueError, OverflowError) as exc:
+        raise ValidationError([Problem(name, None, None, f"the file is not valid CSV: {_short(exc)}")]) from None
+    return _Table(name, frame)
+
+
+def _short(exc: Exception) -> str:
+    text = " ".join(str(exc).split())
+    text = text.replace("Error tokenizing data. C error: ", "")
+    return text[:200]
+
+
+def _read_xlsx_sheets(name: str, data: bytes) -> dict[str, pd.DataFrame]:
+    try:
+        sheets = pd.read_excel(
+            io.BytesIO(data), sheet_name=None, dtype="str", keep_default_na=False,
+            na_values=[], engine="openpyxl",
+        )
+    except (zipfile.BadZipFile, KeyError, OSError, ValueError, TypeError) as exc:
+        raise ValidationError([Problem(name, None, None, f"the workbook cannot be read: {_short(exc)}")]) from None
+    except Exception as exc:  # openpyxl raises many kinds on damaged files
+        raise ValidationError([Problem(name, None, None, f"the workbook cannot be read: {_short(exc)}")]) from None
+    return {str(k): v.fillna("").astype("str") for k, v in sheets.items()}
+
+
+def _pick_sheet(name: str, sheets: dict[str, pd.DataFrame], wanted: str, first: bool) -> _Table | None:
+    for sheet, frame in sheets.items():
+        if sheet.strip().lower() == wanted:
+            return _Table(f"{name} [{sheet}]", frame)
+    if first and sheets:
+        sheet, frame = next(iter(sheets.items()))
+        return _Table(f"{name} [{sheet}]", frame)
+    return None
+
+
+def _check_columns(table: _Table, required: Iterable[str], optional: Iterable[str]) -> list[Problem]:
+    required, optional = tuple(required), tuple(optional)
+    frame = table.frame
+    frame.columns = [str(c).strip().lstrip("\ufeff") for c in frame.columns]
+    problems: list[Problem] = []
+    known = required + optional
+    missing = [c for c in required if c not in frame.columns]
+    if missing:
+        problems.append(Problem(
+            table.name, 1, None,
+            f"missing column(s) {', '.join(missing)}; expected {', '.join(required)}"
+            + (f" (optional: {', '.join(optional)})" if optional else ""),
+        ))
+    seen: set[str] = set()
+    for col in frame.columns:
+        if col in seen:
+            problems.append(Problem(table.name, 1, col, "the column appears twice"))
+        seen.add(col)
+        if col not in known:
+            hint = difflib.get_close_matches(col, known, n=1)
+            tip = f"; did you mean {hint[0]!r}?" if hint else f"; expected {', '.join(known)}"
+            problems.append(Problem(table.name, 1, col, f"unknown column{tip}"))
+    if not problems and frame.empty:
+        problems.append(Problem(table.name, None, None, "the file has a header but no rows"))
+    return problems
+
+
+def _rows(frame: pd.DataFrame, mask: pd.Series) -> list[int]:
+    return [int(i) + 2 for i in frame.index[mask.to_numpy()][:MAX_SHOWN]]
+
+
+def _bad_cells(table: _Table, column: str, mask: pd.Series, what: str) -> list[Problem]:
+    frame = table.frame
+    hits = frame.index[mask.to_numpy()]
+    problems = [
+        Problem(table.name, int(i) + 2, column, f"{what}: {_quote(frame.at[i, column])}")
+        for i in hits[:MAX_SHOWN]
+    ]
+    if len(hits) > MAX_SHOWN:
+        problems.append(Problem(table.name, None, column, f"… and {len(hits) - MAX_SHOWN} more such rows"))
+    return problems
+
+
+def _quote(value: object) -> str:
+    text = str(value)
+    return repr(text if len(text) <= 40 else text[:40] + "…")
+
+
+def _numeric(table: _Table, column: str, allow_empty: bool, what: str) -> tuple[pd.Series, list[Problem]]:
+    raw = table.frame[column].astype("str").str.strip()
+    empty = raw == ""
+    values = pd.to_numeric(raw.where(~empty, None), errors="coerce").astype("float64")
+    bad = (~empty & (values.isna() | ~values.abs().lt(float("inf"))))
+    problems = _bad_cells(table, column, bad, f"{what} is not a number")
+    if not allow_empty:
+        problems += _bad_cells(table, column, empty, f"{what} is empty")
+    return values.where(~bad), problems
+
+
+def _keys(table: _Table, column: str) -> list[Problem]:
+    keys = table.frame[column].astype("str")
+    problems = _bad_cells(table, column, keys.str.strip() == "", "the key is empty")
+    problems += _bad_cells(table, column, keys.str.contains("/", regex=False), "a key may not contain '/'")
+    problems += _bad_cells(
+        table, column, keys.str.startswith(FORMULA_PREFIXES),
+        "a key may not start with '=', '+' or '@' (a spreadsheet would read it as a formula)",
+    )
+    problems += _bad_cells(table, column, keys.str.len() > 200, "the key is longer than 200 characters")
+    return problems
+
+
+def _duplicates(table: _Table, columns: list[str], what: str) -> list[Problem]:
+    frame = table.frame
+    dup = frame.duplicated(subset=columns, keep="first")
+    problems = []
+    for i in frame.index[dup.to_numpy()][:MAX_SHOWN]:
+        key = ", ".join(f"{c}={frame.at[i, c]!r}" for c in columns)
+        first = frame.index[(frame[columns] == frame.loc[i, columns]).all(axis=1).to_numpy()][0]
+        problems.append(Problem(table.name, int(i) + 2, None, f"duplicate {what} ({key}); first at row {int(first) + 2}"))
+    if int(dup.sum()) > MAX_SHOWN:
+        problems.append(Problem(table.name, None, None, f"… and {int(dup.sum()) - MAX_SHOWN} more duplicate rows"))
+    return problems
+
+
+def _parse_observations(table: _Table) -> tuple[pd.DataFrame | None, str, list[Problem]]:
+    problems = _check_columns(table, OBSERVATION_COLUMNS, OBSERVATION_OPTIONAL)
+    if problems:
+        return None, "", problems
+    frame = table.frame
+    for col in OBSERVATION_OPTIONAL:
+        if col not in frame.columns:
+            frame[col] = ""
+    problems += _keys(table, "entity") + _keys(table, "topic")
+    value, p = _numeric(table, "value", allow_empty=True, what="the value")
+    problems += p
+    margin, p = _numeric(table, "margin", allow_empty=True, what="the margin")
+    problems += p
+    problems += _bad_cells(table, "margin", margin < 0, "a margin (a 95% half-width) cannot be negative")
+    status = frame["status"].astype("str").str.strip().str.lower()
+    problems += _bad_cells(
+        table, "status", ~status.isin(("",) + STATUSES),
+        f"unknown status (expected empty or one of {', '.join(STATUSES)})",
+    )
+    period = frame["period"].astype("str").str.strip()
+    fmt = periods.classify(period)
+    problems += _bad_cells(
+        table, "period", fmt == "",
+        "not a period (expected a year like 2025, a quarter like 2025-Q1 or a month like 2025-03)",
+    )
+    used = sorted(set(fmt[fmt != ""]))
+    chosen = used[0] if used else ""
+    if len(used) > 1:
+        counts = fmt.value_counts()
+        chosen = str(counts[counts.index != ""].idxmax())
+        for other in used:
+            if other == chosen:
+                continue
+            first = int(frame.index[(fmt == other).to_numpy()][0]) + 2
+            problems.append(Problem(
+                table.name, first, "period",
+                f"mixed period formats: most rows are {chosen}s ({periods.EXAMPLES[chosen]}) "
+                f"but this one is a {other} ({period.iat[first - 2]!r}); use one format per file",
+            ))
+    if not problems:
+        problems += _duplicates(table, ["entity", "topic", "period"], "observation")
+    if problems:
+        return None, chosen, problems
+    out = pd.DataFrame({
+        "entity": frame["entity"].astype("str"),
+        "topic": frame["topic"].astype("str"),
+        "period": period,
+        "value": value,
+        "margin": margin,
+        "status": status.replace("final", ""),
+        "time": periods.times(period, chosen),
+        "row": frame.index.to_numpy() + 2,
+    })
+    return out, chosen, []
+
+
+def _parse_topics(table: _Table) -> tuple[pd.DataFrame | None, list[Problem]]:
+    problems = _check_columns(table, TOPIC_COLUMNS, TOPIC_OPTIONAL)
+    if problems:
+        return None, problems
+    frame = table.frame
+    for col in TOPIC_OPTIONAL:
+        if col not in frame.columns:
+            frame[col] = ""
+    problems += _keys(table, "topic")
+    better = frame["better"].astype("str").str.strip().str.lower()
+    problems += _bad_cells(table, "better", ~better.isin(DIRECTIONS), "'better' must be higher, lower or neutral")
+    decimals, p = _numeric(table, "decimals", allow_empty=False, what="decimals")
+    problems += p
+    problems += _bad_cells(
+        table, "decimals",
+        decimals.notna() & ((decimals % 1 != 0) | (decimals < 0) | (decimals > MAX_DECIMALS)),
+        f"decimals must be a whole number from 0 to {MAX_DECIMALS}",
+    )
+    target, p = _numeric(table, "target", allow_empty=True, what="the target")
+    problems += p
+    weight, p = _numeric(table, "weight", allow_empty=True, what="the weight")
+    problems += p
+    problems += _bad_cells(table, "weight", weight <= 0, "a weight must be greater than zero")
+    label = frame["label"].astype("str").str.strip()
+    problems += _bad_cells(table, "label", label == "", "the label is empty")
+    if not problems:
+        problems += _duplicates(table, ["topic"], "topic")
+    if problems:
+        return None, problems
+    out = pd.DataFrame({
+        "topic": frame["topic"].astype("str"),
+        "label": label,
+        "unit": frame["unit"].astype("str").str.strip(),
+        "better": better,
+        "decimals": decimals.astype("int64"),
+        "category": frame["category"].astype("str").str.strip(),
+        "target": target,
+        "weight": weight.fillna(1.0),
+        "source": frame["source"].astype("str").str.strip(),
+        "position": range(len(frame)),
+    })
+    return out, []
+
+
+def _parse_entities(table: _Table) -> tuple[pd.DataFrame | None, list[Problem]]:
+    problems = _check_columns(table, ENTITY_COLUMNS, ENTITY_OPTIONAL)
+    if problems:
+        return None, problems
+    frame = table.frame
+    problems += _keys(table, "entity")
+    name = frame["name"].astype("str").str.strip()
+    problems += _bad_cells(table, "name", name == "", "the name is empty")
+    if not problems:
+        problems += _duplicates(table, ["entity"], "entity")
+    if problems:
+        return None, problems
+    out = pd.DataFrame({
+        "entity": frame["entity"].astype("str"),
+        "name": name,
+        "group": frame["group"].astype("str").str.strip(),
+        "position": range(len(frame)),
+    })
+    return out, []
+
+
+def _unknown_keys(
+    obs: pd.DataFrame, column: str, known: Iterable[str], file: str, what: str,
+) -> list[Problem]:
+    known = list(known)
+    known_set = set(known)
+    unknown = obs.loc[~obs[column].isin(known_set)]
+    problems = []
+    for key, rows in unknown.groupby(column, sort=True)["row"]:
+        hint = difflib.get_close_matches(str(key), known, n=1, cutoff=0.5)
+        tip = f"; did you mean {hint[0]!r}?" if hint else ""
+        problems.append(Problem(
+            file, int(rows.iloc[0]), column,
+            f"{what} {str(key)!r} is not in the {what} metadata ({len(rows)} row(s)){tip}",
+        ))
+        if len(problems) >= MAX_SHOWN:
+            break
+    return problems
+
+
+def _percent_range(obs: pd.DataFrame, topics: pd.DataFrame, file: str) -> list[Problem]:
+    pct = set(topics.loc[topics["unit"] == PERCENT, "topic"])
+    bad = obs["topic"].isin(pct) & ((obs["value"] < 0) | (obs["value"] > 100))
+    return [
+        Problem(file, int(r.row), "value", f"topic {r.topic!r} is in percent, so its values lie from 0 to 100: {r.value:g}")
+        for r in obs.loc[bad].head(MAX_SHOWN).itertuples()
+    ]
+
+
+def _read_tables(
+    observations: Source, topics: Source | None, entities: Source | None,
+) -> tuple[_Table, _Table | None, _Table | None, list[str]]:
+    data = _read_bytes(observations)
+    name = _display_name(observations)
+    files = [name]
+    if _is_xlsx(observations, data):
+        sheets = _read_xlsx_sheets(name, data)
+        obs_t = _pick_sheet(name, sheets, "observations", first=True)
+        assert obs_t is not None
+        topics_t = _pick_sheet(name, sheets, "topics", first=False) if topics is None else None
+        entities_t = _pick_sheet(name, sheets, "entities", first=False) if entities is None else None
+    else:
+        obs_t, topics_t, entities_t = _read_csv(name, data), None, None
+    for source, slot in ((topics, "topics"), (entities, "entities")):
+        if source is None:
+            continue
+        raw = _read_bytes(source)
+        sub = _display_name(source)
+        files.append(sub)
+        if _is_xlsx(source, raw):
+            table = _pick_sheet(sub, _read_xlsx_sheets(sub, raw), slot, first=True)
+        else:
+            table = _read_csv(sub, raw)
+        if slot == "topics":
+            topics_t = table
+        else:
+            entities_t = table
+    return obs_t, topics_t, entities_t, files
+
+
+def load_dataset(
+    observations: Source,
+    topics: Source | None = None,
+    entities: Source | None = None,
+    *,
+    known_topics: pd.DataFrame | None = None,
+    known_entities: pd.DataFrame | None = None,
+) -> Dataset:
+    """Read and validate an edition's files; raise ValidationError listing every problem.
+
+    ``topics`` and ``entities`` may be omitted when the workspace already holds metadata, given
+    as ``known_topics`` / ``known_entities`` (frames shaped as this function returns them); new
+    metadata files replace the stored rows they name and keep the others. An XLSX workbook may
+    hold all three tables as sheets named observations, topics and entities.
+    """
+    problems: list[Problem] = []
+    try:
+        obs_t, topics_t, entities_t, files = _read_tables(observations, topics, entities)
+    except ValidationError:
+        raise
+    except FileNotFoundError as exc:
+        raise ValidationError([Problem(Path(str(exc.filename)).name, None, None, "the file does not exist")]) from None
+    except IsADirectoryError as exc:
+        raise ValidationError([Problem(str(exc.filename), None, None, "this is a folder, not a file")]) from None
+    obs, fmt, p = _parse_observations(obs_t)
+    problems += p
+    topic_frame = entity_frame = None
+    if topics_t is not None:
+        topic_frame, p = _parse_topics(topics_t)
+        problems += p
+    if entities_t is not None:
+        entity_frame, p = _parse_entities(entities_t)
+        problems += p
+    merged_topics = _merge(known_topics, topic_frame, "topic")
+    merged_entities = _merge(known_entities, entity_frame, "entity")
+    if obs is not None and not problems:
+        if merged_topics is None:
+            problems.append(Problem(obs_t.name, None, "topic", "no topic metadata: give a topics file on the first load"))
+        else:
+            problems += _unknown_keys(obs, "topic", merged_topics["topic"], obs_t.name, "topic")
+            problems += _percent_range(obs, merged_topics, obs_t.name)
+        if merged_entities is None:
+            problems.append(Problem(obs_t.name, None, "entity", "no entity metadata: give an entities file on the first load"))
+        else:
+            problems += _unknown_keys(obs, "entity", merged_entities["entity"], obs_t.name, "entity")
+    if problems or obs is None:
+        raise ValidationError(problems)
+    assert merged_topics is not None and merged_entities is not None
+    return Dataset(obs, merged_topics, merged_entities, fmt, files)
+
+
+def _merge(known: pd.DataFrame | None, new: pd.DataFrame | None, key: str) -> pd.DataFrame | None:
+    """Return stored metadata updated by a new file: new rows replace, the rest are kept."""
+    if new is None:
+        return known
+    if known is None or known.empty:
+        return new
+    kept = known.loc[~known[key].isin(set(new[key]))]
+    out = pd.concat([new, kept], ignore_index=True)
+    out["position"] = range(len(out))
+    return out

@@ -1,0 +1,204 @@
+"""Drafts: every statement kind turns the fact table into slots, evidence, claims and text.
+
+Each kind (a module under ``engine/kinds``) yields :class:`Candidate` objects: a slot with its
+evidence, claims, interest score and the variables its template needs. This module compiles every
+template once, picks a phrasing by a stable hash of the slot id, renders and tidies the text.
+Templates a team copied into its workspace (``phrasing/KIND.j2``) render in the sandbox.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+from collections.abc import Iterable, Iterator
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import jinja2
+from jinja2.sandbox import ImmutableSandboxedEnvironment
+
+from engine import phrasing
+from engine.facts import Facts
+from engine.phrasing import HouseStyle
+
+TEMPLATES = Path(__file__).parent / "kinds" / "templates"
+
+
+@dataclass
+class Candidate:
+    """A slot a kind wants to draft, before its text is rendered."""
+
+    slot: str
+    kind: str
+    entity: str | None
+    topic: str | None
+    evidence: dict[str, dict[str, Any]]
+    claims: dict[str, Any]
+    interest: float
+    variables: dict[str, Any] = field(default_factory=dict)
+
+
+@dataclass
+class Draft:
+    """The machine text of a slot in an edition, with its evidence and claims."""
+
+    slot: str
+    kind: str
+    entity: str | None
+    topic: str | None
+    text: str
+    evidence: dict[str, dict[str, Any]]
+    claims: dict[str, Any]
+    interest: float
+    phrasing: int
+
+    @property
+    def digest(self) -> str:
+        """A fingerprint of the text, evidence and claims: equal digests mean nothing changed."""
+        return digest(self.text, self.evidence, self.claims)
+
+
+def digest(text: str, evidence: dict[str, Any], claims: dict[str, Any]) -> str:
+    """Fingerprint a draft's text, evidence and claims."""
+    payload = json.dumps([text, evidence, claims], sort_keys=True, separators=(",", ":"), default=str)
+    return hashlib.blake2b(payload.encode("utf-8"), digest_size=16).hexdigest()
+
+
+def slot_id(kind: str, entity: str | None = None, topic: str | None = None) -> str:
+    """The slot id: the kind, then the entity key if any, then the topic key if any, joined by '/'."""
+    return "/".join(part for part in (kind, entity, topic) if part is not None)
+
+
+def phrasing_index(slot: str, choices: int) -> int:
+    """The phrasing a slot uses: a stable hash of its id, so the wording keeps across editions."""
+    if choices <= 1:
+        return 0
+    h = hashlib.blake2b(slot.encode("utf-8"), digest_size=4).digest()
+    return int.from_bytes(h, "big") % choices
+
+
+def ev(value: Any, shown: str) -> dict[str, Any]:
+    """One evidence entry: the raw value (JSON-safe) and the text the reader sees."""
+    if isinstance(value, float):
+        value = None if math.isnan(value) else round(value, 10)
+    return {"value": value, "shown": shown}
+
+
+@dataclass
+class Context:
+    """What the kinds draw on: the facts, metadata lookups, house style and wording helpers."""
+
+    facts: Facts
+    topics: dict[str, dict[str, Any]]
+    entities: dict[str, dict[str, Any]]
+    style: HouseStyle
+    entity_noun: str
+    edition: str = ""
+
+    @property
+    def entity_nouns(self) -> str:
+        """The plural of the entity noun ("towns")."""
+        return phrasing.noun_plural(self.entity_noun, 2)
+
+    def of_n(self, n: int) -> str:
+        """'14 towns', 'three towns'."""
+        return phrasing.plural(int(n), self.entity_noun, self.style)
+
+    def name(self, entity: str) -> str:
+        """An entity's display name."""
+        return str(self.entities.get(entity, {}).get("name", entity))
+
+    def names(self, keys: Iterable[str]) -> str:
+        """'A, B and C' of entity names."""
+        return phrasing.join([self.name(k) for k in keys], self.style)
+
+    def label(self, topic: str) -> str:
+        """A topic's label as written, for the start of a sentence."""
+        return str(self.topics[topic]["label"])
+
+    def lower_label(self, topic: str) -> str:
+        """A topic's label for the middle of a sentence (acronyms kept)."""
+        return lower_first(self.label(topic))
+
+    def value(self, topic: str, x: float) -> str:
+        """A value of a topic as shown: its decimals and unit."""
+        meta = self.topics[topic]
+        return phrasing.value(float(x), str(meta["unit"]), int(meta["decimals"]), self.style)
+
+    def amount(self, topic: str, x: float) -> str:
+        """The size of a difference in the topic's own terms: points for percent, else unit."""
+        meta = self.topics[topic]
+        if meta["unit"] == "percent":
+            return phrasing.points(abs(float(x)), int(meta["decimals"]), self.style)
+        return phrasing.value(abs(float(x)), str(meta["unit"]), int(meta["decimals"]), self.style)
+
+
+def possessive(name: str) -> str:
+    """'North Quay's', 'Shellby Sands'' (common practice for names ending in s)."""
+    return f"{name}'" if name.endswith("s") else f"{name}'s"
+
+
+def lower_first(text: str) -> str:
+    """Lower-case the first letter unless the first word looks like an acronym (GP, NHS)."""
+    if len(text) > 1 and text[0].isupper() and not text[1].isupper():
+        return text[0].lower() + text[1:]
+    return text
+
+
+class Renderer:
+    """The compiled templates of every kind; workspace copies render in the sandbox."""
+
+    def __init__(self, style: HouseStyle, workspace_dir: Path | None = None) -> None:
+        filters = phrasing.make_filters(style)
+        filters["and_list"] = filters.pop("join")  # keep Jinja's own join filter
+        filters["lower_first"] = lower_first
+        filters["possessive"] = possessive
+        self._builtin = jinja2.Environment(
+            loader=jinja2.FileSystemLoader(str(TEMPLATES)), autoescape=False,
+            undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True,
+        )
+        self._builtin.filters.update(filters)
+        self._sandbox: jinja2.Environment | None = None
+        self._workspace_dir = workspace_dir
+        if workspace_dir is not None and workspace_dir.is_dir():
+            self._sandbox = ImmutableSandboxedEnvironment(
+                loader=jinja2.FileSystemLoader(str(workspace_dir)), autoescape=False,
+                undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True,
+            )
+            self._sandbox.filters.update(filters)
+        self._cache: dict[str, jinja2.Template] = {}
+
+    def template(self, kind: str) -> jinja2.Template:
+        """The compiled template of a kind: the workspace's copy if there is one."""
+        if kind not in self._cache:
+            name = f"{kind}.j2"
+            if self._sandbox is not None and self._workspace_dir and (self._workspace_dir / name).exists():
+                self._cache[kind] = self._sandbox.get_template(name)
+            else:
+                self._cache[kind] = self._builtin.get_template(name)
+        return self._cache[kind]
+
+    def render(self, kind: str, variables: dict[str, Any]) -> str:
+        """Render a kind's template and tidy the spacing."""
+        return phrasing.tidy(self.template(kind).render(variables))
+
+
+def builtin_template(kind: str) -> str:
+    """The text of a kind's built-in template (for copying into a workspace)."""
+    return (TEMPLATES / f"{kind}.j2").read_text(encoding="utf-8")
+
+
+def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterator[Draft]:
+    """Draft every slot of every kind, in kind order."""
+    for kind in kinds:
+        template = renderer.template(kind.KIND)
+        for c in kind.candidates(ctx):
+            choice = phrasing_index(c.slot, kind.PHRASINGS)
+            text = phrasing.tidy(template.render(c.variables, p=choice, ev=_shown(c.evidence), c=c.claims))
+            yield Draft(c.slot, c.kind, c.entity, c.topic, text, c.evidence, c.claims, round(c.interest, 4), choice)
+
+
+def _shown(evidence: dict[str, dict[str, Any]]) -> dict[str, str]:
+    return {name: entry["shown"] for name, entry in evidence.items()}

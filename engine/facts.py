@@ -1,0 +1,268 @@
+"""The fact table of an edition: one vectorised pass over the observations (group-by, rank, shift).
+
+Facts are numbers and labels computed from observations: each entity × topic cell's latest value,
+previous value, change, rank, group mean, gap to target …; each topic's leaders and movement;
+each entity's composite score. Nothing here loops over observations in Python, formats text or
+touches the database.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from engine.dataset import PERCENT
+
+WITHHELD = "confidential"
+BREAK = "break"
+#: the statuses whose values come with a caveat
+CAVEAT_STATUSES = ("provisional", "estimated")
+
+
+@dataclass
+class Facts:
+    """The facts of one edition.
+
+    ``cells``: one row per entity × topic pair present in the observations, at the topic's latest
+    period. ``topics``: one row per topic with its ranking and movement facts. ``entities``: one
+    row per entity with its composite score. ``series``: the observations sorted by entity, topic
+    and time, for statements about the run of a series.
+    """
+
+    cells: pd.DataFrame
+    topics: pd.DataFrame
+    entities: pd.DataFrame
+    series: pd.DataFrame
+    latest_period: str
+
+
+def round_half_up(values: pd.Series | np.ndarray, decimals: pd.Series | np.ndarray | int) -> np.ndarray:
+    """Round every value half away from zero at its decimals, as the displayed text does."""
+    x = np.asarray(values, dtype="float64")
+    factor = np.power(10.0, np.asarray(decimals, dtype="float64"))
+    return np.sign(x) * np.floor(np.abs(x) * factor + 0.5 + 1e-9) / factor
+
+
+def _sign(better: pd.Series) -> pd.Series:
+    return better.map({"higher": 1.0, "lower": -1.0, "neutral": 0.0}).astype("float64")
+
+
+def compute_facts(
+    observations: pd.DataFrame,
+    topics: pd.DataFrame,
+    entities: pd.DataFrame,
+    earlier: pd.DataFrame | None = None,
+) -> Facts:
+    """Compute the fact table of an edition from validated observations and metadata.
+
+    ``earlier`` holds the previous edition's observations (entity, topic, period, value); a
+    previous-period value that differs from it is marked as revised.
+    """
+    obs = observations.sort_values(["entity", "topic", "time"], kind="stable").reset_index(drop=True)
+    meta = topics.set_index("topic")
+    groups = entities.set_index("entity")["group"]
+    names = entities.set_index("entity")["name"]
+
+    usable = obs["value"].notna() & (obs["status"] != WITHHELD)
+    obs = obs.assign(usable=usable, shown_value=obs["value"].where(usable))
+    keys = ["entity", "topic"]
+    grouped = obs.groupby(keys, sort=False)
+    obs["prev_period"] = grouped["period"].shift(1)
+    obs["prev_time"] = grouped["time"].shift(1)
+    obs["prev_value"] = grouped["shown_value"].shift(1)
+    obs["prev_margin"] = grouped["margin"].shift(1)
+    obs["prev_status"] = grouped["status"].shift(1)
+
+    topic_latest = obs.groupby("topic")["time"].max()
+    obs["topic_time"] = obs["topic"].map(topic_latest)
+    latest_rows = obs.loc[obs["time"] == obs["topic_time"]]
+
+    cells = obs[keys].drop_duplicates().reset_index(drop=True)
+    cells = cells.merge(latest_rows.drop(columns=["topic_time"]), on=keys, how="left")
+    period_of_topic = obs.loc[obs["time"] == obs["topic_time"]].groupby("topic")["period"].first()
+    cells["period"] = cells["topic"].map(period_of_topic)
+    cells["time"] = cells["topic"].map(topic_latest)
+    cells["status"] = cells["status"].fillna("missing")
+    cells.loc[cells["value"].isna() & (cells["status"] == ""), "status"] = "missing"
+    cells["usable"] = cells["usable"].astype("boolean").fillna(False).astype("bool")
+    cells["value"] = cells["shown_value"]
+
+    cells["group"] = cells["entity"].map(groups).fillna("")
+    cells["name"] = cells["entity"].map(names).fillna(cells["entity"])
+    cells["decimals"] = cells["topic"].map(meta["decimals"]).astype("int64")
+    cells["better"] = cells["topic"].map(meta["better"])
+    cells["unit"] = cells["topic"].map(meta["unit"])
+    cells["target"] = cells["topic"].map(meta["target"])
+    cells["sign"] = _sign(cells["better"])
+
+    _ranks(cells)
+    _changes(cells)
+    _revisions(cells, earlier)
+    topic_facts = _topic_facts(cells, meta)
+    entity_facts = _entity_facts(cells, meta, entities)
+    latest = str(obs.loc[obs["time"].idxmax(), "period"]) if len(obs) else ""
+    series = obs[["entity", "topic", "period", "time", "value", "margin", "status", "usable"]]
+    return Facts(cells, topic_facts, entity_facts, series, latest)
+
+
+def _ranks(cells: pd.DataFrame) -> None:
+    """Competition ranks (1, 2, 2, 4), best first; neutral topics rank the highest first."""
+    direction = cells["sign"].where(cells["sign"] != 0, 1.0)
+    score = cells["value"].where(cells["usable"]) * direction
+    cells["score"] = score
+    by_topic = score.groupby(cells["topic"])
+    cells["rank"] = by_topic.rank(method="min", ascending=False)
+    cells["rank_of"] = by_topic.transform("count").astype("int64")
+    cells["worst_rank"] = score.groupby(cells["topic"]).rank(method="min", ascending=True)
+    by_group = score.groupby([cells["topic"], cells["group"]])
+    cells["group_rank"] = by_group.rank(method="min", ascending=False)
+    cells["group_rank_of"] = by_group.transform("count").astype("int64")
+    # direction-aware percentile: 1 for the best, 0 for the worst (0.5 when alone)
+    span = (cells["rank_of"] - 1).where(cells["rank_of"] > 1)
+    cells["percentile"] = (1 - (cells["rank"] - 1) / span).where(span.notna(), 0.5)
+    cells.loc[cells["rank"].isna(), "percentile"] = np.nan
+    cells["band"] = np.floor(4 * (cells["rank"] - 1) / cells["rank_of"].where(cells["rank_of"] > 0))
+    value = cells["value"].where(cells["usable"])
+    cells["group_mean"] = value.groupby([cells["topic"], cells["group"]]).transform("mean")
+    cells["all_mean"] = value.groupby(cells["topic"]).transform("mean")
+    cells["group_gap"] = cells["value"] - cells["group_mean"]
+    cells["all_gap"] = cells["value"] - cells["all_mean"]
+    cells["target_gap"] = cells["value"] - cells["target"]
+    cells["best"] = cells["rank"] == 1
+    cells["worst"] = (cells["worst_rank"] == 1) & (cells["rank_of"] > 1)
+
+
+def _changes(cells: pd.DataFrame) -> None:
+    """Change since the previous period of the series, and whether it counts as a change."""
+    has_prev = cells["prev_value"].notna() & cells["value"].notna() & cells["usable"]
+    broken = cells["status"] == BREAK
+    cells["change_known"] = has_prev & ~broken
+    cells["change"] = (cells["value"] - cells["prev_value"]).where(cells["change_known"])
+    base = cells["prev_value"].abs()
+    cells["change_rel"] = (cells["change"] / base).where(base > 0)
+    cells["years"] = cells["time"] - cells["prev_time"]
+    both = cells["margin"].notna() & cells["prev_margin"].notna()
+    threshold = np.sqrt(cells["margin"] ** 2 + cells["prev_margin"] ** 2)
+    significant = pd.Series(pd.NA, index=cells.index, dtype="boolean")
+    significant[both & cells["change_known"]] = (cells["change"].abs() > threshold)[both & cells["change_known"]]
+    cells["significant"] = significant
+    shown_now = round_half_up(cells["value"], cells["decimals"])
+    shown_before = round_half_up(cells["prev_value"], cells["decimals"])
+    flat = (shown_now == shown_before) | (significant.fillna(True) == False)  # noqa: E712
+    step = np.where(flat, 0.0, np.sign(cells["change"]))
+    direction = pd.Series(np.select([step > 0, step < 0], ["up", "down"], "flat"), index=cells.index)
+    cells["direction"] = direction.where(cells["change_known"], "unknown")
+    moved = cells["direction"].isin(["up", "down"])
+    good = np.sign(cells["change"]) * cells["sign"] > 0
+    better = np.select(
+        [~cells["change_known"] | (cells["sign"] == 0), ~moved, good],
+        ["n/a", "steady", "improved"], "worsened",
+    )
+    cells["better_change"] = better
+
+
+def _revisions(cells: pd.DataFrame, earlier: pd.DataFrame | None) -> None:
+    """Mark previous-period values that differ from the value the last edition held."""
+    cells["revised_from"] = np.nan
+    if earlier is None or earlier.empty:
+        return
+    held = earlier.rename(columns={"period": "prev_period", "value": "held_value"})
+    held = held[["entity", "topic", "prev_period", "held_value"]]
+    merged = cells[["entity", "topic", "prev_period", "prev_value", "decimals"]].merge(
+        held, on=["entity", "topic", "prev_period"], how="left",
+    )
+    differs = merged["held_value"].notna() & (
+        round_half_up(merged["held_value"], merged["decimals"])
+        != round_half_up(merged["prev_value"], merged["decimals"])
+    )
+    cells["revised_from"] = merged["held_value"].where(differs).to_numpy()
+
+
+def _topic_facts(cells: pd.DataFrame, meta: pd.DataFrame) -> pd.DataFrame:
+    """Per topic: how many report, the best and worst entities, and how many moved which way."""
+    usable = cells.loc[cells["usable"]]
+    by = usable.groupby("topic")
+    out = pd.DataFrame(index=meta.index)
+    out["period"] = cells.groupby("topic")["period"].first()
+    out["reporting"] = by.size()
+    out["reporting"] = out["reporting"].fillna(0).astype("int64")
+    out["best_value"] = by["score"].max() * usable.groupby("topic")["sign"].first().replace(0, 1)
+    out["worst_value"] = by["score"].min() * usable.groupby("topic")["sign"].first().replace(0, 1)
+    out["leaders"] = usable.loc[usable["best"]].groupby("topic")["entity"].agg(lambda s: sorted(s))
+    out["laggards"] = usable.loc[usable["worst"]].groupby("topic")["entity"].agg(lambda s: sorted(s))
+    out["mean"] = by["value"].mean()
+    counts = cells.loc[cells["change_known"]].groupby(["topic", "better_change"]).size().unstack(fill_value=0)
+    moves = cells.loc[cells["change_known"]].groupby(["topic", "direction"]).size().unstack(fill_value=0)
+    for col in ("improved", "worsened", "steady"):
+        out[col] = counts[col] if col in counts else 0
+    for col in ("up", "down", "flat"):
+        out[col] = moves[col] if col in moves else 0
+    out[["improved", "worsened", "steady", "up", "down", "flat"]] = (
+        out[["improved", "worsened", "steady", "up", "down", "flat"]].fillna(0).astype("int64")
+    )
+    out["compared"] = cells.loc[cells["change_known"]].groupby("topic").size()
+    out["compared"] = out["compared"].fillna(0).astype("int64")
+    out["mean_change"] = cells.loc[cells["change_known"]].groupby("topic")["change"].mean()
+    for col in ("leaders", "laggards"):
+        out[col] = out[col].apply(lambda v: v if isinstance(v, list) else [])
+    return out
+
+
+def composite_scores(cells: pd.DataFrame, meta: pd.DataFrame) -> pd.DataFrame:
+    """Composite score per entity by the OECD/JRC Handbook (2008) min-max method, 0 to 100.
+
+    Each non-neutral topic's latest values are rescaled to 0..1 over the entities' range (lower-
+    is-better topics inverted), weighted by the topic's weight (1 unless given), and averaged
+    over the topics the entity reports; topics with no spread are left out.
+    """
+    use = cells.loc[cells["usable"] & (cells["sign"] != 0), ["entity", "topic", "value", "sign"]].copy()
+    lo = use.groupby("topic")["value"].transform("min")
+    hi = use.groupby("topic")["value"].transform("max")
+    span = hi - lo
+    use = use.loc[span > 0]
+    lo, hi, span = lo[use.index], hi[use.index], span[use.index]
+    norm = np.where(use["sign"] > 0, (use["value"] - lo) / span, (hi - use["value"]) / span)
+    use["norm"] = norm
+    use["weight"] = use["topic"].map(meta["weight"]).fillna(1.0).astype("float64")
+    use["weighted"] = use["norm"] * use["weight"]
+    by = use.groupby("entity")
+    out = pd.DataFrame({
+        "composite": 100 * by["weighted"].sum() / by["weight"].sum(),
+        "composite_topics": by.size(),
+    })
+    out["composite_rank"] = out["composite"].rank(method="min", ascending=False)
+    out["composite_of"] = int(out["composite"].notna().sum())
+    return out
+
+
+def _entity_facts(cells: pd.DataFrame, meta: pd.DataFrame, entities: pd.DataFrame) -> pd.DataFrame:
+    """Per entity: composite score and rank, strongest and weakest topics, biggest moves."""
+    present = entities.loc[entities["entity"].isin(set(cells["entity"]))].set_index("entity")
+    out = present[["name", "group"]].join(composite_scores(cells, meta), how="left")
+    rated = cells.loc[cells["percentile"].notna() & (cells["sign"] != 0)]
+    rated = rated.assign(position=rated["topic"].map(meta["position"]))
+    strongest = rated.sort_values(["percentile", "position"], ascending=[False, True]).groupby("entity").head(1)
+    weakest = rated.sort_values(["percentile", "position"], ascending=[True, True]).groupby("entity").head(1)
+    out["strongest"] = strongest.set_index("entity")["topic"]
+    out["strongest_percentile"] = strongest.set_index("entity")["percentile"]
+    out["weakest"] = weakest.set_index("entity")["topic"]
+    out["weakest_percentile"] = weakest.set_index("entity")["percentile"]
+    out["rated_topics"] = rated.groupby("entity").size()
+    # biggest improvement and setback, compared across topics as a share of the topic's range
+    moved = cells.loc[cells["change_known"] & (cells["sign"] != 0) & cells["better_change"].isin(["improved", "worsened"])]
+    spread = cells.loc[cells["usable"]].groupby("topic")["value"].agg(lambda s: s.max() - s.min())
+    moved = moved.assign(size=(moved["change"] * moved["sign"]) / moved["topic"].map(spread).replace(0, np.nan))
+    moved = moved.loc[moved["size"].notna()]
+    up = moved.loc[moved["size"] > 0].sort_values("size", ascending=False).groupby("entity").head(1)
+    down = moved.loc[moved["size"] < 0].sort_values("size", ascending=True).groupby("entity").head(1)
+    out["improvement"] = up.set_index("entity")["topic"]
+    out["setback"] = down.set_index("entity")["topic"]
+    out["topics"] = cells.groupby("entity").size()
+    return out
+
+
+def is_percent(unit: str) -> bool:
+    """True when a topic's unit is the reserved ``percent`` (changes in percentage points)."""
+    return unit == PERCENT

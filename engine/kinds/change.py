@@ -1,0 +1,87 @@
+"""``change`` (entity × topic): the change since the previous period of the series.
+
+Percentages change in percentage points, other units in per cent. When both values carry
+margins (95% half-widths) a change counts only if its size exceeds sqrt(m1² + m2²); otherwise the
+statement says the value was broadly unchanged. A break in series, a missing or withheld value
+stops the change from being stated and the statement says why.
+
+Claims: ``direction`` (up | down | flat | unknown), ``better`` (improved | worsened | steady |
+n/a: neutral topics and unknown changes), ``significant`` (true | false | null without margins).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterator
+
+from engine import phrasing
+from engine.drafting import Candidate, Context, ev, slot_id
+from engine.kinds.common import caveat, missing, status_shown
+
+KIND = "change"
+PHRASINGS = 2
+
+
+def candidates(ctx: Context) -> Iterator[Candidate]:
+    """One change statement per entity × topic cell, including those that cannot state one."""
+    style = ctx.style
+    spread = (ctx.facts.topics["best_value"] - ctx.facts.topics["worst_value"]).abs().to_dict()
+    for c in ctx.facts.cells.itertuples(index=False):
+        meta = ctx.topics[c.topic]
+        percent = meta["unit"] == "percent"
+        evidence = {"period": ev(c.period, str(c.period)), "status": ev(c.status, status_shown(c.status))}
+        prev_period = None if missing(c.prev_period) else str(c.prev_period)
+        significant = None if missing(c.significant) else bool(c.significant)
+        claims: dict[str, object] = {"direction": c.direction, "better": c.better_change, "significant": significant}
+        variables: dict[str, object] = {
+            "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
+            "period": c.period, "prev_period": prev_period, "caveat": caveat(c.status),
+            "state": "", "revised": "", "neutral": c.better == "neutral",
+        }
+        interest = 0.1
+        if c.usable:
+            evidence["value"] = ev(float(c.value), ctx.value(c.topic, float(c.value)))
+        else:
+            evidence["value"] = ev(None, "withheld" if c.status == "confidential" else "missing")
+        evidence["previous_period"] = ev(prev_period, prev_period or "none")
+        if missing(c.prev_value):
+            prev_withheld = (c.prev_status == "confidential")
+            evidence["previous"] = ev(None, "withheld" if prev_withheld else "missing")
+        else:
+            evidence["previous"] = ev(float(c.prev_value), ctx.value(c.topic, float(c.prev_value)))
+            if not missing(c.revised_from):
+                variables["revised"] = ctx.value(c.topic, float(c.revised_from))
+        if not c.usable:
+            variables["state"] = "withheld" if c.status == "confidential" else "missing"
+        elif c.status == "break":
+            variables["state"] = "break"
+        elif prev_period is None:
+            variables["state"] = "first"
+        elif missing(c.prev_value):
+            variables["state"] = "prev_withheld" if c.prev_status == "confidential" else "prev_missing"
+        if variables["state"]:
+            evidence["change"] = ev(None, "not stated")
+            yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)
+            continue
+        change = float(c.change)
+        d = int(meta["decimals"])
+        if percent or missing(c.change_rel):
+            evidence["change"] = ev(change, ctx.amount(c.topic, change))
+        else:
+            evidence["change"] = ev(float(c.change_rel), phrasing.relative(abs(float(c.change_rel)), style))
+            evidence["change_abs"] = ev(change, ctx.amount(c.topic, change))
+        if not missing(c.margin) and not missing(c.prev_margin):
+            threshold = math.sqrt(float(c.margin) ** 2 + float(c.prev_margin) ** 2)
+            evidence["margin_of_change"] = ev(threshold, ctx.amount(c.topic, threshold))
+        variables["state"] = {"up": "up", "down": "down"}.get(str(c.direction), "flat")
+        if variables["state"] == "flat" and significant is False:
+            variables["state"] = "not_significant"
+        variables["improved"] = c.better_change == "improved"
+        variables["worsened"] = c.better_change == "worsened"
+        variables["significant"] = significant is True
+        size = abs(change) / spread[c.topic] if spread.get(c.topic) else 0.0
+        interest = 0.3 + min(0.5, 0.5 * size) + (0.2 if significant else 0.0)
+        if variables["state"] in ("flat", "not_significant"):
+            interest = 0.2
+        del d
+        yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)

@@ -1,0 +1,80 @@
+"""``movement`` (topic): how many entities improved, worsened or held steady, and the exceptions.
+
+Held steady: the change rounds to zero at display precision, or is not significant when margins
+are known. When at least three quarters of the entities that moved went the same way, the others
+are named as exceptions. Neutral topics count rises and falls instead.
+
+Claims: ``majority`` (improved | worsened for directed topics, rose | fell for neutral ones, or
+mixed when neither side has more than half of those that moved), ``exceptions`` (sorted keys).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+
+from engine import phrasing
+from engine.drafting import Candidate, Context, ev, slot_id
+from engine.kinds.common import MIN_RANKED, missing
+
+KIND = "movement"
+PHRASINGS = 2
+EXCEPTION_SHARE = 0.75
+
+
+def candidates(ctx: Context) -> Iterator[Candidate]:
+    """One movement statement per topic with changes known for at least three entities."""
+    style = ctx.style
+    cells = ctx.facts.cells
+    known = cells.loc[cells["change_known"]]
+    by_topic = {topic: frame for topic, frame in known.groupby("topic")}
+    for topic, t in ctx.facts.topics.iterrows():
+        frame = by_topic.get(topic)
+        if frame is None or len(frame) < MIN_RANKED:
+            continue
+        meta = ctx.topics[topic]
+        neutral = meta["better"] == "neutral"
+        good, bad = ("up", "down") if neutral else ("improved", "worsened")
+        column = "direction" if neutral else "better_change"
+        ups = frame.loc[frame[column] == good]
+        downs = frame.loc[frame[column] == bad]
+        n_up, n_down = len(ups), len(downs)
+        steady = len(frame) - n_up - n_down
+        moved = n_up + n_down
+        words = ("rose", "fell") if neutral else ("improved", "worsened")
+        majority = "mixed"
+        if moved and n_up * 2 > moved:
+            majority = words[0]
+        elif moved and n_down * 2 > moved:
+            majority = words[1]
+        exceptions: list[str] = []
+        if moved and max(n_up, n_down) >= EXCEPTION_SHARE * moved and min(n_up, n_down) > 0:
+            exceptions = sorted((downs if n_up > n_down else ups)["entity"])
+        prev = frame["prev_period"].dropna()
+        prev_period = str(prev.mode().iloc[0]) if len(prev) else ""
+        evidence = {
+            "period": ev(t["period"], str(t["period"])),
+            "previous_period": ev(prev_period, prev_period),
+            "compared": ev(len(frame), phrasing.count(len(frame), style)),
+            "improved" if not neutral else "rose": ev(n_up, phrasing.count(n_up, style)),
+            "worsened" if not neutral else "fell": ev(n_down, phrasing.count(n_down, style)),
+            "steady": ev(steady, phrasing.count(steady, style)),
+        }
+        signed = frame["change"] * (1.0 if neutral else frame["sign"])
+        top_up = frame.loc[signed.idxmax()] if n_up else None
+        top_down = frame.loc[signed.idxmin()] if n_down else None
+        variables = {
+            "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "period": t["period"],
+            "prev_period": prev_period, "neutral": neutral, "words": words,
+            "n_up": n_up, "n_down": n_down, "steady": steady, "nouns": ctx.of_n(len(frame)),
+            "exceptions": ctx.names(exceptions), "n_exceptions": len(exceptions),
+            "best_mover": "", "worst_mover": "",
+        }
+        if top_up is not None:
+            evidence["biggest_up"] = ev(float(top_up["change"]), ctx.amount(topic, float(top_up["change"])))
+            variables["best_mover"] = ctx.name(str(top_up["entity"]))
+        if top_down is not None:
+            evidence["biggest_down"] = ev(float(top_down["change"]), ctx.amount(topic, float(top_down["change"])))
+            variables["worst_mover"] = ctx.name(str(top_down["entity"]))
+        claims = {"majority": majority, "exceptions": exceptions}
+        interest = 0.5 + (0.2 if majority != "mixed" and not missing(majority) else 0.0)
+        yield Candidate(slot_id(KIND, None, topic), KIND, None, topic, evidence, claims, interest, variables)

@@ -1,0 +1,80 @@
+"""``standing`` (entity × topic): the latest value, its rank, the gap to the group mean and target.
+
+Claims: ``rank_band`` (top | upper | lower | bottom quarter of the ranking, or null when fewer
+than three entities report), ``vs_group`` (above | below | level with the group mean, level when
+the gap rounds to zero; null without a group to compare), ``target`` (met | missed | none).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+
+from engine import phrasing
+from engine.drafting import Candidate, Context, ev, slot_id
+from engine.kinds.common import MIN_RANKED, band, caveat, missing, rank_phrase, status_shown
+
+KIND = "standing"
+PHRASINGS = 2
+
+
+def candidates(ctx: Context) -> Iterator[Candidate]:
+    """One standing statement per entity × topic cell."""
+    style = ctx.style
+    cells = ctx.facts.cells
+    tied_counts = cells.groupby(["topic", "rank"]).size()
+    tied = {k for k, n in tied_counts.items() if n > 1}
+    for c in cells.itertuples(index=False):
+        d = int(c.decimals)
+        evidence = {"period": ev(c.period, str(c.period)), "status": ev(c.status, status_shown(c.status))}
+        claims: dict[str, object] = {"rank_band": None, "vs_group": None, "target": "none"}
+        variables: dict[str, object] = {
+            "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
+            "period": c.period, "caveat": caveat(c.status), "state": c.status,
+            "ranked": False, "rank_text": "", "group_text": "", "target_text": "",
+        }
+        interest = 0.1
+        if not c.usable:
+            evidence["value"] = ev(None, "withheld" if c.status == "confidential" else "missing")
+            yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)
+            continue
+        value = float(c.value)
+        evidence["value"] = ev(value, ctx.value(c.topic, value))
+        interest = 0.3
+        if int(c.rank_of) >= MIN_RANKED and not missing(c.rank):
+            rank, of = int(c.rank), int(c.rank_of)
+            evidence["rank"] = ev(rank, phrasing.ordinal(rank))
+            evidence["rank_of"] = ev(of, phrasing.count(of, style))
+            claims["rank_band"] = band(rank, of)
+            variables["ranked"] = True
+            variables["rank_text"] = rank_phrase(rank, of, (c.topic, float(rank)) in tied, c.better, ctx.of_n(of))
+            if rank == 1 or bool(c.worst):
+                interest += 0.4
+            elif claims["rank_band"] in ("top", "bottom"):
+                interest += 0.15
+        if int(c.group_rank_of) >= 2 and not missing(c.group_mean):
+            gap = float(c.group_gap)
+            shown_gap = phrasing.round_half_up(abs(gap), d)
+            where = "level" if shown_gap == 0 else ("above" if gap > 0 else "below")
+            claims["vs_group"] = where
+            evidence["group_mean"] = ev(float(c.group_mean), ctx.value(c.topic, float(c.group_mean)))
+            evidence["group_gap"] = ev(gap, ctx.amount(c.topic, gap))
+            mean = evidence["group_mean"]["shown"]
+            variables["group_text"] = (
+                f"level with the {c.group} average of {mean}" if where == "level"
+                else f"{where} the {c.group} average of {mean}"
+            )
+        if not missing(c.all_mean):
+            evidence["all_mean"] = ev(float(c.all_mean), ctx.value(c.topic, float(c.all_mean)))
+        if not missing(c.target):
+            target = float(c.target)
+            gap = value - target
+            met = gap >= 0 if c.better != "lower" else gap <= 0
+            claims["target"] = "met" if met else "missed"
+            evidence["target"] = ev(target, ctx.value(c.topic, target))
+            evidence["target_gap"] = ev(gap, ctx.amount(c.topic, gap))
+            variables["target_text"] = (
+                f"meeting the target of {evidence['target']['shown']}" if met
+                else f"missing the target of {evidence['target']['shown']} by {evidence['target_gap']['shown']}"
+            )
+            interest += 0.1
+        yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)

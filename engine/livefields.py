@@ -1,0 +1,131 @@
+"""Live fields in rewrites: ``{{ value }}`` shows a slot's current fact, rendered in a sandbox.
+
+A rewrite may embed any fact of its slot's evidence by name; it shows as the fact is shown
+(``{{ value }}`` → "45.2%"). Filters reformat the raw value: ``number(d)``, ``percent(d)``,
+``points(d)``, ``relative``, ``ordinal``, ``count``. The text renders in Jinja2's immutable
+sandbox with strict undefined names, no ``*`` on strings, no ``**``, and a cap on output length.
+"""
+
+from __future__ import annotations
+
+import operator
+from dataclasses import dataclass
+from typing import Any, Callable
+
+import jinja2
+from jinja2.sandbox import ImmutableSandboxedEnvironment, SecurityError
+
+from engine import phrasing
+from engine.errors import StetlineError
+from engine.phrasing import HouseStyle
+
+MAX_OUTPUT = 5_000
+MAX_PRODUCT = 10**9
+
+
+class LiveFieldError(StetlineError):
+    """A rewrite's live field cannot be rendered (unknown name, bad syntax, refused operation)."""
+
+
+@dataclass(frozen=True)
+class Field:
+    """A fact offered to live fields: shows as its displayed text, filters use its raw value."""
+
+    value: Any
+    shown: str
+
+    def __str__(self) -> str:
+        return self.shown
+
+
+def _raw(x: Any) -> Any:
+    return x.value if isinstance(x, Field) else x
+
+
+def _number_arg(x: Any) -> float:
+    raw = _raw(x)
+    if isinstance(raw, bool) or not isinstance(raw, (int, float)):
+        raise LiveFieldError(f"this filter needs a number, not {str(x)!r}")
+    return float(raw)
+
+
+class _Sandbox(ImmutableSandboxedEnvironment):
+    intercepted_binops = frozenset(["*", "**"])
+
+    def call_binop(self, context: Any, operator_name: str, left: Any, right: Any) -> Any:
+        if operator_name == "**":
+            raise SecurityError("the ** operator is not allowed in live fields")
+        if isinstance(left, (str, list, tuple)) or isinstance(right, (str, list, tuple)):
+            raise SecurityError("repeating text with * is not allowed in live fields")
+        result = operator.mul(_raw(left), _raw(right))
+        if isinstance(result, (int, float)) and abs(result) > MAX_PRODUCT:
+            raise SecurityError("the product is too large for a live field")
+        return result
+
+
+def _filters(style: HouseStyle) -> dict[str, Callable[..., Any]]:
+    return {
+        "number": lambda x, d=0: phrasing.number(_number_arg(x), int(d), style),
+        "percent": lambda x, d=0: phrasing.percent(_number_arg(x), int(d), style),
+        "points": lambda x, d=1: phrasing.points(abs(_number_arg(x)), int(d), style),
+        "relative": lambda x: phrasing.relative(abs(_number_arg(x)), style),
+        "ordinal": lambda x: phrasing.ordinal(int(_number_arg(x))),
+        "count": lambda x: phrasing.count(int(_number_arg(x)), style),
+    }
+
+
+FILTER_HELP = {
+    "number(d)": "the raw value with d decimals: {{ value | number(1) }}",
+    "percent(d)": "the raw value as a percentage: {{ value | percent(1) }}",
+    "points(d)": "a difference in percentage points: {{ change | points(1) }}",
+    "relative": "a relative change given as a fraction, as per cent: {{ change | relative }}",
+    "ordinal": "a rank as an ordinal: {{ rank | ordinal }}",
+    "count": "a whole number, small ones in words when house style says so: {{ rank_of | count }}",
+}
+
+
+class LiveFields:
+    """Renders rewrites with live fields for one house style; templates are compiled once."""
+
+    def __init__(self, style: HouseStyle) -> None:
+        self.env = _Sandbox(undefined=jinja2.StrictUndefined, autoescape=False)
+        self.env.filters = dict(_filters(style))
+        self._cache: dict[str, jinja2.Template] = {}
+
+    def render(self, text: str, evidence: dict[str, dict[str, Any]]) -> str:
+        """Render a rewrite against evidence; raise LiveFieldError with a clear message."""
+        if not has_live_fields(text):
+            return text
+        try:
+            template = self._cache.get(text) or self.env.from_string(text)
+            self._cache[text] = template
+            fields = {name: Field(e.get("value"), str(e.get("shown"))) for name, e in evidence.items()}
+            out = template.render(fields)
+        except jinja2.UndefinedError as exc:
+            known = ", ".join(sorted(evidence))
+            raise LiveFieldError(f"unknown live field: {exc.message}; available: {known}") from None
+        except jinja2.TemplateSyntaxError as exc:
+            raise LiveFieldError(f"live field syntax error on line {exc.lineno}: {exc.message}") from None
+        except SecurityError as exc:
+            raise LiveFieldError(f"refused in a live field: {exc}") from None
+        except (TypeError, ValueError, ZeroDivisionError, OverflowError) as exc:
+            raise LiveFieldError(f"live field error: {exc}") from None
+        if len(out) > MAX_OUTPUT:
+            raise LiveFieldError(f"the rendered text is longer than {MAX_OUTPUT} characters")
+        return out
+
+
+def has_live_fields(text: str) -> bool:
+    """True when a text holds a live field or template tag."""
+    return "{{" in text or "{%" in text
+
+
+def field_names(text: str) -> set[str]:
+    """The fact names a rewrite's live fields refer to."""
+    env = jinja2.Environment()
+    try:
+        from jinja2 import meta
+
+        return set(meta.find_undeclared_variables(env.parse(text)))
+    except jinja2.TemplateSyntaxError:
+        return set()

@@ -1,0 +1,159 @@
+"""Publish the statements: what is published, the gate that stops stale text, and Markdown.
+
+Published: every slot that is neither suppressed nor gone, with its text layer if it has one,
+else its draft, and its notes, in interest order within each entity (or topic) section. The gate
+refuses while any slot is in recheck, unless told to publish those with their last approved text.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from dataclasses import dataclass, field
+from datetime import date
+from typing import Any
+
+from sqlalchemy.orm import Session
+
+from engine import settings as settings_mod
+from engine.actions import SlotView, published_text, views
+from engine.errors import StetlineError
+from engine.livefields import LiveFields
+from engine.loading import house_style
+from engine.store import ops
+
+CAUTION = (
+    "These statements are drafts computed from the loaded data. A qualified person must check "
+    "them before release; the publisher's own statistical release policy or code of practice comes first."
+)
+
+
+class GateClosed(StetlineError):
+    """Publishing is refused: some slots are in recheck (or unapproved, when approval is required)."""
+
+
+@dataclass
+class Statement:
+    """One published statement."""
+
+    slot: str
+    kind: str
+    entity: str | None
+    topic: str | None
+    status: str
+    text: str
+    notes: list[str]
+    caveat: str | None
+    interest: float
+    warning: str | None = None
+
+
+@dataclass
+class Publication:
+    """What a publication holds, before it is rendered to a format."""
+
+    title: str
+    edition: str
+    date: str
+    sections: list[tuple[str, str, list[Statement]]]  # (key, heading, statements)
+    warnings: list[str] = field(default_factory=list)
+    sources: dict[str, str] = field(default_factory=dict)
+
+
+def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = False,
+           require_approval: bool = False) -> Publication:
+    """Collect what would be published, applying the gate; raise GateClosed listing what blocks."""
+    edition = ops.current_edition(session)
+    if edition is None:
+        raise StetlineError("nothing to publish: load an edition first")
+    every = views(session, ops.SlotFilter(include_gone=False), order="interest")
+    blocked = [v.slot.id for v in every if v.slot.status == "recheck"]
+    unapproved = [v.slot.id for v in every if v.slot.status in ("draft", "edited")]
+    problems = []
+    if blocked and not allow_recheck:
+        problems.append(f"{len(blocked)} statement(s) wait in recheck: " + ", ".join(blocked[:20])
+                        + (" …" if len(blocked) > 20 else ""))
+    if require_approval and unapproved:
+        problems.append(f"{len(unapproved)} statement(s) were never approved: " + ", ".join(unapproved[:20])
+                        + (" …" if len(unapproved) > 20 else ""))
+    if problems:
+        raise GateClosed("publishing refused: " + "; ".join(problems)
+                         + ". Resolve them, or publish with --allow-recheck.")
+    style, values = house_style(session)
+    live = LiveFields(style)
+    topics = {t.key: t for t in ops.topic_rows(session)}
+    entities = {e.key: e for e in ops.entity_rows(session)}
+    warnings: list[str] = []
+    grouped: dict[str, list[Statement]] = {}
+    for v in every:
+        if v.slot.gone or any(x.type == "suppress" for x in v.layers):
+            continue
+        text = published_text(session, v.slot, v.draft, v.layers, live) or ""
+        warning = None
+        if v.slot.status == "recheck":
+            last = ops.last_approval(session, v.slot.id)
+            text = last.text if last is not None else text
+            warning = f"{v.slot.id} is in recheck; published with its " + ("last approved text" if last else "current text")
+            warnings.append(warning)
+        status = v.draft.evidence.get("status", {}).get("value") or ""
+        caveat = f"The {v.draft.evidence.get('period', {}).get('shown', '')} figure is {status}." if status in ("provisional", "estimated") else None
+        st = Statement(v.slot.id, v.slot.kind, v.slot.entity, v.slot.topic, v.slot.status, text,
+                       [x.text or "" for x in v.layers if x.type == "annotate"], caveat, v.slot.interest, warning)
+        key = (v.slot.entity if sections == "entity" else v.slot.topic) or ""
+        grouped.setdefault(key, []).append(st)
+    order = list(entities) if sections == "entity" else list(topics)
+    out_sections = []
+    if "" in grouped:
+        out_sections.append(("", "Overview", grouped.pop("")))
+    for key in order:
+        if key in grouped:
+            heading = entities[key].name if sections == "entity" else topics[key].label
+            out_sections.append((key, heading, grouped.pop(key)))
+    sources = {k: t.source for k, t in topics.items() if t.source}
+    return Publication(str(values["title"]), edition.label, date.today().isoformat(), out_sections, warnings, sources)
+
+
+def to_markdown(pub: Publication, topics_label: dict[str, str] | None = None) -> str:
+    """Render a publication as a Markdown document."""
+    lines = [f"# {pub.title}", "", f"Edition {pub.edition} · {pub.date}", "", f"> {CAUTION}", ""]
+    footnotes: list[str] = []
+    for _key, heading, statements in pub.sections:
+        lines += [f"## {heading}", ""]
+        for st in statements:
+            text = st.text
+            if st.caveat:
+                footnotes.append(st.caveat)
+                text += f"[^{len(footnotes)}]"
+            lines += [text, ""]
+            for note in st.notes:
+                lines += [f"> **Note:** {note}", ""]
+        used = sorted({st.topic for st in statements if st.topic and st.topic in pub.sources})
+        if used:
+            lines += ["Sources: " + "; ".join(pub.sources[t] for t in used) + ".", ""]
+    for i, note in enumerate(footnotes, 1):
+        lines.append(f"[^{i}]: {note}")
+    return "\n".join(lines).rstrip() + "\n"
+
+
+def checksum(data: bytes) -> str:
+    """The SHA-256 of a published file."""
+    return hashlib.sha256(data).hexdigest()
+
+
+def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", allow_recheck: bool = False,
+            require_approval: bool = False) -> tuple[bytes, Publication]:
+    """Produce a publication in a format and record it as an event with its checksum."""
+    if fmt != "md":
+        raise StetlineError(f"unknown format {fmt!r}; available: md")
+    if sections not in ("entity", "topic"):
+        raise StetlineError("sections are by entity or by topic")
+    pub = gather(session, sections=sections, allow_recheck=allow_recheck, require_approval=require_approval)
+    data = to_markdown(pub).encode("utf-8")
+    edition = ops.current_edition(session)
+    ops.add_event(session, by, "publish", edition_id=edition.id if edition else None,
+                  detail={"format": fmt, "sha256": checksum(data), "warnings": pub.warnings})
+    return data, pub
+
+
+def describe(values: dict[str, Any]) -> str:
+    """A line naming the title setting (for messages)."""
+    return str(settings_mod.with_defaults(values)["title"])

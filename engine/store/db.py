@@ -1,0 +1,75 @@
+"""Database engines, sessions and migrations for a workspace.
+
+SQLite (the embedded default) gets WAL mode, foreign keys and a busy timeout on every connection
+of *its* engine; PostgreSQL is used as configured. Migrations run from code, with no alembic.ini.
+"""
+
+from __future__ import annotations
+
+import sqlite3
+from importlib import resources
+from pathlib import Path
+
+from alembic import command
+from alembic.config import Config
+from sqlalchemy import Engine, create_engine, event, inspect
+from sqlalchemy.orm import Session, sessionmaker
+
+BUSY_TIMEOUT_MS = 30_000
+
+
+def sqlite_url(path: Path) -> str:
+    """The SQLAlchemy URL of a SQLite file."""
+    return f"sqlite:///{path.resolve()}"
+
+
+def _on_sqlite_connect(dbapi_connection: sqlite3.Connection, _record: object) -> None:
+    # autocommit handling is left to SQLAlchemy; these pragmas hold for the connection's life
+    cursor = dbapi_connection.cursor()
+    cursor.execute("PRAGMA journal_mode=WAL")
+    cursor.execute("PRAGMA foreign_keys=ON")
+    cursor.execute(f"PRAGMA busy_timeout={BUSY_TIMEOUT_MS}")
+    cursor.execute("PRAGMA synchronous=NORMAL")
+    cursor.close()
+
+
+def make_engine(url: str) -> Engine:
+    """Create an engine for a workspace database URL, with SQLite's pragmas when it is SQLite."""
+    if url.startswith("sqlite"):
+        engine = create_engine(url, connect_args={"timeout": BUSY_TIMEOUT_MS / 1000, "check_same_thread": False})
+        event.listen(engine, "connect", _on_sqlite_connect)
+        # SQLAlchemy's pysqlite driver defers BEGIN; emit it ourselves so a load is one transaction
+        @event.listens_for(engine, "begin")
+        def _begin(conn):  # type: ignore[no-untyped-def]
+            conn.exec_driver_sql("BEGIN")
+
+        @event.listens_for(engine, "connect")
+        def _no_implicit(dbapi_connection, _record):  # type: ignore[no-untyped-def]
+            dbapi_connection.isolation_level = None
+        return engine
+    if url.startswith("postgresql://"):
+        url = "postgresql+psycopg://" + url[len("postgresql://"):]
+    return create_engine(url, pool_pre_ping=True)
+
+
+def session_factory(engine: Engine) -> sessionmaker[Session]:
+    """A session factory bound to an engine; sessions keep loaded objects usable after commit."""
+    return sessionmaker(bind=engine, expire_on_commit=False)
+
+
+def alembic_config(url: str) -> Config:
+    """An Alembic configuration pointing at the shipped migrations, with no alembic.ini."""
+    cfg = Config()
+    cfg.set_main_option("script_location", str(resources.files("migrations")))
+    cfg.set_main_option("sqlalchemy.url", url.replace("%", "%%"))
+    return cfg
+
+
+def upgrade(url: str) -> None:
+    """Bring a database to the newest schema."""
+    command.upgrade(alembic_config(url), "head")
+
+
+def has_schema(engine: Engine) -> bool:
+    """True when the database already holds Stetline's tables."""
+    return "slot" in inspect(engine).get_table_names()

@@ -1,0 +1,100 @@
+"""A workspace: a folder holding one publication project, its database and its settings.
+
+The database is ``stetline.db`` inside the folder unless ``STETLINE_DATABASE_URL`` names another
+(PostgreSQL for a team). Copied phrasing templates live in ``phrasing/``, copied report layouts
+in ``layouts/``; the web app's secret key is ``secret_key``, created on first use.
+"""
+
+from __future__ import annotations
+
+import os
+import secrets
+from collections.abc import Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from sqlalchemy import Engine
+from sqlalchemy.orm import Session, sessionmaker
+
+from engine.errors import StetlineError
+from engine.store import db
+
+DB_FILE = "stetline.db"
+URL_VARIABLE = "STETLINE_DATABASE_URL"
+WORKSPACE_VARIABLE = "STETLINE_WORKSPACE"
+MARKER = "stetline-workspace"
+
+
+def default_path() -> Path:
+    """The workspace folder used when none is given: $STETLINE_WORKSPACE or ./workspace."""
+    return Path(os.environ.get(WORKSPACE_VARIABLE) or "workspace")
+
+
+@dataclass
+class Workspace:
+    """An open workspace: its folder, database engine and session factory."""
+
+    path: Path
+    url: str
+    engine: Engine
+    sessions: sessionmaker[Session] = field(repr=False)
+
+    @property
+    def phrasing_dir(self) -> Path:
+        """Where copied phrasing templates live."""
+        return self.path / "phrasing"
+
+    @property
+    def layouts_dir(self) -> Path:
+        """Where copied report layouts live."""
+        return self.path / "layouts"
+
+    @contextmanager
+    def session(self) -> Iterator[Session]:
+        """A session in one transaction: committed on success, rolled back on any error."""
+        with self.sessions() as session:
+            with session.begin():
+                yield session
+
+    def secret_key(self) -> str:
+        """The web app's secret key, generated once per workspace and kept in its folder."""
+        key_file = self.path / "secret_key"
+        if not key_file.exists():
+            key_file.write_text(secrets.token_hex(32))
+            key_file.chmod(0o600)
+        return key_file.read_text().strip()
+
+    def close(self) -> None:
+        """Release the database connections."""
+        self.engine.dispose()
+
+
+def _url_for(path: Path, url: str | None) -> str:
+    return url or os.environ.get(URL_VARIABLE) or db.sqlite_url(path / DB_FILE)
+
+
+def is_workspace(path: Path) -> bool:
+    """True when the folder was initialised as a workspace."""
+    return (path / MARKER).exists()
+
+
+def init_workspace(path: Path, url: str | None = None) -> Workspace:
+    """Create (or upgrade) a workspace in a folder and bring its database to the newest schema."""
+    path.mkdir(parents=True, exist_ok=True)
+    url = _url_for(path, url)
+    db.upgrade(url)
+    (path / MARKER).write_text("This folder is a Stetline workspace.\n")
+    engine = db.make_engine(url)
+    return Workspace(path, url, engine, db.session_factory(engine))
+
+
+def open_workspace(path: Path, url: str | None = None) -> Workspace:
+    """Open an initialised workspace; raise StetlineError saying how to create one otherwise."""
+    if not is_workspace(path):
+        raise StetlineError(f"{path} is not a workspace; create it with: stetline init -w {path}")
+    url = _url_for(path, url)
+    engine = db.make_engine(url)
+    if not db.has_schema(engine):
+        db.upgrade(url)
+    return Workspace(path, url, engine, db.session_factory(engine))

@@ -1,0 +1,1 @@
+"""Alembic environment and versions of Stetline's schema (shipped inside the wheel)."""

@@ -1,0 +1,29 @@
+"""The overview page: the current edition, counts by status and recheck reason, editions so far."""
+
+from __future__ import annotations
+
+from flask import Blueprint, render_template
+
+from engine import actions
+from engine.publish import CAUTION
+from engine.reconcile import REASONS
+from engine.store import ops
+from webapp.db import session
+
+bp = Blueprint("overview", __name__)
+
+
+@bp.get("/")
+def index() -> str:
+    """Show the overview of the workspace."""
+    s = session()
+    counts = ops.status_counts(s)
+    by_status = {k: counts.get(k, 0) for k in actions.STATUSES}
+    reasons = ops.recheck_reason_counts(s)
+    total = sum(by_status.values())
+    ready = by_status["approved"] + by_status["draft"] + by_status["edited"]
+    return render_template(
+        "overview.html", edition=ops.current_edition(s), editions=ops.editions(s), by_status=by_status,
+        reasons={r: reasons.get(r, 0) for r in REASONS}, total=total, waiting=by_status["recheck"],
+        ready=ready, caution=CAUTION,
+    )
