@@ -148,7 +148,7 @@ def load_edition(
         )
         edition_label = _label(session, label, dataset)
         current = ops.current_edition(session)
-        earlier = ops.observations_frame(session) if current is not None else None
+        earlier = _held(session, dataset.observations) if current is not None else None
         drafts = draft_edition(ws, session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label)
         states = ops.slot_states(session)
         decisions, by_slot = reconcile(states, drafts)
@@ -191,6 +191,24 @@ def redraft(ws: Workspace, *, by: str) -> LoadSummary:
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
         ops.add_event(session, by, "redraft", edition_id=edition.id, detail=summary.to_json())
     return summary
+
+
+def _held(session: Session, new: pd.DataFrame) -> pd.DataFrame:
+    """What earlier editions held for each observation, to tell a revised figure from a new one.
+
+    A value that differs from the current one was revised by this load; a value equal to the
+    current one keeps the revision the current edition made (so reloading the same data
+    changes nothing).
+    """
+    current = ops.observations_frame(session)[["entity", "topic", "period", "value"]]
+    replaced = ops.replaced_values(session)
+    keys = ["entity", "topic", "period"]
+    merged = current.merge(new[keys + ["value"]], on=keys, how="left", suffixes=("", "_new"))
+    if not replaced.empty:
+        merged = merged.merge(replaced.rename(columns={"value": "value_old"}), on=keys, how="left")
+        same = (merged["value"] == merged["value_new"]) & merged["value_old"].notna()
+        merged["value"] = merged["value"].where(~same, merged["value_old"])
+    return merged[keys + ["value"]]
 
 
 def _with_times(obs: pd.DataFrame, fmt: str) -> pd.DataFrame:

@@ -445,3 +445,15 @@ def topic_rows(session: Session) -> list[Topic]:
 def entity_rows(session: Session) -> list[Entity]:
     """Every entity, in file order."""
     return list(session.scalars(select(Entity).order_by(Entity.position)))
+
+
+def replaced_values(session: Session) -> pd.DataFrame:
+    """For each observation key that was revised, the value it held before its latest revision."""
+    q = select(Observation.entity, Observation.topic, Observation.period, Observation.value, Observation.valid_to).where(
+        Observation.valid_to.is_not(None)
+    )
+    frame = pd.DataFrame(session.execute(q).all(), columns=["entity", "topic", "period", "value", "valid_to"])
+    if frame.empty:
+        return frame.drop(columns=["valid_to"])
+    frame = frame.sort_values("valid_to").drop_duplicates(OBS_KEY, keep="last")
+    return frame.drop(columns=["valid_to"]).astype({"value": "float64"})

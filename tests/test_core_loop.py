@@ -1,0 +1,273 @@
+"""The core loop through the CLI: two editions of the demo, human work kept, rechecks raised."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from engine.store import ops
+from engine.workspace import open_workspace
+from conftest import Cli
+
+
+def by_slot(items: list[dict]) -> dict[str, dict]:
+    return {item["slot"]: item for item in items}
+
+
+def test_status_after_demo_shows_two_editions_and_every_recheck_reason(demo_cli: Cli) -> None:
+    status = demo_cli.json("status")
+    assert status["edition"] == "2025"
+    assert status["editions"] == 2
+    reasons = status["recheck_reasons"]
+    assert reasons["claim-changed"] > 0
+    assert reasons["numbers-changed"] > 0
+    assert reasons["slot-gone"] == 2
+    assert reasons["wording-changed"] == 1
+    assert status["slots"] == sum(status["by_status"].values())
+    assert set(status["by_status"]) == {"draft", "edited", "approved", "recheck", "suppressed"}
+
+
+def test_every_layer_of_the_first_edition_survives_the_refresh(demo_cli: Cli) -> None:
+    from engine import demo
+
+    items = by_slot(demo_cli.json("list"))
+    for slot, text in demo.REWRITES.items():
+        assert items[slot]["layer"] == {**items[slot]["layer"], "type": "rewrite", "text": text, "by": "editor"}
+    for slot in demo.PINS:
+        assert items[slot]["layer"]["type"] == "pin"
+    for slot, note in demo.NOTES.items():
+        assert [n["text"] for n in items[slot]["notes"]] == [note]
+        assert items[slot]["notes"][0]["by"] == "expert"
+    for slot in demo.SUPPRESS:
+        assert items[slot]["suppressed"] is True
+        assert items[slot]["status"] == "suppressed"
+        assert items[slot]["text"] is None
+
+
+def test_numbers_changed_rewrite_gets_a_clean_proposal_with_the_new_numbers(demo_cli: Cli) -> None:
+    item = demo_cli.json("show", "change/heronsford/recycling")
+    assert item["status"] == "recheck"
+    recheck = item["recheck"]
+    assert recheck["reasons"] == ["numbers-changed"]
+    assert recheck["clean"] is True
+    # the editor's own words are kept, the numbers are the 2025 edition's
+    assert recheck["proposed"].startswith("Heronsford kept its lead on recycling:")
+    assert "from 59.0% in 2024 to 59.3% in 2025, a rise of 0.3 percentage points" in recheck["proposed"]
+    changes = {c["fact"]: (c["old"], c["new"]) for c in recheck["changes"]}
+    assert changes["value"] == ("59.0%", "59.3%")
+    assert changes["change"] == ("2.4 percentage points", "0.3 percentage points")
+
+
+def test_each_numbers_changed_rewrite_proposes_every_new_number(demo_cli: Cli) -> None:
+    for item in demo_cli.json("list", "--status", "recheck"):
+        recheck = item["recheck"]
+        if recheck["reasons"] != ["numbers-changed"] or not item["layer"] or item["layer"]["type"] != "rewrite":
+            continue
+        for change in recheck["changes"]:
+            old, new = change["old"], change["new"]
+            if old and old in item["layer"]["text"]:
+                assert new in recheck["proposed"], (item["slot"], change)
+
+
+def test_claim_change_lists_each_claim_old_to_new(demo_cli: Cli) -> None:
+    item = demo_cli.json("show", "change/gorse-point/recycling")
+    recheck = item["recheck"]
+    assert recheck["reasons"][0] == "claim-changed"
+    changes = {c["fact"]: (c["old"], c["new"]) for c in recheck["changes"]}
+    assert changes["direction"] == ("up", "down")
+    assert changes["better"] == ("improved", "worsened")
+    # the editor changed the same words the new draft changes: a conflict, never resolved silently
+    assert recheck["clean"] is False
+    assert "yours «climbed»" in recheck["proposed"]
+
+
+def test_approved_draft_whose_claims_changed_goes_to_recheck(demo_cli: Cli) -> None:
+    item = demo_cli.json("show", "standing/high-ferrow/bus-punctuality")
+    changes = {c["fact"]: (c["old"], c["new"]) for c in item["recheck"]["changes"]}
+    assert changes["rank_band"] == ("top", "lower")
+    assert changes["target"] == ("met", "missed")
+
+
+def test_gone_slot_keeps_its_layers(demo_cli: Cli) -> None:
+    item = demo_cli.json("show", "leaders/paper-timetables")
+    assert item["status"] == "recheck"
+    assert item["recheck"]["reasons"] == ["slot-gone"]
+    assert item["layer"]["type"] == "rewrite"
+    note = demo_cli.json("show", "standing/wrackhaven/paper-timetables")
+    assert note["recheck"]["reasons"] == ["slot-gone"]
+    assert len(note["notes"]) == 1
+
+
+def test_live_field_rewrite_updates_itself_without_recheck(demo_cli: Cli) -> None:
+    item = demo_cli.json("show", "standing/larkholt/recycling")
+    assert item["status"] == "edited"
+    assert item["text"] == "Larkholt recycles 56.2% of its household waste, 3rd best of 14 towns."
+    assert item["layer"]["text"].startswith("Larkholt recycles {{ value }}")
+
+
+def test_wording_change_of_an_approved_draft(demo_cli: Cli) -> None:
+    item = demo_cli.json("show", "headline")
+    assert item["recheck"]["reasons"] == ["wording-changed"]
+    assert item["recheck"]["changes"] == []
+    assert ", and library loans per resident" in item["draft"]  # serial comma now on
+
+
+def test_json_shapes_follow_the_contract(demo_cli: Cli) -> None:
+    items = demo_cli.json("list")
+    keys = {"slot", "kind", "entity", "topic", "status", "text", "draft", "layer", "notes", "suppressed",
+            "recheck", "evidence", "claims"}
+    for item in items:
+        assert keys <= set(item)
+        assert isinstance(item["draft"], str)
+        assert isinstance(item["suppressed"], bool)
+        for name, entry in item["evidence"].items():
+            assert set(entry) == {"value", "shown"}, name
+        for value in item["claims"].values():
+            assert value is None or isinstance(value, (str, bool, int, float, list))
+        if item["entity"] and item["topic"]:
+            assert {"value", "period"} <= set(item["evidence"])
+        if item["kind"] == "standing" and item["evidence"]["value"]["value"] is not None:
+            assert {"rank", "rank_of"} <= set(item["evidence"])
+        if item["kind"] == "change":
+            assert {"previous", "previous_period", "change"} <= set(item["evidence"])
+    shown = demo_cli.json("show", "profile/north-quay")
+    assert [h["action"] for h in shown["history"]][:2] == ["annotate", "recheck"]
+    assert {"composite", "composite_rank"} <= set(shown["evidence"])
+
+
+def test_list_filters(demo_cli: Cli) -> None:
+    items = demo_cli.json("list", "--entity", "tidemere", "--kind", "standing")
+    assert {i["slot"] for i in items} == {f"standing/tidemere/{t}" for t in {i["topic"] for i in items}}
+    assert len(items) == 11
+    assert all(i["status"] == "recheck" for i in demo_cli.json("list", "--status", "recheck"))
+
+
+def _snapshot(path: Path) -> dict:
+    ws = open_workspace(path)
+    with ws.session() as s:
+        counts = ops.table_counts(s)
+        layers = [(x.id, x.slot_id, x.type, x.text, x.dropped_at) for x in ops.all_active_layers(s)]
+        approvals = [(a.id, a.slot_id, a.text) for a in ops.all_active_approvals(s)]
+        statuses = {sl.id: (sl.status, sl.version, sl.recheck) for sl, _ in ops.list_slots(s, ops.SlotFilter(include_gone=True))}
+    ws.close()
+    return {"counts": counts, "layers": layers, "approvals": approvals, "statuses": statuses}
+
+
+def test_identical_edition_sends_nothing_to_recheck_and_writes_no_draft(demo_cli: Cli, seed: Path) -> None:
+    before = _snapshot(demo_cli.path)
+    out = demo_cli("load", str(seed / "observations-2025.csv"), "--json", "--by", "admin")
+    import json
+
+    summary = json.loads(out.stdout)
+    assert summary["edition"] == "2025-r2"
+    assert summary["sent_to_recheck"] == 0
+    assert summary["drafts_written"] == 0
+    assert summary["observations_written"] == 0
+    after = _snapshot(demo_cli.path)
+    assert after["layers"] == before["layers"]
+    assert after["approvals"] == before["approvals"]
+    assert after["counts"]["draft"] == before["counts"]["draft"]
+    assert after["counts"]["observation"] == before["counts"]["observation"]
+    assert {k: v[0] for k, v in after["statuses"].items()} == {k: v[0] for k, v in before["statuses"].items()}
+    assert after["counts"]["edition"] == before["counts"]["edition"] + 1
+
+
+def test_dry_run_writes_nothing(demo_cli: Cli, seed: Path) -> None:
+    before = _snapshot(demo_cli.path)
+    out = demo_cli("load", str(seed / "observations-2024.csv"), "--dry-run")
+    assert "dry run: nothing was written" in out.stdout
+    assert _snapshot(demo_cli.path) == before
+
+
+BAD_FILES = {
+    "missing column": ("entity,topic,value\nnorth-quay,recycling,40\n", "missing column(s) period"),
+    "not a number": ("entity,topic,period,value\nnorth-quay,recycling,2025,forty\n", "row 2, column 'value': the value is not a number: 'forty'"),
+    "duplicate": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\nnorth-quay,recycling,2025,41\n", "row 3: duplicate observation"),
+    "unknown topic": ("entity,topic,period,value\nnorth-quay,recyclng,2025,40\n", "did you mean 'recycling'?"),
+    "mixed periods": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\nnorth-quay,bus-punctuality,2025-Q1,40\n", "mixed period formats"),
+    "empty": ("", "the file is empty"),
+    "slash in key": ("entity,topic,period,value\nnorth/quay,recycling,2025,40\n", "a key may not contain '/'"),
+}
+
+
+@pytest.mark.parametrize("case", sorted(BAD_FILES))
+def test_bad_input_gives_a_clear_error_and_changes_nothing(demo_cli: Cli, tmp_path: Path, case: str) -> None:
+    content, message = BAD_FILES[case]
+    bad = tmp_path / "bad.csv"
+    bad.write_text(content, encoding="utf-8")
+    before = _snapshot(demo_cli.path)
+    result = demo_cli("load", str(bad), ok=False)
+    assert result.exit_code == 1
+    assert message in result.stderr
+    assert "bad.csv" in result.stderr
+    assert "Traceback" not in result.output
+    assert _snapshot(demo_cli.path) == before
+
+
+def test_unknown_slot_is_a_clear_error(demo_cli: Cli) -> None:
+    result = demo_cli("show", "standing/atlantis/recycling", ok=False)
+    assert result.exit_code == 1
+    assert "no statement 'standing/atlantis/recycling'" in result.stderr
+
+
+def test_taken_edition_label_is_refused(demo_cli: Cli, seed: Path) -> None:
+    result = demo_cli("load", str(seed / "observations-2025.csv"), "--edition", "2024", ok=False)
+    assert "edition '2024' already exists" in result.stderr
+
+
+def test_first_load_needs_metadata(cli: Cli, seed: Path) -> None:
+    cli("init")
+    result = cli("load", str(seed / "observations-2024.csv"), ok=False)
+    assert "give a topics file on the first load" in result.stderr
+
+
+def test_resolving_every_recheck_opens_the_gate(demo_cli: Cli, tmp_path: Path) -> None:
+    refused = demo_cli("publish", "--format", "md", "--by", "admin", ok=False)
+    assert "publishing refused" in refused.stderr
+    assert "change/heronsford/recycling" in refused.stderr
+    for item in demo_cli.json("list", "--status", "recheck"):
+        recheck = item["recheck"]
+        if recheck["clean"] and recheck["proposed"]:
+            demo_cli("approve", item["slot"], "--accept-proposed", "--by", "reviewer")
+        else:
+            demo_cli("approve", item["slot"], "--by", "reviewer")
+    assert demo_cli.json("status")["by_status"]["recheck"] == 0
+    out = tmp_path / "report.md"
+    demo_cli("publish", "--format", "md", "-o", str(out), "--by", "admin")
+    report = out.read_text(encoding="utf-8")
+    assert report.startswith("# Kestrel Sound Regional Council: Service Scorecard")
+    assert "qualified person must check" in report
+    assert "Heronsford kept its lead on recycling: the household recycling rate improved from 59.0% in 2024 to 59.3% in 2025" in report
+    assert "Printed timetables were withdrawn" not in report  # gone slots are not published
+    assert "Puffin Holm's 2025 figure" not in report
+
+
+def test_rewrite_actions_and_revert(demo_cli: Cli) -> None:
+    slot = "standing/north-quay/recycling"
+    demo_cli("rewrite", slot, "North Quay recycled {{ value }} of household waste in {{ period }}.", "--by", "editor")
+    item = demo_cli.json("show", slot)
+    assert item["status"] == "edited"
+    assert item["text"] == "North Quay recycled 46.5% of household waste in 2025."
+    demo_cli("approve", slot, "--by", "reviewer")
+    assert demo_cli.json("show", slot)["status"] == "approved"
+    demo_cli("revert", slot, "--by", "editor")
+    item = demo_cli.json("show", slot)
+    assert item["status"] == "draft"
+    assert item["text"] == item["draft"]
+    assert [h["action"] for h in item["history"]][-3:] == ["rewrite", "approve", "revert"]
+
+
+@pytest.mark.parametrize("text, message", [
+    ("{{ ''.__class__ }}", "refused in a live field"),
+    ("{{ 'a' * 10000000 }}", "refused in a live field"),
+    ("{{ nosuchfact }}", "unknown live field"),
+    ("{{ value ", "syntax error"),
+])
+def test_rewrite_with_a_bad_live_field_is_refused(demo_cli: Cli, text: str, message: str) -> None:
+    slot = "standing/north-quay/recycling"
+    before = demo_cli.json("show", slot)
+    result = demo_cli("rewrite", slot, text, "--by", "editor", ok=False)
+    assert result.exit_code == 1
+    assert message in result.stderr
+    assert demo_cli.json("show", slot)["version"] == before["version"]
