@@ -103,12 +103,14 @@ def _read_csv(name: str, data: bytes) -> _Table:
     try:
         frame = pd.read_csv(
             io.StringIO(text), dtype="str", keep_default_na=False, na_values=[],
-            skip_blank_lines=True, skipinitialspace=False,
+            skip_blank_lines=False, skipinitialspace=False,
         )
     except pd.errors.EmptyDataError:
         raise ValidationError([Problem(name, None, None, "the file is empty")]) from None
     except (pd.errors.ParserError, ValueError, OverflowError) as exc:
         raise ValidationError([Problem(name, None, None, f"the file is not valid CSV: {_short(exc)}")]) from None
+    # drop blank lines but keep the index, so reported rows match the file's lines
+    frame = frame.loc[~(frame.fillna("").astype("str") == "").all(axis=1)]
     return _Table(name, frame)
 
 

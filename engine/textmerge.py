@@ -12,7 +12,8 @@ import difflib
 import re
 from dataclasses import dataclass, field
 
-TOKEN = re.compile(r"\s+|[^\s]+")
+# white space, numbers (kept whole: "1,234.5%"), words, and each punctuation mark on its own
+TOKEN = re.compile(r"\s+|[£$€]?(?:\d{1,3}(?:,\d{3})+|\d+)(?:\.\d+)?%?|[\w'’-]+|[^\w\s]")
 CONFLICT_OPEN = "[[conflict: yours «"
 CONFLICT_MID = "» / new draft «"
 CONFLICT_CLOSE = "»]]"
