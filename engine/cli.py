@@ -14,10 +14,12 @@ from pathlib import Path
 from typing import Any, Callable
 
 import click
+from sqlalchemy.exc import SQLAlchemyError
 
 from engine import actions, loading, publish as publishing
 from engine import settings as settings_mod
 from engine.errors import StetlineError
+from engine.formats import BINARY, FORMATS
 from engine.reconcile import REASONS
 from engine.store import ops
 from engine.workspace import Workspace, default_path, init_workspace, is_workspace, open_workspace
@@ -40,6 +42,11 @@ def handle_errors(fn: Callable[..., Any]) -> Callable[..., Any]:
             raise click.ClickException(str(exc)) from None
         except OSError as exc:
             raise click.ClickException(f"{exc.strerror or exc}: {exc.filename or ''}".rstrip(": ")) from None
+        except SQLAlchemyError as exc:
+            detail = " ".join(str(getattr(exc, "orig", exc)).split())[:200]
+            raise click.ClickException(
+                f"the workspace database could not complete the command ({detail}); nothing was changed"
+            ) from None
     return wrapper
 
 
@@ -290,8 +297,9 @@ def approve_(slot: str, accept_proposed: bool, workspace: Path | None, by: str) 
 
 
 @main.command(name="publish")
-@click.option("--format", "fmt", type=click.Choice(["md"]), default="md", show_default=True)
-@click.option("-o", "--output", type=click.Path(dir_okay=False, path_type=Path), help="File to write (default: stdout).")
+@click.option("--format", "fmt", type=click.Choice(list(FORMATS)), default="md", show_default=True)
+@click.option("-o", "--output", type=click.Path(dir_okay=False, path_type=Path),
+              help="File to write (default: stdout; required for docx).")
 @click.option("--sections", type=click.Choice(["entity", "topic"]), default="entity", show_default=True)
 @click.option("--allow-recheck", is_flag=True, help="Publish statements in recheck with their last approved text.")
 @click.option("--require-approval", is_flag=True, help="Also refuse statements nobody approved.")
@@ -301,6 +309,9 @@ def approve_(slot: str, accept_proposed: bool, workspace: Path | None, by: str) 
 def publish_(fmt: str, output: Path | None, sections: str, allow_recheck: bool, require_approval: bool,
              workspace: Path | None, by: str) -> None:
     """Publish the statements (refused while any statement waits in recheck)."""
+    if fmt in BINARY and output is None:
+        raise click.UsageError(f"{fmt} is a binary format and is not written to the terminal; "
+                               f"give a file with -o, e.g. -o report.{fmt}")
     ws = _open(workspace)
     with ws.session() as session:
         data, pub = publishing.publish(session, fmt, by=by, sections=sections, allow_recheck=allow_recheck,

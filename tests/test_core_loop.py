@@ -271,3 +271,21 @@ def test_rewrite_with_a_bad_live_field_is_refused(demo_cli: Cli, text: str, mess
     assert result.exit_code == 1
     assert message in result.stderr
     assert demo_cli.json("show", slot)["version"] == before["version"]
+
+
+def test_a_load_that_fails_while_writing_leaves_the_workspace_as_it_was(
+    demo_path: Path, seed: Path, monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    from engine import loading
+
+    before = _snapshot(demo_path)
+
+    def explode(*_args: object, **_kwargs: object) -> None:
+        raise RuntimeError("disk full")
+
+    monkeypatch.setattr(loading.ops, "apply_decisions", explode)
+    ws = open_workspace(demo_path)
+    with pytest.raises(RuntimeError):
+        loading.load_edition(ws, seed / "observations-2024.csv", by="admin", label="again")
+    ws.close()
+    assert _snapshot(demo_path) == before
