@@ -260,11 +260,11 @@ def _parse_observations(table: _Table) -> tuple[pd.DataFrame | None, str, list[P
         for other in used:
             if other == chosen:
                 continue
-            first = int(frame.index[(fmt == other).to_numpy()][0]) + 2
+            at = frame.index[(fmt == other).to_numpy()][0]
             problems.append(Problem(
-                table.name, first, "period",
+                table.name, int(at) + 2, "period",
                 f"mixed period formats: most rows are {chosen}s ({periods.EXAMPLES[chosen]}) "
-                f"but this one is a {other} ({period.iat[first - 2]!r}); use one format per file",
+                f"but this one is a {other} ({period.loc[at]!r}); use one format per file",
             ))
     if not problems:
         problems += _duplicates(table, ["entity", "topic", "period"], "observation")

@@ -266,3 +266,45 @@ def _entity_facts(cells: pd.DataFrame, meta: pd.DataFrame, entities: pd.DataFram
 def is_percent(unit: str) -> bool:
     """True when a topic's unit is the reserved ``percent`` (changes in percentage points)."""
     return unit == PERCENT
+
+
+def trend_facts(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
+    """Per cell: the run of improvements or declines ending at the latest period, the record the
+    latest value sets ("highest since 2021"), and the yearly rate since the series' last break.
+
+    Steps count only when the displayed values differ; a break in series or a missing value
+    ends a run. Returns one row per entity × topic, indexed like ``cells``.
+    """
+    keys = ["entity", "topic"]
+    s = series.merge(cells[keys + ["decimals", "sign", "time"]].rename(columns={"time": "latest_time"}), on=keys)
+    s = s.loc[s["usable"] | (s["status"] == BREAK)].sort_values(keys + ["time"], kind="stable")
+    # a break starts a new segment: nothing is compared across it
+    s["segment"] = (s["status"] == BREAK).astype("int64").groupby([s["entity"], s["topic"]]).cumsum()
+    s = s.loc[s["value"].notna()]
+    g = s.groupby(keys + ["segment"], sort=False)
+    shown = round_half_up(s["value"], s["decimals"])
+    s["shown"] = shown
+    step = np.sign(s["shown"] - g["shown"].shift(1)).fillna(0.0)
+    direction = np.where(s["sign"] == 0, 1.0, s["sign"])
+    s["step"] = step * direction
+    run_id = (s["step"] != s.groupby(keys + ["segment"], sort=False)["step"].shift(1)).cumsum()
+    s["run"] = s.groupby(run_id).cumcount() + 1
+    last_segment = s.groupby(keys)["segment"].transform("max")
+    seg = s.loc[s["segment"] == last_segment]
+    latest = seg.loc[seg["time"] == seg["latest_time"]].set_index(keys)
+    out = pd.DataFrame(index=pd.MultiIndex.from_frame(cells[keys]))
+    out["streak"] = (latest["run"] * latest["step"].abs()).where(latest["step"] != 0, 0)
+    out["streak_sign"] = latest["step"]
+    first = seg.groupby(keys).first()
+    out["first_period"] = first["period"]
+    out["first_value"] = first["value"]
+    out["first_time"] = first["time"]
+    out["points"] = seg.groupby(keys).size()
+    # records: the latest earlier period at or above (below) the latest value, by shown value
+    joined = seg.merge(latest[["shown"]].rename(columns={"shown": "latest_shown"}), left_on=keys, right_index=True)
+    earlier = joined.loc[joined["time"] < joined["latest_time"]]
+    above = earlier.loc[earlier["shown"] >= earlier["latest_shown"]].groupby(keys)["time"].max()
+    below = earlier.loc[earlier["shown"] <= earlier["latest_shown"]].groupby(keys)["time"].max()
+    out["higher_before"] = above
+    out["lower_before"] = below
+    return out.reindex(pd.MultiIndex.from_frame(cells[keys]))

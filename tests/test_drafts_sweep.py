@@ -41,7 +41,7 @@ def test_every_demo_draft_reads_cleanly(demo_drafts: list[dict]) -> None:
 
 
 def test_every_kind_appears_in_the_demo(demo_drafts: list[dict]) -> None:
-    assert {i["kind"] for i in demo_drafts} == {"standing", "change", "profile", "leaders", "movement", "headline"}
+    assert {i["kind"] for i in demo_drafts} == {"standing", "change", "profile", "leaders", "movement", "headline", "trend"}
 
 
 def test_shown_evidence_appears_in_the_text(demo_drafts: list[dict]) -> None:

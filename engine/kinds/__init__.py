@@ -8,8 +8,8 @@ from __future__ import annotations
 
 from types import ModuleType
 
-from engine.kinds import change, headline, leaders, movement, profile, standing
+from engine.kinds import change, headline, leaders, movement, profile, standing, trend
 
 #: every kind, in the order statements are listed within an entity or topic
-KINDS: tuple[ModuleType, ...] = (headline, profile, standing, change, leaders, movement)
+KINDS: tuple[ModuleType, ...] = (headline, profile, standing, change, trend, leaders, movement)
 BY_NAME = {k.KIND: k for k in KINDS}

