@@ -3,13 +3,14 @@
 Published: every slot that is neither suppressed nor gone, with its text layer if it has one,
 else its draft, and its notes, in interest order within each entity (or topic) section. The gate
 refuses while any slot is in recheck, unless told to publish those with their last approved text.
+The other formats (HTML, JSON, CSV, Word) render the same Publication; see engine.formats.
 """
 
 from __future__ import annotations
 
 import hashlib
 from dataclasses import dataclass, field
-from datetime import date
+from datetime import date, datetime
 from typing import Any
 
 from sqlalchemy.orm import Session
@@ -19,6 +20,7 @@ from engine.actions import SlotView, published_text, views
 from engine.errors import StetlineError
 from engine.livefields import LiveFields
 from engine.loading import house_style
+from engine.reconcile import TEXT_LAYERS
 from engine.store import ops
 
 CAUTION = (
@@ -45,6 +47,10 @@ class Statement:
     caveat: str | None
     interest: float
     warning: str | None = None
+    evidence: dict[str, Any] = field(default_factory=dict)  # the facts the published text rests on
+    written_by: str | None = None  # who wrote the text layer (rewrite or pin), if any
+    approved_by: str | None = None
+    approved_at: str | None = None  # ISO 8601, UTC
 
 
 @dataclass
@@ -57,6 +63,8 @@ class Publication:
     sections: list[tuple[str, str, list[Statement]]]  # (key, heading, statements)
     warnings: list[str] = field(default_factory=list)
     sources: dict[str, str] = field(default_factory=dict)
+    entity_names: dict[str, str] = field(default_factory=dict)
+    topic_labels: dict[str, str] = field(default_factory=dict)
 
 
 def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = False,
@@ -89,15 +97,23 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
             continue
         text = published_text(session, v.slot, v.draft, v.layers, live) or ""
         warning = None
+        evidence = v.draft.evidence
+        approval = v.approval
         if v.slot.status == "recheck":
             last = ops.last_approval(session, v.slot.id)
-            text = last.text if last is not None else text
+            if last is not None:
+                text, approval = last.text, last
+                evidence = (last.basis or {}).get("evidence") or evidence
             warning = f"{v.slot.id} is in recheck; published with its " + ("last approved text" if last else "current text")
             warnings.append(warning)
+        text_layer = next((x for x in v.layers if x.type in TEXT_LAYERS), None)
         status = v.draft.evidence.get("status", {}).get("value") or ""
         caveat = f"The {v.draft.evidence.get('period', {}).get('shown', '')} figure is {status}." if status in ("provisional", "estimated") else None
         st = Statement(v.slot.id, v.slot.kind, v.slot.entity, v.slot.topic, v.slot.status, text,
-                       [x.text or "" for x in v.layers if x.type == "annotate"], caveat, v.slot.interest, warning)
+                       [x.text or "" for x in v.layers if x.type == "annotate"], caveat, v.slot.interest, warning,
+                       evidence, text_layer.by if text_layer is not None else None,
+                       approval.by if approval is not None else None,
+                       _iso(approval.at) if approval is not None else None)
         key = (v.slot.entity if sections == "entity" else v.slot.topic) or ""
         grouped.setdefault(key, []).append(st)
     order = list(entities) if sections == "entity" else list(topics)
@@ -109,7 +125,12 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
             heading = entities[key].name if sections == "entity" else topics[key].label
             out_sections.append((key, heading, grouped.pop(key)))
     sources = {k: t.source for k, t in topics.items() if t.source}
-    return Publication(str(values["title"]), edition.label, date.today().isoformat(), out_sections, warnings, sources)
+    return Publication(str(values["title"]), edition.label, date.today().isoformat(), out_sections, warnings, sources,
+                       {k: e.name for k, e in entities.items()}, {k: t.label for k, t in topics.items()})
+
+
+def _iso(at: datetime | None) -> str | None:
+    return None if at is None else at.isoformat(timespec="seconds") + "Z"
 
 
 def to_markdown(pub: Publication, topics_label: dict[str, str] | None = None) -> str:
@@ -142,12 +163,14 @@ def checksum(data: bytes) -> str:
 def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", allow_recheck: bool = False,
             require_approval: bool = False) -> tuple[bytes, Publication]:
     """Produce a publication in a format and record it as an event with its checksum."""
-    if fmt != "md":
-        raise StetlineError(f"unknown format {fmt!r}; available: md")
+    from engine.formats import FORMATS, render  # formats imports this module
+
+    if fmt not in FORMATS:
+        raise StetlineError(f"unknown format {fmt!r}; available: " + ", ".join(FORMATS))
     if sections not in ("entity", "topic"):
         raise StetlineError("sections are by entity or by topic")
     pub = gather(session, sections=sections, allow_recheck=allow_recheck, require_approval=require_approval)
-    data = to_markdown(pub).encode("utf-8")
+    data = render(pub, fmt)
     edition = ops.current_edition(session)
     ops.add_event(session, by, "publish", edition_id=edition.id if edition else None,
                   detail={"format": fmt, "sha256": checksum(data), "warnings": pub.warnings})

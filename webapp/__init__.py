@@ -8,7 +8,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from flask import Flask, g
+from flask import Flask, g, render_template
+from werkzeug.exceptions import HTTPException
 
 from engine.workspace import Workspace
 
@@ -30,9 +31,11 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flas
 
     CSRFProtect(app)
 
-    from webapp import overview
+    from webapp import browse, overview, recheck, statement
 
-    app.register_blueprint(overview.bp)
+    for module in (overview, browse, statement, recheck):
+        app.register_blueprint(module.bp)
+    _error_pages(app)
 
     @app.teardown_appcontext
     def _close(_exc: BaseException | None) -> None:
@@ -41,3 +44,20 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flas
             session.close()
 
     return app
+
+
+def _error_pages(app: Flask) -> None:
+    """Render HTTP errors (unknown pages, refused forms) as pages in the app's own look."""
+    from flask_wtf.csrf import CSRFError
+
+    def page(exc: HTTPException, heading: str) -> tuple[str, int]:
+        return render_template("error.html", heading=heading, message=exc.description), exc.code or 500
+
+    @app.errorhandler(404)
+    def _not_found(exc: HTTPException) -> tuple[str, int]:
+        return page(exc, "Not found")
+
+    @app.errorhandler(CSRFError)
+    def _csrf(exc: CSRFError) -> tuple[str, int]:
+        exc.description = f"The form was refused ({exc.description}); reload the page and try again."
+        return page(exc, "Form refused")

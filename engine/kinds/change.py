@@ -51,6 +51,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             evidence["previous"] = ev(float(c.prev_value), ctx.value(c.topic, float(c.prev_value)))
             if not missing(c.revised_from):
                 variables["revised"] = ctx.value(c.topic, float(c.revised_from))
+                evidence["revised_from"] = ev(float(c.revised_from), variables["revised"])
         if not c.usable:
             variables["state"] = "withheld" if c.status == "confidential" else "missing"
         elif c.status == "break":

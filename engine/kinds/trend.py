@@ -66,6 +66,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "first_value": ev(float(t.first_value), ctx.value(c.topic, float(t.first_value))),
             "streak": ev(streak, phrasing.count(streak, style)),
         }
+        if since:
+            evidence["record_since"] = ev(since, since)
         years = float(c.time) - float(t.first_time)
         rate_text = ""
         if years > 0:

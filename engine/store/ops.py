@@ -368,6 +368,10 @@ def list_slots(session: Session, f: SlotFilter, *, limit: int | None = None, off
         q = q.order_by(Slot.severity.desc(), Slot.id)
     else:
         q = q.order_by(Slot.id)
+    if f.reason:
+        # the reasons live in the slot's recheck JSON: filtered here, before paging
+        rows = [(s, d) for s, d in session.execute(q).all() if f.reason in (s.recheck or {}).get("reasons", [])]
+        return rows[offset:] if limit is None else rows[offset:offset + limit]
     if limit is not None:
         q = q.limit(limit).offset(offset)
     return [(s, d) for s, d in session.execute(q).all()]
@@ -389,6 +393,8 @@ def _filtered(q: Any, f: SlotFilter) -> Any:
 
 def count_slots(session: Session, f: SlotFilter) -> int:
     """How many slots match a filter."""
+    if f.reason:
+        return len(list_slots(session, f))
     return int(session.scalar(_filtered(select(func.count()).select_from(Slot), f)) or 0)
 
 
@@ -396,6 +402,18 @@ def status_counts(session: Session) -> dict[str, int]:
     """How many listed slots are in each status."""
     q = select(Slot.status, func.count()).where((Slot.gone.is_(False)) | (Slot.status == "recheck")).group_by(Slot.status)
     return {s: int(n) for s, n in session.execute(q).all()}
+
+
+def status_counts_by(session: Session, by: str) -> dict[str, dict[str, int]]:
+    """How many listed slots are in each status, per entity (``by="entity"``) or per topic."""
+    column = {"entity": Slot.entity, "topic": Slot.topic}[by]
+    q = select(column, Slot.status, func.count()).where(
+        column.is_not(None), (Slot.gone.is_(False)) | (Slot.status == "recheck")
+    ).group_by(column, Slot.status)
+    out: dict[str, dict[str, int]] = {}
+    for key, status, n in session.execute(q).all():
+        out.setdefault(key, {})[status] = int(n)
+    return out
 
 
 def recheck_reason_counts(session: Session) -> dict[str, int]:
@@ -447,6 +465,16 @@ def entity_rows(session: Session) -> list[Entity]:
     return list(session.scalars(select(Entity).order_by(Entity.position)))
 
 
+def get_entity(session: Session, key: str) -> Entity | None:
+    """An entity by key."""
+    return session.get(Entity, key)
+
+
+def get_topic(session: Session, key: str) -> Topic | None:
+    """A topic by key."""
+    return session.get(Topic, key)
+
+
 def replaced_values(session: Session) -> pd.DataFrame:
     """For each observation key that was revised, the value it held before its latest revision."""
     q = select(Observation.entity, Observation.topic, Observation.period, Observation.value, Observation.valid_to).where(
@@ -457,3 +485,46 @@ def replaced_values(session: Session) -> pd.DataFrame:
         return frame.drop(columns=["valid_to"])
     frame = frame.sort_values("valid_to").drop_duplicates(OBS_KEY, keep="last")
     return frame.drop(columns=["valid_to"]).astype({"value": "float64"})
+
+
+def drafts_as_of(session: Session, edition_id: int) -> dict[str, Draft]:
+    """Each slot's latest draft written at or before an edition."""
+    latest = (
+        select(Draft.slot_id, func.max(Draft.id).label("id"))
+        .where(Draft.edition_id <= edition_id).group_by(Draft.slot_id).subquery()
+    )
+    rows = session.scalars(select(Draft).join(latest, Draft.id == latest.c.id))
+    return {d.slot_id: d for d in rows}
+
+
+def gone_as_of(session: Session, edition_id: int) -> set[str]:
+    """Slots that had no draft in an edition's load because they no longer applied.
+
+    A slot is gone at an edition when it is gone now and its latest draft is older than that
+    edition (drafts are rewritten whenever a slot is drafted with any change).
+    """
+    latest = select(Draft.slot_id, func.max(Draft.edition_id).label("edition")).group_by(Draft.slot_id).subquery()
+    q = select(Slot.id).join(latest, latest.c.slot_id == Slot.id).where(Slot.gone.is_(True), latest.c.edition < edition_id)
+    return set(session.scalars(q))
+
+
+def layer_types_by_slot(session: Session, before_edition_id: int) -> dict[str, list[str]]:
+    """Active layers made before an edition was loaded, as the list of their types per slot."""
+    loaded = session.scalar(select(Edition.loaded_at).where(Edition.id == before_edition_id))
+    q = select(Layer.slot_id, Layer.type).where(Layer.dropped_at.is_(None))
+    if loaded is not None:
+        q = q.where(Layer.at < loaded)
+    out: dict[str, list[str]] = {}
+    for slot_id, type_ in session.execute(q.order_by(Layer.id)):
+        out.setdefault(slot_id, []).append(type_)
+    return out
+
+
+def slot_statuses(session: Session, slot_ids: Sequence[str]) -> dict[str, tuple[str, Any]]:
+    """Status and recheck of many slots."""
+    out: dict[str, tuple[str, Any]] = {}
+    for start in range(0, len(slot_ids), 900):
+        chunk = list(slot_ids[start:start + 900])
+        for sid, status, recheck in session.execute(select(Slot.id, Slot.status, Slot.recheck).where(Slot.id.in_(chunk))):
+            out[sid] = (status, recheck)
+    return out

@@ -1,0 +1,104 @@
+"""The number audit: every number in the text that would be published, with the fact it comes from.
+
+A number is traced when it sits inside a fact's displayed text ("45.2%", "4.7 per 1,000
+residents"), or inside a label (the topic label, its unit, the entity name: "per 1,000 residents"
+is a label, not a figure), or else when it matches a fact by value within display rounding.
+Anything else is *untraced*: a number a person typed that no fact backs.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from sqlalchemy.orm import Session
+
+from engine.actions import published_text, views
+from engine.livefields import LiveFields
+from engine.loading import house_style
+from engine.numbers import find_numbers, trace
+from engine.store import ops
+
+LABEL = "(label)"
+
+
+@dataclass(frozen=True)
+class NumberUse:
+    """One number in a published text and its source: a fact name, LABEL, or None (untraced)."""
+
+    text: str
+    fact: str | None
+    where: str  # "text" or "note"
+
+    def to_json(self) -> dict[str, Any]:
+        """The use as a JSON object."""
+        return {"text": self.text, "fact": self.fact, "where": self.where}
+
+
+@dataclass
+class SlotAudit:
+    """The numbers of one slot's published text and notes."""
+
+    slot: str
+    uses: list[NumberUse] = field(default_factory=list)
+
+    @property
+    def untraced(self) -> list[NumberUse]:
+        """The numbers that match no fact."""
+        return [u for u in self.uses if u.fact is None]
+
+    def to_json(self) -> dict[str, Any]:
+        """The audit of a slot as a JSON object."""
+        return {"slot": self.slot, "numbers": [u.to_json() for u in self.uses],
+                "untraced": [u.text for u in self.untraced]}
+
+
+def audit_text(text: str, evidence: dict[str, dict[str, Any]], labels: list[str], where: str = "text") -> list[NumberUse]:
+    """Trace every number of a text to the evidence, a label, or nothing."""
+    covered: dict[int, str] = {}
+    spans = sorted(
+        [(str(e.get("shown", "")), name) for name, e in evidence.items()] + [(lab, LABEL) for lab in labels],
+        key=lambda pair: -len(pair[0]),
+    )
+    for shown, source in spans:
+        if not shown or not any(ch.isdigit() for ch in shown):
+            continue
+        start = text.find(shown)
+        while start >= 0:
+            for pos in range(start, start + len(shown)):
+                covered.setdefault(pos, source)
+            start = text.find(shown, start + len(shown))
+    uses = []
+    for number in find_numbers(text):
+        source = covered.get(number.start)
+        if source is None:
+            facts = trace(number, evidence)
+            source = facts[0] if facts else None
+        uses.append(NumberUse(number.text, source, where))
+    return uses
+
+
+def audit(session: Session, f: ops.SlotFilter | None = None) -> list[SlotAudit]:
+    """Audit every published slot (not suppressed, not gone) of the workspace."""
+    style, _values = house_style(session)
+    live = LiveFields(style)
+    topics = {t.key: t for t in ops.topic_rows(session)}
+    entities = {e.key: e for e in ops.entity_rows(session)}
+    out = []
+    for v in views(session, f or ops.SlotFilter(), order="interest"):
+        if v.slot.gone:
+            continue
+        text = published_text(session, v.slot, v.draft, v.layers, live)
+        if text is None:
+            continue
+        labels = [entities[v.slot.entity].name] if v.slot.entity in entities else []
+        if v.slot.topic in topics:
+            labels += [topics[v.slot.topic].label, topics[v.slot.topic].unit]
+        labels += [e.name for e in entities.values()] if v.slot.entity is None else []
+        labels += [t.label for t in topics.values()] if v.slot.topic is None else []
+        result = SlotAudit(v.slot.id, audit_text(text, v.draft.evidence, labels))
+        for layer in v.layers:
+            if layer.type == "annotate" and layer.text:
+                result.uses += audit_text(layer.text, v.draft.evidence, labels, where="note")
+        out.append(result)
+    return out

@@ -1,0 +1,103 @@
+"""The edition changelog: what changed between two editions.
+
+Slots added and gone, claims that flipped (with the old and new text), the largest changes in
+shown values, and the human layers carried across with their outcome. A slot's draft in an
+edition is its latest draft written at or before that edition (drafts are written only when
+something changed).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from sqlalchemy.orm import Session
+
+from engine.errors import StetlineError
+from engine.reconcile import claim_changes
+from engine.store import ops
+
+TOP_NUMBERS = 20
+
+
+@dataclass
+class Changelog:
+    """What changed from one edition to another."""
+
+    from_edition: str
+    to_edition: str
+    added: list[str] = field(default_factory=list)
+    gone: list[str] = field(default_factory=list)
+    flipped: list[dict[str, Any]] = field(default_factory=list)
+    numbers: list[dict[str, Any]] = field(default_factory=list)
+    carried: list[dict[str, Any]] = field(default_factory=list)
+
+    def to_json(self) -> dict[str, Any]:
+        """The changelog as a JSON object."""
+        return dict(self.__dict__)
+
+    def to_markdown(self) -> str:
+        """The changelog as a Markdown document."""
+        lines = [f"# Changes from edition {self.from_edition} to {self.to_edition}", ""]
+        lines += [f"- statements added: {len(self.added)}", f"- statements gone: {len(self.gone)}",
+                  f"- claims flipped: {len(self.flipped)}", f"- human layers carried: {len(self.carried)}", ""]
+        if self.flipped:
+            lines += ["## Claims that flipped", ""]
+            for f in self.flipped:
+                claims = "; ".join(f"{c['fact']}: {c['old']} → {c['new']}" for c in f["claims"])
+                lines += [f"### {f['slot']}", "", f"{claims}", "", f"- before: {f['old_text']}", f"- after: {f['new_text']}", ""]
+        if self.numbers:
+            lines += ["## Largest changes in values", "", "| statement | before | after | change |", "| --- | --- | --- | --- |"]
+            for n in self.numbers:
+                lines.append(f"| {n['slot']} | {n['old']} | {n['new']} | {n['relative']:+.1%} |")
+            lines.append("")
+        if self.carried:
+            lines += ["## Human layers carried", "", "| statement | layers | outcome |", "| --- | --- | --- |"]
+            for c in self.carried:
+                lines.append(f"| {c['slot']} | {', '.join(c['layers'])} | {c['outcome']} |")
+            lines.append("")
+        if self.gone:
+            lines += ["## Statements gone", ""] + [f"- {s}" for s in self.gone] + [""]
+        return "\n".join(lines).rstrip() + "\n"
+
+
+def changes(session: Session, from_label: str | None = None, to_label: str | None = None) -> Changelog:
+    """Compare two editions (default: the last two)."""
+    editions = ops.editions(session)
+    if len(editions) < 2 and (from_label is None or to_label is None):
+        raise StetlineError("a changelog needs two editions; load another edition first")
+    by_label = {e.label: e for e in editions}
+    for label in (from_label, to_label):
+        if label is not None and label not in by_label:
+            raise StetlineError(f"no edition {label!r}; editions: {', '.join(by_label)}")
+    to_e = by_label[to_label] if to_label else editions[-1]
+    earlier = [e for e in editions if e.id < to_e.id]
+    from_e = by_label[from_label] if from_label else (earlier[-1] if earlier else None)
+    if from_e is None or from_e.id >= to_e.id:
+        raise StetlineError("--from must name an edition older than --to")
+    before = ops.drafts_as_of(session, from_e.id)
+    after = ops.drafts_as_of(session, to_e.id)
+    gone_now = ops.gone_as_of(session, to_e.id)
+    log = Changelog(from_e.label, to_e.label)
+    log.added = sorted(s for s in after if s not in before)
+    log.gone = sorted(s for s in before if s in gone_now)
+    for slot in sorted(set(before) & set(after)):
+        old, new = before[slot], after[slot]
+        if slot in gone_now:
+            continue
+        flipped = claim_changes(old.claims, new.claims)
+        if flipped:
+            log.flipped.append({"slot": slot, "claims": flipped, "old_text": old.text, "new_text": new.text})
+        a, b = old.evidence.get("value", {}), new.evidence.get("value", {})
+        if isinstance(a.get("value"), (int, float)) and isinstance(b.get("value"), (int, float)) and a["value"]:
+            rel = (b["value"] - a["value"]) / abs(a["value"])
+            if a.get("shown") != b.get("shown"):
+                log.numbers.append({"slot": slot, "old": a["shown"], "new": b["shown"], "relative": rel})
+    log.numbers = sorted(log.numbers, key=lambda n: -abs(n["relative"]))[:TOP_NUMBERS]
+    layered = ops.layer_types_by_slot(session, before_edition_id=to_e.id)
+    statuses = ops.slot_statuses(session, list(layered))
+    for slot, types in sorted(layered.items()):
+        status, recheck = statuses.get(slot, ("", None))
+        outcome = "recheck: " + ", ".join((recheck or {}).get("reasons", [])) if status == "recheck" else status
+        log.carried.append({"slot": slot, "layers": types, "outcome": outcome})
+    return log

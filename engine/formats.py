@@ -1,0 +1,300 @@
+"""Render a Publication in the publication formats: Markdown, HTML, JSON, CSV and Word (docx).
+
+Every renderer works from the same Publication (see engine.publish.gather), so the statements,
+their order, the notes and the caveats are the same in every format. Text from the data or from
+editors is always treated as text: HTML escapes it, CSV neutralises cells a spreadsheet would run
+as a formula, Word gets it in runs with characters XML cannot carry removed.
+"""
+
+from __future__ import annotations
+
+import csv
+import html
+import io
+import json
+import re
+from typing import Any, Callable
+
+from engine.numbers import find_numbers, trace
+from engine.publish import CAUTION, Publication, Statement, to_markdown
+
+FORMATS = ("md", "html", "json", "csv", "docx")
+BINARY = frozenset({"docx"})
+MEDIA_TYPES = {
+    "md": "text/markdown; charset=utf-8",
+    "html": "text/html; charset=utf-8",
+    "json": "application/json",
+    "csv": "text/csv; charset=utf-8",
+    "docx": "application/vnd.openxmlformats-officedocument.wordprocessingml.document",
+}
+FIGURE_NOTES = "Notes on the figures"
+TOC_INSTRUCTION = 'TOC \\o "1-3" \\h \\z \\u'
+CSV_COLUMNS = ("slot", "entity", "topic", "kind", "text", "entity_name", "topic_label")
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+_NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
+
+
+def render(pub: Publication, fmt: str) -> bytes:
+    """A publication in one format, as the bytes of the file."""
+    try:
+        renderer = _RENDERERS[fmt]
+    except KeyError:
+        raise ValueError(f"unknown format {fmt!r}; available: {', '.join(FORMATS)}") from None
+    return renderer(pub)
+
+
+def sources_line(pub: Publication, statements: list[Statement]) -> str | None:
+    """The sources of the topics a section's statements use, as one sentence (None if none)."""
+    used = sorted({st.topic for st in statements if st.topic and st.topic in pub.sources})
+    return "Sources: " + "; ".join(pub.sources[t] for t in used) + "." if used else None
+
+
+def _caveat_numbers(pub: Publication) -> dict[int, int]:
+    """Footnote numbers of the statements with a caveat, keyed by id(), in reading order."""
+    numbers: dict[int, int] = {}
+    for _key, _heading, statements in pub.sections:
+        for st in statements:
+            if st.caveat:
+                numbers[id(st)] = len(numbers) + 1
+    return numbers
+
+
+def _caveats(pub: Publication) -> list[str]:
+    return [st.caveat for _k, _h, sts in pub.sections for st in sts if st.caveat]
+
+
+# -- HTML ------------------------------------------------------------------------------------
+
+_CSS = """
+body { font-family: Georgia, "Times New Roman", serif; line-height: 1.5; color: #1d1d1d;
+       background: #fff; margin: 0; }
+main { max-width: 46rem; margin: 0 auto; padding: 2rem 1.25rem 4rem; }
+header.title-block { border-bottom: 2px solid #1d1d1d; margin-bottom: 1.5rem; }
+h1 { font-size: 1.9rem; line-height: 1.2; margin: 0 0 .4rem; }
+.edition { color: #555; margin: 0 0 1rem; }
+.caution { background: #fff6d6; border-left: 4px solid #c99a00; padding: .6rem .9rem; }
+h2 { font-size: 1.35rem; margin: 2.2rem 0 .8rem; border-bottom: 1px solid #ccc; }
+p.statement { margin: 0 0 .9rem; }
+aside.note { margin: -.4rem 0 1rem 1.2rem; padding: .3rem .8rem; border-left: 3px solid #7a9cc6;
+             color: #333; font-style: italic; }
+p.source { font-size: .85rem; color: #555; }
+sup a { text-decoration: none; }
+.footnotes { margin-top: 3rem; font-size: .9rem; border-top: 1px solid #ccc; }
+@media print { main { max-width: none; } .caution { border-color: #000; } }
+""".strip()
+
+
+def _e(text: Any) -> str:
+    return html.escape(str(text), quote=True)
+
+
+def to_html(pub: Publication) -> bytes:
+    """A standalone HTML document (inline CSS, no external assets)."""
+    numbers = _caveat_numbers(pub)
+    out = [
+        "<!DOCTYPE html>",
+        '<html lang="en">',
+        "<head>",
+        '<meta charset="utf-8">',
+        '<meta name="viewport" content="width=device-width, initial-scale=1">',
+        f"<title>{_e(pub.title)} — edition {_e(pub.edition)}</title>",
+        f"<style>\n{_CSS}\n</style>",
+        "</head>",
+        "<body>",
+        "<main>",
+        '<header class="title-block">',
+        f"<h1>{_e(pub.title)}</h1>",
+        f'<p class="edition">Edition <span class="edition-label">{_e(pub.edition)}</span> · '
+        f'<time datetime="{_e(pub.date)}">{_e(pub.date)}</time></p>',
+        "</header>",
+        f'<p class="caution">{_e(CAUTION)}</p>',
+    ]
+    for index, (key, heading, statements) in enumerate(pub.sections, 1):
+        out.append(f'<section class="section" id="section-{index}" data-key="{_e(key)}">')
+        out.append(f"<h2>{_e(heading)}</h2>")
+        for st in statements:
+            ref = ""
+            n = numbers.get(id(st))
+            if n is not None:
+                ref = f'<sup><a href="#fn{n}" id="fnref{n}">{n}</a></sup>'
+            out.append(f'<p class="statement" data-slot="{_e(st.slot)}">{_e(st.text)}{ref}</p>')
+            for note in st.notes:
+                out.append(f'<aside class="note"><strong>Note:</strong> {_e(note)}</aside>')
+        line = sources_line(pub, statements)
+        if line:
+            out.append(f'<p class="source">{_e(line)}</p>')
+        out.append("</section>")
+    caveats = _caveats(pub)
+    if caveats:
+        out += ['<section class="footnotes">', f"<h2>{_e(FIGURE_NOTES)}</h2>", "<ol>"]
+        for n, caveat in enumerate(caveats, 1):
+            out.append(f'<li id="fn{n}">{_e(caveat)} <a href="#fnref{n}" aria-label="back to the statement">↩</a></li>')
+        out += ["</ol>", "</section>"]
+    out += ["</main>", "</body>", "</html>", ""]
+    return "\n".join(out).encode("utf-8")
+
+
+# -- JSON ------------------------------------------------------------------------------------
+
+def _numbers(st: Statement) -> list[dict[str, Any]]:
+    found = []
+    for number in find_numbers(st.text):
+        facts = trace(number, st.evidence) if st.evidence else []
+        found.append({"text": number.text, "fact": facts[0] if facts else None})
+    return found
+
+
+def statement_json(st: Statement, edition: str) -> dict[str, Any]:
+    """One published statement as a JSON object."""
+    return {
+        "slot": st.slot,
+        "entity": st.entity,
+        "topic": st.topic,
+        "kind": st.kind,
+        "status": st.status,
+        "text": st.text,
+        "html": f"<p>{_e(st.text)}</p>",
+        "notes": list(st.notes),
+        "caveat": st.caveat,
+        "numbers": _numbers(st),
+        "provenance": {
+            "edition": edition,
+            "written_by": st.written_by,
+            "approved_by": st.approved_by,
+            "approved_at": st.approved_at,
+        },
+        "warning": st.warning,
+    }
+
+
+def to_json(pub: Publication) -> bytes:
+    """A JSON list with one object per published statement, in publication order."""
+    items = [statement_json(st, pub.edition) for _k, _h, sts in pub.sections for st in sts]
+    return (json.dumps(items, ensure_ascii=False, indent=2) + "\n").encode("utf-8")
+
+
+# -- CSV -------------------------------------------------------------------------------------
+
+def neutralise(cell: Any) -> str:
+    """A cell a spreadsheet will show as text: one starting like a formula gets a leading quote."""
+    text = "" if cell is None else str(cell)
+    return "'" + text if text.startswith(_FORMULA_START) else text
+
+
+def to_csv(pub: Publication) -> bytes:
+    """One row per published statement, formula-like cells neutralised."""
+    buf = io.StringIO(newline="")
+    writer = csv.writer(buf)
+    writer.writerow(CSV_COLUMNS)
+    for _k, _h, statements in pub.sections:
+        for st in statements:
+            writer.writerow([neutralise(c) for c in (
+                st.slot, st.entity, st.topic, st.kind, st.text,
+                pub.entity_names.get(st.entity or "", ""), pub.topic_labels.get(st.topic or "", ""),
+            )])
+    return buf.getvalue().encode("utf-8")
+
+
+# -- Word ------------------------------------------------------------------------------------
+
+def _x(text: Any) -> str:
+    return _NOT_XML.sub("", str(text))
+
+
+def _styles(document: Any) -> None:
+    """Add the paragraph styles a designer restyles: Statement, Note, Source, Caution, Figure Note."""
+    from docx.enum.style import WD_STYLE_TYPE
+    from docx.shared import Cm, Pt, RGBColor
+
+    styles = document.styles
+    normal = styles["Normal"]
+
+    def add(name: str) -> Any:
+        style = styles.add_style(name, WD_STYLE_TYPE.PARAGRAPH)
+        style.base_style = normal
+        style.quick_style = True
+        return style
+
+    statement = add("Statement")
+    statement.paragraph_format.space_after = Pt(8)
+    note = add("Note")
+    note.font.italic = True
+    note.paragraph_format.left_indent = Cm(1)
+    note.paragraph_format.space_after = Pt(8)
+    source = add("Source")
+    source.font.size = Pt(9)
+    source.font.color.rgb = RGBColor(0x55, 0x55, 0x55)
+    caution = add("Caution")
+    caution.font.italic = True
+    caution.paragraph_format.space_after = Pt(12)
+    figure = add("Figure Note")
+    figure.font.size = Pt(9)
+    for style in (note, source, caution, figure):
+        style.next_paragraph_style = statement
+
+
+def _toc(document: Any) -> None:
+    """A table-of-contents field (Word fills it in when fields are updated, as on opening)."""
+    from docx.oxml import OxmlElement
+    from docx.oxml.ns import qn
+
+    document.add_paragraph("Contents", style="TOC Heading")
+    field = OxmlElement("w:fldSimple")
+    field.set(qn("w:instr"), TOC_INSTRUCTION)
+    run = OxmlElement("w:r")
+    text = OxmlElement("w:t")
+    text.text = "Update this field to show the table of contents."
+    run.append(text)
+    field.append(run)
+    document.add_paragraph()._p.append(field)
+    update = OxmlElement("w:updateFields")
+    update.set(qn("w:val"), "true")
+    document.settings.element.append(update)
+
+
+def to_docx(pub: Publication) -> bytes:
+    """A Word document: Title, Heading 1 per section, Statement and Note styles, figure notes, TOC."""
+    import docx
+
+    document = docx.Document()
+    _styles(document)
+    document.core_properties.title = _x(pub.title)
+    document.core_properties.subject = _x(f"Edition {pub.edition}")
+    document.add_paragraph(_x(pub.title), style="Title")
+    document.add_paragraph(_x(f"Edition {pub.edition} · {pub.date}"), style="Subtitle")
+    document.add_paragraph(_x(CAUTION), style="Caution")
+    _toc(document)
+    numbers = _caveat_numbers(pub)
+    for _key, heading, statements in pub.sections:
+        document.add_heading(_x(heading), level=1)
+        for st in statements:
+            paragraph = document.add_paragraph(_x(st.text), style="Statement")
+            n = numbers.get(id(st))
+            if n is not None:
+                paragraph.add_run(str(n)).font.superscript = True
+            for note in st.notes:
+                p = document.add_paragraph(style="Note")
+                p.add_run("Note: ").bold = True
+                p.add_run(_x(note))
+        line = sources_line(pub, statements)
+        if line:
+            document.add_paragraph(_x(line), style="Source")
+    caveats = _caveats(pub)
+    if caveats:
+        document.add_heading(FIGURE_NOTES, level=1)
+        for n, caveat in enumerate(caveats, 1):
+            p = document.add_paragraph(style="Figure Note")
+            p.add_run(str(n)).font.superscript = True
+            p.add_run(" " + _x(caveat))
+    buf = io.BytesIO()
+    document.save(buf)
+    return buf.getvalue()
+
+
+def _md(pub: Publication) -> bytes:
+    return to_markdown(pub).encode("utf-8")
+
+
+_RENDERERS: dict[str, Callable[[Publication], bytes]] = {
+    "md": _md, "html": to_html, "json": to_json, "csv": to_csv, "docx": to_docx,
+}

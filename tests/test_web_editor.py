@@ -1,0 +1,286 @@
+"""The web editor on the demo workspace: browsing, the statement page and its forms, the recheck
+queue, previews, and the refusals (unknown live fields, stale versions, missing CSRF tokens)."""
+
+from __future__ import annotations
+
+import re
+from typing import Any
+
+import pytest
+from flask import Flask
+from flask.testing import FlaskClient
+
+from engine import actions
+from engine.store import ops
+from engine.workspace import Workspace
+from webapp import create_app
+
+HERONSFORD = "change/heronsford/recycling"  # a rewrite in recheck with a clean proposal
+GORSE = "change/gorse-point/recycling"  # a rewrite in recheck whose proposal has a conflict
+
+
+@pytest.fixture
+def app(demo_ws: Workspace) -> Flask:
+    return create_app(demo_ws, {"TESTING": True, "WTF_CSRF_ENABLED": False})
+
+
+@pytest.fixture
+def client(app: Flask) -> FlaskClient:
+    return app.test_client()
+
+
+def state(ws: Workspace, slot: str) -> dict[str, Any]:
+    with ws.session() as s:
+        return actions.view(s, slot).to_json(s)
+
+
+def page(client: FlaskClient, url: str, status: int = 200) -> str:
+    response = client.get(url)
+    assert response.status_code == status, url
+    return response.get_data(as_text=True)
+
+
+# -- browsing -------------------------------------------------------------------------------
+
+def test_nav_links_every_page_group(client: FlaskClient) -> None:
+    html = page(client, "/")
+    for href, label in (("/", "Overview"), ("/entities", "Entities"), ("/topics", "Topics"),
+                        ("/recheck", "Recheck queue")):
+        assert f'<a href="{href}"' in html and f">{label}</a>" in html
+
+
+def test_entities_list_names_groups_and_status_counts(client: FlaskClient) -> None:
+    html = page(client, "/entities")
+    assert '<a href="/entities/heronsford">Heronsford</a>' in html
+    assert "<td>Estuary</td>" in html
+    assert '<span class="badge badge-recheck">recheck</span> 1' in html
+    assert '<span class="badge badge-draft">draft</span>' in html
+
+
+def test_topics_list_label_unit_better_category(client: FlaskClient) -> None:
+    html = page(client, "/topics")
+    assert '<a href="/topics/recycling">Household recycling rate</a>' in html
+    assert "<td>percent</td>" in html and "<td>higher</td>" in html and "<td>Environment</td>" in html
+    assert '<span class="badge badge-recheck">recheck</span>' in html
+
+
+def test_entity_page_lists_its_statements_in_interest_order(client: FlaskClient, demo_ws: Workspace) -> None:
+    html = page(client, "/entities/heronsford")
+    assert "<h1>Heronsford</h1>" in html
+    listed = re.findall(r'<a href="/statements/([^"]+)"><code>', html)
+    assert HERONSFORD in listed
+    with demo_ws.session() as s:
+        expected = [v.slot.id for v in actions.views(s, ops.SlotFilter(entity="heronsford"), order="interest")]
+    assert listed == expected
+    assert '<span class="badge badge-recheck">recheck</span>' in html
+    assert "Heronsford kept its lead on recycling" in html  # the published text, not the draft
+
+
+def test_topic_page_lists_its_statements(client: FlaskClient) -> None:
+    html = page(client, "/topics/recycling")
+    assert "<h1>Household recycling rate</h1>" in html
+    assert f'href="/statements/{HERONSFORD}"' in html and 'href="/statements/leaders/recycling"' in html
+
+
+def test_unknown_keys_and_slots_are_404_pages(client: FlaskClient) -> None:
+    assert "no entity &#39;atlantis&#39;" in page(client, "/entities/atlantis", 404)
+    assert "There is no topic" in page(client, "/topics/nothing", 404)
+    html = page(client, "/statements/change/atlantis/recycling", 404)
+    assert "Not found" in html and "no statement" in html
+    assert client.post("/statements/change/atlantis/recycling/approve", data={"version": "1"}).status_code == 404
+    assert client.post("/statements/nope/preview", data={"text": "x"}).status_code == 404
+
+
+# -- the statement page ---------------------------------------------------------------------
+
+def test_statement_page_shows_texts_evidence_claims_recheck_and_history(client: FlaskClient) -> None:
+    html = page(client, f"/statements/{HERONSFORD}")
+    assert '<span class="badge badge-recheck">recheck</span>' in html
+    assert "<h2>Published text</h2>" in html and "<h2>Draft</h2>" in html
+    assert "Household recycling rate in Heronsford improved from 59.0% in 2024 to 59.3% in 2025" in html
+    assert "<td><code>value</code></td><td>59.3</td><td>59.3%</td>" in html  # evidence: fact, value, shown
+    assert "<td><code>direction</code></td><td>up</td>" in html  # claims
+    assert "numbers-changed" in html and "<td>59.0%</td><td>→ 59.3%</td>" in html  # facts old → new
+    assert 'class="merge merge-clean">clean<' in html
+    assert "<del>2.4</del><ins>0.3</ins>" in html  # proposed vs the rewrite, word by word
+    assert "<td>editor</td><td>rewrite</td>" in html  # history
+    assert "<code>{{ value }}</code> → 59.3%" in html  # live fields on offer
+    for action in ("accept", "approve", "pin", "suppress", "revert", "rewrite", "annotate"):
+        assert f'action="/statements/{HERONSFORD}/{action}"' in html
+    assert html.count('name="version" value="5"') == 7
+    assert '<label for="rewrite-text">Rewrite</label>' in html and '<label for="by-name">Your name</label>' in html
+
+
+def test_conflicting_proposal_offers_no_accept(client: FlaskClient) -> None:
+    html = page(client, f"/statements/{GORSE}")
+    assert 'class="merge merge-conflict">conflict<' in html
+    assert f"/statements/{GORSE}/accept" not in html
+    assert client.post(f"/statements/{GORSE}/accept", data={"version": "4"}).status_code == 400
+
+
+def test_accepting_the_proposal_approves_it(client: FlaskClient, demo_ws: Workspace) -> None:
+    before = state(demo_ws, HERONSFORD)
+    response = client.post(f"/statements/{HERONSFORD}/accept", data={"version": str(before["version"])})
+    assert response.status_code == 303 and response.headers["Location"].endswith(f"/statements/{HERONSFORD}")
+    after = state(demo_ws, HERONSFORD)
+    assert after["status"] == "approved" and after["recheck"] is None
+    assert after["text"] == before["recheck"]["proposed"] and "59.3%" in after["text"]
+    html = page(client, f"/statements/{HERONSFORD}")
+    assert "Proposed text accepted and approved" in html  # the flash message
+    assert '<span class="badge badge-approved">approved</span>' in html
+    assert "<td>web</td><td>accept" in html  # acted as the default name
+
+
+def test_rewrite_with_an_unknown_live_field_is_refused_and_changes_nothing(
+    client: FlaskClient, demo_ws: Workspace,
+) -> None:
+    before = state(demo_ws, HERONSFORD)
+    response = client.post(f"/statements/{HERONSFORD}/rewrite",
+                           data={"version": str(before["version"]), "text": "Now {{ nosuchfact }} here."})
+    assert response.status_code == 400
+    html = response.get_data(as_text=True)
+    assert "unknown live field" in html and 'id="rewrite-error"' in html
+    assert "Now {{ nosuchfact }} here.</textarea>" in html  # the text is kept for fixing
+    assert state(demo_ws, HERONSFORD) == before
+
+
+def test_rewrite_with_live_fields_saves_and_redirects(client: FlaskClient, demo_ws: Workspace) -> None:
+    v = state(demo_ws, GORSE)["version"]
+    response = client.post(f"/statements/{GORSE}/rewrite", data={
+        "version": str(v), "text": "Gorse Point's recycling rate fell to {{ value }} in {{ period }}.", "by": "Ada",
+    })
+    assert response.status_code == 303
+    after = state(demo_ws, GORSE)
+    assert after["text"] == "Gorse Point's recycling rate fell to 40.4% in 2025."
+    assert after["layer"]["by"] == "Ada" and after["version"] == v + 1
+    # the name is kept in the session: the next action is Ada's too
+    client.post(f"/statements/{GORSE}/annotate", data={"version": str(v + 1), "text": "Checked with the council."})
+    assert state(demo_ws, GORSE)["notes"][0]["by"] == "Ada"
+
+
+def test_a_stale_version_is_a_conflict(client: FlaskClient, demo_ws: Workspace) -> None:
+    before = state(demo_ws, HERONSFORD)
+    response = client.post(f"/statements/{HERONSFORD}/approve", data={"version": str(before["version"] - 1)})
+    assert response.status_code == 409
+    html = response.get_data(as_text=True)
+    assert "changed since you opened it" in html and 'id="approve-error"' in html
+    assert state(demo_ws, HERONSFORD) == before
+
+
+def test_a_missing_version_is_refused(client: FlaskClient, demo_ws: Workspace) -> None:
+    before = state(demo_ws, HERONSFORD)
+    response = client.post(f"/statements/{HERONSFORD}/pin", data={})
+    assert response.status_code == 400 and "version" in response.get_data(as_text=True)
+    assert state(demo_ws, HERONSFORD) == before
+
+
+def test_suppress_lift_pin_and_revert(client: FlaskClient, demo_ws: Workspace) -> None:
+    slot = "leaders/recycling"
+    v = state(demo_ws, slot)["version"]
+    assert client.post(f"/statements/{slot}/suppress", data={"version": str(v)}).status_code == 303
+    assert state(demo_ws, slot)["suppressed"]
+    html = page(client, f"/statements/{slot}")
+    assert "Left out of the publication" in html and f"/statements/{slot}/lift" in html
+    assert client.post(f"/statements/{slot}/suppress", data={"version": str(v + 1)}).status_code == 400
+    assert client.post(f"/statements/{slot}/lift", data={"version": str(v + 1)}).status_code == 303
+    assert not state(demo_ws, slot)["suppressed"]
+    assert client.post(f"/statements/{slot}/pin", data={"version": str(v + 2)}).status_code == 303
+    assert state(demo_ws, slot)["layer"]["type"] == "pin"
+    assert client.post(f"/statements/{slot}/revert", data={"version": str(v + 3)}).status_code == 303
+    assert state(demo_ws, slot)["layer"] is None
+    response = client.post(f"/statements/{slot}/revert", data={"version": str(v + 4)})
+    assert response.status_code == 400 and "no rewrite or pin to revert" in response.get_data(as_text=True)
+
+
+def test_an_empty_note_is_refused_next_to_its_field(client: FlaskClient, demo_ws: Workspace) -> None:
+    v = state(demo_ws, HERONSFORD)["version"]
+    response = client.post(f"/statements/{HERONSFORD}/annotate", data={"version": str(v), "text": "  "})
+    assert response.status_code == 400 and 'id="annotate-error"' in response.get_data(as_text=True)
+
+
+def test_redirects_only_go_to_this_site(client: FlaskClient, demo_ws: Workspace) -> None:
+    v = state(demo_ws, HERONSFORD)["version"]
+    response = client.post(f"/statements/{HERONSFORD}/pin", data={"version": str(v), "next": "//elsewhere.example/"})
+    assert response.headers["Location"].endswith(f"/statements/{HERONSFORD}")
+    response = client.post("/name", data={"by": "Grace", "next": "/recheck?reason=claim-changed"})
+    assert response.status_code == 303 and response.headers["Location"].endswith("/recheck?reason=claim-changed")
+    assert 'value="Grace"' in page(client, "/recheck")
+
+
+# -- previews -------------------------------------------------------------------------------
+
+def test_preview_renders_markdown_and_live_fields_and_strips_scripts(client: FlaskClient) -> None:
+    response = client.post(f"/statements/{HERONSFORD}/preview",
+                           data={"text": "**bold** at {{ value }} <script>alert(1)</script>"})
+    assert response.status_code == 200
+    html = response.get_data(as_text=True)
+    assert "<strong>bold</strong>" in html and "59.3%" in html
+    assert "<script" not in html and "alert(1)" not in html
+
+
+def test_preview_of_an_unknown_live_field_shows_the_error(client: FlaskClient) -> None:
+    response = client.post(f"/statements/{HERONSFORD}/preview", data={"text": "{{ nosuchfact }}"})
+    assert response.status_code == 400 and "unknown live field" in response.get_data(as_text=True)
+
+
+def test_the_preview_script_sends_the_csrf_header(client: FlaskClient) -> None:
+    script = client.get("/static/preview.js")
+    assert script.status_code == 200 and "X-CSRFToken" in script.get_data(as_text=True)
+    script.close()
+    assert '<meta name="csrf-token"' in page(client, f"/statements/{HERONSFORD}")
+
+
+# -- the recheck queue ----------------------------------------------------------------------
+
+def test_recheck_queue_lists_statements_by_severity_with_proposals(client: FlaskClient) -> None:
+    html = page(client, "/recheck")
+    listed = re.findall(r'<h2 id="item-\d+"><a href="/statements/([^"]+)">', html)
+    assert HERONSFORD in listed and GORSE in listed and len(listed) == 13
+    severities = [int(n) for n in re.findall(r"<p>Severity (\d+)\.", html)]
+    assert severities == sorted(severities, reverse=True)
+    item = html[html.index(f'<a href="/statements/{HERONSFORD}">'):]
+    item = item[: item.index("</article>")]
+    assert "59.3%" in item and "Proposed text" in item and "<del>2.4</del><ins>0.3</ins>" in item
+    assert "<td>59.0%</td><td>→ 59.3%</td>" in item
+    assert f'action="/statements/{HERONSFORD}/accept"' in item and f'action="/statements/{HERONSFORD}/revert"' in item
+    gorse = html[html.index(f'<a href="/statements/{GORSE}">'):]
+    gorse = gorse[: gorse.index("</article>")]
+    assert f"/statements/{GORSE}/accept" not in gorse and "conflict" in gorse
+
+
+def test_recheck_queue_filters(client: FlaskClient) -> None:
+    html = page(client, "/recheck?reason=claim-changed")
+    assert GORSE in html and f'<a href="/statements/{HERONSFORD}">' not in html
+    assert '<option value="claim-changed" selected>' in html
+    html = page(client, "/recheck?kind=leaders")
+    listed = re.findall(r'<h2 id="item-\d+"><a href="/statements/([^"]+)">', html)
+    assert listed and all(x.startswith("leaders/") for x in listed)
+    listed = re.findall(r'<h2 id="item-\d+"><a href="/statements/([^"]+)">', page(client, "/recheck?topic=recycling"))
+    assert HERONSFORD in listed and "leaders/recycling" in listed and "standing/north-quay/broadband" not in listed
+    assert "Nothing waits in recheck with these filters" in page(client, "/recheck?entity=heronsford&kind=leaders")
+
+
+def test_one_click_accept_from_the_queue_returns_to_the_queue(client: FlaskClient, demo_ws: Workspace) -> None:
+    v = state(demo_ws, HERONSFORD)["version"]
+    response = client.post(f"/statements/{HERONSFORD}/accept",
+                           data={"version": str(v), "next": "/recheck?topic=recycling"})
+    assert response.status_code == 303 and response.headers["Location"].endswith("/recheck?topic=recycling")
+    html = page(client, "/recheck?topic=recycling")
+    assert f'<a href="/statements/{HERONSFORD}">' not in html
+    assert state(demo_ws, HERONSFORD)["status"] == "approved"
+
+
+# -- CSRF -----------------------------------------------------------------------------------
+
+def test_a_post_without_a_csrf_token_is_refused(demo_ws: Workspace) -> None:
+    client = create_app(demo_ws, {"TESTING": True}).test_client()
+    before = state(demo_ws, HERONSFORD)
+    response = client.post(f"/statements/{HERONSFORD}/accept", data={"version": str(before["version"])})
+    assert response.status_code == 400 and "Form refused" in response.get_data(as_text=True)
+    assert state(demo_ws, HERONSFORD) == before
+    # with the page's token the same form goes through
+    html = page(client, f"/statements/{HERONSFORD}")
+    token = re.search(r'name="csrf_token" value="([^"]+)"', html).group(1)  # type: ignore[union-attr]
+    response = client.post(f"/statements/{HERONSFORD}/accept",
+                           data={"version": str(before["version"]), "csrf_token": token})
+    assert response.status_code == 303 and state(demo_ws, HERONSFORD)["status"] == "approved"

@@ -1,0 +1,46 @@
+"""The recheck queue: every statement waiting in recheck, most severe first, with filters and
+one-click approve, accept-proposed and revert forms (they post to the statement's actions)."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from flask import Blueprint, render_template, request
+
+from engine import actions
+from engine.livefields import LiveFields
+from engine.loading import house_style
+from engine.reconcile import REASONS
+from engine.store import ops
+from webapp.common import diff
+from webapp.db import session
+from webapp.statement import review_texts
+
+bp = Blueprint("recheck", __name__)
+
+FILTERS = ("reason", "kind", "entity", "topic")
+
+
+@bp.get("/recheck")
+def queue() -> str:
+    """List the statements in recheck, filtered by the query string."""
+    s = session()
+    chosen = {k: (request.args.get(k) or "").strip() or None for k in FILTERS}
+    waiting = actions.views(s, ops.SlotFilter(status="recheck"), order="severity")
+    shown = actions.views(s, ops.SlotFilter(status="recheck", **chosen), order="severity") if any(
+        chosen.values()) else waiting
+    live = LiveFields(house_style(s)[0])
+    items: list[dict[str, Any]] = []
+    for v in shown:
+        data = v.to_json(s, live)
+        current, proposed = review_texts(v, data)
+        items.append({**data, "severity": v.slot.severity, "review_current": current,
+                      "review_diff": diff(current, proposed) if proposed else None})
+    options = {
+        "reason": [(r, r) for r in REASONS],
+        "kind": [(k, k) for k in sorted({v.slot.kind for v in waiting})],
+        "entity": [(e.key, e.name) for e in ops.entity_rows(s) if any(v.slot.entity == e.key for v in waiting)],
+        "topic": [(t.key, t.label) for t in ops.topic_rows(s) if any(v.slot.topic == t.key for v in waiting)],
+    }
+    return render_template("recheck/queue.html", items=items, total=len(waiting), chosen=chosen,
+                           options=options, back_to=request.full_path.rstrip("?"))

@@ -1,0 +1,187 @@
+"""One statement's page: its texts, evidence, claims, recheck, notes and history, and the forms
+that act on it (rewrite, pin, annotate, suppress or lift, revert, approve, accept the proposal).
+
+Every form posts the slot's version; the action runs in one transaction and the page redirects
+back with a message. An engine error re-renders the page with the message next to its form.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Callable
+
+from flask import Blueprint, abort, flash, redirect, render_template, request, url_for
+from sqlalchemy.orm import Session
+from werkzeug.wrappers import Response
+
+from engine import actions
+from engine.errors import Conflict, NotFound, StetlineError
+from engine.livefields import FILTER_HELP, LiveFields
+from engine.loading import house_style
+from engine.store.models import Slot
+from webapp.common import acting_name, current_name, diff, markdown_html, preview_html, safe_next
+from webapp.db import session, workspace
+
+bp = Blueprint("statement", __name__)
+
+
+def _live(s: Session) -> LiveFields:
+    return LiveFields(house_style(s)[0])
+
+
+def review_texts(v: actions.SlotView, data: dict[str, Any]) -> tuple[str | None, str | None]:
+    """The text under review in recheck and the proposed one: the layer, else the approved text."""
+    recheck = data["recheck"]
+    if not recheck:
+        return None, None
+    if data["layer"] is not None:
+        current = data["layer"]["text"]
+    elif v.approval is not None:
+        current = v.approval.text
+    else:
+        current = data["text"]
+    return current, recheck.get("proposed")
+
+
+def _page(slot_id: str, *, errors: dict[str, str] | None = None, values: dict[str, str] | None = None,
+          status: int = 200) -> tuple[str, int]:
+    s = session()
+    try:
+        v = actions.view(s, slot_id)
+    except NotFound as exc:
+        abort(404, description=str(exc))
+    data = v.to_json(s, _live(s))
+    events = actions.history(s, slot_id)
+    for e in events:
+        changed = e["before"] is not None and e["after"] is not None and e["before"] != e["after"]
+        e["diff"] = diff(e["before"], e["after"]) if changed else None
+    current, proposed = review_texts(v, data)
+    layer = data["layer"]
+    values = values or {}
+    rewrite_text = values.get("rewrite")
+    if rewrite_text is None:
+        rewrite_text = layer["text"] if layer and layer["type"] == "rewrite" else (data["text"] or data["draft"])
+    html = render_template(
+        "statement/show.html", s=data, approval=v.approval, events=events, errors=errors or {},
+        rewrite_text=rewrite_text, note_text=values.get("annotate", ""),
+        published_html=markdown_html(data["text"]) if data["text"] else None,
+        review_current=current, review_diff=diff(current, proposed) if proposed else None,
+        filter_help=FILTER_HELP, has_draft_beside=layer is not None or data["suppressed"],
+    )
+    return html, status
+
+
+@bp.get("/statements/<path:slot>")
+def show(slot: str) -> tuple[str, int]:
+    """Show one statement."""
+    return _page(slot)
+
+
+def _version() -> int:
+    raw = request.form.get("version", "")
+    try:
+        return int(raw)
+    except ValueError:
+        raise StetlineError("the form did not carry the statement's version; reload the page") from None
+
+
+def _act(slot_id: str, form: str, run: Callable[[Session, str, int], Slot], done: str,
+         values: dict[str, str] | None = None) -> Response | tuple[str, int]:
+    """Run one action in a transaction; redirect back, or re-render with the error."""
+    by = acting_name()
+    try:
+        version = _version()
+        with workspace().session() as s:
+            run(s, by, version)
+    except NotFound as exc:
+        abort(404, description=str(exc))
+    except Conflict as exc:
+        return _page(slot_id, errors={form: str(exc)}, values=values, status=409)
+    except StetlineError as exc:
+        return _page(slot_id, errors={form: str(exc)}, values=values, status=400)
+    flash(f"{done}: {slot_id}")
+    return redirect(safe_next(url_for("statement.show", slot=slot_id)), code=303)
+
+
+@bp.post("/statements/<path:slot>/rewrite")
+def rewrite(slot: str) -> Response | tuple[str, int]:
+    """Replace the statement's text with the submitted rewrite."""
+    text = request.form.get("text", "")
+    return _act(slot, "rewrite", lambda s, by, ver: actions.rewrite(s, slot, text, by=by, version=ver),
+                "Rewrite saved", {"rewrite": text})
+
+
+@bp.post("/statements/<path:slot>/pin")
+def pin(slot: str) -> Response | tuple[str, int]:
+    """Keep the statement's current text word for word."""
+    return _act(slot, "pin", lambda s, by, ver: actions.pin(s, slot, by=by, version=ver), "Text pinned")
+
+
+@bp.post("/statements/<path:slot>/annotate")
+def annotate(slot: str) -> Response | tuple[str, int]:
+    """Attach a note to the statement."""
+    text = request.form.get("text", "")
+    return _act(slot, "annotate", lambda s, by, ver: actions.annotate(s, slot, text, by=by, version=ver),
+                "Note added", {"annotate": text})
+
+
+@bp.post("/statements/<path:slot>/suppress")
+def suppress(slot: str) -> Response | tuple[str, int]:
+    """Leave the statement out of the publication."""
+    return _act(slot, "suppress", lambda s, by, ver: actions.suppress(s, slot, by=by, version=ver),
+                "Statement suppressed")
+
+
+@bp.post("/statements/<path:slot>/lift")
+def lift(slot: str) -> Response | tuple[str, int]:
+    """Put a suppressed statement back in the publication."""
+    return _act(slot, "suppress", lambda s, by, ver: actions.suppress(s, slot, by=by, lift=True, version=ver),
+                "Suppression lifted")
+
+
+@bp.post("/statements/<path:slot>/revert")
+def revert(slot: str) -> Response | tuple[str, int]:
+    """Drop the statement's rewrite or pin."""
+    return _act(slot, "revert", lambda s, by, ver: actions.revert(s, slot, by=by, version=ver),
+                "Reverted to the draft")
+
+
+@bp.post("/statements/<path:slot>/approve")
+def approve(slot: str) -> Response | tuple[str, int]:
+    """Approve the statement as it reads now."""
+    return _act(slot, "approve", lambda s, by, ver: actions.approve(s, slot, by=by, version=ver), "Approved")
+
+
+@bp.post("/statements/<path:slot>/accept")
+def accept(slot: str) -> Response | tuple[str, int]:
+    """Take the proposed text of a statement in recheck and approve it."""
+    return _act(slot, "accept",
+                lambda s, by, ver: actions.approve(s, slot, by=by, accept_proposed=True, version=ver),
+                "Proposed text accepted and approved")
+
+
+@bp.post("/statements/<path:slot>/preview")
+def preview(slot: str) -> tuple[str, int, dict[str, str]]:
+    """The rewrite text as it would read (HTML fragment), or the live-field error."""
+    s = session()
+    try:
+        v = actions.view(s, slot)
+    except NotFound as exc:
+        abort(404, description=str(exc))
+    headers = {"Content-Type": "text/html; charset=utf-8"}
+    try:
+        html = preview_html(_live(s), request.form.get("text", ""), v.draft.evidence)
+    except StetlineError as exc:
+        return render_template("statement/preview_error.html", message=str(exc)), 400, headers
+    return html, 200, headers
+
+
+@bp.post("/name")
+def name() -> Response:
+    """Keep the acting name in the session cookie."""
+    flash(f"You act as {acting_name()}")
+    return redirect(safe_next(url_for("overview.index")), code=303)
+
+
+@bp.app_context_processor
+def _acting() -> dict[str, Any]:
+    return {"acting_name": current_name()}
