@@ -314,3 +314,22 @@ def history(session: Session, slot_id: str) -> list[dict[str, Any]]:
         {"at": _iso(e.at), "by": e.by, "action": e.action, "before": e.before, "after": e.after, "detail": e.detail}
         for e in ops.events_for(session, slot_id)
     ]
+
+
+def clean_proposals(session: Session) -> list[str]:
+    """Slots in recheck only because numbers changed, whose proposal merged cleanly."""
+    rows = ops.list_slots(session, ops.SlotFilter(status="recheck"), order="severity")
+    return [
+        slot.id for slot, _draft in rows
+        if slot.recheck and slot.recheck.get("reasons") == [reconcile.NUMBERS_CHANGED]
+        and slot.recheck.get("clean") and not slot.recheck.get("conflicts") and slot.recheck.get("proposed")
+    ]
+
+
+def accept_all_clean(session: Session, *, by: str) -> list[str]:
+    """Accept every clean numbers-changed proposal, each as its own event; return the slots."""
+    done = []
+    for slot_id in clean_proposals(session):
+        approve(session, slot_id, by=by, accept_proposed=True)
+        done.append(slot_id)
+    return done

@@ -286,14 +286,80 @@ def revert_(slot: str, workspace: Path | None, by: str) -> None:
 
 
 @main.command(name="approve")
-@click.argument("slot")
+@click.argument("slot", required=False)
 @click.option("--accept-proposed", is_flag=True, help="Take the proposed text first, then approve.")
+@click.option("--all-clean", is_flag=True, help="Accept every clean proposal of numbers-changed statements.")
+@click.option("--yes", is_flag=True, help="Do not ask for confirmation (with --all-clean).")
 @workspace_option
 @by_option
 @handle_errors
-def approve_(slot: str, accept_proposed: bool, workspace: Path | None, by: str) -> None:
-    """Approve a statement against the current edition."""
+def approve_(slot: str | None, accept_proposed: bool, all_clean: bool, yes: bool,
+             workspace: Path | None, by: str) -> None:
+    """Approve a statement against the current edition (or, --all-clean, every clean proposal)."""
+    if all_clean:
+        if slot:
+            raise StetlineError("give either a statement or --all-clean, not both")
+        ws = _open(workspace)
+        with ws.session() as session:
+            pending = actions.clean_proposals(session)
+        if not pending:
+            click.echo("no clean proposals wait for approval")
+            return
+        if not yes:
+            click.confirm(f"Accept the proposed text of {len(pending)} statement(s) and approve them?", abort=True)
+        with ws.session() as session:
+            done = actions.accept_all_clean(session, by=by)
+        for slot_id in done:
+            click.echo(f"{slot_id}: approved (proposed text accepted)")
+        click.echo(f"{len(done)} statement(s) approved")
+        return
+    if not slot:
+        raise StetlineError("name the statement to approve, or give --all-clean")
     _act(workspace, actions.approve, slot, by=by, accept_proposed=accept_proposed)
+
+
+@main.command(name="audit")
+@click.option("--json", "as_json", is_flag=True, help="Print as JSON.")
+@click.option("--untraced", "only_untraced", is_flag=True, help="Only statements with untraced numbers.")
+@workspace_option
+@handle_errors
+def audit_(as_json: bool, only_untraced: bool, workspace: Path | None) -> None:
+    """List every number in the text that would be published, with its source fact."""
+    from engine.audit import audit
+
+    ws = _open(workspace)
+    with ws.session() as session:
+        results = [a for a in audit(session) if a.untraced or not only_untraced]
+    if as_json:
+        _echo_json([a.to_json() for a in results])
+        return
+    untraced = 0
+    for a in results:
+        click.echo(a.slot)
+        for use in a.uses:
+            source = use.fact or "UNTRACED"
+            untraced += use.fact is None
+            click.echo(f"    {use.text:<14} {source}" + ("  (in a note)" if use.where == "note" else ""))
+    click.echo(f"{untraced} untraced number(s) in {sum(1 for a in results if a.untraced)} statement(s)")
+
+
+@main.command(name="changes")
+@click.option("--from", "from_label", help="The older edition (default: the one before --to).")
+@click.option("--to", "to_label", help="The newer edition (default: the current one).")
+@click.option("--format", "fmt", type=click.Choice(["md", "json"]), default="md", show_default=True)
+@workspace_option
+@handle_errors
+def changes_(from_label: str | None, to_label: str | None, fmt: str, workspace: Path | None) -> None:
+    """Show what changed between two editions."""
+    from engine.changelog import changes
+
+    ws = _open(workspace)
+    with ws.session() as session:
+        log = changes(session, from_label, to_label)
+    if fmt == "json":
+        _echo_json(log.to_json())
+    else:
+        click.echo(log.to_markdown(), nl=False)
 
 
 @main.command(name="publish")

@@ -170,6 +170,14 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
     if sections not in ("entity", "topic"):
         raise StetlineError("sections are by entity or by topic")
     pub = gather(session, sections=sections, allow_recheck=allow_recheck, require_approval=require_approval)
+    untraced = untraced_numbers(session)
+    if untraced and settings_mod.with_defaults(ops.get_settings(session))["untraced_numbers"] == "refuse":
+        raise GateClosed(
+            f"publishing refused: {len(untraced)} statement(s) hold numbers that match no fact: "
+            + "; ".join(f"{slot} ({', '.join(nums)})" for slot, nums in untraced[:20])
+            + ". Correct them, or set untraced_numbers to warn."
+        )
+    pub.warnings += [f"{slot}: untraced number(s) {', '.join(nums)}" for slot, nums in untraced]
     data = render(pub, fmt)
     edition = ops.current_edition(session)
     ops.add_event(session, by, "publish", edition_id=edition.id if edition else None,
@@ -180,3 +188,10 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
 def describe(values: dict[str, Any]) -> str:
     """A line naming the title setting (for messages)."""
     return str(settings_mod.with_defaults(values)["title"])
+
+
+def untraced_numbers(session: Session) -> list[tuple[str, list[str]]]:
+    """Every published slot holding typed numbers that match no fact, with those numbers."""
+    from engine.audit import audit
+
+    return [(a.slot, [u.text for u in a.untraced]) for a in audit(session) if a.untraced]
