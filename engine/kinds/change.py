@@ -77,6 +77,17 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         variables["state"] = {"up": "up", "down": "down"}.get(str(c.direction), "flat")
         if variables["state"] == "flat" and significant is False:
             variables["state"] = "not_significant"
+        mean_change = ctx.facts.topics.at[c.topic, "mean_change"]
+        compared = int(ctx.facts.topics.at[c.topic, "compared"])
+        variables["average"] = ""
+        if compared >= 3 and not missing(mean_change):
+            evidence["mean_change"] = ev(float(mean_change), ctx.amount(c.topic, float(mean_change)))
+            evidence["compared"] = ev(compared, phrasing.count(compared, style))
+            shown_zero = phrasing.round_half_up(abs(float(mean_change)), d) == 0
+            variables["average"] = (
+                f"Across the {ctx.of_n(compared)}, the average did not change." if shown_zero else
+                f"Across the {ctx.of_n(compared)}, the average {'rose' if mean_change > 0 else 'fell'} by {evidence['mean_change']['shown']}."
+            )
         variables["improved"] = c.better_change == "improved"
         variables["worsened"] = c.better_change == "worsened"
         variables["significant"] = significant is True
@@ -84,5 +95,4 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         interest = 0.3 + min(0.5, 0.5 * size) + (0.2 if significant else 0.0)
         if variables["state"] in ("flat", "not_significant"):
             interest = 0.2
-        del d
         yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)

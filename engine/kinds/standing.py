@@ -47,6 +47,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             claims["rank_band"] = band(rank, of)
             variables["ranked"] = True
             variables["rank_text"] = rank_phrase(rank, of, (c.topic, float(rank)) in tied, c.better, ctx.of_n(of))
+            if claims["rank_band"] in ("top", "bottom") and rank != 1 and not bool(c.worst):
+                variables["rank_text"] += f" (in the {claims['rank_band']} quarter)"
             if rank == 1 or bool(c.worst):
                 interest += 0.4
             elif claims["rank_band"] in ("top", "bottom"):
@@ -65,6 +67,15 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             )
         if not missing(c.all_mean):
             evidence["all_mean"] = ev(float(c.all_mean), ctx.value(c.topic, float(c.all_mean)))
+            evidence["all_gap"] = ev(float(c.all_gap), ctx.amount(c.topic, float(c.all_gap)))
+            if not variables["group_text"] and int(c.rank_of) >= 2:
+                gap = float(c.all_gap)
+                where = "level" if phrasing.round_half_up(abs(gap), d) == 0 else ("above" if gap > 0 else "below")
+                mean = evidence["all_mean"]["shown"]
+                everyone = f"the average of all {ctx.of_n(int(c.rank_of))}"
+                variables["group_text"] = (
+                    f"level with {everyone}, {mean}" if where == "level" else f"{where} {everyone}, {mean}"
+                )
         if not missing(c.target):
             target = float(c.target)
             gap = value - target
