@@ -4,6 +4,11 @@ Each kind (a module under ``engine/kinds``) yields :class:`Candidate` objects: a
 evidence, claims, interest score and the variables its template needs. This module compiles every
 template once, picks a phrasing by a stable hash of the slot id, renders and tidies the text.
 Templates a team copied into its workspace (``phrasing/KIND.j2``) render in the sandbox.
+
+Interest scores run from 0 to about 1.2 and order statements within an entity, a topic and the
+publication: the headline and profiles lead (0.7 to 1.0); extremes (best or worst of all),
+targets, records, long streaks and significant or large changes (relative to the topic's
+spread) score higher; missing or unchanged figures score lowest (0.1 to 0.2).
 """
 
 from __future__ import annotations
@@ -17,7 +22,6 @@ from pathlib import Path
 from typing import Any
 
 import jinja2
-from jinja2.sandbox import ImmutableSandboxedEnvironment
 
 from engine import phrasing
 from engine.facts import Facts
@@ -163,7 +167,9 @@ class Renderer:
         self._sandbox: jinja2.Environment | None = None
         self._workspace_dir = workspace_dir
         if workspace_dir is not None and workspace_dir.is_dir():
-            self._sandbox = ImmutableSandboxedEnvironment(
+            from engine.livefields import CappedSandbox  # caps * and ** as live fields do
+
+            self._sandbox = CappedSandbox(
                 loader=jinja2.FileSystemLoader(str(workspace_dir)), autoescape=False,
                 undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True,
             )
@@ -188,6 +194,21 @@ class Renderer:
 def builtin_template(kind: str) -> str:
     """The text of a kind's built-in template (for copying into a workspace)."""
     return (TEMPLATES / f"{kind}.j2").read_text(encoding="utf-8")
+
+
+def copy_template(folder: Path, kind: str, *, force: bool = False) -> Path:
+    """Copy a kind's built-in template into a workspace's phrasing folder for the team to edit."""
+    from engine.errors import StetlineError
+    from engine.kinds import BY_NAME
+
+    if kind not in BY_NAME:
+        raise StetlineError(f"unknown statement kind {kind!r}; kinds: {', '.join(BY_NAME)}")
+    target = folder / f"{kind}.j2"
+    if target.exists() and not force:
+        raise StetlineError(f"{target} exists already; edit it, or give --force to start again from the built-in one")
+    folder.mkdir(parents=True, exist_ok=True)
+    target.write_text(builtin_template(kind), encoding="utf-8")
+    return target
 
 
 def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterator[Draft]:

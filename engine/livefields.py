@@ -49,7 +49,9 @@ def _number_arg(x: Any) -> float:
     return float(raw)
 
 
-class _Sandbox(ImmutableSandboxedEnvironment):
+class CappedSandbox(ImmutableSandboxedEnvironment):
+    """Jinja2's immutable sandbox with ``**`` refused and ``*`` limited to modest numbers."""
+
     intercepted_binops = frozenset(["*", "**"])
 
     def call_binop(self, context: Any, operator_name: str, left: Any, right: Any) -> Any:
@@ -88,7 +90,7 @@ class LiveFields:
     """Renders rewrites with live fields for one house style; templates are compiled once."""
 
     def __init__(self, style: HouseStyle) -> None:
-        self.env = _Sandbox(undefined=jinja2.StrictUndefined, autoescape=False)
+        self.env = CappedSandbox(undefined=jinja2.StrictUndefined, autoescape=False)
         self.env.filters = dict(_filters(style))
         self._cache: dict[str, jinja2.Template] = {}
 
