@@ -381,7 +381,7 @@ def publish_(fmt: str, output: Path | None, sections: str, allow_recheck: bool, 
     ws = _open(workspace)
     with ws.session() as session:
         data, pub = publishing.publish(session, fmt, by=by, sections=sections, allow_recheck=allow_recheck,
-                                       require_approval=require_approval)
+                                       require_approval=require_approval, layouts_dir=ws.layouts_dir)
     for w in pub.warnings:
         click.echo(f"warning: {w}", err=True)
     if output is None:
@@ -417,6 +417,80 @@ def settings_(key: str | None, value: str | None, workspace: Path | None, by: st
     click.echo(f"{key} = {json.dumps(parsed)}")
     if key in settings_mod.STYLE_KEYS:
         click.echo("this setting changes the wording of drafts: run `stetline redraft` to apply it")
+
+
+@main.command(name="worksheet")
+@click.option("-o", "--output", type=click.Path(dir_okay=False, path_type=Path), required=True,
+              help="The .xlsx file to write.")
+@click.option("--entity", help="Only this entity key.")
+@click.option("--topic", help="Only this topic key.")
+@click.option("--kind", help="Only this statement kind.")
+@workspace_option
+@handle_errors
+def worksheet_(output: Path, entity: str | None, topic: str | None, kind: str | None, workspace: Path | None) -> None:
+    """Write a worksheet of statements to edit offline (fill in the "new text" column)."""
+    from engine.worksheet import write_worksheet
+
+    ws = _open(workspace)
+    with ws.session() as session:
+        n = write_worksheet(session, output, ops.SlotFilter(kind=kind, entity=entity, topic=topic))
+    click.echo(f"wrote {output}: {n} statements; fill in 'new text', then run `stetline apply-worksheet {output}`")
+
+
+@main.command(name="apply-worksheet")
+@click.argument("file", type=click.Path(dir_okay=False, exists=True, path_type=Path))
+@workspace_option
+@by_option
+@handle_errors
+def apply_worksheet_(file: Path, workspace: Path | None, by: str) -> None:
+    """Turn every filled "new text" of a worksheet into a rewrite."""
+    from engine.worksheet import apply_worksheet
+
+    ws = _open(workspace)
+    with ws.session() as session:
+        result = apply_worksheet(session, file, by=by)
+    for slot in result.applied:
+        click.echo(f"{slot}: rewritten")
+    for slot, why in result.refused:
+        click.echo(f"refused {slot}: {why}", err=True)
+    click.echo(f"{len(result.applied)} applied, {len(result.refused)} refused")
+
+
+@main.group(name="layout")
+def layout_() -> None:
+    """Change the report layouts (md, html) of this workspace."""
+
+
+@layout_.command(name="copy")
+@click.argument("name", type=click.Choice(["md", "html"]))
+@click.option("--force", is_flag=True, help="Overwrite a copy that exists already.")
+@workspace_option
+@handle_errors
+def layout_copy(name: str, force: bool, workspace: Path | None) -> None:
+    """Copy the built-in NAME layout into the workspace to edit."""
+    from engine.layout import copy_layout
+
+    target = copy_layout(_open(workspace).layouts_dir, name, force=force)
+    click.echo(f"wrote {target}; edit it, then publish as usual")
+
+
+@main.group(name="phrasing")
+def phrasing_() -> None:
+    """Change the wording of a statement kind in this workspace."""
+
+
+@phrasing_.command(name="copy")
+@click.argument("kind")
+@click.option("--force", is_flag=True, help="Overwrite a copy that exists already.")
+@workspace_option
+@handle_errors
+def phrasing_copy(kind: str, force: bool, workspace: Path | None) -> None:
+    """Copy KIND's built-in template into the workspace to edit (it renders in the sandbox)."""
+    from engine.drafting import copy_template
+
+    ws = _open(workspace)
+    target = copy_template(ws.phrasing_dir, kind, force=force)
+    click.echo(f"wrote {target}; edit it, then run `stetline redraft`")
 
 
 @main.command()
@@ -455,3 +529,54 @@ def demo(no_serve: bool, host: str, port: int, workspace: Path | None) -> None:
         return
     ctx = click.get_current_context()
     ctx.invoke(serve, host=host, port=port, workspace=ws.path)
+
+
+@main.command(name="backup")
+@click.argument("file", type=click.Path(path_type=Path))
+@click.option("--force", is_flag=True, help="Replace FILE if it already exists.")
+@workspace_option
+@by_option
+@handle_errors
+def backup_(file: Path, force: bool, workspace: Path | None, by: str) -> None:
+    """Write a consistent copy of the workspace database to FILE (safe while the app runs)."""
+    from engine import backup as backup_mod
+
+    ws = backup_mod.attach(workspace or default_path())
+    try:
+        result = backup_mod.backup(ws, file, by=by, force=force)
+    finally:
+        ws.close()
+    c = result.counts
+    click.echo(f"backed up the workspace to {result.file} ({result.size:,} bytes: {c['edition']} edition(s), "
+               f"{c['slot']} statements, {c['layer']} layer(s), {c['event']} event(s))")
+    if not result.recorded:
+        click.echo("note: the workspace was busy, so the backup is not in its history", err=True)
+
+
+@main.command(name="restore")
+@click.argument("file", type=click.Path(path_type=Path))
+@workspace_option
+@by_option
+@handle_errors
+def restore_(file: Path, workspace: Path | None, by: str) -> None:
+    """Replace the workspace database with the backup FILE (the replaced one is kept beside it).
+
+    Stop `stetline serve` first, and start it again afterwards.
+    """
+    from engine import backup as backup_mod
+
+    ws = backup_mod.attach(workspace or default_path())
+    try:
+        result = backup_mod.restore(ws, file, by=by)
+    finally:
+        ws.close()
+    c = result.counts
+    click.echo(f"restored the workspace from {result.file}: {c['edition']} edition(s), {c['slot']} statements, "
+               f"{c['layer']} layer(s), {c['event']} event(s)")
+    if not result.recorded:
+        click.echo("note: the workspace was busy, so the restore is not in its history", err=True)
+    if result.revision_before != result.revision_now:
+        click.echo(f"brought the backup's schema up to date ({result.revision_before} → {result.revision_now})")
+    if result.kept is not None:
+        click.echo(f"the database it replaced is kept as {result.kept} (restore that file to undo)")
+    click.echo("restart any running `stetline serve` of this workspace so it reads the restored data")

@@ -8,16 +8,18 @@ rechecks of every reason, then changes a house-style setting and redrafts.
 
 from __future__ import annotations
 
+import secrets
 import shutil
 from importlib import resources
 from pathlib import Path
 from typing import Callable
 
-from engine import actions, loading
+from engine import accounts, actions, loading
 from engine.store import ops
 from engine.workspace import Workspace, init_workspace, is_workspace
 
 DEMO_MARKER = "demo-workspace"
+ACCOUNTS_FILE = "demo-accounts.txt"
 TITLE = "Kestrel Sound Regional Council: Service Scorecard"
 
 EDITOR, EXPERT, REVIEWER, ADMIN = "editor", "expert", "reviewer", "admin"
@@ -64,6 +66,24 @@ def is_demo(path: Path) -> bool:
     return (path / DEMO_MARKER).exists()
 
 
+def create_accounts(ws: Workspace) -> dict[str, str]:
+    """Create one demo account per role (the name is the role) with a fresh random password."""
+    passwords = {name: secrets.token_urlsafe(9) for name in (ADMIN, EDITOR, EXPERT, REVIEWER)}
+    with ws.session() as s:
+        for name, password in passwords.items():
+            accounts.add_account(s, name, name, password, by=ADMIN)
+    listing = ws.path / ACCOUNTS_FILE
+    listing.write_text("".join(f"{n}\t{n}\t{p}\n" for n, p in passwords.items()))
+    listing.chmod(0o600)
+    return passwords
+
+
+def demo_passwords(path: Path) -> dict[str, str]:
+    """The demo accounts' passwords, as the demo wrote them in the workspace."""
+    lines = (path / ACCOUNTS_FILE).read_text().splitlines()
+    return {name: password for name, _role, password in (line.split("\t") for line in lines)}
+
+
 def build(path: Path, echo: Callable[[str], None] = print) -> Workspace:
     """Build (or rebuild) the demo workspace in a folder."""
     if is_workspace(path) and is_demo(path):
@@ -77,6 +97,7 @@ def build(path: Path, echo: Callable[[str], None] = print) -> Workspace:
     with ws.session() as s:
         ops.put_setting(s, "title", TITLE)
         ops.put_setting(s, "entity_noun", "town")
+
     echo("loading the first edition (data to 2024)")
     first = loading.load_edition(
         ws, data_file("observations-2024.csv"), data_file("topics.csv"), data_file("entities.csv"), by=ADMIN,

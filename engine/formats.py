@@ -13,10 +13,11 @@ import html
 import io
 import json
 import re
+from pathlib import Path
 from typing import Any, Callable
 
 from engine.numbers import find_numbers, trace
-from engine.publish import CAUTION, Publication, Statement, to_markdown
+from engine.publish import CAUTION, Publication, Statement
 
 FORMATS = ("md", "html", "json", "csv", "docx")
 BINARY = frozenset({"docx"})
@@ -34,8 +35,12 @@ _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 _NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
 
 
-def render(pub: Publication, fmt: str) -> bytes:
-    """A publication in one format, as the bytes of the file."""
+def render(pub: Publication, fmt: str, layouts_dir: Path | None = None) -> bytes:
+    """A publication in one format, as the bytes of the file (md and html use the layouts)."""
+    if fmt in ("md", "html"):
+        from engine import layout
+
+        return layout.render(pub, fmt, layouts_dir).encode("utf-8")
     try:
         renderer = _RENDERERS[fmt]
     except KeyError:
@@ -63,75 +68,11 @@ def _caveats(pub: Publication) -> list[str]:
     return [st.caveat for _k, _h, sts in pub.sections for st in sts if st.caveat]
 
 
-# -- HTML ------------------------------------------------------------------------------------
-
-_CSS = """
-body { font-family: Georgia, "Times New Roman", serif; line-height: 1.5; color: #1d1d1d;
-       background: #fff; margin: 0; }
-main { max-width: 46rem; margin: 0 auto; padding: 2rem 1.25rem 4rem; }
-header.title-block { border-bottom: 2px solid #1d1d1d; margin-bottom: 1.5rem; }
-h1 { font-size: 1.9rem; line-height: 1.2; margin: 0 0 .4rem; }
-.edition { color: #555; margin: 0 0 1rem; }
-.caution { background: #fff6d6; border-left: 4px solid #c99a00; padding: .6rem .9rem; }
-h2 { font-size: 1.35rem; margin: 2.2rem 0 .8rem; border-bottom: 1px solid #ccc; }
-p.statement { margin: 0 0 .9rem; }
-aside.note { margin: -.4rem 0 1rem 1.2rem; padding: .3rem .8rem; border-left: 3px solid #7a9cc6;
-             color: #333; font-style: italic; }
-p.source { font-size: .85rem; color: #555; }
-sup a { text-decoration: none; }
-.footnotes { margin-top: 3rem; font-size: .9rem; border-top: 1px solid #ccc; }
-@media print { main { max-width: none; } .caution { border-color: #000; } }
-""".strip()
-
-
-def _e(text: Any) -> str:
-    return html.escape(str(text), quote=True)
-
-
 def to_html(pub: Publication) -> bytes:
-    """A standalone HTML document (inline CSS, no external assets)."""
-    numbers = _caveat_numbers(pub)
-    out = [
-        "<!DOCTYPE html>",
-        '<html lang="en">',
-        "<head>",
-        '<meta charset="utf-8">',
-        '<meta name="viewport" content="width=device-width, initial-scale=1">',
-        f"<title>{_e(pub.title)} — edition {_e(pub.edition)}</title>",
-        f"<style>\n{_CSS}\n</style>",
-        "</head>",
-        "<body>",
-        "<main>",
-        '<header class="title-block">',
-        f"<h1>{_e(pub.title)}</h1>",
-        f'<p class="edition">Edition <span class="edition-label">{_e(pub.edition)}</span> · '
-        f'<time datetime="{_e(pub.date)}">{_e(pub.date)}</time></p>',
-        "</header>",
-        f'<p class="caution">{_e(CAUTION)}</p>',
-    ]
-    for index, (key, heading, statements) in enumerate(pub.sections, 1):
-        out.append(f'<section class="section" id="section-{index}" data-key="{_e(key)}">')
-        out.append(f"<h2>{_e(heading)}</h2>")
-        for st in statements:
-            ref = ""
-            n = numbers.get(id(st))
-            if n is not None:
-                ref = f'<sup><a href="#fn{n}" id="fnref{n}">{n}</a></sup>'
-            out.append(f'<p class="statement" data-slot="{_e(st.slot)}">{_e(st.text)}{ref}</p>')
-            for note in st.notes:
-                out.append(f'<aside class="note"><strong>Note:</strong> {_e(note)}</aside>')
-        line = sources_line(pub, statements)
-        if line:
-            out.append(f'<p class="source">{_e(line)}</p>')
-        out.append("</section>")
-    caveats = _caveats(pub)
-    if caveats:
-        out += ['<section class="footnotes">', f"<h2>{_e(FIGURE_NOTES)}</h2>", "<ol>"]
-        for n, caveat in enumerate(caveats, 1):
-            out.append(f'<li id="fn{n}">{_e(caveat)} <a href="#fnref{n}" aria-label="back to the statement">↩</a></li>')
-        out += ["</ol>", "</section>"]
-    out += ["</main>", "</body>", "</html>", ""]
-    return "\n".join(out).encode("utf-8")
+    """A standalone HTML document (inline CSS, no external assets), from the html layout."""
+    from engine import layout
+
+    return layout.render(pub, "html").encode("utf-8")
 
 
 # -- JSON ------------------------------------------------------------------------------------
@@ -153,7 +94,7 @@ def statement_json(st: Statement, edition: str) -> dict[str, Any]:
         "kind": st.kind,
         "status": st.status,
         "text": st.text,
-        "html": f"<p>{_e(st.text)}</p>",
+        "html": f"<p>{html.escape(st.text, quote=True)}</p>",
         "notes": list(st.notes),
         "caveat": st.caveat,
         "numbers": _numbers(st),
@@ -291,10 +232,6 @@ def to_docx(pub: Publication) -> bytes:
     return buf.getvalue()
 
 
-def _md(pub: Publication) -> bytes:
-    return to_markdown(pub).encode("utf-8")
-
-
 _RENDERERS: dict[str, Callable[[Publication], bytes]] = {
-    "md": _md, "html": to_html, "json": to_json, "csv": to_csv, "docx": to_docx,
+    "html": to_html, "json": to_json, "csv": to_csv, "docx": to_docx,
 }

@@ -9,6 +9,7 @@ The other formats (HTML, JSON, CSV, Word) render the same Publication; see engin
 from __future__ import annotations
 
 import hashlib
+from pathlib import Path
 from dataclasses import dataclass, field
 from datetime import date, datetime
 from typing import Any
@@ -16,7 +17,7 @@ from typing import Any
 from sqlalchemy.orm import Session
 
 from engine import settings as settings_mod
-from engine.actions import SlotView, published_text, views
+from engine.actions import published_text, views
 from engine.errors import StetlineError
 from engine.livefields import LiveFields
 from engine.loading import house_style
@@ -133,26 +134,11 @@ def _iso(at: datetime | None) -> str | None:
     return None if at is None else at.isoformat(timespec="seconds") + "Z"
 
 
-def to_markdown(pub: Publication, topics_label: dict[str, str] | None = None) -> str:
-    """Render a publication as a Markdown document."""
-    lines = [f"# {pub.title}", "", f"Edition {pub.edition} · {pub.date}", "", f"> {CAUTION}", ""]
-    footnotes: list[str] = []
-    for _key, heading, statements in pub.sections:
-        lines += [f"## {heading}", ""]
-        for st in statements:
-            text = st.text
-            if st.caveat:
-                footnotes.append(st.caveat)
-                text += f"[^{len(footnotes)}]"
-            lines += [text, ""]
-            for note in st.notes:
-                lines += [f"> **Note:** {note}", ""]
-        used = sorted({st.topic for st in statements if st.topic and st.topic in pub.sources})
-        if used:
-            lines += ["Sources: " + "; ".join(pub.sources[t] for t in used) + ".", ""]
-    for i, note in enumerate(footnotes, 1):
-        lines.append(f"[^{i}]: {note}")
-    return "\n".join(lines).rstrip() + "\n"
+def to_markdown(pub: Publication, layouts_dir: Path | None = None) -> str:
+    """Render a publication as a Markdown document (the workspace's layout if it has one)."""
+    from engine import layout  # layout imports this module
+
+    return layout.render(pub, "md", layouts_dir)
 
 
 def checksum(data: bytes) -> str:
@@ -161,7 +147,7 @@ def checksum(data: bytes) -> str:
 
 
 def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", allow_recheck: bool = False,
-            require_approval: bool = False) -> tuple[bytes, Publication]:
+            require_approval: bool = False, layouts_dir: Path | None = None) -> tuple[bytes, Publication]:
     """Produce a publication in a format and record it as an event with its checksum."""
     from engine.formats import FORMATS, render  # formats imports this module
 
@@ -178,7 +164,7 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
             + ". Correct them, or set untraced_numbers to warn."
         )
     pub.warnings += [f"{slot}: untraced number(s) {', '.join(nums)}" for slot, nums in untraced]
-    data = render(pub, fmt)
+    data = render(pub, fmt, layouts_dir)
     edition = ops.current_edition(session)
     ops.add_event(session, by, "publish", edition_id=edition.id if edition else None,
                   detail={"format": fmt, "sha256": checksum(data), "warnings": pub.warnings})

@@ -232,7 +232,8 @@ def test_html_is_standalone_and_escapes_all_text(published: dict[str, Any]) -> N
     assert "qualified person must check" in page.caution
     assert "script" not in page.tags and "link" not in page.tags and "img" not in page.tags
     assert "style" in page.tags
-    assert "&lt;script&gt;alert(&quot;x&quot;)&lt;/script&gt; &amp; North Quay" in raw
+    # escaped (markupsafe writes a double quote as &#34;, html.escape as &quot;: both are HTML)
+    assert "&lt;script&gt;alert(&#34;x&#34;)&lt;/script&gt; &amp; North Quay" in raw
     assert TAMPERED_SHOWN in [s["text"] for s in page.statements]
     assert page.h2[0] == "Overview" and "North Quay" in page.h2 and "Puffin Holm" in page.h2
     assert any("Council waste returns" in s for s in page.sources)

@@ -107,7 +107,7 @@ def test_statement_page_shows_texts_evidence_claims_recheck_and_history(client: 
     assert "<code>{{ value }}</code> → 59.3%" in html  # live fields on offer
     for action in ("accept", "approve", "pin", "suppress", "revert", "rewrite", "annotate"):
         assert f'action="/statements/{HERONSFORD}/{action}"' in html
-    assert html.count('name="version" value="5"') == 7
+    assert html.count('name="version" value="5"') == 8  # the seven actions and the comment form
     assert '<label for="rewrite-text">Rewrite</label>' in html and '<label for="by-name">Your name</label>' in html
 
 

@@ -13,15 +13,19 @@ from werkzeug.exceptions import HTTPException
 
 from engine.workspace import Workspace
 
+MAX_UPLOAD_MB = 50
+
 
 def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flask:
     """Create the web app for an open workspace."""
+    _schema_current(ws)
     app = Flask(__name__)
     app.config.update(
         SECRET_KEY=ws.secret_key(),
         SESSION_COOKIE_HTTPONLY=True,
         SESSION_COOKIE_SAMESITE="Lax",
-        MAX_CONTENT_LENGTH=50 * 1024 * 1024,
+        SESSION_COOKIE_SECURE=_https(ws),
+        MAX_CONTENT_LENGTH=MAX_UPLOAD_MB * 1024 * 1024,
     )
     if test_config:
         app.config.update(test_config)
@@ -31,9 +35,9 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flas
 
     CSRFProtect(app)
 
-    from webapp import browse, overview, recheck, statement
+    from webapp import browse, bulk, data, overview, publishing, recheck, search, settings, statement
 
-    for module in (overview, browse, statement, recheck):
+    for module in (overview, browse, statement, recheck, bulk, search, data, publishing, settings):
         app.register_blueprint(module.bp)
     _error_pages(app)
 
@@ -44,6 +48,25 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flas
             session.close()
 
     return app
+
+
+def _schema_current(ws: Workspace) -> None:
+    """Bring a workspace made before the comment threads existed up to the newest schema."""
+    from sqlalchemy import inspect
+
+    from engine.store import db
+
+    if not inspect(ws.engine).has_table("comment"):
+        db.upgrade(ws.url)
+
+
+def _https(ws: Workspace) -> bool:
+    """The workspace's ``https`` setting: session cookies are then sent over HTTPS only."""
+    from engine import settings
+    from engine.store import ops
+
+    with ws.session() as s:
+        return bool(settings.with_defaults(ops.get_settings(s))["https"])
 
 
 def _error_pages(app: Flask) -> None:
@@ -57,7 +80,30 @@ def _error_pages(app: Flask) -> None:
     def _not_found(exc: HTTPException) -> tuple[str, int]:
         return page(exc, "Not found")
 
+    @app.errorhandler(405)
+    def _not_allowed(exc: HTTPException) -> tuple[str, int]:
+        exc.description = "This address does not take that kind of request; use the page's own forms."
+        return page(exc, "Not allowed")
+
+    @app.errorhandler(413)
+    def _too_large(exc: HTTPException) -> tuple[str, int]:
+        limit = app.config.get("MAX_CONTENT_LENGTH") or 0
+        exc.description = (
+            f"The upload is larger than this server accepts ({_size(limit)} in all). Nothing was "
+            "loaded. Split the data into smaller files, or load it from the command line with "
+            "stetline load."
+        )
+        return page(exc, "Upload too large")
+
     @app.errorhandler(CSRFError)
     def _csrf(exc: CSRFError) -> tuple[str, int]:
         exc.description = f"The form was refused ({exc.description}); reload the page and try again."
         return page(exc, "Form refused")
+
+
+def _size(n: int) -> str:
+    if n >= 1024 * 1024:
+        return f"{n / (1024 * 1024):g} MB"
+    if n >= 1024:
+        return f"{n / 1024:g} KB"
+    return f"{n} bytes"

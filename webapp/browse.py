@@ -1,10 +1,11 @@
-"""Browsing pages: the entities and topics, each with its statements in interest order."""
+"""Browsing pages: the entities and topics, each with its statements in interest order, a status
+filter, and bulk work on the statements shown."""
 
 from __future__ import annotations
 
 from typing import Any
 
-from flask import Blueprint, abort, render_template
+from flask import Blueprint, abort, render_template, request
 from sqlalchemy.orm import Session
 
 from engine import actions
@@ -12,6 +13,7 @@ from engine.livefields import LiveFields
 from engine.loading import house_style
 from engine.store import ops
 from webapp.db import session
+from webapp.selection import Selection
 
 bp = Blueprint("browse", __name__)
 
@@ -43,9 +45,7 @@ def entity(key: str) -> str:
     row = ops.get_entity(s, key)
     if row is None:
         abort(404, description=f"There is no entity {key!r} in this workspace.")
-    items = actions.views(s, ops.SlotFilter(entity=key), order="interest")
-    return render_template("browse/statements.html", what="entity", title=row.name, subtitle=row.group,
-                           rows=_rows(s, items))
+    return _listing(s, Selection.parse("entity", key, request.args), row.name, row.group)
 
 
 @bp.get("/topics/<key>")
@@ -55,9 +55,16 @@ def topic(key: str) -> str:
     row = ops.get_topic(s, key)
     if row is None:
         abort(404, description=f"There is no topic {key!r} in this workspace.")
-    items = actions.views(s, ops.SlotFilter(topic=key), order="interest")
-    return render_template("browse/statements.html", what="topic", title=row.label, subtitle=row.category,
-                           rows=_rows(s, items))
+    subtitle = " · ".join(x for x in (row.category, row.unit, f"higher is {'better' if row.better == 'higher' else 'worse'}") if x)
+    return _listing(s, Selection.parse("topic", key, request.args), row.label, subtitle)
+
+
+def _listing(s: Session, sel: Selection, title: str, subtitle: str) -> str:
+    items = sel.views(s)
+    every = ops.status_counts_by(s, sel.scope).get(sel.key or "", {})
+    return render_template("browse/statements.html", what=sel.scope, title=title, subtitle=subtitle,
+                           rows=_rows(s, items), selection=sel, statuses=actions.STATUSES, every=every,
+                           total=sum(every.values()))
 
 
 def _rows(s: Session, items: list[actions.SlotView]) -> list[dict[str, Any]]:

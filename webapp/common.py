@@ -16,7 +16,13 @@ MAX_NAME = 100
 
 
 def acting_name() -> str:
-    """Who acts: a name given in the form (then kept in the session cookie), else the kept one."""
+    """Who acts: the signed-in account when the workspace has accounts; else a name given in the
+    form (then kept in the session cookie), else the kept one."""
+    from webapp.auth import accounts_on, signed_in
+
+    if accounts_on():
+        who = signed_in()
+        return who[0] if who else ""
     given = (request.form.get("by") or "").strip()[:MAX_NAME]
     if given:
         cookie["by"] = given
@@ -25,7 +31,12 @@ def acting_name() -> str:
 
 
 def current_name() -> str:
-    """The name kept in the session cookie, or the default."""
+    """The signed-in account, else the name kept in the session cookie, else the default."""
+    from webapp.auth import accounts_on, signed_in
+
+    if accounts_on():
+        who = signed_in()
+        return who[0] if who else ""
     return str(cookie.get("by") or DEFAULT_NAME)
 
 
@@ -78,4 +89,37 @@ def diff(old: str | None, new: str | None) -> list[tuple[str, str]]:
             out.append(("del", removed))
         if added:
             out.append(("add", added))
+    return out
+
+
+def highlight(text: str, terms: list[str], *, around: int = 120) -> list[tuple[str, bool]]:
+    """A text cut to the stretch around its first match, as (piece, is_match) pairs to mark up.
+
+    Matching ignores case; a long text keeps ``around`` characters either side of the first
+    match, with an ellipsis where it was cut.
+    """
+    low = text.lower()
+    wanted = [t.lower() for t in terms if t]
+    first = min((i for i in (low.find(t) for t in wanted) if i >= 0), default=0)
+    start = max(0, first - around)
+    end = min(len(text), first + around * 2)
+    if start > 0:
+        space = text.find(" ", start)
+        start = space + 1 if 0 <= space < first else start
+    piece, low_piece = text[start:end], low[start:end]
+    marks = [False] * len(piece)
+    for t in wanted:
+        at = low_piece.find(t)
+        while at >= 0:
+            for k in range(at, at + len(t)):
+                marks[k] = True
+            at = low_piece.find(t, at + len(t))
+    out: list[tuple[str, bool]] = [("…", False)] if start > 0 else []
+    for ch, mark in zip(piece, marks):
+        if out and out[-1][1] == mark and out[-1][0] != "…":
+            out[-1] = (out[-1][0] + ch, mark)
+        else:
+            out.append((ch, mark))
+    if end < len(text):
+        out.append(("…", False))
     return out

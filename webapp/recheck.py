@@ -1,5 +1,6 @@
 """The recheck queue: every statement waiting in recheck, most severe first, with filters and
-one-click approve, accept-proposed and revert forms (they post to the statement's actions)."""
+one-click approve, accept-proposed and revert forms (they post to the statement's actions), and
+bulk work on the statements shown."""
 
 from __future__ import annotations
 
@@ -14,21 +15,20 @@ from engine.reconcile import REASONS
 from engine.store import ops
 from webapp.common import diff
 from webapp.db import session
+from webapp.selection import Selection
 from webapp.statement import review_texts
 
 bp = Blueprint("recheck", __name__)
-
-FILTERS = ("reason", "kind", "entity", "topic")
 
 
 @bp.get("/recheck")
 def queue() -> str:
     """List the statements in recheck, filtered by the query string."""
     s = session()
-    chosen = {k: (request.args.get(k) or "").strip() or None for k in FILTERS}
+    selection = Selection.parse("recheck", None, request.args)
+    chosen = selection.filters
     waiting = actions.views(s, ops.SlotFilter(status="recheck"), order="severity")
-    shown = actions.views(s, ops.SlotFilter(status="recheck", **chosen), order="severity") if any(
-        chosen.values()) else waiting
+    shown = selection.views(s) if selection.filtered else waiting
     live = LiveFields(house_style(s)[0])
     items: list[dict[str, Any]] = []
     for v in shown:
@@ -43,4 +43,4 @@ def queue() -> str:
         "topic": [(t.key, t.label) for t in ops.topic_rows(s) if any(v.slot.topic == t.key for v in waiting)],
     }
     return render_template("recheck/queue.html", items=items, total=len(waiting), chosen=chosen,
-                           options=options, back_to=request.full_path.rstrip("?"))
+                           options=options, back_to=request.full_path.rstrip("?"), selection=selection)

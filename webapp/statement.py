@@ -1,5 +1,6 @@
-"""One statement's page: its texts, evidence, claims, recheck, notes and history, and the forms
-that act on it (rewrite, pin, annotate, suppress or lift, revert, approve, accept the proposal).
+"""One statement's page: its texts, evidence, claims, recheck, notes, figures, discussion thread
+and history, and the forms that act on it (rewrite, pin, annotate, suppress or lift, revert,
+approve, accept the proposal, restore an earlier rewrite, comment, send back).
 
 Every form posts the slot's version; the action runs in one transaction and the page redirects
 back with a message. An engine error re-renders the page with the message next to its form.
@@ -13,11 +14,12 @@ from flask import Blueprint, abort, flash, redirect, render_template, request, u
 from sqlalchemy.orm import Session
 from werkzeug.wrappers import Response
 
-from engine import actions
+from engine import actions, comments, phrasing, settings
 from engine.errors import Conflict, NotFound, StetlineError
 from engine.livefields import FILTER_HELP, LiveFields
 from engine.loading import house_style
-from engine.store.models import Slot
+from engine.store import ops
+from webapp import charts
 from webapp.common import acting_name, current_name, diff, markdown_html, preview_html, safe_next
 from webapp.db import session, workspace
 
@@ -56,18 +58,49 @@ def _page(slot_id: str, *, errors: dict[str, str] | None = None, values: dict[st
         e["diff"] = diff(e["before"], e["after"]) if changed else None
     current, proposed = review_texts(v, data)
     layer = data["layer"]
+    current_rewrite = layer["text"] if layer and layer["type"] == "rewrite" else None
+    for e in events:
+        e["restorable"] = e["action"] == "rewrite" and bool(e["after"]) and e["after"] != current_rewrite
     values = values or {}
     rewrite_text = values.get("rewrite")
     if rewrite_text is None:
-        rewrite_text = layer["text"] if layer and layer["type"] == "rewrite" else (data["text"] or data["draft"])
+        rewrite_text = current_rewrite or data["text"] or data["draft"]
+    thread = [{**c.to_json(), "html": markdown_html(c.text)} for c in comments.thread(s, slot_id)]
+    sent_back = events[-1] if events and events[-1]["action"] == "send-back" else None
     html = render_template(
         "statement/show.html", s=data, approval=v.approval, events=events, errors=errors or {},
-        rewrite_text=rewrite_text, note_text=values.get("annotate", ""),
+        rewrite_text=rewrite_text, note_text=values.get("annotate", ""), comment_text=values.get("comment", ""),
         published_html=markdown_html(data["text"]) if data["text"] else None,
         review_current=current, review_diff=diff(current, proposed) if proposed else None,
         filter_help=FILTER_HELP, has_draft_beside=layer is not None or data["suppressed"],
+        thread=thread, sent_back=sent_back, entity_row=ops.get_entity(s, v.slot.entity) if v.slot.entity else None,
+        topic_row=ops.get_topic(s, v.slot.topic) if v.slot.topic else None, **_charts(s, v),
     )
     return html, status
+
+
+def _charts(s: Session, v: actions.SlotView) -> dict[str, Any]:
+    """The slot's series over the periods and every entity's latest value (when it has a topic)."""
+    out: dict[str, Any] = {"series": None, "strip": None}
+    topic = ops.get_topic(s, v.slot.topic) if v.slot.topic else None
+    if topic is None:
+        return out
+    style, values = house_style(s)
+
+    def fmt(x: float) -> str:
+        return phrasing.value(x, topic.unit, topic.decimals, style)
+
+    names = {e.key: e.name for e in ops.entity_rows(s)}
+    if v.slot.entity:
+        obs = ops.series(s, v.slot.entity, topic.key)
+        out["series"] = charts.series_chart(topic.label, names.get(v.slot.entity, v.slot.entity),
+                                            [o.period for o in obs], [o.value for o in obs], fmt)
+    period, latest = ops.latest_values(s, topic.key)
+    if period is not None:
+        noun = str(settings.with_defaults(values)["entity_noun"])
+        out["strip"] = charts.strip_chart(topic.label, period, [(k, names.get(k, k), x) for k, x in latest],
+                                          v.slot.entity, fmt, noun)
+    return out
 
 
 @bp.get("/statements/<path:slot>")
@@ -84,7 +117,7 @@ def _version() -> int:
         raise StetlineError("the form did not carry the statement's version; reload the page") from None
 
 
-def _act(slot_id: str, form: str, run: Callable[[Session, str, int], Slot], done: str,
+def _act(slot_id: str, form: str, run: Callable[[Session, str, int], object], done: str,
          values: dict[str, str] | None = None) -> Response | tuple[str, int]:
     """Run one action in a transaction; redirect back, or re-render with the error."""
     by = acting_name()
@@ -157,6 +190,30 @@ def accept(slot: str) -> Response | tuple[str, int]:
     return _act(slot, "accept",
                 lambda s, by, ver: actions.approve(s, slot, by=by, accept_proposed=True, version=ver),
                 "Proposed text accepted and approved")
+
+
+@bp.post("/statements/<path:slot>/restore")
+def restore(slot: str) -> Response | tuple[str, int]:
+    """Make an earlier rewrite from the history the statement's text again (a new rewrite)."""
+    text = request.form.get("text", "")
+    return _act(slot, "restore", lambda s, by, ver: actions.rewrite(s, slot, text, by=by, version=ver),
+                "Earlier version restored")
+
+
+@bp.post("/statements/<path:slot>/comment")
+def comment(slot: str) -> Response | tuple[str, int]:
+    """Add a comment to the statement's thread."""
+    text = request.form.get("text", "")
+    return _act(slot, "comment", lambda s, by, _ver: comments.add_comment(s, slot, text, by),
+                "Comment added", {"comment": text})
+
+
+@bp.post("/statements/<path:slot>/send-back")
+def send_back(slot: str) -> Response | tuple[str, int]:
+    """Send the statement back with a comment instead of approving it."""
+    text = request.form.get("text", "")
+    return _act(slot, "comment", lambda s, by, _ver: comments.send_back(s, slot, text, by),
+                "Sent back with your comment", {"comment": text})
 
 
 @bp.post("/statements/<path:slot>/preview")

@@ -192,3 +192,47 @@ __all__ = [
     "Base", "Setting", "Edition", "Entity", "Topic", "Observation", "Slot", "Draft", "Layer",
     "Approval", "Event", "UniqueConstraint", "utcnow",
 ]
+
+
+class Comment(Base):
+    """A comment in a slot's discussion thread: a remark, or a reviewer sending the statement back."""
+
+    __tablename__ = "comment"
+    id: Mapped[int] = mapped_column(primary_key=True)
+    slot_id: Mapped[str] = mapped_column(ForeignKey("slot.id"), index=True)
+    by: Mapped[str] = mapped_column(String(100))
+    at: Mapped[datetime] = mapped_column(default=utcnow)
+    text: Mapped[str] = mapped_column(Text)
+    kind: Mapped[str] = mapped_column(String(20), default="comment")  # 'comment' or 'send-back'
+
+
+__all__ += ["Comment"]
+
+
+class Account(Base):
+    """A person who may act in the workspace, with one role; passwords are stored hashed."""
+
+    __tablename__ = "account"
+    id: Mapped[int] = mapped_column(primary_key=True)
+    name: Mapped[str] = mapped_column(String(100), unique=True)
+    role: Mapped[str] = mapped_column(String(20))
+    password_hash: Mapped[str] = mapped_column(String(300))
+    enabled: Mapped[bool] = mapped_column(default=True)
+    created_at: Mapped[datetime] = mapped_column(default=utcnow)
+    failed_logins: Mapped[int] = mapped_column(default=0)
+    locked_until: Mapped[datetime | None]
+
+
+class Assignment(Base):
+    """An entity or topic an admin assigned to a person ("my statements")."""
+
+    __tablename__ = "assignment"
+    id: Mapped[int] = mapped_column(primary_key=True)
+    account: Mapped[str] = mapped_column(String(100), index=True)
+    entity: Mapped[str | None] = mapped_column(String(200))
+    topic: Mapped[str | None] = mapped_column(String(200))
+    by: Mapped[str] = mapped_column(String(100))
+    at: Mapped[datetime] = mapped_column(default=utcnow)
+
+
+__all__ += ["Account", "Assignment"]

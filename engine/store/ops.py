@@ -149,25 +149,108 @@ def store_observations(session: Session, edition_id: int, observations: pd.DataF
     to_close = merged.loc[(merged["_merge"] == "right_only") | (both & ~unchanged), "id"].dropna().astype("int64")
     to_insert = merged.loc[(merged["_merge"] == "left_only") | (both & ~unchanged), ["entity", "topic", "period", "value", "margin", "status"]]
     ids = to_close.tolist()
-    for start in range(0, len(ids), CHUNK):
-        session.execute(update(Observation), [{"id": i, "valid_to": edition_id} for i in ids[start:start + CHUNK]])
-    records = [
-        {
-            "entity": e, "topic": t, "period": p,
-            "value": None if pd.isna(v) else float(v), "margin": None if pd.isna(m) else float(m),
-            "status": s, "valid_from": edition_id, "valid_to": None,
-        }
-        for e, t, p, v, m, s in to_insert.itertuples(index=False, name=None)
-    ]
-    _bulk_insert(session, Observation, records)
-    return {"closed": len(ids), "inserted": len(records)}
+    _write_many(session, Observation, ["valid_to"], [(edition_id, i) for i in ids], where="id")
+    n = len(to_insert)
+    columns = {
+        "entity": to_insert["entity"].tolist(), "topic": to_insert["topic"].tolist(),
+        "period": to_insert["period"].tolist(),
+        "value": _floats_or_none(to_insert["value"]), "margin": _floats_or_none(to_insert["margin"]),
+        "status": to_insert["status"].tolist(), "valid_from": [edition_id] * n, "valid_to": [None] * n,
+    }
+    _write_many(session, Observation, list(columns), list(zip(*columns.values())))
+    return {"closed": len(ids), "inserted": n}
+
+
+def _floats_or_none(values: pd.Series) -> list[float | None]:
+    """A column as Python floats, None where missing."""
+    out = values.astype("float64")
+    return [None if v != v else v for v in out.tolist()]
 
 
 def _bulk_insert(session: Session, model: type, records: list[dict[str, Any]]) -> None:
+    """Insert rows given as dicts, in order; each run of rows with the same keys is one executemany."""
+    from itertools import groupby
+
+    for keys, run in groupby(records, key=tuple):
+        _write_many(session, model, list(keys), [tuple(r.values()) for r in run])
+
+
+def _write_many(
+    session: Session, model: Any, columns: list[str], rows: list[tuple[Any, ...]], *, where: str | None = None,
+) -> None:
+    """INSERT (or, with ``where``, UPDATE ... WHERE where = the last value of each row) many rows.
+
+    The values go through each column's own bind processing (JSON, dates, booleans) exactly as
+    an ORM insert would, then to the driver's executemany in chunks: no per-row statement
+    compilation. Columns the rows leave out take their scalar or callable defaults, as in an
+    ORM insert. Drivers with a placeholder style other than ? or %s use SQLAlchemy's own path.
+    """
+    if not rows:
+        return
+    session.flush()  # as a session.execute would (autoflush): pending rows go first
+    table = model.__table__
+    dialect = session.get_bind().dialect
+    placeholder = {"qmark": "?", "format": "%s", "pyformat": "%s"}.get(dialect.paramstyle)
+    if placeholder is None:
+        _write_many_orm(session, model, columns, rows, where)
+        return
+    columns = list(columns)
+    if where is None:
+        rows, columns = _with_defaults(table, columns, rows)
+    q = dialect.identifier_preparer.quote
+    processors = [table.c[c].type.dialect_impl(dialect).bind_processor(dialect) for c in columns]
+    if where is None:
+        sql = (f"INSERT INTO {q(table.name)} ({', '.join(q(c) for c in columns)}) "
+               f"VALUES ({', '.join([placeholder] * len(columns))})")
+    else:
+        sets = ", ".join(f"{q(c)} = {placeholder}" for c in columns)
+        sql = f"UPDATE {q(table.name)} SET {sets} WHERE {q(where)} = {placeholder}"
+        processors.append(None)
+    if any(processors):
+        rows = _process(rows, processors)
+    conn = session.connection()
+    for start in range(0, len(rows), CHUNK):
+        conn.exec_driver_sql(sql, rows[start:start + CHUNK])
+
+
+def _process(rows: list[tuple[Any, ...]], processors: list[Any]) -> list[tuple[Any, ...]]:
+    """Apply each column's bind processor to its values (column-wise, then back to rows)."""
+    cols = list(zip(*rows))
+    for i, proc in enumerate(processors):
+        if proc is not None:
+            cols[i] = tuple(proc(v) for v in cols[i])
+    return list(zip(*cols))
+
+
+def _with_defaults(table: Any, columns: list[str], rows: list[tuple[Any, ...]]) -> tuple[list[tuple[Any, ...]], list[str]]:
+    """Add the columns an insert leaves out that have a Python-side default."""
+    extra: list[tuple[str, Any]] = []
+    for col in table.columns:
+        if col.name in columns or col.default is None:
+            continue
+        default = col.default
+        if default.is_scalar:
+            extra.append((col.name, lambda value=default.arg: value))
+        elif default.is_callable:
+            extra.append((col.name, lambda fn=default.arg: fn(None)))
+    if not extra:
+        return rows, columns
+    out = [row + tuple(make() for _, make in extra) for row in rows]
+    return out, columns + [name for name, _ in extra]
+
+
+def _write_many_orm(session: Session, model: Any, columns: list[str], rows: list[tuple[Any, ...]],
+                    where: str | None) -> None:
     from sqlalchemy import insert
 
-    for start in range(0, len(records), CHUNK):
-        session.execute(insert(model), records[start:start + CHUNK])
+    if where is None:
+        records = [dict(zip(columns, r)) for r in rows]
+        for start in range(0, len(records), CHUNK):
+            session.execute(insert(model), records[start:start + CHUNK])
+    else:
+        records = [dict(zip(columns + [where], r)) for r in rows]
+        for start in range(0, len(records), CHUNK):
+            session.execute(update(model), records[start:start + CHUNK])
 
 
 # -- slot states for reconcile --------------------------------------------------------------
@@ -200,71 +283,68 @@ def apply_decisions(
     session: Session, edition_id: int, decisions: Sequence[Decision], drafts: dict[str, DraftText], by: str,
 ) -> Applied:
     """Write a refresh's decisions in bulk: new drafts, slot states, rebased human work, events."""
-    from sqlalchemy import insert
-
     next_id = (session.scalar(select(func.max(Draft.id))) or 0) + 1
-    existing = set(session.scalars(select(Slot.id)))
+    versions: dict[str, int] = dict(session.execute(select(Slot.id, Slot.version)).all())  # type: ignore[arg-type]
     now = utcnow()
-    draft_rows: list[dict[str, Any]] = []
-    new_slots: list[dict[str, Any]] = []
-    slot_updates: list[dict[str, Any]] = []
-    versions = dict(session.execute(select(Slot.id, Slot.version)).all()) if existing else {}
+    draft_rows: list[tuple[Any, ...]] = []
+    new_slots: list[tuple[Any, ...]] = []
+    updates_with_draft: list[tuple[Any, ...]] = []
+    updates: list[tuple[Any, ...]] = []
     for d in decisions:
         draft = drafts.get(d.slot)
-        row: dict[str, Any] = {
-            "status": d.status, "gone": d.gone, "recheck": d.recheck, "severity": d.severity, "updated_at": now,
-        }
+        state = (d.status, d.gone, d.recheck, d.severity, now)
         if d.write_draft and draft is not None:
-            draft_rows.append({
-                "id": next_id, "slot_id": d.slot, "edition_id": edition_id, "text": draft.text,
-                "evidence": draft.evidence, "claims": draft.claims, "phrasing": draft.phrasing,
-                "interest": draft.interest,
-            })
-            row.update(draft_id=next_id, digest=draft.digest, interest=draft.interest)
+            draft_rows.append((
+                next_id, d.slot, edition_id, draft.text, draft.evidence, draft.claims, draft.phrasing, draft.interest,
+            ))
+            written: tuple[Any, ...] = (next_id, draft.digest, draft.interest)
             next_id += 1
-        if d.slot in existing:
-            row["id"] = d.slot
-            row["version"] = versions.get(d.slot, 1) + 1
-            slot_updates.append(row)
+        else:
+            written = ()
+        if d.slot in versions:
+            version = versions[d.slot] + 1
+            if written:
+                updates_with_draft.append(state + written + (version, d.slot))
+            else:
+                updates.append(state + (version, d.slot))
         else:
             assert draft is not None
-            row.update(id=d.slot, kind=draft.kind, entity=draft.entity, topic=draft.topic, version=1)
-            new_slots.append(row)
+            new_slots.append(
+                (d.slot, draft.kind, draft.entity, draft.topic) + state + (written or (None, "", 0.0)) + (1,)
+            )
+    state_cols = ["status", "gone", "recheck", "severity", "updated_at"]
+    draft_cols = ["draft_id", "digest", "interest"]
     # slots first (drafts point at them); a new slot's draft_id refers to a draft inserted next
-    _bulk_insert(session, Slot, new_slots)
-    _bulk_insert(session, Draft, draft_rows)
-    for start in range(0, len(slot_updates), CHUNK):
-        chunk = slot_updates[start:start + CHUNK]
-        by_keys: dict[tuple[str, ...], list[dict[str, Any]]] = {}
-        for r in chunk:
-            by_keys.setdefault(tuple(sorted(r)), []).append(r)
-        for rows in by_keys.values():
-            session.execute(update(Slot), rows)
+    _write_many(session, Slot, ["id", "kind", "entity", "topic"] + state_cols + draft_cols + ["version"], new_slots)
+    _write_many(session, Draft, ["id", "slot_id", "edition_id", "text", "evidence", "claims", "phrasing", "interest"],
+                draft_rows)
+    _write_many(session, Slot, state_cols + draft_cols + ["version"], updates_with_draft, where="id")
+    _write_many(session, Slot, state_cols + ["version"], updates, where="id")
     if session.bind is not None and session.bind.dialect.name == "postgresql" and draft_rows:
         session.execute(text("SELECT setval(pg_get_serial_sequence('draft', 'id'), (SELECT MAX(id) FROM draft))"))
     _rebase(session, decisions, drafts)
     events = [
-        {"at": now, "by": by, "action": "recheck", "slot_id": d.slot, "edition_id": edition_id,
-         "before": None, "after": None, "detail": {"reasons": d.reasons}}
+        (now, by, "recheck", d.slot, edition_id, None, None, {"reasons": d.reasons})
         for d in decisions if d.recheck
     ]
-    _bulk_insert(session, Event, events)
-    return Applied(len(draft_rows), len(new_slots), len(slot_updates))
+    _write_many(session, Event, ["at", "by", "action", "slot_id", "edition_id", "before", "after", "detail"], events)
+    return Applied(len(draft_rows), len(new_slots), len(updates_with_draft) + len(updates))
 
 
 def _rebase(session: Session, decisions: Iterable[Decision], drafts: dict[str, DraftText]) -> None:
-    layers, approvals = [], []
+    layers: list[tuple[Any, ...]] = []
+    approvals: list[tuple[Any, ...]] = []
     for d in decisions:
+        if not d.rebase:
+            continue
         draft = drafts.get(d.slot)
         if draft is None:
             continue
         basis = Basis.of(draft).to_json()
         for w in d.rebase:
-            (approvals if w.type == "approval" else layers).append({"id": w.id, "basis": basis})
-    if layers:
-        session.execute(update(Layer), layers)
-    if approvals:
-        session.execute(update(Approval), approvals)
+            (approvals if w.type == "approval" else layers).append((basis, w.id))
+    _write_many(session, Layer, ["basis"], layers, where="id")
+    _write_many(session, Approval, ["basis"], approvals, where="id")
 
 
 def add_event(
@@ -528,3 +608,135 @@ def slot_statuses(session: Session, slot_ids: Sequence[str]) -> dict[str, tuple[
         for sid, status, recheck in session.execute(select(Slot.id, Slot.status, Slot.recheck).where(Slot.id.in_(chunk))):
             out[sid] = (status, recheck)
     return out
+
+
+# -- comments, search, series and recent events (for the web editor) ---------------------------
+
+from datetime import datetime  # noqa: E402
+
+from sqlalchemy import String as _String, DateTime as _DateTime, case, cast, literal, null, union_all  # noqa: E402
+
+from engine import periods as _periods  # noqa: E402
+from engine.store.models import Comment  # noqa: E402
+
+COMMENT_KINDS = ("comment", "send-back")
+SEARCH_LIMIT = 50
+MAX_SEARCH_TERMS = 10
+
+
+def add_comment(session: Session, slot_id: str, by: str, text_: str, kind: str = "comment") -> Comment:
+    """Add a comment to a slot's thread."""
+    if kind not in COMMENT_KINDS:
+        raise ValueError(f"a comment is one of {', '.join(COMMENT_KINDS)}, not {kind!r}")
+    row = Comment(slot_id=slot_id, by=by, text=text_, kind=kind)
+    session.add(row)
+    return row
+
+
+def comments_for(session: Session, slot_id: str) -> list[Comment]:
+    """A slot's thread, oldest first."""
+    return list(session.scalars(select(Comment).where(Comment.slot_id == slot_id).order_by(Comment.id)))
+
+
+@dataclass
+class SearchHit:
+    """One text that holds every search term: a slot's draft, a layer's text, or a comment."""
+
+    slot_id: str
+    status: str
+    where: str  # draft, rewrite, pin, note, comment or send-back
+    text: str
+    by: str | None
+    at: datetime | None
+
+
+@dataclass
+class SearchPage:
+    """One page of search results and how many there are in all."""
+
+    hits: list[SearchHit]
+    total: int
+    offset: int
+    limit: int
+
+
+def search_terms(query: str) -> list[str]:
+    """The words of a search query (at most MAX_SEARCH_TERMS)."""
+    return query.split()[:MAX_SEARCH_TERMS]
+
+
+def _like(term: str) -> str:
+    return "%" + term.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_") + "%"
+
+
+def search(session: Session, query: str, *, limit: int = SEARCH_LIMIT, offset: int = 0) -> SearchPage:
+    """Texts holding every word of the query (case-insensitive): current drafts, the text of
+    active rewrites, pins and notes, and comments; of listed slots, by slot."""
+    terms = search_terms(query)
+    if not terms:
+        return SearchPage([], 0, offset, limit)
+
+    def matching(column: Any) -> list[Any]:
+        return [column.ilike(_like(t), escape="\\") for t in terms]
+
+    no_by, no_at = cast(null(), _String(100)), cast(null(), _DateTime())
+    drafts = (
+        select(Slot.id.label("slot_id"), literal("draft", _String(20)).label("place"), Draft.text.label("text"),
+               no_by.label("by"), no_at.label("at"), literal(0).label("source"), Draft.id.label("row"))
+        .join(Draft, Draft.id == Slot.draft_id).where(*matching(Draft.text))
+    )
+    layers = (
+        select(Layer.slot_id, case((Layer.type == "annotate", "note"), else_=Layer.type), Layer.text,
+               Layer.by, Layer.at, literal(1), Layer.id)
+        .where(Layer.dropped_at.is_(None), Layer.text.is_not(None),
+               Layer.type.in_(("rewrite", "pin", "annotate")), *matching(Layer.text))
+    )
+    comments = select(Comment.slot_id, Comment.kind, Comment.text, Comment.by, Comment.at, literal(2),
+                      Comment.id).where(*matching(Comment.text))
+    found = union_all(drafts, layers, comments).subquery()
+    listed = (Slot.gone.is_(False)) | (Slot.status == "recheck")
+    base = select(found, Slot.status).join(Slot, Slot.id == found.c.slot_id).where(listed)
+    total = int(session.scalar(select(func.count()).select_from(base.subquery())) or 0)
+    rows = session.execute(
+        base.order_by(found.c.slot_id, found.c.source, found.c.row).limit(limit).offset(offset)
+    ).all()
+    hits = [SearchHit(r.slot_id, r.status, r.place, r.text, r.by, r.at) for r in rows]
+    return SearchPage(hits, total, offset, limit)
+
+
+def series(session: Session, entity: str, topic: str) -> list[Observation]:
+    """The current observations of one entity on one topic, in period order."""
+    rows = session.scalars(select(Observation).where(
+        Observation.valid_to.is_(None), Observation.entity == entity, Observation.topic == topic,
+    ))
+    return sorted(rows, key=lambda o: _periods.period_time(o.period))
+
+
+def latest_values(session: Session, topic: str) -> tuple[str | None, list[tuple[str, float]]]:
+    """The topic's latest period with a value, and every entity's value in it (highest first)."""
+    rows = session.execute(select(Observation.entity, Observation.period, Observation.value).where(
+        Observation.valid_to.is_(None), Observation.topic == topic, Observation.value.is_not(None),
+    )).all()
+    if not rows:
+        return None, []
+    latest = max({r.period for r in rows}, key=_periods.period_time)
+    values = sorted(((r.entity, float(r.value)) for r in rows if r.period == latest), key=lambda p: (-p[1], p[0]))
+    return latest, values
+
+
+def events_by_action(session: Session, action: str, limit: int = 20) -> list[Event]:
+    """The most recent events of one action, newest first."""
+    return list(session.scalars(select(Event).where(Event.action == action).order_by(Event.id.desc()).limit(limit)))
+
+
+def latest_event(session: Session, actions: Sequence[str]) -> Event | None:
+    """The most recent event of any of these actions."""
+    return session.scalars(select(Event).where(Event.action.in_(actions)).order_by(Event.id.desc()).limit(1)).first()
+
+
+def events_after(session: Session, action: str, after_id: int | None) -> list[Event]:
+    """Events of one action recorded after an event id (all of them when None), oldest first."""
+    q = select(Event).where(Event.action == action)
+    if after_id is not None:
+        q = q.where(Event.id > after_id)
+    return list(session.scalars(q.order_by(Event.id)))

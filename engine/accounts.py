@@ -1,0 +1,208 @@
+"""Accounts and roles: who may do what, checked on the server for the web app and the CLI alike.
+
+A workspace with no accounts is a one-person workspace: any name may act. Once the first account
+exists (it must be an admin), every action needs an existing, enabled account whose role allows
+it. Passwords are hashed with werkzeug.security; repeated failed logins lock an account for a
+while. Account changes are recorded as events.
+"""
+
+from __future__ import annotations
+
+from datetime import timedelta
+from typing import Iterable
+
+from sqlalchemy import func, select
+from sqlalchemy.orm import Session
+from werkzeug.security import check_password_hash, generate_password_hash
+
+from engine import settings as settings_mod
+from engine.errors import Forbidden, NotFound, StetlineError
+from engine.store import ops
+from engine.store.models import Account, Assignment, utcnow
+
+ROLES = ("editor", "expert", "reviewer", "admin")
+EDITING = frozenset({"editor", "reviewer", "admin"})
+EVERYONE = frozenset(ROLES)
+REVIEWING = frozenset({"reviewer", "admin"})
+ADMIN = frozenset({"admin"})
+
+#: every action and the roles that may take it
+PERMISSIONS: dict[str, frozenset[str]] = {
+    "rewrite": EDITING, "pin": EDITING, "suppress": EDITING, "revert": EDITING,
+    "annotate": EVERYONE, "comment": EVERYONE,
+    "approve": REVIEWING, "accept": REVIEWING, "send-back": REVIEWING,
+    "load": ADMIN, "redraft": ADMIN, "publish": ADMIN, "settings": ADMIN,
+    "backup": ADMIN, "restore": ADMIN, "accounts": ADMIN, "assign": ADMIN,
+}
+MAX_FAILED_LOGINS = 5
+LOCK_FOR = timedelta(minutes=15)
+MIN_PASSWORD = 8
+
+
+def has_accounts(session: Session) -> bool:
+    """True once the workspace has any account (it is then no longer a one-person workspace)."""
+    return bool(session.scalar(select(func.count()).select_from(Account)))
+
+
+def get_account(session: Session, name: str) -> Account | None:
+    """An account by name."""
+    return session.scalars(select(Account).where(Account.name == name)).first()
+
+
+def accounts(session: Session) -> list[Account]:
+    """Every account, by name."""
+    return list(session.scalars(select(Account).order_by(Account.name)))
+
+
+def role_of(session: Session, name: str) -> str | None:
+    """The role of an enabled account, or None (no such account, or disabled)."""
+    account = get_account(session, name)
+    return account.role if account is not None and account.enabled else None
+
+
+def authorize(session: Session, by: str, action: str) -> None:
+    """Refuse an action the acting account may not take; anyone may act without accounts."""
+    allowed = PERMISSIONS[action]
+    if not has_accounts(session):
+        return
+    account = get_account(session, by)
+    if account is None:
+        raise Forbidden(f"there is no account {by!r}; act as an existing account (--by NAME)")
+    if not account.enabled:
+        raise Forbidden(f"the account {by!r} is disabled")
+    if account.role not in allowed:
+        who = ", ".join(r for r in ROLES if r in allowed)
+        raise Forbidden(f"{by} is {_a(account.role)} {account.role} and may not {action}; that needs: {who}")
+
+
+def _a(word: str) -> str:
+    return "an" if word[:1] in "aeiou" else "a"
+
+
+def check_two_person_rule(session: Session, by: str, author: str | None) -> None:
+    """Refuse a reviewer's approval of their own rewrite unless the workspace allows it."""
+    if author is None or author != by or not has_accounts(session):
+        return
+    if settings_mod.with_defaults(ops.get_settings(session))["self_approval"]:
+        return
+    raise Forbidden(f"{by} wrote this text and may not also approve it (two-person rule; "
+                    "the setting self_approval allows it)")
+
+
+def _check_password(password: str) -> None:
+    if len(password) < MIN_PASSWORD:
+        raise StetlineError(f"a password needs at least {MIN_PASSWORD} characters")
+
+
+def add_account(session: Session, name: str, role: str, password: str, *, by: str) -> Account:
+    """Add an account; the first must be an admin, later ones are added by an admin."""
+    name = name.strip()
+    if not name or "/" in name or len(name) > 100:
+        raise StetlineError("an account name is 1 to 100 characters, without '/'")
+    if role not in ROLES:
+        raise StetlineError(f"unknown role {role!r}; roles: {', '.join(ROLES)}")
+    if has_accounts(session):
+        authorize(session, by, "accounts")
+    elif role != "admin":
+        raise StetlineError("the first account must be an admin (--role admin)")
+    if get_account(session, name) is not None:
+        raise StetlineError(f"the account {name!r} exists already")
+    _check_password(password)
+    account = Account(name=name, role=role, password_hash=generate_password_hash(password))
+    session.add(account)
+    session.flush()
+    ops.add_event(session, by, "account-add", detail={"account": name, "role": role})
+    return account
+
+
+def set_role(session: Session, name: str, role: str, *, by: str) -> Account:
+    """Change an account's role (admins only); the last enabled admin keeps the role."""
+    authorize(session, by, "accounts")
+    if role not in ROLES:
+        raise StetlineError(f"unknown role {role!r}; roles: {', '.join(ROLES)}")
+    account = _existing(session, name)
+    if account.role == "admin" and role != "admin" and _admins(session) == 1:
+        raise StetlineError("this is the last admin; make another admin first")
+    old, account.role = account.role, role
+    ops.add_event(session, by, "account-role", detail={"account": name, "old": old, "new": role})
+    return account
+
+
+def disable(session: Session, name: str, *, by: str, enable: bool = False) -> Account:
+    """Disable (or enable again) an account (admins only); the last enabled admin stays."""
+    authorize(session, by, "accounts")
+    account = _existing(session, name)
+    if not enable and account.role == "admin" and account.enabled and _admins(session) == 1:
+        raise StetlineError("this is the last enabled admin; make another admin first")
+    account.enabled = enable
+    if enable:
+        account.failed_logins, account.locked_until = 0, None
+    ops.add_event(session, by, "account-enable" if enable else "account-disable", detail={"account": name})
+    return account
+
+
+def set_password(session: Session, name: str, password: str, *, by: str) -> None:
+    """Set an account's password (the account itself, or an admin)."""
+    if by != name:
+        authorize(session, by, "accounts")
+    account = _existing(session, name)
+    _check_password(password)
+    account.password_hash = generate_password_hash(password)
+    ops.add_event(session, by, "account-password", detail={"account": name})
+
+
+def _existing(session: Session, name: str) -> Account:
+    account = get_account(session, name)
+    if account is None:
+        raise NotFound(f"there is no account {name!r}")
+    return account
+
+
+def _admins(session: Session) -> int:
+    return int(session.scalar(
+        select(func.count()).select_from(Account).where(Account.role == "admin", Account.enabled.is_(True))
+    ) or 0)
+
+
+def login(session: Session, name: str, password: str) -> Account:
+    """Check a login; after MAX_FAILED_LOGINS failures the account waits LOCK_FOR."""
+    account = get_account(session, name)
+    refused = StetlineError("the name or the password is wrong")
+    if account is None:
+        raise refused
+    now = utcnow()
+    if account.locked_until is not None and account.locked_until > now:
+        minutes = max(1, int((account.locked_until - now).total_seconds() // 60) + 1)
+        raise StetlineError(f"too many failed logins: try again in {minutes} minute(s)")
+    if not account.enabled:
+        raise StetlineError(f"the account {name!r} is disabled")
+    if not check_password_hash(account.password_hash, password):
+        account.failed_logins += 1
+        if account.failed_logins >= MAX_FAILED_LOGINS:
+            account.locked_until = now + LOCK_FOR
+            account.failed_logins = 0
+        raise refused
+    account.failed_logins, account.locked_until = 0, None
+    return account
+
+
+def assign(session: Session, name: str, *, entity: str | None = None, topic: str | None = None, by: str) -> Assignment:
+    """Assign an entity or a topic to a person (admins only)."""
+    authorize(session, by, "assign")
+    _existing(session, name)
+    if (entity is None) == (topic is None):
+        raise StetlineError("assign either an entity or a topic")
+    row = Assignment(account=name, entity=entity, topic=topic, by=by)
+    session.add(row)
+    ops.add_event(session, by, "assign", detail={"account": name, "entity": entity, "topic": topic})
+    return row
+
+
+def assignments(session: Session, name: str) -> list[Assignment]:
+    """What is assigned to a person."""
+    return list(session.scalars(select(Assignment).where(Assignment.account == name).order_by(Assignment.id)))
+
+
+def roles_allowed(action: str) -> Iterable[str]:
+    """The roles that may take an action."""
+    return sorted(PERMISSIONS[action])

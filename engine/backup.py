@@ -1,0 +1,314 @@
+"""Back up a workspace's SQLite database to one file, and restore a workspace from such a file.
+
+A backup is taken with SQLite's online backup API, so it is a consistent snapshot even while
+the web app or a load writes to the workspace; it is written to a temporary file next to the
+target and renamed into place only when complete. A restore first checks that the file is a
+Stetline database, keeps the database it replaces as a dated copy in the workspace folder (so
+no work done since the backup is lost), swaps the new file in with one atomic rename and brings
+its schema up to date. PostgreSQL workspaces are backed up with pg_dump instead.
+
+This module handles files and SQLite connections only; it holds no business rules.
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+import sqlite3
+import tempfile
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from pathlib import Path
+
+from sqlalchemy import create_engine
+from sqlalchemy.exc import SQLAlchemyError
+from sqlalchemy.orm import Session
+
+from engine.errors import StetlineError
+from engine.store import db, ops
+from engine.workspace import DB_FILE, Workspace, _url_for, is_workspace
+
+SQLITE_MAGIC = b"SQLite format 3\x00"
+REQUIRED_TABLES = ("slot", "alembic_version")
+SIDE_FILES = ("-wal", "-shm", "-journal")
+KEPT_PREFIX = "stetline-before-restore-"
+
+
+@dataclass
+class BackupResult:
+    """What a backup wrote."""
+
+    file: Path
+    size: int
+    counts: dict[str, int]
+    recorded: bool = True
+
+
+@dataclass
+class RestoreResult:
+    """What a restore did."""
+
+    file: Path
+    revision_before: str
+    revision_now: str
+    kept: Path | None
+    counts: dict[str, int]
+    recorded: bool = True
+
+
+def _sqlite_file(ws: Workspace, action: str) -> Path:
+    if not ws.url.startswith("sqlite"):
+        how = "back it up with pg_dump" if action == "backup" else "restore it with pg_restore (or psql for a plain dump)"
+        raise StetlineError(
+            f"this workspace keeps its data in PostgreSQL: {how}, as the README describes; "
+            f"stetline {action} handles SQLite workspaces only"
+        )
+    return ws.path / DB_FILE
+
+
+def _temp_beside(target: Path, prefix: str) -> Path:
+    fd, name = tempfile.mkstemp(prefix=prefix, suffix=".tmp", dir=target.parent)
+    os.close(fd)
+    return Path(name)
+
+
+def _remove(path: Path) -> None:
+    for suffix in ("",) + SIDE_FILES:
+        Path(str(path) + suffix).unlink(missing_ok=True)
+
+
+def _fsync(path: Path) -> None:
+    fd = os.open(path, os.O_RDONLY)
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+
+
+def _same_mode(path: Path, like: Path) -> None:
+    if like.exists():
+        os.chmod(path, like.stat().st_mode & 0o777)
+
+
+def _fsync_dir(folder: Path) -> None:
+    try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
+
+
+def _copy_live(ws: Workspace, target: Path) -> None:
+    """Copy the workspace database into ``target`` (a new file) with the online backup API."""
+    raw = ws.engine.raw_connection()
+    try:
+        source = raw.driver_connection
+        assert isinstance(source, sqlite3.Connection)
+        dest = sqlite3.connect(target)
+        try:
+            source.backup(dest)
+            # one self-contained file: no write-ahead log beside it
+            dest.execute("PRAGMA journal_mode=DELETE")
+        finally:
+            dest.close()
+    finally:
+        raw.close()
+    _fsync(target)
+
+
+def backup(ws: Workspace, target: Path, *, by: str, force: bool = False) -> BackupResult:
+    """Write a consistent copy of the workspace database to ``target``; refuse to overwrite."""
+    live = _sqlite_file(ws, "backup")
+    if not live.is_file():
+        raise StetlineError(f"the workspace {ws.path} has no database yet; nothing to back up")
+    target = Path(target)
+    if target.is_dir():
+        raise StetlineError(f"{target} is a folder: give the name of the backup file to write")
+    if not target.parent.is_dir():
+        raise StetlineError(f"the folder {target.parent} does not exist; create it first")
+    if target.resolve() in {Path(str(live) + s).resolve() for s in ("",) + SIDE_FILES}:
+        raise StetlineError(f"{target} is the workspace database itself; write the backup to another file")
+    if target.exists() and not force:
+        raise StetlineError(f"{target} already exists; choose another file or give --force to replace it")
+    temp = _temp_beside(target, ".stetline-backup-")
+    try:
+        _copy_live(ws, temp)
+        _same_mode(temp, live)
+        os.replace(temp, target)
+        _fsync_dir(target.parent)
+    except BaseException:
+        _remove(temp)
+        raise
+    size = target.stat().st_size
+    recorded = _record(ws, by, "backup", {"file": str(target.resolve()), "bytes": size})
+    return BackupResult(target, size, _counts(target), recorded)
+
+
+def _counts(path: Path) -> dict[str, int]:
+    """The row counts of a database file, read without changing it."""
+    engine = create_engine(db.sqlite_url(path))
+    try:
+        with Session(engine) as session:
+            return ops.table_counts(session)
+    finally:
+        engine.dispose()
+
+
+def _record(ws: Workspace, by: str, action: str, detail: dict[str, object]) -> bool:
+    """Record the event in the workspace history; False when the database stayed busy."""
+    try:
+        with ws.session() as session:
+            ops.add_event(session, by, action, detail=detail)
+    except SQLAlchemyError:
+        return False
+    return True
+
+
+def _refuse(source: Path, why: str) -> StetlineError:
+    return StetlineError(f"{source} is not a Stetline backup: {why}; the workspace was not changed")
+
+
+def _check_candidate(source: Path, candidate: Path, known: set[str]) -> str:
+    """Check the copied file is a sound Stetline database; return its schema revision."""
+    try:
+        conn = sqlite3.connect(candidate)
+        try:
+            conn.execute("PRAGMA journal_mode=DELETE")  # folds in a copied write-ahead log
+            check = conn.execute("PRAGMA quick_check").fetchone()
+            if not check or check[0] != "ok":
+                raise _refuse(source, f"the database is damaged ({check[0] if check else 'no result'})")
+            tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
+            missing = [t for t in REQUIRED_TABLES if t not in tables]
+            if missing:
+                raise _refuse(source, f"the database lacks Stetline's table(s) {', '.join(missing)}")
+            revisions = [r[0] for r in conn.execute("SELECT version_num FROM alembic_version")]
+        finally:
+            conn.close()
+    except sqlite3.DatabaseError as exc:
+        raise _refuse(source, f"SQLite cannot read it ({exc})") from None
+    if len(revisions) != 1:
+        raise _refuse(source, "its schema version is missing or ambiguous")
+    if revisions[0] not in known:
+        raise StetlineError(
+            f"{source} was written by a newer version of Stetline (schema {revisions[0]!r}); "
+            "upgrade Stetline, then restore it; the workspace was not changed"
+        )
+    return revisions[0]
+
+
+def _known_revisions(url: str) -> set[str]:
+    from alembic.script import ScriptDirectory
+
+    return {s.revision for s in ScriptDirectory.from_config(db.alembic_config(url)).walk_revisions()}
+
+
+def _revision(path: Path) -> str:
+    conn = sqlite3.connect(path)
+    try:
+        row = conn.execute("SELECT version_num FROM alembic_version").fetchone()
+    finally:
+        conn.close()
+    return str(row[0]) if row else ""
+
+
+def restore(ws: Workspace, source: Path, *, by: str) -> RestoreResult:
+    """Replace the workspace database with a backup, keeping the replaced one beside it.
+
+    The file is checked first (a SQLite database holding Stetline's tables at a schema this
+    version knows); a refused file changes nothing. Stop the web app before restoring: a
+    running server keeps the database it opened until it is restarted.
+    """
+    live = _sqlite_file(ws, "restore")
+    source = Path(source)
+    if not source.exists():
+        raise StetlineError(f"{source} does not exist")
+    if not source.is_file():
+        raise StetlineError(f"{source} is not a file")
+    if source.resolve() == live.resolve():
+        raise StetlineError(f"{source} is the workspace database itself; give a backup file")
+    with source.open("rb") as f:
+        head = f.read(len(SQLITE_MAGIC))
+    if head != SQLITE_MAGIC:
+        raise _refuse(source, "it is not a SQLite database")
+    known = _known_revisions(ws.url)
+    candidate = _temp_beside(live, ".stetline-restore-")
+    try:
+        # work on a private copy: the backup file itself is never opened for writing
+        shutil.copyfile(source, candidate)
+        wal = Path(str(source) + "-wal")
+        if wal.is_file():  # a copy of a live database may hold recent commits in its log
+            shutil.copyfile(wal, str(candidate) + "-wal")
+        revision_before = _check_candidate(source, candidate, known)
+        _remove_sides(candidate)
+        _fsync(candidate)
+        _same_mode(candidate, live)
+        kept = _keep_current(ws, live)
+        ws.close()  # no connection of ours may checkpoint an old log into the new file
+        _settle(live)
+        os.replace(candidate, live)
+        for suffix in SIDE_FILES:  # stale beside the new file: they belonged to the old one
+            Path(str(live) + suffix).unlink(missing_ok=True)
+        _fsync_dir(live.parent)
+    except BaseException:
+        _remove(candidate)
+        raise
+    db.upgrade(ws.url)
+    ws.engine.dispose()
+    recorded = _record(ws, by, "restore", {
+        "file": str(source.resolve()), "schema_before": revision_before, "kept": str(kept) if kept else None,
+    })
+    with ws.session() as session:
+        counts = ops.table_counts(session)
+    return RestoreResult(source, revision_before, _revision(live), kept, counts, recorded)
+
+
+def _remove_sides(path: Path) -> None:
+    for suffix in SIDE_FILES:
+        Path(str(path) + suffix).unlink(missing_ok=True)
+
+
+def _keep_current(ws: Workspace, live: Path) -> Path | None:
+    """Save the database about to be replaced as a dated copy in the workspace folder."""
+    if not live.exists():
+        return None
+    stamp = datetime.now(timezone.utc).strftime("%Y%m%dT%H%M%S%fZ")
+    kept = live.with_name(f"{KEPT_PREFIX}{stamp}.db")
+    temp = _temp_beside(live, ".stetline-keep-")
+    try:
+        try:
+            _copy_live(ws, temp)
+        except (sqlite3.DatabaseError, SQLAlchemyError):
+            # a damaged database cannot be read page by page: keep its bytes as they are
+            shutil.copyfile(live, temp)
+        _same_mode(temp, live)
+        os.replace(temp, kept)
+    except BaseException:
+        _remove(temp)
+        raise
+    return kept
+
+
+def _settle(live: Path) -> None:
+    """Fold the write-ahead log into the old database file before it is replaced."""
+    try:
+        conn = sqlite3.connect(live)
+        try:
+            conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+        finally:
+            conn.close()
+    except sqlite3.DatabaseError:
+        pass  # a damaged database: it is kept as a copy already
+
+
+def attach(path: Path, url: str | None = None) -> Workspace:
+    """A workspace opened without reading its database (which a restore may be replacing)."""
+    if not is_workspace(path):
+        raise StetlineError(f"{path} is not a workspace; create it with: stetline init -w {path}")
+    url = _url_for(path, url)
+    engine = db.make_engine(url)
+    return Workspace(path, url, engine, db.session_factory(engine))

@@ -1,0 +1,72 @@
+"""Report layouts: the Markdown and HTML publications are Jinja2 templates a team can copy.
+
+The built-in layouts live in ``engine/layouts``; ``stetline layout copy NAME`` puts one in the
+workspace's ``layouts/`` folder, where it takes precedence. Layouts render in the capped
+sandbox; the HTML layout escapes every value.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+import jinja2
+
+from engine.errors import StetlineError
+from engine.livefields import CappedSandbox
+from engine.publish import CAUTION, Publication
+
+BUILTIN = Path(__file__).parent / "layouts"
+LAYOUTS = ("md", "html")
+FIGURE_NOTES = "Notes on the figures"
+
+
+def context(pub: Publication) -> dict[str, Any]:
+    """What a layout template sees: the publication as plain dicts and lists."""
+    footnotes: list[str] = []
+    sections = []
+    for key, heading, statements in pub.sections:
+        items = []
+        for st in statements:
+            number = None
+            if st.caveat:
+                footnotes.append(st.caveat)
+                number = len(footnotes)
+            items.append({"slot": st.slot, "kind": st.kind, "entity": st.entity, "topic": st.topic,
+                          "text": st.text, "notes": list(st.notes), "footnote": number, "status": st.status})
+        used = sorted({st.topic for st in statements if st.topic and st.topic in pub.sources})
+        sources = "Sources: " + "; ".join(pub.sources[t] for t in used) + "." if used else ""
+        sections.append({"key": key, "heading": heading, "statements": items, "sources": sources})
+    return {"title": pub.title, "edition": pub.edition, "date": pub.date, "caution": CAUTION,
+            "sections": sections, "footnotes": footnotes, "figure_notes": FIGURE_NOTES}
+
+
+def _environment(folder: Path, name: str) -> jinja2.Environment:
+    return CappedSandbox(
+        loader=jinja2.FileSystemLoader(str(folder)), autoescape=(name == "html"),
+        undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True,
+    )
+
+
+def render(pub: Publication, name: str, workspace_dir: Path | None = None) -> str:
+    """Render a publication with a layout: the workspace's copy if there is one, else built-in."""
+    if name not in LAYOUTS:
+        raise StetlineError(f"unknown layout {name!r}; layouts: {', '.join(LAYOUTS)}")
+    folder = workspace_dir if workspace_dir is not None and (workspace_dir / f"{name}.j2").exists() else BUILTIN
+    try:
+        out = _environment(folder, name).get_template(f"{name}.j2").render(context(pub))
+    except jinja2.TemplateError as exc:
+        raise StetlineError(f"the {name} layout in {folder} cannot be rendered: {exc}") from None
+    return out.rstrip() + "\n"
+
+
+def copy_layout(folder: Path, name: str, *, force: bool = False) -> Path:
+    """Copy a built-in layout into a workspace's layouts folder for the team to edit."""
+    if name not in LAYOUTS:
+        raise StetlineError(f"unknown layout {name!r}; layouts: {', '.join(LAYOUTS)}")
+    target = folder / f"{name}.j2"
+    if target.exists() and not force:
+        raise StetlineError(f"{target} exists already; edit it, or give --force to start again from the built-in one")
+    folder.mkdir(parents=True, exist_ok=True)
+    target.write_text((BUILTIN / f"{name}.j2").read_text(encoding="utf-8"), encoding="utf-8")
+    return target

@@ -1,0 +1,329 @@
+"""Benchmark of a load at scale, as ratios against a floor measured in the same run.
+
+Run as ``python tests/benchmarks/bench.py [--entities 1000 --topics 100 --periods 5]``.
+
+Every figure is a ratio of two times taken on the same machine in the same run, so a busy or
+slow machine moves both sides alike:
+
+* ``load vs floor``: a first ``stetline load`` (the console script, in a subprocess) against a
+  floor: one subprocess started the same way that imports pandas and Jinja2, reads the same
+  observations file with pandas, renders one compiled template of about the size of the
+  built-in ones per slot of the load, and inserts as many rows (slot id, text, JSON evidence)
+  into a fresh SQLite file in one transaction;
+* ``refresh``: loading the second edition against the first load;
+* ``no-op refresh``: loading the second edition's file again as a new edition against the first
+  load; no draft, layer or approval row may be written;
+* ``memory``: the peak resident set size of the first load.
+
+Between the first and the second edition some human work is added (rewrites, pins, notes,
+suppressions, approvals), so the refreshes reconcile against it as a real one would.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import resource
+import shutil
+import sqlite3
+import subprocess
+import sys
+import tempfile
+import time
+from dataclasses import dataclass
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+GNU_TIME = "/usr/bin/time"
+BY = "bench"
+
+TARGET_LOAD = 2.0
+TARGET_REFRESH = 1.5
+TARGET_NOOP = 0.5
+TARGET_MEMORY_MB = 2048
+
+# -- the floor ------------------------------------------------------------------------------
+
+FLOOR_TEMPLATE = """\
+{#- a template shaped like the built-in ones: branches, a filter chain, joined extras -#}
+{% if state == "confidential" %}
+The {{ period }} figure for {{ lower_label }} in {{ name }} is withheld for confidentiality.
+{% elif ev.value == "missing" %}
+No {{ period }} figure for {{ lower_label }} is available for {{ name }}.
+{% else %}
+{% set extras = [group_text, target_text] | select | list %}
+{% if p == 0 %}
+{{ label }} in {{ name }} was {{ ev.value }}{{ caveat }} in {{ period }}
+{%- if ranked %}, {{ rank_text }}{% endif %}
+{%- if extras %}{{ "," if ranked else "" }} {{ extras | join(" and ") }}{% endif %}.
+{% else %}
+{% if ranked %}
+{{ name }} was {{ rank_text }} for {{ lower_label }} in {{ period }}, at {{ ev.value }}{{ caveat }}
+{%- else %}
+{{ name }} recorded {{ ev.value }}{{ caveat }} for {{ lower_label }} in {{ period }}
+{%- endif %}
+{%- if extras %}, {{ extras | join(" and ") }}{% endif %}.
+{% endif %}
+{% endif %}
+"""
+
+
+def floor_main(observations: str, slots: int, db_path: str) -> None:
+    """The floor's work: read, render one template per slot, insert one row per slot."""
+    import jinja2
+    import pandas as pd
+
+    frame = pd.read_csv(observations)
+    env = jinja2.Environment(autoescape=False, undefined=jinja2.StrictUndefined,
+                             trim_blocks=True, lstrip_blocks=True)
+    template = env.from_string(FLOOR_TEMPLATE)
+    rows = list(frame.itertuples(index=False, name=None))
+    n_rows = len(rows)
+    out = []
+    for i in range(slots):
+        entity, topic, period, value, _margin, status = rows[i % n_rows]
+        shown = f"{value:,.1f}%"
+        evidence = {
+            "period": {"value": str(period), "shown": str(period)},
+            "status": {"value": status if isinstance(status, str) else "", "shown": "final"},
+            "value": {"value": round(float(value), 10), "shown": shown},
+            "rank": {"value": i % 997 + 1, "shown": f"{i % 997 + 1}th"},
+            "group_mean": {"value": round(float(value) * 0.97, 10), "shown": f"{value * 0.97:,.1f}%"},
+        }
+        variables = {
+            "name": f"Area {entity}", "label": f"Topic {topic}", "lower_label": f"topic {topic}",
+            "period": period, "caveat": "", "state": "", "ranked": i % 3 != 0,
+            "rank_text": f"{i % 997 + 1}th best of 1,000 areas", "group_text": f"above the group average of {shown}",
+            "target_text": "" if i % 2 else "meeting the target of 75.0%",
+        }
+        text = template.render(variables, p=i % 2, ev={k: v["shown"] for k, v in evidence.items()})
+        out.append((f"standing/{entity}/{topic}/{i}", text.strip(), json.dumps(evidence)))
+    con = sqlite3.connect(db_path, isolation_level=None)
+    con.execute("CREATE TABLE draft (slot_id TEXT PRIMARY KEY, text TEXT, evidence TEXT)")
+    con.execute("BEGIN")
+    con.executemany("INSERT INTO draft VALUES (?, ?, ?)", out)
+    con.execute("COMMIT")
+    con.close()
+
+
+# -- running and timing subprocesses --------------------------------------------------------
+
+@dataclass
+class Run:
+    """One timed subprocess."""
+
+    seconds: float
+    max_rss_mb: float | None
+    stdout: str
+
+
+def _env() -> dict[str, str]:
+    env = dict(os.environ)
+    env.pop("STETLINE_DATABASE_URL", None)
+    env.pop("STETLINE_WORKSPACE", None)
+    return env
+
+
+def timed(cmd: list[str], cwd: Path) -> Run:
+    """Run a command, timing it; with GNU time, also its peak RSS."""
+    rss_file = cwd / ".rss"
+    use_time = Path(GNU_TIME).exists()
+    full = [GNU_TIME, "-v", "-o", str(rss_file)] + cmd if use_time else cmd
+    before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+    start = time.perf_counter()
+    proc = subprocess.run(full, cwd=cwd, env=_env(), capture_output=True, text=True)
+    seconds = time.perf_counter() - start
+    if proc.returncode != 0:
+        sys.stderr.write(proc.stdout + proc.stderr)
+        raise SystemExit(f"command failed ({proc.returncode}): {' '.join(cmd)}")
+    rss: float | None = None
+    if use_time and rss_file.exists():
+        for line in rss_file.read_text().splitlines():
+            if "Maximum resident set size" in line:
+                rss = int(line.rsplit(":", 1)[1]) / 1024
+        rss_file.unlink()
+    if rss is None:
+        after = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+        rss = after / 1024 if after > before else None  # kilobytes on Linux
+    return Run(seconds, rss, proc.stdout)
+
+
+def stetline() -> str:
+    """The console script of the interpreter running this benchmark."""
+    here = Path(sys.executable).parent / "stetline"
+    found = str(here) if here.exists() else shutil.which("stetline")
+    if not found:
+        raise SystemExit("the stetline console script is not installed (pip install -e .)")
+    return found
+
+
+def counts(db: Path) -> dict[str, int]:
+    """Row counts of the tables a load may write."""
+    con = sqlite3.connect(db)
+    try:
+        return {t: con.execute(f"SELECT COUNT(*) FROM {t}").fetchone()[0]
+                for t in ("draft", "layer", "approval", "slot", "observation", "event")}
+    finally:
+        con.close()
+
+
+def add_human_work(ws_path: Path, share: int) -> dict[str, int]:
+    """Rewrites, pins, notes, suppressions and approvals on about one slot in ``share``."""
+    import random
+
+    sys.path.insert(0, str(HERE.parents[1]))
+    from engine import actions
+    from engine.workspace import open_workspace
+
+    con = sqlite3.connect(ws_path / "stetline.db")
+    slots = [r[0] for r in con.execute("SELECT id FROM slot ORDER BY id")]
+    con.close()
+    rng = random.Random(7)
+    chosen = rng.sample(slots, max(5, len(slots) // share)) if len(slots) >= 5 else slots
+    done = {"rewrite": 0, "pin": 0, "annotate": 0, "suppress": 0, "approve": 0}
+    ws = open_workspace(ws_path)
+    try:
+        with ws.session() as s:
+            for i, slot in enumerate(chosen):
+                what = ("rewrite", "pin", "annotate", "approve", "suppress", "rewrite-approve")[i % 6]
+                if what.startswith("rewrite"):
+                    text = (
+                        "The latest figure is {{ value }}, as the tables show." if slot.startswith("standing/")
+                        else "An editor's own wording of this statement."
+                    )
+                    actions.rewrite(s, slot, text, by="editor")
+                    done["rewrite"] += 1
+                    if what == "rewrite-approve":
+                        actions.approve(s, slot, by="reviewer")
+                        done["approve"] += 1
+                elif what == "pin":
+                    actions.pin(s, slot, by="editor")
+                    done["pin"] += 1
+                elif what == "annotate":
+                    actions.annotate(s, slot, "A note on local context.", by="expert")
+                    done["annotate"] += 1
+                elif what == "approve":
+                    actions.approve(s, slot, by="reviewer")
+                    done["approve"] += 1
+                else:
+                    actions.suppress(s, slot, by="editor")
+                    done["suppress"] += 1
+    finally:
+        ws.close()
+    return done
+
+
+# -- the benchmark --------------------------------------------------------------------------
+
+def verdict(ok: bool) -> str:
+    return "PASS" if ok else "FAIL"
+
+
+def run(args: argparse.Namespace, work: Path) -> bool:
+    sys.path.insert(0, str(HERE))
+    import synthetic
+
+    data = work / "data"
+    ws = work / "ws"
+    t0 = time.perf_counter()
+    paths = synthetic.write(data, args.entities, args.topics, args.periods)
+    n_obs = args.entities * args.topics * args.periods
+    print(f"data: {args.entities} entities x {args.topics} topics x {args.periods} periods = "
+          f"{n_obs:,} observations ({time.perf_counter() - t0:.1f} s to generate)", flush=True)
+    cli = stetline()
+    timed([cli, "init", "-w", str(ws)], work)
+
+    load = [cli, "load", "-w", str(ws), "--by", BY, "--json"]
+    first = timed(load + [str(paths["observations"]), "--topics", str(paths["topics"]),
+                          "--entities", str(paths["entities"])], work)
+    summary = json.loads(first.stdout)
+    slots = int(summary["slots"])
+    print(f"first load: {slots:,} statements, {summary['observations_written']:,} observations "
+          f"in {first.seconds:.2f} s", flush=True)
+
+    floor_db = work / "floor.db"
+    floor = timed([sys.executable, str(Path(__file__).resolve()), "--floor",
+                   str(paths["observations"]), str(slots), str(floor_db)], work)
+    print(f"floor: {floor.seconds:.2f} s", flush=True)
+
+    t0 = time.perf_counter()
+    work_done = add_human_work(ws, args.human_share)
+    print("human work: " + ", ".join(f"{k} {v}" for k, v in work_done.items())
+          + f" ({time.perf_counter() - t0:.1f} s)", flush=True)
+
+    second = timed(load + [str(paths["observations2"])], work)
+    s2 = json.loads(second.stdout)
+    print(f"refresh: {s2['drafts_written']:,} drafts written, {s2['sent_to_recheck']} sent to recheck, "
+          f"{s2['observations_written']:,} observations in {second.seconds:.2f} s", flush=True)
+
+    db = ws / "stetline.db"
+    before = counts(db)
+    noop = timed(load + [str(paths["observations2"])], work)
+    after = counts(db)
+    s3 = json.loads(noop.stdout)
+    print(f"no-op refresh: edition {s3['edition']}, {s3['drafts_written']} drafts written "
+          f"in {noop.seconds:.2f} s", flush=True)
+
+    ok = True
+    print()
+    r = first.seconds / floor.seconds
+    ok &= r <= TARGET_LOAD
+    print(f"load vs floor: {r:.2f} (target <= {TARGET_LOAD:g}) {verdict(r <= TARGET_LOAD)} "
+          f"[load {first.seconds:.2f} s, floor {floor.seconds:.2f} s]")
+    r = second.seconds / first.seconds
+    ok &= r <= TARGET_REFRESH
+    print(f"refresh: {r:.2f} (target <= {TARGET_REFRESH:g}) {verdict(r <= TARGET_REFRESH)} "
+          f"[second edition {second.seconds:.2f} s, first load {first.seconds:.2f} s]")
+    written = [t for t in ("draft", "layer", "approval") if after[t] != before[t]]
+    ok &= not written
+    print("no-op rows: " + ", ".join(f"{t} {before[t]} -> {after[t]}" for t in ("draft", "layer", "approval"))
+          + f" (target: equal) {verdict(not written)}")
+    r = noop.seconds / first.seconds
+    ok &= r <= TARGET_NOOP
+    print(f"no-op refresh: {r:.2f} (target <= {TARGET_NOOP:g}) {verdict(r <= TARGET_NOOP)} "
+          f"[no-op {noop.seconds:.2f} s, first load {first.seconds:.2f} s]")
+    if first.max_rss_mb is None:
+        print("memory: unknown (target < 2 GB) FAIL [peak RSS not measurable here]")
+        ok = False
+    else:
+        gb = first.max_rss_mb / 1024
+        good = first.max_rss_mb < TARGET_MEMORY_MB
+        ok &= good
+        print(f"memory: {gb:.2f} GB (target < {TARGET_MEMORY_MB / 1024:g} GB) {verdict(good)} "
+              f"[peak RSS of the first load {first.max_rss_mb:.0f} MB; floor {floor.max_rss_mb or 0:.0f} MB]")
+    return ok
+
+
+def main(argv: list[str] | None = None) -> int:
+    argv = sys.argv[1:] if argv is None else argv
+    if argv[:1] == ["--floor"]:
+        floor_main(argv[1], int(argv[2]), argv[3])
+        return 0
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--entities", type=int, default=1000)
+    parser.add_argument("--topics", type=int, default=100)
+    parser.add_argument("--periods", type=int, default=5)
+    parser.add_argument("--human-share", type=int, default=500,
+                        help="add human work to about one slot in this many (default 500)")
+    parser.add_argument("--keep", type=Path, default=None,
+                        help="work in this folder and keep it (default: a temporary folder, removed)")
+    parser.add_argument("--strict", action="store_true", help="exit 1 when a target is missed")
+    args = parser.parse_args(argv)
+    if args.keep is not None:
+        marker = args.keep / ".stetline-bench"
+        if args.keep.exists() and any(args.keep.iterdir()):
+            if not marker.exists():
+                parser.error(f"{args.keep} is not empty and was not made by this benchmark")
+            shutil.rmtree(args.keep)
+        args.keep.mkdir(parents=True, exist_ok=True)
+        marker.write_text("made by tests/benchmarks/bench.py\n")
+        ok = run(args, args.keep.resolve())
+    else:
+        with tempfile.TemporaryDirectory(prefix="stetline-bench-") as tmp:
+            ok = run(args, Path(tmp))
+    return 1 if (args.strict and not ok) else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

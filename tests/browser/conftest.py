@@ -1,0 +1,67 @@
+"""Browser tests: Python Playwright drives Debian's Chromium against the web app, served by a
+real threaded server on a copy of the demo workspace (a file database).
+
+These tests are never skipped: without Chromium at /usr/bin/chromium they fail, saying how to
+install it (.ci/run installs it).
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+import threading
+from collections.abc import Iterator
+from pathlib import Path
+from typing import Any
+
+import pytest
+from werkzeug.serving import make_server
+
+from engine.workspace import open_workspace
+from livesite import Live, QuietHandler
+from webapp import create_app
+
+CHROMIUM = Path("/usr/bin/chromium")
+CHROMIUM_ARGS = [
+    "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync",
+    "--no-first-run", "--disable-quic",
+]
+
+
+@pytest.fixture(scope="session")
+def browser_type_launch_args(browser_type_launch_args: dict[str, Any]) -> dict[str, Any]:
+    """Launch Debian's Chromium (never a browser build of Playwright's own)."""
+    if not CHROMIUM.is_file():
+        pytest.fail(
+            f"Chromium is missing ({CHROMIUM} not found): the browser tests need Debian's Chromium. "
+            "Install it with: apt-get update && apt-get install -y chromium (.ci/run does this).",
+            pytrace=False,
+        )
+    return {**browser_type_launch_args, "executable_path": str(CHROMIUM), "args": CHROMIUM_ARGS}
+
+
+@pytest.fixture
+def live(demo_template: Path, tmp_path: Path) -> Iterator[Live]:
+    """The web app on a private copy of the demo workspace, served in a daemon thread."""
+    path = tmp_path / "workspace"
+    shutil.copytree(demo_template, path)
+    ws = open_workspace(path)
+    server = make_server("127.0.0.1", 0, create_app(ws), threaded=True, request_handler=QuietHandler)
+    thread = threading.Thread(target=server.serve_forever, name="stetline-web", daemon=True)
+    thread.start()
+    try:
+        yield Live(f"http://127.0.0.1:{server.server_port}", ws)
+    finally:
+        server.shutdown()
+        thread.join(timeout=10)
+        ws.close()
+
+
+@pytest.fixture(scope="session")
+def screens(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """The folder the screenshots go to ($STETLINE_SCREENS, else a temporary folder); printed."""
+    chosen = os.environ.get("STETLINE_SCREENS")
+    folder = Path(chosen) if chosen else tmp_path_factory.mktemp("screens")
+    folder.mkdir(parents=True, exist_ok=True)
+    print(f"\nscreenshots: {folder}")
+    return folder

@@ -1,0 +1,48 @@
+"""Report layouts and phrasing a team copies into its workspace and edits."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from conftest import Cli
+
+
+def _resolve_all(cli: Cli) -> None:
+    cli("approve", "--all-clean", "--yes", "--by", "reviewer")
+    for item in cli.json("list", "--status", "recheck"):
+        cli("approve", item["slot"], "--by", "reviewer")
+
+
+def test_a_copied_layout_changes_the_publication(demo_cli: Cli, tmp_path: Path) -> None:
+    _resolve_all(demo_cli)
+    out = demo_cli("layout", "copy", "md")
+    copied = Path(out.stdout.split("wrote ")[1].split(";")[0])
+    assert copied.read_text().startswith("{#- The built-in Markdown report layout.")
+    copied.write_text(copied.read_text().replace("# {{ title }}", "# {{ title }} (council draft)"))
+    demo_cli("publish", "-o", str(tmp_path / "r.md"), "--by", "admin")
+    assert (tmp_path / "r.md").read_text().startswith("# Kestrel Sound Regional Council: Service Scorecard (council draft)")
+    again = demo_cli("layout", "copy", "md", ok=False)
+    assert "exists already" in again.stderr
+
+
+def test_a_broken_layout_is_a_clear_error(demo_cli: Cli, tmp_path: Path) -> None:
+    _resolve_all(demo_cli)
+    demo_cli("layout", "copy", "html")
+    path = demo_cli.path / "layouts" / "html.j2"
+    path.write_text("{{ title.__class__.__mro__ }}")
+    result = demo_cli("publish", "--format", "html", "-o", str(tmp_path / "r.html"), "--by", "admin", ok=False)
+    assert "layout" in result.stderr and "cannot be rendered" in result.stderr
+
+
+def test_copied_phrasing_rewords_drafts_after_a_redraft(demo_cli: Cli) -> None:
+    demo_cli("phrasing", "copy", "standing")
+    path = demo_cli.path / "phrasing" / "standing.j2"
+    path.write_text(path.read_text().replace(" was {{ ev.value }}{{ caveat }} in {{ period }}",
+                                             " stood at {{ ev.value }}{{ caveat }} in {{ period }}"))
+    demo_cli("redraft", "--by", "admin")
+    drafts = [i["draft"] for i in demo_cli.json("list", "--kind", "standing") if not i["gone"]]
+    assert any(" stood at " in d for d in drafts)
+    import re
+
+    old_wording = re.compile(r"^[A-Z][\w ]+ in [A-Z][\w ]+ was \d")
+    assert [d for d in drafts if old_wording.match(d)] == []

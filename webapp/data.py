@@ -1,0 +1,159 @@
+"""The data page: upload an edition's files, see what loading them would do, then load them.
+
+The files are kept in a folder of their own under the workspace (``uploads/<token>/``, names
+cleaned with secure_filename) between the dry run and the load; the folder goes once the
+edition is loaded or refused, and any left over is removed after an hour. Problems in the
+files are listed by file, row and column, and nothing is written.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+import secrets
+import shutil
+import time
+from pathlib import Path
+from typing import Any
+
+from flask import Blueprint, redirect, render_template, request, url_for
+from werkzeug.datastructures import FileStorage
+from werkzeug.utils import secure_filename
+from werkzeug.wrappers import Response
+
+from engine import loading
+from engine.errors import Problem, StetlineError, ValidationError
+from engine.reconcile import REASONS
+from engine.store import ops
+from webapp.common import acting_name
+from webapp.db import session, workspace
+
+bp = Blueprint("data", __name__)
+
+UPLOADS = "uploads"
+MANIFEST = "manifest.json"
+MAX_AGE_SECONDS = 3600
+ROLES = ("observations", "topics", "entities")
+SUFFIXES = (".csv", ".txt", ".xlsx", ".xlsm")
+TOKEN = re.compile(r"^[0-9a-f]{32}$")
+MAX_LABEL = 100
+
+
+def uploads_dir() -> Path:
+    """The folder that holds uploads waiting to be loaded."""
+    return workspace().path / UPLOADS
+
+
+def sweep(now: float | None = None) -> int:
+    """Remove upload folders older than an hour; return how many went."""
+    root = uploads_dir()
+    if not root.is_dir():
+        return 0
+    now = time.time() if now is None else now
+    gone = 0
+    for folder in root.iterdir():
+        try:
+            old = now - folder.stat().st_mtime > MAX_AGE_SECONDS
+        except FileNotFoundError:
+            continue
+        if folder.is_dir() and old:
+            shutil.rmtree(folder, ignore_errors=True)
+            gone += 1
+    return gone
+
+
+def _page(*, status: int = 200, **context: Any) -> tuple[str, int]:
+    s = session()
+    loaded = None
+    label = request.args.get("loaded")
+    if label:
+        edition = ops.edition_by_label(s, label)
+        loaded = None if edition is None else {"edition": edition, "summary": edition.summary}
+    return render_template(
+        "data/page.html", editions=ops.editions(s), current=ops.current_edition(s), reasons=REASONS,
+        loaded=loaded, max_mb=(request.max_content_length or 0) // (1024 * 1024), **context,
+    ), status
+
+
+@bp.get("/data")
+def page() -> tuple[str, int]:
+    """The upload form, the editions loaded so far and the result of the last load."""
+    sweep()
+    return _page()
+
+
+def _keep(folder: Path, role: str, upload: FileStorage) -> tuple[str, Problem | None]:
+    """Store one uploaded file under a cleaned name; a Problem when it is not CSV or XLSX."""
+    name = secure_filename(upload.filename or "") or f"{role}.csv"
+    given = upload.filename or name
+    if not name.lower().endswith(SUFFIXES):
+        return name, Problem(given, None, None, "Stetline reads CSV files (.csv, .txt) or Excel workbooks (.xlsx)")
+    (folder / role).mkdir(parents=True, exist_ok=True)
+    upload.save(folder / role / name)
+    return f"{role}/{name}", None
+
+
+def _sources(folder: Path, manifest: dict[str, Any]) -> dict[str, Path | None]:
+    return {role: (folder / manifest["files"][role]) if role in manifest["files"] else None for role in ROLES}
+
+
+@bp.post("/data")
+def check() -> tuple[str, int]:
+    """Keep the uploaded files and show what loading them would do (a dry run: nothing written)."""
+    sweep()
+    uploads = {role: request.files.get(role) for role in ROLES}
+    label = (request.form.get("label") or "").strip()[:MAX_LABEL] or None
+    chosen = {role: f for role, f in uploads.items() if f is not None and f.filename}
+    if "observations" not in chosen:
+        return _page(status=400, form_error="Choose the observations file to load.", label=label)
+    token = secrets.token_hex(16)
+    folder = uploads_dir() / token
+    folder.mkdir(parents=True)
+    files: dict[str, str] = {}
+    problems: list[Problem] = []
+    for role, upload in chosen.items():
+        stored, problem = _keep(folder, role, upload)
+        if problem is not None:
+            problems.append(problem)
+        else:
+            files[role] = stored
+    if problems:
+        shutil.rmtree(folder, ignore_errors=True)
+        return _page(status=400, problems=problems, label=label)
+    manifest = {"files": files, "label": label, "by": acting_name(), "at": time.time()}
+    (folder / MANIFEST).write_text(json.dumps(manifest))
+    sources = _sources(folder, manifest)
+    try:
+        summary = loading.load_edition(workspace(), sources["observations"], sources["topics"], sources["entities"],
+                                       label=label, by=manifest["by"], dry_run=True)
+    except ValidationError as exc:
+        shutil.rmtree(folder, ignore_errors=True)
+        return _page(status=400, problems=exc.problems, label=label)
+    except StetlineError as exc:
+        shutil.rmtree(folder, ignore_errors=True)
+        return _page(status=400, form_error=str(exc), label=label)
+    names = {role: Path(p).name for role, p in files.items()}
+    return _page(preview=summary.to_json(), token=token, names=names, label=label)
+
+
+@bp.post("/data/load")
+def load() -> Response | tuple[str, int]:
+    """Load the files a dry run checked, then remove them."""
+    token = request.form.get("token", "")
+    folder = uploads_dir() / token
+    if not TOKEN.match(token) or not (folder / MANIFEST).is_file():
+        return _page(status=400, form_error=(
+            "These files are no longer here (uploads are kept for an hour, and only until they are "
+            "loaded). Upload them again."))
+    try:
+        manifest = json.loads((folder / MANIFEST).read_text())
+        sources = _sources(folder, manifest)
+        summary = loading.load_edition(workspace(), sources["observations"], sources["topics"], sources["entities"],
+                                       label=manifest.get("label"), by=acting_name())
+    except ValidationError as exc:
+        return _page(status=400, problems=exc.problems)
+    except StetlineError as exc:
+        return _page(status=400, form_error=str(exc))
+    finally:
+        shutil.rmtree(folder, ignore_errors=True)
+    return redirect(url_for("data.page", loaded=summary.edition), code=303)

@@ -1,0 +1,100 @@
+"""The settings page: every workspace setting with its help text and a control, and a redraft
+after a house-style change."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from flask import Blueprint, flash, redirect, render_template, request, url_for
+from werkzeug.wrappers import Response
+
+from engine import configure, loading, settings as settings_mod
+from engine.errors import StetlineError
+from engine.store import ops
+from webapp.common import acting_name
+from webapp.db import session, workspace
+
+bp = Blueprint("settings", __name__)
+
+LABELS = {"title": "Publication title", "entity_noun": "What one entity is called", "locale": "Number locale",
+          "serial_comma": "Serial comma", "percent_word": "Per cent sign", "small_numbers_in_words":
+          "Small numbers in words", "untraced_numbers": "Untraced numbers when publishing",
+          "self_approval": "Reviewers may approve their own rewrites", "https": "Served over HTTPS"}
+GROUPS = (("publication", "The publication"), ("style", "House style: the wording of drafts"),
+          ("rules", "Rules and the web app"))
+
+
+def _group(key: str) -> str:
+    if key in settings_mod.STYLE_KEYS:
+        return "style"
+    return "publication" if key == "title" else "rules"
+
+
+def _control(spec: settings_mod.SettingSpec) -> str:
+    if isinstance(spec.default, bool):
+        return "checkbox"
+    if spec.choices:
+        return "select"
+    if isinstance(spec.default, int):
+        return "number"
+    return "text"
+
+
+def _page(*, errors: dict[str, str] | None = None, submitted: dict[str, str] | None = None,
+          status: int = 200) -> tuple[str, int]:
+    s = session()
+    values = settings_mod.with_defaults(ops.get_settings(s))
+    rows: list[dict[str, Any]] = []
+    for spec in settings_mod.SETTINGS:
+        value: Any = values[spec.key]
+        if submitted is not None and spec.key in submitted:
+            value = submitted[spec.key]
+            if isinstance(spec.default, bool):
+                value = value == "true"
+        rows.append({"spec": spec, "control": _control(spec), "value": value, "group": _group(spec.key),
+                     "label": LABELS.get(spec.key, spec.key.replace("_", " ").capitalize()),
+                     "style": spec.key in settings_mod.STYLE_KEYS, "default": spec.default})
+    groups = [(title, [r for r in rows if r["group"] == key]) for key, title in GROUPS]
+    return render_template("settings/page.html", groups=[g for g in groups if g[1]], errors=errors or {},
+                           pending=configure.restyle_pending(s), edition=ops.current_edition(s)), status
+
+
+@bp.get("/settings")
+def page() -> tuple[str, int]:
+    """Show every setting."""
+    return _page()
+
+
+@bp.post("/settings")
+def save() -> Response | tuple[str, int]:
+    """Check and store the submitted settings (nothing is stored when any value is refused)."""
+    submitted: dict[str, str] = {}
+    for spec in settings_mod.SETTINGS:
+        if isinstance(spec.default, bool):
+            submitted[spec.key] = "true" if request.form.get(spec.key) else "false"
+        elif spec.key in request.form:
+            submitted[spec.key] = request.form[spec.key]
+    by = acting_name()
+    try:
+        with workspace().session() as s:
+            changes = configure.save(s, submitted, by=by)
+    except configure.SettingsInvalid as exc:
+        return _page(errors=exc.errors, submitted=submitted, status=400)
+    if not changes:
+        flash("Nothing changed.")
+    for c in changes:
+        flash(f"Saved {c.key}: {c.old!r} → {c.new!r}")
+    return redirect(url_for("settings.page"), code=303)
+
+
+@bp.post("/settings/redraft")
+def redraft() -> Response:
+    """Redraft the current edition so that drafts follow the house style."""
+    try:
+        summary = loading.redraft(workspace(), by=acting_name())
+    except StetlineError as exc:
+        flash(f"Nothing was redrafted: {exc}")
+        return redirect(url_for("settings.page"), code=303)
+    flash(f"Redrafted edition {summary.edition}: {summary.updated} updated silently, "
+          f"{summary.sent_to_recheck} sent to recheck, {summary.unchanged} unchanged.")
+    return redirect(url_for("settings.page"), code=303)
