@@ -24,6 +24,7 @@ from sqlalchemy import create_engine
 from sqlalchemy.exc import SQLAlchemyError
 from sqlalchemy.orm import Session
 
+from engine.accounts import authorize
 from engine.errors import StetlineError
 from engine.store import db, ops
 from engine.workspace import DB_FILE, Workspace, _url_for, is_workspace
@@ -64,6 +65,19 @@ def _sqlite_file(ws: Workspace, action: str) -> Path:
             f"stetline {action} handles SQLite workspaces only"
         )
     return ws.path / DB_FILE
+
+
+def _authorize(ws: Workspace, by: str, action: str) -> None:
+    """Refuse a person whose account may not take the action (anyone may without accounts).
+
+    A database that cannot be read, or predates accounts, has no accounts to ask: whoever can
+    reach its file may act on it.
+    """
+    try:
+        with ws.session() as session:
+            authorize(session, by, action)
+    except SQLAlchemyError:
+        return
 
 
 def _temp_beside(target: Path, prefix: str) -> Path:
@@ -126,6 +140,7 @@ def backup(ws: Workspace, target: Path, *, by: str, force: bool = False) -> Back
     live = _sqlite_file(ws, "backup")
     if not live.is_file():
         raise StetlineError(f"the workspace {ws.path} has no database yet; nothing to back up")
+    _authorize(ws, by, "backup")
     target = Path(target)
     if target.is_dir():
         raise StetlineError(f"{target} is a folder: give the name of the backup file to write")
@@ -236,6 +251,8 @@ def restore(ws: Workspace, source: Path, *, by: str) -> RestoreResult:
     if head != SQLITE_MAGIC:
         raise _refuse(source, "it is not a SQLite database")
     known = _known_revisions(ws.url)
+    if live.is_file():
+        _authorize(ws, by, "restore")
     candidate = _temp_beside(live, ".stetline-restore-")
     try:
         # work on a private copy: the backup file itself is never opened for writing
@@ -257,7 +274,14 @@ def restore(ws: Workspace, source: Path, *, by: str) -> RestoreResult:
     except BaseException:
         _remove(candidate)
         raise
-    db.upgrade(ws.url)
+    try:
+        db.upgrade(ws.url)
+    except Exception as exc:  # the file is in place; say how to go back
+        undo = f"; the replaced database is kept as {kept}" if kept else ""
+        raise StetlineError(
+            f"{source} was restored but its schema could not be brought up to date "
+            f"({' '.join(str(exc).split())[:200]}){undo}"
+        ) from None
     ws.engine.dispose()
     recorded = _record(ws, by, "restore", {
         "file": str(source.resolve()), "schema_before": revision_before, "kept": str(kept) if kept else None,

@@ -12,6 +12,7 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
+from engine.accounts import authorize
 from engine.errors import NotFound, StetlineError
 from engine.store import ops
 from engine.store.models import Comment
@@ -32,12 +33,14 @@ def _check(session: Session, slot_id: str, text: str, what: str) -> str:
 
 def add_comment(session: Session, slot: str, text: str, by: str) -> Comment:
     """Add a comment to a statement's thread."""
+    authorize(session, by, "comment")
     text = _check(session, slot, text, "a comment")
     return ops.add_comment(session, slot, by, text, "comment")
 
 
 def send_back(session: Session, slot: str, text: str, by: str) -> Comment:
     """Send a statement back with a comment instead of approving it (its status stays as is)."""
+    authorize(session, by, "send-back")
     text = _check(session, slot, text, "the reason for sending it back")
     comment = ops.add_comment(session, slot, by, text, "send-back")
     ops.add_event(session, by, "send-back", slot, after=text)

@@ -12,6 +12,7 @@ from typing import Any
 from sqlalchemy.orm import Session
 
 from engine import settings as settings_mod
+from engine.accounts import authorize
 from engine.errors import StetlineError
 from engine.store import ops
 
@@ -49,6 +50,7 @@ def _parse(spec: settings_mod.SettingSpec, text: str) -> Any:
 
 def save(session: Session, submitted: dict[str, str], *, by: str) -> list[SettingChange]:
     """Check every submitted value, then store the ones that changed, each with an event."""
+    authorize(session, by, "settings")
     current = settings_mod.with_defaults(ops.get_settings(session))
     parsed: dict[str, Any] = {}
     errors: dict[str, str] = {}

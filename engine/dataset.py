@@ -109,6 +109,13 @@ def _read_csv(name: str, data: bytes) -> _Table:
         raise ValidationError([Problem(name, None, None, "the file is empty")]) from None
     except (pd.errors.ParserError, ValueError, OverflowError) as exc:
         raise ValidationError([Problem(name, None, None, f"the file is not valid CSV: {_short(exc)}")]) from None
+    if not isinstance(frame.index, pd.RangeIndex):
+        # pandas takes the first column as an index when the first data row has one field too many
+        raise ValidationError([Problem(
+            name, 2, None,
+            f"the row has {len(frame.columns) + 1} fields but the header has {len(frame.columns)} "
+            "(an unquoted comma in a value?)",
+        )])
     # drop blank lines but keep the index, so reported rows match the file's lines
     frame = frame.loc[~(frame.fillna("").astype("str") == "").all(axis=1)]
     return _Table(name, frame)
@@ -162,9 +169,10 @@ def _check_columns(table: _Table, required: Iterable[str], optional: Iterable[st
             problems.append(Problem(table.name, 1, col, "the column appears twice"))
         seen.add(col)
         if col not in known:
-            hint = difflib.get_close_matches(col, known, n=1)
+            hint = difflib.get_close_matches(col[:100], known, n=1)
             tip = f"; did you mean {hint[0]!r}?" if hint else f"; expected {', '.join(known)}"
-            problems.append(Problem(table.name, 1, col, f"unknown column{tip}"))
+            shown = col if len(col) <= 40 else col[:40] + "…"
+            problems.append(Problem(table.name, 1, shown, f"unknown column{tip}"))
     if not problems and frame.empty:
         problems.append(Problem(table.name, None, None, "the file has a header but no rows"))
     return problems

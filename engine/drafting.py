@@ -15,7 +15,6 @@ from __future__ import annotations
 
 import hashlib
 import json
-import math
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -60,13 +59,25 @@ class Draft:
 
     @property
     def digest(self) -> str:
-        """A fingerprint of the text, evidence and claims: equal digests mean nothing changed."""
-        return digest(self.text, self.evidence, self.claims)
+        """A fingerprint of the text, evidence and claims: equal digests mean nothing changed.
+
+        Computed once per draft (a load asks for it when reconciling and again when writing);
+        a draft is a value, never changed in place once drafted.
+        """
+        key = (self.text, id(self.evidence), id(self.claims))
+        cached = self.__dict__.get("_digest")
+        if cached is None or cached[0] != key:
+            cached = (key, digest(self.text, self.evidence, self.claims))
+            self.__dict__["_digest"] = cached
+        return cached[1]
+
+
+_DIGEST_ENCODER = json.JSONEncoder(sort_keys=True, separators=(",", ":"), default=str)
 
 
 def digest(text: str, evidence: dict[str, Any], claims: dict[str, Any]) -> str:
     """Fingerprint a draft's text, evidence and claims."""
-    payload = json.dumps([text, evidence, claims], sort_keys=True, separators=(",", ":"), default=str)
+    payload = _DIGEST_ENCODER.encode([text, evidence, claims])
     return hashlib.blake2b(payload.encode("utf-8"), digest_size=16).hexdigest()
 
 
@@ -86,7 +97,7 @@ def phrasing_index(slot: str, choices: int) -> int:
 def ev(value: Any, shown: str) -> dict[str, Any]:
     """One evidence entry: the raw value (JSON-safe) and the text the reader sees."""
     if isinstance(value, float):
-        value = None if math.isnan(value) else round(value, 10)
+        value = None if value != value else round(value, 10)  # NaN is the only float unequal to itself
     return {"value": value, "shown": shown}
 
 
@@ -100,6 +111,8 @@ class Context:
     style: HouseStyle
     entity_noun: str
     edition: str = ""
+    #: value() results by (topic, x): group and overall means and targets recur across cells
+    _values_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
 
     @property
     def entity_nouns(self) -> str:
@@ -128,8 +141,14 @@ class Context:
 
     def value(self, topic: str, x: float) -> str:
         """A value of a topic as shown: its decimals and unit."""
-        meta = self.topics[topic]
-        return phrasing.value(float(x), str(meta["unit"]), int(meta["decimals"]), self.style)
+        x = float(x)
+        key = (topic, x)
+        shown = self._values_shown.get(key)
+        if shown is None:
+            meta = self.topics[topic]
+            shown = phrasing.value(x, str(meta["unit"]), int(meta["decimals"]), self.style)
+            self._values_shown[key] = shown
+        return shown
 
     def amount(self, topic: str, x: float) -> str:
         """The size of a difference in the topic's own terms: points for percent, else unit."""

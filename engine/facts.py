@@ -104,7 +104,19 @@ def compute_facts(
     entity_facts = _entity_facts(cells, meta, entities)
     latest = str(obs.loc[obs["time"].idxmax(), "period"]) if len(obs) else ""
     series = obs[["entity", "topic", "period", "time", "value", "margin", "status", "usable"]]
-    return Facts(cells, topic_facts, entity_facts, series, latest)
+    return Facts(_plain_text(cells), topic_facts, entity_facts, series, latest)
+
+
+def _plain_text(frame: pd.DataFrame) -> pd.DataFrame:
+    """The frame with its text columns held as plain Python objects (same values, NaN for none).
+
+    The kinds walk cells row by row (``itertuples``); a pandas string array hands out its items
+    one method call at a time, an object array at C speed.
+    """
+    text = [c for c in frame.columns if isinstance(frame[c].dtype, pd.StringDtype)]
+    if not text:
+        return frame
+    return frame.astype(dict.fromkeys(text, object))
 
 
 def _ranks(cells: pd.DataFrame) -> None:
@@ -307,4 +319,4 @@ def trend_facts(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
     below = earlier.loc[earlier["shown"] <= earlier["latest_shown"]].groupby(keys)["time"].max()
     out["higher_before"] = above
     out["lower_before"] = below
-    return out.reindex(pd.MultiIndex.from_frame(cells[keys]))
+    return _plain_text(out.reindex(pd.MultiIndex.from_frame(cells[keys])))

@@ -7,7 +7,13 @@ load writes nothing; ``dry_run`` computes the same summary and writes nothing.
 
 from __future__ import annotations
 
+import hashlib
+import sys
+from collections.abc import Collection
 from dataclasses import dataclass, field
+from functools import lru_cache
+from importlib import metadata
+from pathlib import Path
 from typing import Any
 
 import pandas as pd
@@ -96,23 +102,84 @@ def _label(session: Session, requested: str | None, dataset: Dataset) -> str:
     return label
 
 
+#: where an edition's summary keeps the fingerprint of what its drafts were made from
+DRAFTED_FROM = "drafted_from"
+#: libraries whose behaviour reaches the text of a draft
+_DRAFTING_LIBRARIES = ("pandas", "numpy", "jinja2", "babel", "inflect")
+
+
+@lru_cache(maxsize=1)
+def _code_fingerprint() -> bytes:
+    """The engine's own code and templates and the versions of the libraries drafting uses."""
+    root = Path(__file__).parent
+    h = hashlib.blake2b(digest_size=16)
+    for path in sorted(root.rglob("*")):
+        if path.suffix in (".py", ".j2") and "__pycache__" not in path.parts and path.is_file():
+            h.update(path.relative_to(root).as_posix().encode("utf-8") + b"\0" + path.read_bytes() + b"\0")
+    for name in _DRAFTING_LIBRARIES:
+        try:
+            h.update(f"{name}={metadata.version(name)};".encode())
+        except metadata.PackageNotFoundError:
+            h.update(f"{name}=?;".encode())
+    h.update(sys.version.encode())
+    return h.digest()
+
+
+def drafting_inputs(ws: Workspace, ctx: Context) -> str:
+    """A fingerprint of everything the drafts of an edition are made from.
+
+    What the kinds and templates read: the facts (every frame, every column), the topic and
+    entity metadata, the house style and entity noun, the workspace's phrasing templates, and
+    the engine's code and libraries. Equal fingerprints mean drafting would give every slot the
+    draft it already has. The edition label is left out: no kind reads ``Context.edition`` (one
+    that does must add it here).
+    """
+    h = hashlib.blake2b(_code_fingerprint(), digest_size=16)
+    facts = ctx.facts
+    for frame in (facts.cells, facts.series):
+        h.update(repr([(str(c), str(t)) for c, t in frame.dtypes.items()]).encode("utf-8"))
+        h.update(pd.util.hash_pandas_object(frame, index=True).to_numpy().tobytes())
+    for frame in (facts.topics, facts.entities):  # small, and holding lists: written out in full
+        h.update(repr([(str(c), str(t)) for c, t in frame.dtypes.items()]).encode("utf-8"))
+        h.update(repr(frame.to_dict("split")).encode("utf-8"))
+    h.update(repr((facts.latest_period, ctx.topics, ctx.entities, ctx.style, ctx.entity_noun)).encode("utf-8"))
+    phrasing_dir = ws.phrasing_dir
+    if phrasing_dir.is_dir():
+        for path in sorted(phrasing_dir.glob("*.j2")):
+            h.update(path.name.encode("utf-8") + b"\0" + path.read_bytes() + b"\0")
+    return h.hexdigest()
+
+
+def edition_context(
+    session: Session, observations: pd.DataFrame, topics: pd.DataFrame,
+    entities: pd.DataFrame, earlier: pd.DataFrame | None, edition: str,
+) -> Context:
+    """What the kinds draft an edition from: its facts, metadata and the house style."""
+    style, values = house_style(session)
+    facts = compute_facts(observations, topics, entities, earlier)
+    return Context(
+        facts, topics.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
+        style, str(values["entity_noun"]), edition,
+    )
+
+
+def draft_context(ws: Workspace, ctx: Context) -> list[Draft]:
+    """Draft every statement of a context."""
+    renderer = Renderer(ctx.style, ws.phrasing_dir)
+    return list(draft_all(ctx, renderer, KINDS))
+
+
 def draft_edition(
     ws: Workspace, session: Session, observations: pd.DataFrame, topics: pd.DataFrame,
     entities: pd.DataFrame, earlier: pd.DataFrame | None, edition: str,
 ) -> list[Draft]:
     """Draft every statement of an edition from its observations and metadata."""
-    style, values = house_style(session)
-    facts = compute_facts(observations, topics, entities, earlier)
-    ctx = Context(
-        facts, topics.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
-        style, str(values["entity_noun"]), edition,
-    )
-    renderer = Renderer(style, ws.phrasing_dir)
-    return list(draft_all(ctx, renderer, KINDS))
+    return draft_context(ws, edition_context(session, observations, topics, entities, earlier, edition))
 
 
-def _summarise(summary: LoadSummary, decisions: list[Decision], drafts: dict[str, Draft],
+def _summarise(summary: LoadSummary, decisions: list[Decision], drafts: Collection[str],
                states: dict[str, SlotState]) -> None:
+    """Count what the decisions do; ``drafts`` holds the id of every slot drafted this time."""
     summary.slots = len(drafts)
     touched = 0
     for d in decisions:
@@ -149,11 +216,17 @@ def load_edition(
         edition_label = _label(session, label, dataset)
         current = ops.current_edition(session)
         earlier = _held(session, dataset.observations) if current is not None else None
-        drafts = draft_edition(ws, session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label)
+        ctx = edition_context(session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label)
+        inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
-        decisions, by_slot = reconcile(states, drafts)
+        if current is not None and (current.summary or {}).get(DRAFTED_FROM) == inputs:
+            decisions, by_slot, drafted = _reconcile_as_drafted(session, states, dataset.topics, dataset.entities)
+        else:
+            decisions, by_slot = reconcile(states, draft_context(ws, ctx))
+            drafted = by_slot.keys()
+        del ctx
         summary = LoadSummary(edition_label, dry_run=dry_run)
-        _summarise(summary, decisions, by_slot, states)
+        _summarise(summary, decisions, drafted, states)
         if dry_run:
             session.rollback()
             return summary
@@ -167,9 +240,47 @@ def load_edition(
         written = ops.store_observations(session, edition.id, dataset.observations)
         summary.observations_written = written["inserted"]
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
-        edition.summary = summary.to_json()
+        edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs}
         ops.add_event(session, by, "load", edition_id=edition.id, detail=summary.to_json())
     return summary
+
+
+def _reconcile_as_drafted(
+    session: Session, states: dict[str, SlotState], topics: pd.DataFrame, entities: pd.DataFrame,
+) -> tuple[list[Decision], dict[str, Draft], Collection[str]]:
+    """Reconcile when drafting would give every slot the draft it already has.
+
+    The slots not gone are exactly those the last load drafted, each with its draft unchanged:
+    a slot without human work gets no decision (its digest is the same), a gone one none either,
+    so only slots carrying human work are decided, against their stored drafts, in the order
+    drafting yields them.
+    """
+    drafted = {sid for sid, state in states.items() if not state.gone}
+    human = {sid: state for sid, state in states.items() if sid in drafted and state.human}
+    drafts = sorted(ops.current_drafts(session, human), key=_draft_position(topics, entities))
+    decisions, by_slot = reconcile(human, drafts)
+    return decisions, by_slot, drafted
+
+
+def _draft_position(topics_frame: pd.DataFrame, entities_frame: pd.DataFrame) -> Any:
+    """A sort key giving drafts in the order draft_all yields them: by kind, then the kind's rows
+    (entity x topic cells by entity then topic key; entities and topics in metadata order)."""
+    kinds = {k.KIND: i for i, k in enumerate(KINDS)}
+    entities = {key: i for i, key in enumerate(entities_frame["entity"])}
+    topics = {key: i for i, key in enumerate(topics_frame["topic"])}
+
+    def key(d: Draft) -> tuple[Any, ...]:
+        if d.entity is not None and d.topic is not None:
+            rest: tuple[Any, ...] = (d.entity, d.topic)
+        elif d.entity is not None:
+            rest = (entities.get(d.entity, -1), d.entity)
+        elif d.topic is not None:
+            rest = (topics.get(d.topic, -1), d.topic)
+        else:
+            rest = ()
+        return (kinds.get(d.kind, len(kinds)),) + rest
+
+    return key
 
 
 def redraft(ws: Workspace, *, by: str) -> LoadSummary:
@@ -183,12 +294,15 @@ def redraft(ws: Workspace, *, by: str) -> LoadSummary:
         obs = _with_times(ops.observations_frame(session), edition.period_format)
         previous = [e for e in ops.editions(session) if e.id < edition.id]
         earlier = ops.observations_frame(session, previous[-1].id) if previous else None
-        drafts = draft_edition(ws, session, obs, topics, entities, earlier, edition.label)
+        ctx = edition_context(session, obs, topics, entities, earlier, edition.label)
+        inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
-        decisions, by_slot = reconcile(states, drafts)
+        decisions, by_slot = reconcile(states, draft_context(ws, ctx))
+        del ctx
         summary = LoadSummary(edition.label)
-        _summarise(summary, decisions, by_slot, states)
+        _summarise(summary, decisions, by_slot.keys(), states)
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
+        edition.summary = {**(edition.summary or {}), DRAFTED_FROM: inputs}
         ops.add_event(session, by, "redraft", edition_id=edition.id, detail=summary.to_json())
     return summary
 

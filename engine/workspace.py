@@ -95,6 +95,8 @@ def open_workspace(path: Path, url: str | None = None) -> Workspace:
         raise StetlineError(f"{path} is not a workspace; create it with: stetline init -w {path}")
     url = _url_for(path, url)
     engine = db.make_engine(url)
-    if not db.has_schema(engine):
-        db.upgrade(url)
-    return Workspace(path, url, engine, db.session_factory(engine))
+    ws = Workspace(path, url, engine, db.session_factory(engine))
+    from engine.schema import bring_up_to_date  # schema imports this module
+
+    bring_up_to_date(ws)  # a workspace made by an older Stetline gets the migrations it lacks
+    return ws

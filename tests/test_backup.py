@@ -242,6 +242,59 @@ def test_restored_database_is_at_the_newest_schema(demo_cli: Cli, demo_path: Pat
         conn.close()
 
 
+def test_a_backup_from_an_older_schema_is_brought_up_to_date(demo_cli: Cli, demo_path: Path, tmp_path: Path) -> None:
+    from alembic import command
+    from alembic.script import ScriptDirectory
+
+    from engine.store.db import alembic_config, sqlite_url
+
+    before = snapshot(demo_path)
+    old = tmp_path / "old.db"
+    demo_cli("backup", str(old))
+    cfg = alembic_config(sqlite_url(old))
+    first = ScriptDirectory.from_config(cfg).get_base()
+    head = ScriptDirectory.from_config(cfg).get_current_head()
+    assert first != head, "there is a later schema to upgrade to"
+    command.downgrade(cfg, first)  # the backup as the first release of Stetline wrote it
+
+    out = demo_cli("restore", str(old), "--by", "keeper").output
+    assert f"({first} → {head})" in out
+    after = snapshot(demo_path)
+    assert after["layers"] == before["layers"] and after["approvals"] == before["approvals"]
+    assert after["events"][:-1] == before["events"]
+    conn = sqlite3.connect(demo_path / DB_FILE)
+    try:
+        assert conn.execute("SELECT version_num FROM alembic_version").fetchall() == [(head,)]
+    finally:
+        conn.close()
+    demo_cli("rewrite", SLOT, LATER)  # the upgraded workspace works
+    assert demo_cli.json("show", SLOT)["text"] == LATER
+
+
+def test_with_accounts_only_an_admin_may_back_up_or_restore(demo_cli: Cli, demo_path: Path, tmp_path: Path) -> None:
+    from engine import accounts
+
+    ws = open_workspace(demo_path)
+    try:
+        with ws.session() as s:
+            accounts.add_account(s, "ada", "admin", "correct horse battery", by="ada")
+            accounts.add_account(s, "ed", "editor", "another long phrase", by="ada")
+    finally:
+        ws.close()
+    file = tmp_path / "b.db"
+    result = demo_cli("backup", str(file), "--by", "ed", ok=False)
+    assert result.exit_code == 1 and "may not backup" in result.output and "admin" in result.output
+    assert not file.exists()
+    demo_cli("backup", str(file), "--by", "ada")
+    rewrite_later(demo_path)
+    before = snapshot(demo_path)
+    result = demo_cli("restore", str(file), "--by", "ed", ok=False)
+    assert result.exit_code == 1 and "may not restore" in result.output
+    assert snapshot(demo_path) == before
+    demo_cli("restore", str(file), "--by", "ada")
+    assert snapshot(demo_path)["text"] != LATER
+
+
 def test_postgresql_workspaces_are_pointed_to_pg_dump(
     demo_cli: Cli, tmp_path: Path, monkeypatch: pytest.MonkeyPatch,
 ) -> None:

@@ -35,9 +35,9 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flas
 
     CSRFProtect(app)
 
-    from webapp import browse, bulk, data, overview, publishing, recheck, search, settings, statement
+    from webapp import auth, browse, bulk, data, overview, publishing, recheck, search, settings, statement
 
-    for module in (overview, browse, statement, recheck, bulk, search, data, publishing, settings):
+    for module in (auth, overview, browse, statement, recheck, bulk, search, data, publishing, settings):
         app.register_blueprint(module.bp)
     _error_pages(app)
 
@@ -51,13 +51,10 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flas
 
 
 def _schema_current(ws: Workspace) -> None:
-    """Bring a workspace made before the comment threads existed up to the newest schema."""
-    from sqlalchemy import inspect
+    """Bring a workspace made by an older Stetline up to the newest schema."""
+    from engine import schema
 
-    from engine.store import db
-
-    if not inspect(ws.engine).has_table("comment"):
-        db.upgrade(ws.url)
+    schema.bring_up_to_date(ws)
 
 
 def _https(ws: Workspace) -> bool:

@@ -69,7 +69,7 @@ def _require_sign_in() -> Response | None:
 
 def _page(error: str | None = None, name: str = "", status: int = 200) -> tuple[str, int]:
     return render_template("auth/login.html", error=error, name=name, next_url=_next_target(""),
-                           is_demo=demo.is_demo(workspace().path)), status
+                           is_demo=(workspace().path / demo.ACCOUNTS_FILE).is_file()), status
 
 
 @bp.get("/login")

@@ -45,7 +45,8 @@ def entity(key: str) -> str:
     row = ops.get_entity(s, key)
     if row is None:
         abort(404, description=f"There is no entity {key!r} in this workspace.")
-    return _listing(s, Selection.parse("entity", key, request.args), row.name, row.group)
+    return _listing(s, Selection.parse("entity", key, request.args), row.name,
+                    f"Group: {row.group}" if row.group else "")
 
 
 @bp.get("/topics/<key>")
@@ -55,7 +56,8 @@ def topic(key: str) -> str:
     row = ops.get_topic(s, key)
     if row is None:
         abort(404, description=f"There is no topic {key!r} in this workspace.")
-    subtitle = " · ".join(x for x in (row.category, row.unit, f"higher is {'better' if row.better == 'higher' else 'worse'}") if x)
+    better = {"higher": "higher is better", "lower": "lower is better"}.get(row.better, "neither direction is better")
+    subtitle = " · ".join(x for x in (row.category, row.unit, better) if x)
     return _listing(s, Selection.parse("topic", key, request.args), row.label, subtitle)
 
 

@@ -12,7 +12,7 @@ from flask import Blueprint, abort, flash, redirect, render_template, request
 from werkzeug.wrappers import Response
 
 from engine import bulk as bulk_mod
-from engine.errors import Conflict, NotFound, StetlineError
+from engine.errors import Conflict, Forbidden, NotFound, StetlineError
 from engine.store import ops
 from webapp.common import acting_name, safe_next
 from webapp.db import session, workspace
@@ -82,7 +82,11 @@ def apply() -> Response | tuple[str, int]:
         abort(404, description=str(exc))
     except (Conflict, StetlineError) as exc:
         return render_template("bulk/refused.html", verb=VERBS[action], message=str(exc), selection=sel,
-                               conflict=isinstance(exc, Conflict)), 409 if isinstance(exc, Conflict) else 400
+                               conflict=isinstance(exc, Conflict)), _status(exc)
     n = len(done)
     flash(f"{VERBS[action][1].capitalize()} {n} statement{'' if n == 1 else 's'}.")
     return redirect(safe_next(sel.url()), code=303)
+
+
+def _status(exc: StetlineError) -> int:
+    return 409 if isinstance(exc, Conflict) else 403 if isinstance(exc, Forbidden) else 400

@@ -22,7 +22,7 @@ from werkzeug.utils import secure_filename
 from werkzeug.wrappers import Response
 
 from engine import loading
-from engine.errors import Problem, StetlineError, ValidationError
+from engine.errors import Forbidden, Problem, StetlineError, ValidationError
 from engine.reconcile import REASONS
 from engine.store import ops
 from webapp.common import acting_name
@@ -36,6 +36,7 @@ MAX_AGE_SECONDS = 3600
 ROLES = ("observations", "topics", "entities")
 SUFFIXES = (".csv", ".txt", ".xlsx", ".xlsm")
 TOKEN = re.compile(r"^[0-9a-f]{32}$")
+CLAIMED = "-loading"  # an upload being loaded is renamed to this, so it loads once
 MAX_LABEL = 100
 
 
@@ -140,8 +141,13 @@ def check() -> tuple[str, int]:
 def load() -> Response | tuple[str, int]:
     """Load the files a dry run checked, then remove them."""
     token = request.form.get("token", "")
-    folder = uploads_dir() / token
-    if not TOKEN.match(token) or not (folder / MANIFEST).is_file():
+    waiting = uploads_dir() / token
+    folder = uploads_dir() / f"{token}{CLAIMED}"
+    try:
+        if not TOKEN.match(token) or not (waiting / MANIFEST).is_file():
+            raise FileNotFoundError(token)
+        waiting.rename(folder)  # atomic: of two clicks on the same upload, one loads it
+    except OSError:
         return _page(status=400, form_error=(
             "These files are no longer here (uploads are kept for an hour, and only until they are "
             "loaded). Upload them again."))
@@ -153,7 +159,7 @@ def load() -> Response | tuple[str, int]:
     except ValidationError as exc:
         return _page(status=400, problems=exc.problems)
     except StetlineError as exc:
-        return _page(status=400, form_error=str(exc))
+        return _page(status=403 if isinstance(exc, Forbidden) else 400, form_error=str(exc))
     finally:
         shutil.rmtree(folder, ignore_errors=True)
     return redirect(url_for("data.page", loaded=summary.edition), code=303)

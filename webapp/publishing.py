@@ -12,7 +12,7 @@ from typing import Any
 from flask import Blueprint, Response, render_template, request
 
 from engine import actions, publish, settings
-from engine.errors import StetlineError
+from engine.errors import Forbidden, StetlineError
 from engine.formats import FORMATS, MEDIA_TYPES
 from engine.store import ops
 from webapp.common import acting_name
@@ -83,7 +83,7 @@ def download() -> Response | tuple[str, int]:
     except publish.GateClosed as exc:
         return _page(error=str(exc), chosen=chosen, status=409)
     except StetlineError as exc:
-        return _page(error=str(exc), chosen=chosen, status=400)
+        return _page(error=str(exc), chosen=chosen, status=403 if isinstance(exc, Forbidden) else 400)
     name = _filename(pub.title, pub.edition, chosen["format"])
     return Response(data, headers={
         "Content-Type": MEDIA_TYPES[chosen["format"]],

@@ -41,7 +41,7 @@ def _control(spec: settings_mod.SettingSpec) -> str:
 
 
 def _page(*, errors: dict[str, str] | None = None, submitted: dict[str, str] | None = None,
-          status: int = 200) -> tuple[str, int]:
+          refused: str | None = None, status: int = 200) -> tuple[str, int]:
     s = session()
     values = settings_mod.with_defaults(ops.get_settings(s))
     rows: list[dict[str, Any]] = []
@@ -56,6 +56,7 @@ def _page(*, errors: dict[str, str] | None = None, submitted: dict[str, str] | N
                      "style": spec.key in settings_mod.STYLE_KEYS, "default": spec.default})
     groups = [(title, [r for r in rows if r["group"] == key]) for key, title in GROUPS]
     return render_template("settings/page.html", groups=[g for g in groups if g[1]], errors=errors or {},
+                           refused=refused,
                            pending=configure.restyle_pending(s), edition=ops.current_edition(s)), status
 
 
@@ -80,6 +81,8 @@ def save() -> Response | tuple[str, int]:
             changes = configure.save(s, submitted, by=by)
     except configure.SettingsInvalid as exc:
         return _page(errors=exc.errors, submitted=submitted, status=400)
+    except StetlineError as exc:  # the account may not change settings
+        return _page(refused=str(exc), submitted=submitted, status=403)
     if not changes:
         flash("Nothing changed.")
     for c in changes:

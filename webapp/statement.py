@@ -14,8 +14,8 @@ from flask import Blueprint, abort, flash, redirect, render_template, request, u
 from sqlalchemy.orm import Session
 from werkzeug.wrappers import Response
 
-from engine import actions, comments, phrasing, settings
-from engine.errors import Conflict, NotFound, StetlineError
+from engine import actions, comments, phrasing
+from engine.errors import Conflict, Forbidden, NotFound, StetlineError
 from engine.livefields import FILTER_HELP, LiveFields
 from engine.loading import house_style
 from engine.store import ops
@@ -97,7 +97,7 @@ def _charts(s: Session, v: actions.SlotView) -> dict[str, Any]:
                                             [o.period for o in obs], [o.value for o in obs], fmt)
     period, latest = ops.latest_values(s, topic.key)
     if period is not None:
-        noun = str(settings.with_defaults(values)["entity_noun"])
+        noun = str(values["entity_noun"])
         out["strip"] = charts.strip_chart(topic.label, period, [(k, names.get(k, k), x) for k, x in latest],
                                           v.slot.entity, fmt, noun)
     return out
@@ -129,6 +129,8 @@ def _act(slot_id: str, form: str, run: Callable[[Session, str, int], object], do
         abort(404, description=str(exc))
     except Conflict as exc:
         return _page(slot_id, errors={form: str(exc)}, values=values, status=409)
+    except Forbidden as exc:
+        return _page(slot_id, errors={form: str(exc)}, values=values, status=403)
     except StetlineError as exc:
         return _page(slot_id, errors={form: str(exc)}, values=values, status=400)
     flash(f"{done}: {slot_id}")

@@ -270,6 +270,20 @@ def slot_states(session: Session) -> dict[str, SlotState]:
     return states
 
 
+def current_drafts(session: Session, slot_ids: Iterable[str]) -> list[DraftText]:
+    """The current draft of each of these slots (slots without one are left out), as drafted."""
+    ids = list(slot_ids)
+    out: list[DraftText] = []
+    q = select(
+        Slot.id, Slot.kind, Slot.entity, Slot.topic, Draft.text, Draft.evidence, Draft.claims,
+        Draft.interest, Draft.phrasing,
+    ).join(Draft, Draft.id == Slot.draft_id)
+    for start in range(0, len(ids), 900):
+        for row in session.execute(q.where(Slot.id.in_(ids[start:start + 900]))):
+            out.append(DraftText(*row))
+    return out
+
+
 @dataclass
 class Applied:
     """What applying a refresh wrote."""

@@ -18,7 +18,7 @@ import pytest
 from werkzeug.serving import make_server
 
 from engine.workspace import open_workspace
-from livesite import Live, QuietHandler
+from browser.livesite import Live, QuietHandler
 from webapp import create_app
 
 CHROMIUM = Path("/usr/bin/chromium")

@@ -10,7 +10,7 @@ import pytest
 from playwright.sync_api import Page, expect
 
 from engine import actions
-from livesite import TABLET, Live
+from browser.livesite import TABLET, Live
 
 pytestmark = [
     pytest.mark.browser,
@@ -105,6 +105,33 @@ def test_publishing_markdown_downloads_the_file(page: Page, live: Live, tmp_path
     expect(page.get_by_role("heading", name="Recent publications")).to_be_visible()
 
 
+UNLABELLED = """() => [...document.querySelectorAll("input:not([type=hidden]), select, textarea, button")]
+    .filter((el) => el.tagName === "BUTTON" ? !el.textContent.trim() && !el.getAttribute("aria-label")
+                                           : !(el.labels && el.labels.length) && !el.getAttribute("aria-label"))
+    .map((el) => el.outerHTML.slice(0, 80))"""
+
+
+def test_signing_in_once_the_workspace_has_accounts(page: Page, live: Live, screens: Path) -> None:
+    from engine import accounts
+
+    with live.ws.session() as s:
+        accounts.add_account(s, "max", "admin", "max-password-1", by="max")
+    page.goto(live("/recheck?reason=slot-gone"))
+    expect(page.get_by_role("heading", name="Sign in")).to_be_visible()
+    page.screenshot(path=str(screens / "sign-in-1280.png"), full_page=True)
+    page.get_by_label("Account name").fill("max")
+    page.get_by_label("Password").fill("not the password")
+    page.get_by_role("button", name="Sign in").click()
+    expect(page.get_by_role("alert")).to_contain_text("the name or the password is wrong")
+    page.get_by_label("Password").fill("max-password-1")
+    page.get_by_role("button", name="Sign in").click()
+    expect(page.get_by_role("heading", name="Recheck queue")).to_be_visible()
+    assert page.url.endswith("/recheck?reason=slot-gone")
+    expect(page.locator(".who")).to_contain_text("Signed in as max (admin)")
+    page.get_by_role("button", name="Sign out").click()
+    expect(page.get_by_role("heading", name="Sign in")).to_be_visible()
+
+
 def test_the_pages_are_reachable_by_keyboard(page: Page, live: Live) -> None:
     page.goto(live("/"))
     page.keyboard.press("Tab")
@@ -112,9 +139,13 @@ def test_the_pages_are_reachable_by_keyboard(page: Page, live: Live) -> None:
     page.keyboard.press("Enter")
     assert page.evaluate("document.activeElement.id") == "main"
     page.goto(live(f"/statements/{HERONSFORD}"))
-    labels = page.evaluate("""() => [...document.querySelectorAll("input:not([type=hidden]), select, textarea")]
-        .filter((el) => !(el.labels && el.labels.length) && !el.getAttribute("aria-label")).map((el) => el.name)""")
-    assert labels == []
+    page.keyboard.press("Tab")  # skip link
+    page.keyboard.press("Tab")
+    assert page.evaluate("document.activeElement.className") == "brand"
+    area = page.get_by_label("Rewrite")
+    area.focus()
+    page.keyboard.press("Tab")  # on to the next control: the filters' summary
+    assert page.evaluate("document.activeElement.tagName") == "SUMMARY"
 
 
 def test_screenshots_of_the_main_pages(page: Page, live: Live, screens: Path) -> None:
@@ -135,6 +166,7 @@ def test_screenshots_of_the_main_pages(page: Page, live: Live, screens: Path) ->
             expect(page.locator("main h1")).to_be_visible()
             overflow = page.evaluate("document.documentElement.scrollWidth > window.innerWidth")
             assert not overflow, f"{name} is wider than the {size} screen"
+            assert page.evaluate(UNLABELLED) == [], f"{name} has controls without a label"
             page.screenshot(path=str(screens / f"{name}-{size}.png"), full_page=True)
     made = sorted(p.name for p in screens.glob("*.png"))
     assert {"overview-1280.png", "entity-1280.png", "statement-1280.png", "recheck-queue-1280.png"} <= set(made)

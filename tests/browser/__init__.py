@@ -1,0 +1,1 @@
+"""Browser tests: Python Playwright driving Debian's Chromium against the web app."""
