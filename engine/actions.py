@@ -13,6 +13,7 @@ from typing import Any
 from sqlalchemy.orm import Session
 
 from engine import reconcile
+from engine.accounts import authorize, check_two_person_rule
 from engine.drafting import Draft as DraftText
 from engine.errors import Conflict, NotFound, StetlineError
 from engine.livefields import LiveFields, LiveFieldError
@@ -110,6 +111,7 @@ def rewrite(session: Session, slot_id: str, text: str, *, by: str, version: int 
     text = text.strip()
     if not text:
         raise StetlineError("a rewrite cannot be empty; to leave the statement out, suppress it")
+    authorize(session, by, "rewrite")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     LiveFields(house_style(session)[0]).render(text, draft.evidence)  # refuse template errors
@@ -128,6 +130,7 @@ def rewrite(session: Session, slot_id: str, text: str, *, by: str, version: int 
 
 def pin(session: Session, slot_id: str, *, by: str, version: int | None = None) -> Slot:
     """Keep the slot's current text word for word, numbers included."""
+    authorize(session, by, "pin")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     before = published_text(session, slot, draft)
@@ -149,6 +152,7 @@ def annotate(session: Session, slot_id: str, text: str, *, by: str, version: int
     text = text.strip()
     if not text:
         raise StetlineError("a note cannot be empty")
+    authorize(session, by, "annotate")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     ops.add_layer(session, slot_id, "annotate", text, draft.text, _basis(draft), by)
@@ -161,6 +165,7 @@ def annotate(session: Session, slot_id: str, text: str, *, by: str, version: int
 
 def suppress(session: Session, slot_id: str, *, by: str, lift: bool = False, version: int | None = None) -> Slot:
     """Leave a slot out of the publication (or, with ``lift``, put it back)."""
+    authorize(session, by, "suppress")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     current = [x for x in ops.active_layers(session, slot_id) if x.type == "suppress"]
@@ -184,6 +189,7 @@ def suppress(session: Session, slot_id: str, *, by: str, lift: bool = False, ver
 
 def revert(session: Session, slot_id: str, *, by: str, version: int | None = None) -> Slot:
     """Drop the slot's text layer (rewrite or pin): the draft shows again."""
+    authorize(session, by, "revert")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     layer = _text_layer(session, slot_id)
@@ -202,11 +208,14 @@ def revert(session: Session, slot_id: str, *, by: str, version: int | None = Non
 def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = False,
             version: int | None = None) -> Slot:
     """Sign off a slot against the current edition, optionally taking the proposed text first."""
+    authorize(session, by, "accept" if accept_proposed else "approve")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     layers = ops.active_layers(session, slot_id)
     if any(x.type == "suppress" for x in layers):
         raise StetlineError(f"{slot_id} is suppressed: there is no text to approve")
+    author = next((x.by for x in layers if x.type == "rewrite"), None)
+    check_two_person_rule(session, by, author)
     before = published_text(session, slot, draft, layers)
     reasons = list((slot.recheck or {}).get("reasons", []))
     action = "approve"

@@ -58,6 +58,17 @@ by_option = click.option("--by", default=_default_by, show_default="your login n
                          help="Who acts (recorded in the history).")
 
 
+def _is_loopback(host: str) -> bool:
+    import ipaddress
+
+    if host == "localhost":
+        return True
+    try:
+        return ipaddress.ip_address(host).is_loopback
+    except ValueError:
+        return False
+
+
 def _open(path: Path | None) -> Workspace:
     return open_workspace(path or default_path())
 
@@ -411,6 +422,9 @@ def settings_(key: str | None, value: str | None, workspace: Path | None, by: st
         if value is None:
             click.echo(json.dumps(values[key]))
             return
+        from engine.accounts import authorize
+
+        authorize(session, by, "settings")
         parsed = spec.parse(value)
         ops.put_setting(session, key, parsed)
         ops.add_event(session, by, "setting", detail={"key": key, "old": values[key], "new": parsed})
@@ -454,6 +468,121 @@ def apply_worksheet_(file: Path, workspace: Path | None, by: str) -> None:
     for slot, why in result.refused:
         click.echo(f"refused {slot}: {why}", err=True)
     click.echo(f"{len(result.applied)} applied, {len(result.refused)} refused")
+
+
+@main.group(name="user")
+def user_() -> None:
+    """Manage the workspace's accounts (the first must be an admin)."""
+
+
+def _read_password(password_stdin: bool) -> str:
+    if password_stdin:
+        return sys.stdin.readline().rstrip("\n")
+    return click.prompt("Password", hide_input=True, confirmation_prompt=True)
+
+
+@user_.command(name="add")
+@click.argument("name")
+@click.option("--role", type=click.Choice(["editor", "expert", "reviewer", "admin"]), required=True)
+@click.option("--password-stdin", is_flag=True, help="Read the password from standard input.")
+@workspace_option
+@by_option
+@handle_errors
+def user_add(name: str, role: str, password_stdin: bool, workspace: Path | None, by: str) -> None:
+    """Add an account NAME with a role (prompts for its password)."""
+    from engine import accounts
+
+    ws = _open(workspace)
+    password = _read_password(password_stdin)
+    with ws.session() as session:
+        accounts.add_account(session, name, role, password, by=by)
+    click.echo(f"account {name} ({role}) added")
+
+
+@user_.command(name="list")
+@click.option("--json", "as_json", is_flag=True, help="Print as JSON.")
+@workspace_option
+@handle_errors
+def user_list(as_json: bool, workspace: Path | None) -> None:
+    """List the accounts with their roles."""
+    from engine import accounts
+
+    ws = _open(workspace)
+    with ws.session() as session:
+        rows = [{"name": a.name, "role": a.role, "enabled": a.enabled} for a in accounts.accounts(session)]
+    if as_json:
+        _echo_json(rows)
+        return
+    if not rows:
+        click.echo("no accounts: this is a one-person workspace")
+    for r in rows:
+        click.echo(f"{r['name']:<20} {r['role']:<9} {'enabled' if r['enabled'] else 'disabled'}")
+
+
+@user_.command(name="set-role")
+@click.argument("name")
+@click.argument("role", type=click.Choice(["editor", "expert", "reviewer", "admin"]))
+@workspace_option
+@by_option
+@handle_errors
+def user_set_role(name: str, role: str, workspace: Path | None, by: str) -> None:
+    """Change an account's role (admins only)."""
+    from engine import accounts
+
+    ws = _open(workspace)
+    with ws.session() as session:
+        accounts.set_role(session, name, role, by=by)
+    click.echo(f"{name} is now {role}")
+
+
+@user_.command(name="disable")
+@click.argument("name")
+@click.option("--enable", is_flag=True, help="Enable the account again.")
+@workspace_option
+@by_option
+@handle_errors
+def user_disable(name: str, enable: bool, workspace: Path | None, by: str) -> None:
+    """Disable an account (or, with --enable, enable it again)."""
+    from engine import accounts
+
+    ws = _open(workspace)
+    with ws.session() as session:
+        accounts.disable(session, name, by=by, enable=enable)
+    click.echo(f"{name} is {'enabled' if enable else 'disabled'}")
+
+
+@user_.command(name="password")
+@click.argument("name")
+@click.option("--password-stdin", is_flag=True, help="Read the password from standard input.")
+@workspace_option
+@by_option
+@handle_errors
+def user_password(name: str, password_stdin: bool, workspace: Path | None, by: str) -> None:
+    """Set an account's password (the account itself, or an admin)."""
+    from engine import accounts
+
+    ws = _open(workspace)
+    password = _read_password(password_stdin)
+    with ws.session() as session:
+        accounts.set_password(session, name, password, by=by)
+    click.echo(f"password of {name} changed")
+
+
+@user_.command(name="assign")
+@click.argument("name")
+@click.option("--entity", help="An entity key to assign.")
+@click.option("--topic", help="A topic key to assign.")
+@workspace_option
+@by_option
+@handle_errors
+def user_assign(name: str, entity: str | None, topic: str | None, workspace: Path | None, by: str) -> None:
+    """Assign an entity or a topic to a person (admins only)."""
+    from engine import accounts
+
+    ws = _open(workspace)
+    with ws.session() as session:
+        accounts.assign(session, name, entity=entity, topic=topic, by=by)
+    click.echo(f"assigned {'entity ' + entity if entity else 'topic ' + str(topic)} to {name}")
 
 
 @main.group(name="layout")
@@ -503,6 +632,15 @@ def serve(host: str, port: int, workspace: Path | None) -> None:
     from webapp import create_app  # the one place the engine imports the web app
 
     ws = _open(workspace)
+    from engine import accounts
+
+    with ws.session() as session:
+        shared = accounts.has_accounts(session)
+    if not shared and not _is_loopback(host):
+        raise StetlineError(
+            f"this workspace has no accounts, so anyone who reaches {host} could act in it; "
+            "serve it on 127.0.0.1, or add an admin first: stetline user add NAME --role admin"
+        )
     app = create_app(ws)
     click.echo(f"Stetline is listening on http://{host}:{port}/ (Ctrl+C to stop)")
     from werkzeug.serving import run_simple

@@ -97,6 +97,10 @@ def build(path: Path, echo: Callable[[str], None] = print) -> Workspace:
     with ws.session() as s:
         ops.put_setting(s, "title", TITLE)
         ops.put_setting(s, "entity_noun", "town")
+    passwords = create_accounts(ws)
+    echo("demo accounts (name and role, password) — also in demo-accounts.txt in the workspace:")
+    for name, password in passwords.items():
+        echo(f"  {name:<9} {password}")
 
     echo("loading the first edition (data to 2024)")
     first = loading.load_edition(

@@ -7,9 +7,12 @@ load writes nothing; ``dry_run`` computes the same summary and writes nothing.
 
 from __future__ import annotations
 
+import gc
 import hashlib
 import sys
-from collections.abc import Collection
+import threading
+from collections.abc import Collection, Iterator
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from functools import lru_cache
 from importlib import metadata
@@ -20,6 +23,7 @@ import pandas as pd
 from sqlalchemy.orm import Session
 
 from engine import settings as settings_mod
+from engine.accounts import authorize
 from engine.dataset import Dataset, Source, load_dataset
 from engine.drafting import Context, Draft, Renderer, draft_all
 from engine.errors import StetlineError
@@ -74,6 +78,35 @@ class LoadSummary:
         if self.dry_run:
             out.insert(0, "dry run: nothing was written; the load would give")
         return out
+
+
+_GC_LOCK = threading.Lock()
+_gc_pauses = 0
+_gc_was_enabled = False
+
+
+@contextmanager
+def _gc_paused() -> Iterator[None]:
+    """Hold off the cyclic garbage collector while a load runs.
+
+    A load builds millions of small objects that all stay alive until it ends (facts, drafts,
+    evidence) and makes almost no reference cycles, so each automatic collection only walks an
+    ever larger heap: about a fifth of a large load's time. Nested and concurrent loads share
+    one pause; the collector runs again as it was when the last of them ends.
+    """
+    global _gc_pauses, _gc_was_enabled
+    with _GC_LOCK:
+        if _gc_pauses == 0:
+            _gc_was_enabled = gc.isenabled()
+            gc.disable()
+        _gc_pauses += 1
+    try:
+        yield
+    finally:
+        with _GC_LOCK:
+            _gc_pauses -= 1
+            if _gc_pauses == 0 and _gc_was_enabled:
+                gc.enable()
 
 
 def house_style(session: Session) -> tuple[HouseStyle, dict[str, Any]]:
@@ -208,7 +241,9 @@ def load_edition(
     *, label: str | None = None, by: str, dry_run: bool = False,
 ) -> LoadSummary:
     """Load an edition's files into the workspace and reconcile every slot; one transaction."""
-    with ws.session() as session:
+    with _gc_paused(), ws.session() as session:
+        if not dry_run:
+            authorize(session, by, "load")
         dataset = load_dataset(
             observations, topics, entities,
             known_topics=ops.topics_frame(session), known_entities=ops.entities_frame(session),
@@ -285,7 +320,8 @@ def _draft_position(topics_frame: pd.DataFrame, entities_frame: pd.DataFrame) ->
 
 def redraft(ws: Workspace, *, by: str) -> LoadSummary:
     """Redraft the current edition (after a phrasing or house-style change) and reconcile."""
-    with ws.session() as session:
+    with _gc_paused(), ws.session() as session:
+        authorize(session, by, "redraft")
         edition = ops.current_edition(session)
         if edition is None:
             raise StetlineError("nothing to redraft: load an edition first (stetline load)")

@@ -155,6 +155,9 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
         raise StetlineError(f"unknown format {fmt!r}; available: " + ", ".join(FORMATS))
     if sections not in ("entity", "topic"):
         raise StetlineError("sections are by entity or by topic")
+    from engine.accounts import authorize
+
+    authorize(session, by, "publish")
     pub = gather(session, sections=sections, allow_recheck=allow_recheck, require_approval=require_approval)
     untraced = untraced_numbers(session)
     if untraced and settings_mod.with_defaults(ops.get_settings(session))["untraced_numbers"] == "refuse":

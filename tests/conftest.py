@@ -10,7 +10,10 @@ from typing import Any
 import pytest
 from click.testing import CliRunner, Result
 
+from sqlalchemy import delete
+
 from engine import demo
+from engine.store.models import Account
 from engine.cli import main
 from engine.workspace import Workspace, init_workspace, open_workspace
 
@@ -25,10 +28,33 @@ def demo_template(tmp_path_factory: pytest.TempPathFactory) -> Path:
 
 @pytest.fixture
 def demo_path(demo_template: Path, tmp_path: Path) -> Path:
-    """A private copy of the demo workspace for one test."""
+    """A private copy of the demo workspace for one test, as a one-person workspace (no accounts).
+
+    Most tests exercise statements, not roles; the role tests use ``team_path``, the demo as
+    built, with its four accounts.
+    """
     path = tmp_path / "demo"
     shutil.copytree(demo_template, path)
+    ws = open_workspace(path)
+    with ws.session() as s:
+        s.execute(delete(Account))  # test set-up only: the product never deletes an account
+    ws.close()
+    (path / demo.ACCOUNTS_FILE).unlink()
     return path
+
+
+@pytest.fixture
+def team_path(demo_template: Path, tmp_path: Path) -> Path:
+    """A private copy of the demo workspace as built, with its accounts admin, editor, expert, reviewer."""
+    path = tmp_path / "team"
+    shutil.copytree(demo_template, path)
+    return path
+
+
+@pytest.fixture
+def team_cli(team_path: Path) -> "Cli":
+    """A CLI runner on the demo workspace with its accounts."""
+    return Cli(team_path)
 
 
 @pytest.fixture

@@ -43,11 +43,11 @@ def snapshot(path: Path) -> dict[str, object]:
         ws.close()
 
 
-def rewrite_later(path: Path) -> None:
+def rewrite_later(path: Path, by: str = "late-editor") -> None:
     ws = open_workspace(path)
     try:
         with ws.session() as s:
-            actions.rewrite(s, SLOT, LATER, by="late-editor")
+            actions.rewrite(s, SLOT, LATER, by=by)
     finally:
         ws.close()
 
@@ -286,7 +286,7 @@ def test_with_accounts_only_an_admin_may_back_up_or_restore(demo_cli: Cli, demo_
     assert result.exit_code == 1 and "may not backup" in result.output and "admin" in result.output
     assert not file.exists()
     demo_cli("backup", str(file), "--by", "ada")
-    rewrite_later(demo_path)
+    rewrite_later(demo_path, by="ed")
     before = snapshot(demo_path)
     result = demo_cli("restore", str(file), "--by", "ed", ok=False)
     assert result.exit_code == 1 and "may not restore" in result.output

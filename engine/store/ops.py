@@ -215,10 +215,15 @@ def _write_many(
 
 def _process(rows: list[tuple[Any, ...]], processors: list[Any]) -> list[tuple[Any, ...]]:
     """Apply each column's bind processor to its values (column-wise, then back to rows)."""
-    cols = list(zip(*rows))
+    cols: list[Any] = list(zip(*rows))
     for i, proc in enumerate(processors):
-        if proc is not None:
-            cols[i] = tuple(proc(v) for v in cols[i])
+        if proc is None:
+            continue
+        col = cols[i]
+        if len(set(map(id, col))) == 1:  # one value throughout (a timestamp, a flag): process it once
+            cols[i] = [proc(col[0])] * len(col)
+        else:
+            cols[i] = list(map(proc, col))
     return list(zip(*cols))
 
 

@@ -65,3 +65,21 @@ def screens(tmp_path_factory: pytest.TempPathFactory) -> Path:
     folder.mkdir(parents=True, exist_ok=True)
     print(f"\nscreenshots: {folder}")
     return folder
+
+
+def sign_in(page: Any, live: Live, name: str) -> None:
+    """Sign in through the sign-in page as one of the demo's accounts."""
+    from engine import demo
+
+    page.goto(live("/login"))
+    page.get_by_label("Account name").fill(name)
+    page.get_by_label("Password").fill(demo.demo_passwords(live.ws.path)[name])
+    page.get_by_role("button", name="Sign in").click()
+    page.wait_for_url(lambda url: "/login" not in url)
+
+
+@pytest.fixture
+def page(page: Any, live: Live) -> Any:
+    """pytest-playwright's page, signed in as the demo's admin (the demo workspace has accounts)."""
+    sign_in(page, live, "admin")
+    return page

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import re
 from pathlib import Path
+from typing import Any
 
 import pytest
 from playwright.sync_api import Page, expect
@@ -111,25 +112,25 @@ UNLABELLED = """() => [...document.querySelectorAll("input:not([type=hidden]), s
     .map((el) => el.outerHTML.slice(0, 80))"""
 
 
-def test_signing_in_once_the_workspace_has_accounts(page: Page, live: Live, screens: Path) -> None:
-    from engine import accounts
+def test_signing_in_once_the_workspace_has_accounts(browser: Any, live: Live, screens: Path) -> None:
+    from engine import demo
 
-    with live.ws.session() as s:
-        accounts.add_account(s, "max", "admin", "max-password-1", by="max")
+    page = browser.new_page()  # a fresh browser, not signed in
     page.goto(live("/recheck?reason=slot-gone"))
     expect(page.get_by_role("heading", name="Sign in")).to_be_visible()
     page.screenshot(path=str(screens / "sign-in-1280.png"), full_page=True)
-    page.get_by_label("Account name").fill("max")
+    page.get_by_label("Account name").fill("reviewer")
     page.get_by_label("Password").fill("not the password")
     page.get_by_role("button", name="Sign in").click()
     expect(page.get_by_role("alert")).to_contain_text("the name or the password is wrong")
-    page.get_by_label("Password").fill("max-password-1")
+    page.get_by_label("Password").fill(demo.demo_passwords(live.ws.path)["reviewer"])
     page.get_by_role("button", name="Sign in").click()
     expect(page.get_by_role("heading", name="Recheck queue")).to_be_visible()
     assert page.url.endswith("/recheck?reason=slot-gone")
-    expect(page.locator(".who")).to_contain_text("Signed in as max (admin)")
+    expect(page.locator(".who")).to_contain_text("Signed in as reviewer (reviewer)")
     page.get_by_role("button", name="Sign out").click()
     expect(page.get_by_role("heading", name="Sign in")).to_be_visible()
+    page.close()
 
 
 def test_the_pages_are_reachable_by_keyboard(page: Page, live: Live) -> None:
