@@ -264,26 +264,83 @@ def pin_(slot: str, workspace: Path | None, by: str) -> None:
     _act(workspace, actions.pin, slot, by=by)
 
 
-@main.command(name="annotate")
-@click.argument("slot")
-@click.argument("text")
+def _selection_option(fn: Callable[..., Any]) -> Callable[..., Any]:
+    for opt in reversed((
+        click.option("--entity", help="Every statement of this entity (instead of SLOT)."),
+        click.option("--topic", help="Every statement of this topic (instead of SLOT)."),
+        click.option("--kind", help="Every statement of this kind (instead of SLOT)."),
+        click.option("--yes", is_flag=True, help="Do not ask for confirmation (with a selection)."),
+    )):
+        fn = opt(fn)
+    return fn
+
+
+def _bulk(workspace: Path | None, action: str, slot: str | None, entity: str | None, topic: str | None,
+          kind: str | None, yes: bool, by: str, text: str | None = None) -> None:
+    """Run an action on one statement, or on a selection after confirming how many."""
+    from engine import bulk
+
+    if slot and (entity or topic or kind):
+        raise StetlineError("give either a statement or a selection (--entity, --topic, --kind), not both")
+    if not slot and not (entity or topic or kind):
+        raise StetlineError("name a statement, or select some with --entity, --topic or --kind")
+    ws = _open(workspace)
+    if slot:
+        with ws.session() as session:
+            fn = actions.annotate if action == "annotate" else actions.suppress
+            row = fn(session, slot, text, by=by) if action == "annotate" else fn(session, slot, by=by)
+            click.echo(f"{row.id}: {row.status}")
+        return
+    with ws.session() as session:
+        chosen = bulk.plan(action, actions.views(session, ops.SlotFilter(kind=kind, entity=entity, topic=topic)))
+        items = [(v.slot.id, v.slot.version) for v in chosen.todo]
+    if not items:
+        click.echo(f"nothing to {action}: no statement matches" + (f" ({len(chosen.skipped)} skipped)" if chosen.skipped else ""))
+        return
+    if not yes:
+        click.confirm(f"{action.capitalize()} {len(items)} statement(s)?", abort=True)
+    with ws.session() as session:
+        done = bulk.apply(session, action, items, by=by, text=text)
+    for slot_id, why in ((v.slot.id, w) for v, w in chosen.skipped):
+        click.echo(f"skipped {slot_id}: {why}")
+    click.echo(f"{len(done)} statement(s): {action} done")
+
+
+@main.command(name="annotate", help="Attach a note: `annotate SLOT TEXT`, or `annotate --topic T TEXT` "
+              "for a selection (--entity, --topic, --kind).")
+@click.argument("args", nargs=-1, required=True, metavar="[SLOT] TEXT")
+@_selection_option
 @workspace_option
 @by_option
 @handle_errors
-def annotate_(slot: str, text: str, workspace: Path | None, by: str) -> None:
-    """Attach a note to a statement."""
-    _act(workspace, actions.annotate, slot, text=text, by=by)
+def annotate_(args: tuple[str, ...], entity: str | None, topic: str | None, kind: str | None, yes: bool,
+              workspace: Path | None, by: str) -> None:
+    """Attach a note to a statement or a selection."""
+    selection = bool(entity or topic or kind)
+    if len(args) == 2 and not selection:
+        _bulk(workspace, "annotate", args[0], None, None, None, yes, by, args[1])
+    elif len(args) == 1 and selection:
+        _bulk(workspace, "annotate", None, entity, topic, kind, yes, by, args[0])
+    else:
+        raise StetlineError("give SLOT TEXT, or a selection (--entity, --topic, --kind) and TEXT")
 
 
 @main.command(name="suppress")
-@click.argument("slot")
+@click.argument("slot", required=False)
 @click.option("--lift", is_flag=True, help="Put a suppressed statement back.")
+@_selection_option
 @workspace_option
 @by_option
 @handle_errors
-def suppress_(slot: str, lift: bool, workspace: Path | None, by: str) -> None:
-    """Leave a statement out of the publication."""
-    _act(workspace, actions.suppress, slot, by=by, lift=lift)
+def suppress_(slot: str | None, lift: bool, entity: str | None, topic: str | None, kind: str | None, yes: bool,
+              workspace: Path | None, by: str) -> None:
+    """Leave a statement out of the publication (or a selection: --entity, --topic, --kind)."""
+    if lift:
+        if not slot:
+            raise StetlineError("--lift takes one statement")
+        _act(workspace, actions.suppress, slot, by=by, lift=True)
+        return
+    _bulk(workspace, "suppress", slot, entity, topic, kind, yes, by)
 
 
 @main.command(name="revert")

@@ -110,7 +110,7 @@ def test_wording_change_of_an_approved_draft(demo_cli: Cli) -> None:
     item = demo_cli.json("show", "headline")
     assert item["recheck"]["reasons"] == ["wording-changed"]
     assert item["recheck"]["changes"] == []
-    assert ", and library loans per resident" in item["draft"]  # serial comma now on
+    assert ", and library borrowing" in item["draft"]  # serial comma now on
 
 
 def test_json_shapes_follow_the_contract(demo_cli: Cli) -> None:

