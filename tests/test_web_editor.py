@@ -284,3 +284,35 @@ def test_a_post_without_a_csrf_token_is_refused(demo_ws: Workspace) -> None:
     response = client.post(f"/statements/{HERONSFORD}/accept",
                            data={"version": str(before["version"]), "csrf_token": token})
     assert response.status_code == 303 and state(demo_ws, HERONSFORD)["status"] == "approved"
+
+
+def test_entity_and_topic_lists_sort_and_filter(client) -> None:
+    page = client.get("/entities?q=coast&sort=name").get_data(as_text=True)
+    names = re.findall(r'<td><a href="/entities/[^"]+">([^<]+)</a></td>', page)
+    assert names == sorted(names) and "North Quay" in names and "Tidemere" not in names  # Coast towns only
+    by_recheck = client.get("/entities?sort=recheck").get_data(as_text=True)
+    first = re.findall(r'<td><a href="/entities/([^"]+)">', by_recheck)[0]
+    assert first in ("north-quay", "gorse-point", "heronsford", "tidemere", "high-ferrow", "samphire-reach", "wrackhaven")
+    topics = client.get("/topics?q=percent").get_data(as_text=True)
+    assert "Household recycling rate" in topics and "Median broadband download speed" not in topics
+    assert "No topics match" in client.get("/topics?q=zzz").get_data(as_text=True)
+
+
+def test_accept_every_clean_proposal_after_confirming_the_count(client, demo_ws) -> None:
+    page = client.get("/recheck/accept-clean").get_data(as_text=True)
+    assert "5 statements wait in recheck only because numbers changed" in page
+    stale = client.post("/recheck/accept-clean", data={"count": "4"})
+    assert stale.status_code == 409 and "changed since you confirmed" in stale.get_data(as_text=True)
+    done = client.post("/recheck/accept-clean", data={"count": "5"})
+    assert done.status_code == 303
+    with demo_ws.session() as s:
+        assert actions.view(s, "change/heronsford/recycling").slot.status == "approved"
+        assert actions.view(s, "change/gorse-point/recycling").slot.status == "recheck"  # conflict: never in bulk
+        assert actions.history(s, "change/heronsford/recycling")[-1]["action"] == "accept"
+
+
+def test_the_changelog_page(client) -> None:
+    page = client.get("/changes").get_data(as_text=True)
+    assert "From edition <strong>2024</strong> to <strong>2025</strong>" in page
+    assert "change/gorse-point/recycling" in page and "direction: up → down" in page
+    assert "leaders/paper-timetables" in page

@@ -18,24 +18,43 @@ from webapp.selection import Selection
 bp = Blueprint("browse", __name__)
 
 
+ENTITY_SORTS = {"name": "name", "group": "group", "recheck": "recheck"}
+TOPIC_SORTS = {"label": "label", "category": "category", "recheck": "recheck"}
+
+
+def _sorted_filtered(rows: list[Any], counts: dict[str, dict[str, int]], fields: tuple[str, ...],
+                     sorts: dict[str, str], default: str) -> tuple[list[Any], str, str]:
+    """Filter rows by the words of ?q= in any field, then sort by ?sort= (recheck: most waiting first)."""
+    q = (request.args.get("q") or "").strip().lower()[:100]
+    sort = request.args.get("sort") or default
+    sort = sort if sort in sorts else default
+    if q:
+        rows = [r for r in rows if all(any(w in str(getattr(r, f) or "").lower() for f in fields) for w in q.split())]
+    if sort == "recheck":
+        rows = sorted(rows, key=lambda r: (-counts.get(r.key, {}).get("recheck", 0), str(getattr(r, fields[0])).lower()))
+    else:
+        rows = sorted(rows, key=lambda r: (str(getattr(r, sort) or "").lower(), str(getattr(r, fields[0])).lower()))
+    return rows, q, sort
+
+
 @bp.get("/entities")
 def entities() -> str:
-    """Every entity with how many of its statements are in each status."""
+    """Every entity with how many of its statements are in each status; sortable and filterable."""
     s = session()
-    return render_template(
-        "browse/entities.html", entities=ops.entity_rows(s), counts=ops.status_counts_by(s, "entity"),
-        statuses=actions.STATUSES,
-    )
+    counts = ops.status_counts_by(s, "entity")
+    rows, q, sort = _sorted_filtered(ops.entity_rows(s), counts, ("name", "group", "key"), ENTITY_SORTS, "name")
+    return render_template("browse/entities.html", entities=rows, counts=counts, statuses=actions.STATUSES,
+                           q=q, sort=sort)
 
 
 @bp.get("/topics")
 def topics() -> str:
-    """Every topic with how many of its statements are in each status."""
+    """Every topic with how many of its statements are in each status; sortable and filterable."""
     s = session()
-    return render_template(
-        "browse/topics.html", topics=ops.topic_rows(s), counts=ops.status_counts_by(s, "topic"),
-        statuses=actions.STATUSES,
-    )
+    counts = ops.status_counts_by(s, "topic")
+    rows, q, sort = _sorted_filtered(ops.topic_rows(s), counts, ("label", "category", "key", "unit"), TOPIC_SORTS, "label")
+    return render_template("browse/topics.html", topics=rows, counts=counts, statuses=actions.STATUSES,
+                           q=q, sort=sort)
 
 
 @bp.get("/entities/<key>")

@@ -44,3 +44,49 @@ def queue() -> str:
     }
     return render_template("recheck/queue.html", items=items, total=len(waiting), chosen=chosen,
                            options=options, back_to=request.full_path.rstrip("?"), selection=selection)
+
+
+@bp.get("/recheck/accept-clean")
+def accept_clean_form() -> str:
+    """Confirm accepting every clean proposal of numbers-changed statements, saying how many."""
+    s = session()
+    return render_template("recheck/accept_clean.html", slots=actions.clean_proposals(s))
+
+
+@bp.post("/recheck/accept-clean")
+def accept_clean() -> Any:
+    """Accept every clean proposal (each its own event), if the count is still the one confirmed."""
+    from flask import flash, redirect, url_for
+
+    from engine.errors import StetlineError
+    from webapp.common import acting_name
+    from webapp.db import workspace
+
+    s = session()
+    expected = request.form.get("count", type=int)
+    pending = actions.clean_proposals(s)
+    if expected != len(pending):
+        return render_template("recheck/accept_clean.html", slots=pending,
+                               error="The queue changed since you confirmed: check the count again."), 409
+    try:
+        with workspace().session() as ws_session:
+            done = actions.accept_all_clean(ws_session, by=acting_name())
+    except StetlineError as exc:
+        return render_template("recheck/accept_clean.html", slots=pending, error=str(exc)), 400
+    flash(f"Accepted the proposed text of {len(done)} statement(s) and approved them")
+    return redirect(url_for("recheck.queue"), code=303)
+
+
+@bp.get("/changes")
+def changes() -> Any:
+    """What changed between two editions (default: the last two)."""
+    from engine.changelog import changes as changelog
+    from engine.errors import StetlineError
+
+    s = session()
+    labels = [e.label for e in ops.editions(s)]
+    try:
+        log = changelog(s, request.args.get("from") or None, request.args.get("to") or None)
+    except StetlineError as exc:
+        return render_template("recheck/changes.html", log=None, error=str(exc), labels=labels), 200
+    return render_template("recheck/changes.html", log=log, error=None, labels=labels)

@@ -10,6 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any, Iterable, Sequence
 
+import numpy as np
 import pandas as pd
 from sqlalchemy import func, select, text, update
 from sqlalchemy.orm import Session
@@ -129,8 +130,19 @@ def observations_frame(session: Session, edition_id: int | None = None) -> pd.Da
             (Observation.valid_to.is_(None)) | (Observation.valid_to > edition_id)
         )
     rows = session.execute(q).all()
-    frame = pd.DataFrame(rows, columns=["id", "entity", "topic", "period", "value", "margin", "status"])
+    frame = _frame(rows, ["id", "entity", "topic", "period", "value", "margin", "status"], ("value", "margin"))
     return frame.astype({"value": "float64", "margin": "float64"})
+
+
+def _frame(rows: Sequence[Any], columns: list[str], floats: tuple[str, ...] = ()) -> pd.DataFrame:
+    """``pd.DataFrame(rows, columns=columns)``, built column by column (several times faster for
+    many rows); the ``floats`` columns come as float64 with NaN for NULL."""
+    if not rows:
+        return pd.DataFrame(rows, columns=columns)
+    data: dict[str, Any] = {}
+    for name, values in zip(columns, zip(*rows)):
+        data[name] = np.array(values, dtype="float64") if name in floats else list(values)
+    return pd.DataFrame(data, columns=columns)
 
 
 def store_observations(session: Session, edition_id: int, observations: pd.DataFrame) -> dict[str, int]:
@@ -579,7 +591,7 @@ def replaced_values(session: Session) -> pd.DataFrame:
     q = select(Observation.entity, Observation.topic, Observation.period, Observation.value, Observation.valid_to).where(
         Observation.valid_to.is_not(None)
     )
-    frame = pd.DataFrame(session.execute(q).all(), columns=["entity", "topic", "period", "value", "valid_to"])
+    frame = _frame(session.execute(q).all(), ["entity", "topic", "period", "value", "valid_to"], ("value",))
     if frame.empty:
         return frame.drop(columns=["valid_to"])
     frame = frame.sort_values("valid_to").drop_duplicates(OBS_KEY, keep="last")

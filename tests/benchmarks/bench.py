@@ -254,7 +254,8 @@ def run(args: argparse.Namespace, work: Path) -> bool:
     second = timed(load + [str(paths["observations2"])], work)
     s2 = json.loads(second.stdout)
     print(f"refresh: {s2['drafts_written']:,} drafts written, {s2['sent_to_recheck']} sent to recheck, "
-          f"{s2['observations_written']:,} observations in {second.seconds:.2f} s", flush=True)
+          f"{s2['observations_written']:,} observations in {second.seconds:.2f} s"
+          f" (peak RSS {second.max_rss_mb or 0:.0f} MB)", flush=True)
 
     db = ws / "stetline.db"
     before = counts(db)
@@ -262,7 +263,7 @@ def run(args: argparse.Namespace, work: Path) -> bool:
     after = counts(db)
     s3 = json.loads(noop.stdout)
     print(f"no-op refresh: edition {s3['edition']}, {s3['drafts_written']} drafts written "
-          f"in {noop.seconds:.2f} s", flush=True)
+          f"in {noop.seconds:.2f} s (peak RSS {noop.max_rss_mb or 0:.0f} MB)", flush=True)
 
     ok = True
     print()
