@@ -151,3 +151,12 @@ def test_without_accounts_anyone_acts_under_the_typed_name(demo_ws: Workspace) -
     html = client.get("/").get_data(as_text=True)
     assert "Signed in as" not in html and 'aria-label="Main"' in html
     assert 'id="by-name"' in client.get(f"/statements/{HERONSFORD}").get_data(as_text=True)
+
+
+def test_my_statements_lists_what_is_assigned_and_waits(app: Flask, team: Workspace) -> None:
+    with team.session() as s:
+        accounts.assign(s, "eve", entity="tidemere", by="max")
+    page = signed_in(app, "eve").get("/mine").get_data(as_text=True)
+    assert "Tidemere" in page and "standing/tidemere/recycling" in page
+    assert "standing/north-quay/recycling" not in page
+    assert "Nothing is assigned to rex" in signed_in(app, "rex").get("/mine").get_data(as_text=True)

@@ -316,3 +316,32 @@ def test_the_changelog_page(client) -> None:
     assert "From edition <strong>2024</strong> to <strong>2025</strong>" in page
     assert "change/gorse-point/recycling" in page and "direction: up → down" in page
     assert "leaders/paper-timetables" in page
+
+
+def test_two_people_saving_the_same_statement_the_second_sees_the_conflict(app, demo_ws) -> None:
+    slot = "standing/tidemere/population"
+    first, second = app.test_client(), app.test_client()
+    for c, name in ((first, "ann"), (second, "ben")):
+        c.post("/name", data={"by": name})
+    with demo_ws.session() as s:
+        view = actions.view(s, slot)
+        version, shown = view.slot.version, view.draft.text
+    ok = first.post(f"/statements/{slot}/rewrite", data={"text": "Tidemere grew again in 2025.", "version": version,
+                                                         "started_from": shown})
+    assert ok.status_code == 303
+    clash = second.post(f"/statements/{slot}/rewrite", data={"text": "Tidemere's population rose in 2025.",
+                                                             "version": version, "started_from": shown})
+    page = clash.get_data(as_text=True)
+    assert clash.status_code == 409
+    assert "Someone else changed this statement" in page
+    assert "Tidemere grew again in 2025." in page and "Tidemere&#39;s population rose in 2025." in page
+    with demo_ws.session() as s:
+        assert actions.view(s, slot).layers[-1].text == "Tidemere grew again in 2025."  # nothing overwritten
+        events = [(e["action"], e["by"]) for e in actions.history(s, slot)]
+        assert ("rewrite", "ann") in events and ("conflict", "ben") in events  # both attempts recorded
+        new_version = actions.view(s, slot).slot.version
+    kept = second.post(f"/statements/{slot}/rewrite", data={"text": "Tidemere's population rose in 2025.",
+                                                            "version": new_version})
+    assert kept.status_code == 303
+    with demo_ws.session() as s:
+        assert actions.view(s, slot).layers[-1].text == "Tidemere's population rose in 2025."

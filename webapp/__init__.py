@@ -35,9 +35,9 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flas
 
     CSRFProtect(app)
 
-    from webapp import auth, browse, bulk, data, overview, publishing, recheck, search, settings, statement
+    from webapp import auth, browse, bulk, data, mine, overview, publishing, recheck, search, settings, statement
 
-    for module in (auth, overview, browse, statement, recheck, bulk, search, data, publishing, settings):
+    for module in (auth, overview, browse, statement, recheck, bulk, search, data, publishing, settings, mine):
         app.register_blueprint(module.bp)
     _error_pages(app)
 

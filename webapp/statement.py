@@ -139,10 +139,42 @@ def _act(slot_id: str, form: str, run: Callable[[Session, str, int], object], do
 
 @bp.post("/statements/<path:slot>/rewrite")
 def rewrite(slot: str) -> Response | tuple[str, int]:
-    """Replace the statement's text with the submitted rewrite."""
+    """Replace the statement's text with the submitted rewrite; a stale save shows the conflict."""
     text = request.form.get("text", "")
-    return _act(slot, "rewrite", lambda s, by, ver: actions.rewrite(s, slot, text, by=by, version=ver),
-                "Rewrite saved", {"rewrite": text})
+    by = acting_name()
+    try:
+        version = _version()
+        with workspace().session() as s:
+            actions.rewrite(s, slot, text, by=by, version=version)
+    except NotFound as exc:
+        abort(404, description=str(exc))
+    except Conflict:
+        return _conflict(slot, text, request.form.get("started_from", ""), by)
+    except Forbidden as exc:
+        return _page(slot, errors={"rewrite": str(exc)}, values={"rewrite": text}, status=403)
+    except StetlineError as exc:
+        return _page(slot, errors={"rewrite": str(exc)}, values={"rewrite": text}, status=400)
+    flash(f"Rewrite saved: {slot}")
+    return redirect(safe_next(url_for("statement.show", slot=slot)), code=303)
+
+
+def _conflict(slot_id: str, yours: str, started_from: str, by: str) -> tuple[str, int]:
+    """The other person's change beside yours, with a merge; the refused attempt is recorded."""
+    from engine.store import ops
+    from engine.textmerge import merge3
+
+    with workspace().session() as s:
+        view = actions.view(s, slot_id)
+        theirs = actions.published_text(s, view.slot, view.draft, view.layers) or view.draft.text
+        last = next((e for e in reversed(actions.history(s, slot_id)) if e["action"] not in ("recheck",)), None)
+        ops.add_event(s, by, "conflict", slot_id, before=theirs, after=yours,
+                      detail={"refused": "the statement changed since the page was opened"})
+        version = view.slot.version
+    merged = merge3(started_from or theirs, yours, theirs)
+    return render_template(
+        "statement/conflict.html", slot=slot_id, yours=yours, theirs=theirs, merged=merged,
+        version=version, other=last, yours_diff=diff(theirs, yours),
+    ), 409
 
 
 @bp.post("/statements/<path:slot>/pin")
