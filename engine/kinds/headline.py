@@ -1,8 +1,10 @@
 """``headline`` (dataset): the edition at a glance.
 
 Says on how many topics most entities improved or worsened, and which entity leads the
-composite score. Claims: ``composite_leader`` (entity key or sorted keys), ``improving``
-(topics where the majority improved, sorted), ``worsening`` (likewise).
+composite score, and the biggest shift (the topic whose average change is largest against its
+spread). Claims: ``composite_leader`` (entity key or sorted keys), ``improving`` (topics where
+the majority improved, sorted), ``worsening`` (likewise), ``biggest_shift`` (a topic key, when
+the shift shows).
 """
 
 from __future__ import annotations
@@ -41,8 +43,19 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         "composite_leader": (leaders[0] if len(leaders) == 1 else leaders) if leaders else None,
         "improving": improving, "worsening": worsening,
     }
+    # the biggest shift: the topic whose average change is largest against its spread
+    shift = ""
+    spread = (t["best_value"] - t["worst_value"]).abs()
+    sized = (t["mean_change"].abs() / spread.where(spread > 0)).dropna()
+    if len(sized):
+        topic = str(sized.idxmax())
+        mean = float(t.at[topic, "mean_change"])
+        evidence["biggest_shift"] = ev(mean, ctx.amount(topic, mean))
+        if evidence["biggest_shift"]["shown"] and not evidence["biggest_shift"]["shown"].startswith(("0 ", "0.0 ")):
+            shift = f"The biggest shift was in {ctx.lower_label(topic)}, which {'rose' if mean > 0 else 'fell'} by {evidence['biggest_shift']['shown']} on average."
+            claims["biggest_shift"] = topic
     variables = {
-        "period": period, "nouns": ctx.entity_nouns,
+        "period": period, "nouns": ctx.entity_nouns, "shift": shift,
         "indicators": phrasing.plural(len(directed), "indicator", style),
         "leaders": ctx.names(leaders), "n_leaders": len(leaders),
         "improving_labels": phrasing.join([ctx.lower_label(k) for k in improving][:3], style),

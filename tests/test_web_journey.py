@@ -1,0 +1,41 @@
+"""A new user's journey through the web app alone: sign in, resolve every recheck, publish Markdown."""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+from engine import demo
+from engine.workspace import open_workspace
+from webapp import create_app
+
+
+def test_resolve_every_recheck_in_the_browser_and_publish(team_path: Path) -> None:
+    ws = open_workspace(team_path)
+    app = create_app(ws, {"TESTING": True, "WTF_CSRF_ENABLED": False})
+    reviewer, admin = app.test_client(), app.test_client()
+    passwords = demo.demo_passwords(team_path)
+    for client, name in ((reviewer, "reviewer"), (admin, "admin")):
+        assert client.post("/login", data={"name": name, "password": passwords[name]}).status_code == 303
+    # the publish page says what blocks
+    blocked = admin.get("/publish").get_data(as_text=True)
+    assert "change/heronsford/recycling" in blocked
+    # the reviewer accepts every clean proposal, then approves the rest one by one from the queue
+    count = int(re.search(r"(\d+) statements? waits? in recheck only because", reviewer.get("/recheck/accept-clean").get_data(as_text=True)).group(1))
+    assert reviewer.post("/recheck/accept-clean", data={"count": str(count)}).status_code == 303
+    for _ in range(30):
+        queue = reviewer.get("/recheck").get_data(as_text=True)
+        forms = re.findall(r'action="(/statements/[^"]+/approve)"[^>]*>.*?name="version" value="(\d+)"', queue, re.S)
+        if not forms:
+            break
+        action, version = forms[0]
+        assert reviewer.post(action, data={"version": version}).status_code == 303
+    assert "Nothing waits in recheck" in reviewer.get("/recheck").get_data(as_text=True)
+    # the admin publishes Markdown
+    download = admin.post("/publish/download", data={"format": "md", "sections": "entity"})
+    assert download.status_code == 200
+    assert download.headers["Content-Disposition"].startswith("attachment")
+    report = download.get_data(as_text=True)
+    assert report.startswith("# Kestrel Sound Regional Council: Service Scorecard")
+    assert "Heronsford kept its lead on recycling" in report
+    ws.close()
