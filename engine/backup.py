@@ -74,7 +74,7 @@ def _authorize(ws: Workspace, by: str, action: str) -> None:
     reach its file may act on it.
     """
     try:
-        with ws.session() as session:
+        with ws.sessions() as session:  # a read: never waits for someone's open write
             authorize(session, by, action)
     except SQLAlchemyError:
         return

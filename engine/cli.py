@@ -130,7 +130,7 @@ def redraft(workspace: Path | None, by: str) -> None:
 def status(as_json: bool, workspace: Path | None) -> None:
     """Show the current edition and how many statements are in each status."""
     ws = _open(workspace)
-    with ws.session() as session:
+    with ws.reading() as session:
         edition = ops.current_edition(session)
         counts = ops.status_counts(session)
         by_status = {s: counts.get(s, 0) for s in actions.STATUSES}
@@ -169,7 +169,7 @@ def list_(kind: str | None, entity: str | None, topic: str | None, status_: str 
           as_json: bool, workspace: Path | None) -> None:
     """List statements with their status and text."""
     ws = _open(workspace)
-    with ws.session() as session:
+    with ws.reading() as session:
         rows = actions.views(session, _filter(kind, entity, topic, status_))
         data = [v.to_json(session) for v in rows]
     if as_json:
@@ -188,7 +188,7 @@ def list_(kind: str | None, entity: str | None, topic: str | None, status_: str 
 def show(slot: str, as_json: bool, workspace: Path | None) -> None:
     """Show one statement: text, draft, layers, evidence, claims, recheck and history."""
     ws = _open(workspace)
-    with ws.session() as session:
+    with ws.reading() as session:
         data = actions.view(session, slot).to_json(session)
         data["history"] = actions.history(session, slot)
     if as_json:
@@ -224,7 +224,7 @@ def show(slot: str, as_json: bool, workspace: Path | None) -> None:
 def history_(slot: str, as_json: bool, workspace: Path | None) -> None:
     """Show every recorded event of one statement."""
     ws = _open(workspace)
-    with ws.session() as session:
+    with ws.reading() as session:
         actions.view(session, slot)
         events = actions.history(session, slot)
     if as_json:
@@ -396,7 +396,7 @@ def audit_(as_json: bool, only_untraced: bool, workspace: Path | None) -> None:
     from engine.audit import audit
 
     ws = _open(workspace)
-    with ws.session() as session:
+    with ws.reading() as session:
         results = [a for a in audit(session) if a.untraced or not only_untraced]
     if as_json:
         _echo_json([a.to_json() for a in results])
@@ -422,7 +422,7 @@ def changes_(from_label: str | None, to_label: str | None, fmt: str, workspace: 
     from engine.changelog import changes
 
     ws = _open(workspace)
-    with ws.session() as session:
+    with ws.reading() as session:
         log = changes(session, from_label, to_label)
     if fmt == "json":
         _echo_json(log.to_json())
@@ -503,7 +503,7 @@ def worksheet_(output: Path, entity: str | None, topic: str | None, kind: str | 
     from engine.worksheet import write_worksheet
 
     ws = _open(workspace)
-    with ws.session() as session:
+    with ws.reading() as session:
         n = write_worksheet(session, output, ops.SlotFilter(kind=kind, entity=entity, topic=topic))
     click.echo(f"wrote {output}: {n} statements; fill in 'new text', then run `stetline apply-worksheet {output}`")
 
@@ -565,7 +565,7 @@ def user_list(as_json: bool, workspace: Path | None) -> None:
     from engine import accounts
 
     ws = _open(workspace)
-    with ws.session() as session:
+    with ws.reading() as session:
         rows = [{"name": a.name, "role": a.role, "enabled": a.enabled} for a in accounts.accounts(session)]
     if as_json:
         _echo_json(rows)

@@ -52,10 +52,26 @@ class Workspace:
 
     @contextmanager
     def session(self) -> Iterator[Session]:
-        """A session in one transaction: committed on success, rolled back on any error."""
+        """A writing session in one transaction: committed on success, rolled back on any error.
+
+        On SQLite the transaction takes the write lock when it begins, so concurrent writers queue
+        (up to the busy timeout) instead of failing halfway.
+        """
+        token = db.WRITING.set(True)
+        try:
+            with self.sessions() as session:
+                with session.begin():
+                    yield session
+        finally:
+            db.WRITING.reset(token)
+
+    @contextmanager
+    def reading(self) -> Iterator[Session]:
+        """A session for reading: it sees a consistent snapshot and never waits for a writer."""
         with self.sessions() as session:
             with session.begin():
                 yield session
+                session.rollback()
 
     def secret_key(self) -> str:
         """The web app's secret key, generated once per workspace and kept in its folder."""

@@ -7,6 +7,7 @@ of *its* engine; PostgreSQL is used as configured. Migrations run from code, wit
 from __future__ import annotations
 
 import sqlite3
+from contextvars import ContextVar
 from importlib import resources
 from pathlib import Path
 
@@ -16,6 +17,8 @@ from sqlalchemy import Engine, create_engine, event, inspect
 from sqlalchemy.orm import Session, sessionmaker
 
 BUSY_TIMEOUT_MS = 30_000
+#: set while a writing transaction is open in this thread or task (see Workspace.session)
+WRITING: ContextVar[bool] = ContextVar("stetline_writing", default=False)
 
 
 def sqlite_url(path: Path) -> str:
@@ -38,10 +41,12 @@ def make_engine(url: str) -> Engine:
     if url.startswith("sqlite"):
         engine = create_engine(url, connect_args={"timeout": BUSY_TIMEOUT_MS / 1000, "check_same_thread": False})
         event.listen(engine, "connect", _on_sqlite_connect)
-        # SQLAlchemy's pysqlite driver defers BEGIN; emit it ourselves so a load is one transaction
+        # SQLAlchemy's pysqlite driver defers BEGIN; emit it ourselves so a load is one transaction.
+        # Writing transactions (Workspace.session) begin IMMEDIATE: they take the write lock at once
+        # and wait their turn (busy_timeout) instead of failing when two writers meet mid-transaction.
         @event.listens_for(engine, "begin")
         def _begin(conn):  # type: ignore[no-untyped-def]
-            conn.exec_driver_sql("BEGIN")
+            conn.exec_driver_sql("BEGIN IMMEDIATE" if WRITING.get() else "BEGIN")
 
         @event.listens_for(engine, "connect")
         def _no_implicit(dbapi_connection, _record):  # type: ignore[no-untyped-def]
