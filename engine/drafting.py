@@ -83,7 +83,9 @@ def digest(text: str, evidence: dict[str, Any], claims: dict[str, Any]) -> str:
 
 def slot_id(kind: str, entity: str | None = None, topic: str | None = None) -> str:
     """The slot id: the kind, then the entity key if any, then the topic key if any, joined by '/'."""
-    return "/".join(part for part in (kind, entity, topic) if part is not None)
+    if entity is None:
+        return kind if topic is None else f"{kind}/{topic}"
+    return f"{kind}/{entity}" if topic is None else f"{kind}/{entity}/{topic}"
 
 
 def phrasing_index(slot: str, choices: int) -> int:
@@ -111,8 +113,10 @@ class Context:
     style: HouseStyle
     entity_noun: str
     edition: str = ""
-    #: value() results by (topic, x): group and overall means and targets recur across cells
+    # wording already worked out (the same counts, labels and means recur across thousands of cells)
     _values_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    _lower_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
 
     @property
     def entity_nouns(self) -> str:
@@ -121,7 +125,11 @@ class Context:
 
     def of_n(self, n: int) -> str:
         """'14 towns', 'three towns'."""
-        return phrasing.plural(int(n), self.entity_noun, self.style)
+        n = int(n)
+        shown = self._of_n.get(n)
+        if shown is None:
+            shown = self._of_n[n] = phrasing.plural(n, self.entity_noun, self.style)
+        return shown
 
     def name(self, entity: str) -> str:
         """An entity's display name."""
@@ -137,7 +145,10 @@ class Context:
 
     def lower_label(self, topic: str) -> str:
         """A topic's label for the middle of a sentence (acronyms kept)."""
-        return lower_first(self.label(topic))
+        shown = self._lower_labels.get(topic)
+        if shown is None:
+            shown = self._lower_labels[topic] = lower_first(self.label(topic))
+        return shown
 
     def value(self, topic: str, x: float) -> str:
         """A value of a topic as shown: its decimals and unit."""

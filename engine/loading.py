@@ -7,6 +7,7 @@ load writes nothing; ``dry_run`` computes the same summary and writes nothing.
 
 from __future__ import annotations
 
+import dataclasses
 import gc
 import hashlib
 import sys
@@ -158,6 +159,9 @@ def _code_fingerprint() -> bytes:
     return h.digest()
 
 
+_code_fingerprint()  # read when the code is imported, so it describes the code that runs
+
+
 def drafting_inputs(ws: Workspace, ctx: Context) -> str:
     """A fingerprint of everything the drafts of an edition are made from.
 
@@ -168,19 +172,30 @@ def drafting_inputs(ws: Workspace, ctx: Context) -> str:
     that does must add it here).
     """
     h = hashlib.blake2b(_code_fingerprint(), digest_size=16)
-    facts = ctx.facts
-    for frame in (facts.cells, facts.series):
-        h.update(repr([(str(c), str(t)) for c, t in frame.dtypes.items()]).encode("utf-8"))
-        h.update(pd.util.hash_pandas_object(frame, index=True).to_numpy().tobytes())
-    for frame in (facts.topics, facts.entities):  # small, and holding lists: written out in full
-        h.update(repr([(str(c), str(t)) for c, t in frame.dtypes.items()]).encode("utf-8"))
-        h.update(repr(frame.to_dict("split")).encode("utf-8"))
-    h.update(repr((facts.latest_period, ctx.topics, ctx.entities, ctx.style, ctx.entity_noun)).encode("utf-8"))
+    for f in dataclasses.fields(ctx.facts):  # cells, topics, entities, series, latest period
+        h.update(f.name.encode("utf-8") + b"=")
+        _hash_value(h, getattr(ctx.facts, f.name))
+    for f in dataclasses.fields(ctx):  # the metadata, house style, entity noun and any field to come
+        if f.name not in ("facts", "edition") and not f.name.startswith("_"):
+            h.update(f"{f.name}={getattr(ctx, f.name)!r};".encode("utf-8"))
     phrasing_dir = ws.phrasing_dir
     if phrasing_dir.is_dir():
-        for path in sorted(phrasing_dir.glob("*.j2")):
-            h.update(path.name.encode("utf-8") + b"\0" + path.read_bytes() + b"\0")
+        for path in sorted(p for p in phrasing_dir.rglob("*") if p.is_file()):
+            h.update(path.relative_to(phrasing_dir).as_posix().encode("utf-8") + b"\0" + path.read_bytes() + b"\0")
     return h.hexdigest()
+
+
+def _hash_value(h: Any, value: Any) -> None:
+    """Feed a fact to a hash: a frame by its columns, types, index and every value."""
+    if not isinstance(value, pd.DataFrame):
+        h.update(repr(value).encode("utf-8") + b";")
+        return
+    h.update(repr([(str(c), str(t)) for c, t in value.dtypes.items()]).encode("utf-8"))
+    try:
+        h.update(pd.util.hash_pandas_object(value, index=True).to_numpy().tobytes())
+    except TypeError:  # cells holding lists (a topic's leaders): written out in full
+        h.update(repr(value.to_dict("split")).encode("utf-8"))
+    h.update(b";")
 
 
 def edition_context(
@@ -250,7 +265,8 @@ def load_edition(
         )
         edition_label = _label(session, label, dataset)
         current = ops.current_edition(session)
-        earlier = _held(session, dataset.observations) if current is not None else None
+        stored = ops.observations_frame(session)  # the current observations, read once
+        earlier = _held(session, dataset.observations, stored) if current is not None else None
         ctx = edition_context(session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
@@ -272,9 +288,10 @@ def load_edition(
         session.add(edition)
         session.flush()
         ops.replace_metadata(session, dataset.topics, dataset.entities)
-        written = ops.store_observations(session, edition.id, dataset.observations)
-        summary.observations_written = written["inserted"]
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
+        del decisions, by_slot, states  # the drafts are written: free them before the observations
+        written = ops.store_observations(session, edition.id, dataset.observations, stored)
+        summary.observations_written = written["inserted"]
         edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs}
         ops.add_event(session, by, "load", edition_id=edition.id, detail=summary.to_json())
     return summary
@@ -343,14 +360,16 @@ def redraft(ws: Workspace, *, by: str) -> LoadSummary:
     return summary
 
 
-def _held(session: Session, new: pd.DataFrame) -> pd.DataFrame:
+def _held(session: Session, new: pd.DataFrame, stored: pd.DataFrame | None = None) -> pd.DataFrame:
     """What earlier editions held for each observation, to tell a revised figure from a new one.
 
     A value that differs from the current one was revised by this load; a value equal to the
     current one keeps the revision the current edition made (so reloading the same data
     changes nothing).
     """
-    current = ops.observations_frame(session)[["entity", "topic", "period", "value"]]
+    if stored is None:
+        stored = ops.observations_frame(session)
+    current = stored[["entity", "topic", "period", "value"]]
     replaced = ops.replaced_values(session)
     keys = ["entity", "topic", "period"]
     merged = current.merge(new[keys + ["value"]], on=keys, how="left", suffixes=("", "_new"))

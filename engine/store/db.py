@@ -7,6 +7,7 @@ of *its* engine; PostgreSQL is used as configured. Migrations run from code, wit
 from __future__ import annotations
 
 import sqlite3
+import weakref
 from contextvars import ContextVar
 from importlib import resources
 from pathlib import Path
@@ -54,7 +55,35 @@ def make_engine(url: str) -> Engine:
         return engine
     if url.startswith("postgresql://"):
         url = "postgresql+psycopg://" + url[len("postgresql://"):]
-    return create_engine(url, pool_pre_ping=True)
+    engine = create_engine(url, pool_pre_ping=True)
+    _close_connections_when_dropped(engine)
+    return engine
+
+
+def _close_connections_when_dropped(engine: Engine) -> None:
+    """An engine dropped without dispose() (a short CLI command, a test) still closes its server
+    connections, instead of holding them open until the garbage collector finds them."""
+    live: set[object] = set()  # the pool's open DBAPI connections; nothing here refers to the engine
+
+    def opened(dbapi_connection, _record):  # type: ignore[no-untyped-def]
+        live.add(dbapi_connection)
+
+    def closed(dbapi_connection, *_rest):  # type: ignore[no-untyped-def]
+        live.discard(dbapi_connection)
+
+    event.listen(engine, "connect", opened)
+    event.listen(engine.pool, "close", closed)
+    event.listen(engine.pool, "close_detached", closed)
+    weakref.finalize(engine, _close_all, live)
+
+
+def _close_all(connections: set[object]) -> None:
+    for connection in list(connections):
+        try:
+            connection.close()  # type: ignore[attr-defined]
+        except Exception:  # noqa: BLE001 - a connection the server already dropped
+            pass
+    connections.clear()
 
 
 def session_factory(engine: Engine) -> sessionmaker[Session]:

@@ -145,9 +145,14 @@ def _frame(rows: Sequence[Any], columns: list[str], floats: tuple[str, ...] = ()
     return pd.DataFrame(data, columns=columns)
 
 
-def store_observations(session: Session, edition_id: int, observations: pd.DataFrame) -> dict[str, int]:
-    """Version the observations: close rows that changed or left, insert new and changed rows."""
-    old = observations_frame(session)
+def store_observations(
+    session: Session, edition_id: int, observations: pd.DataFrame, current: pd.DataFrame | None = None,
+) -> dict[str, int]:
+    """Version the observations: close rows that changed or left, insert new and changed rows.
+
+    ``current`` is what observations_frame(session) gives, when the caller has already read it.
+    """
+    old = observations_frame(session) if current is None else current
     new = observations[["entity", "topic", "period", "value", "margin", "status"]]
     merged = new.merge(old, on=OBS_KEY, how="outer", suffixes=("", "_old"), indicator=True)
 
