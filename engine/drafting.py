@@ -230,15 +230,11 @@ def copy_template(folder: Path, kind: str, *, force: bool = False) -> Path:
     """Copy a kind's built-in template into a workspace's phrasing folder for the team to edit."""
     from engine.errors import StetlineError
     from engine.kinds import BY_NAME
+    from engine.workspace import copy_builtin
 
     if kind not in BY_NAME:
         raise StetlineError(f"unknown statement kind {kind!r}; kinds: {', '.join(BY_NAME)}")
-    target = folder / f"{kind}.j2"
-    if target.exists() and not force:
-        raise StetlineError(f"{target} exists already; edit it, or give --force to start again from the built-in one")
-    folder.mkdir(parents=True, exist_ok=True)
-    target.write_text(builtin_template(kind), encoding="utf-8")
-    return target
+    return copy_builtin(TEMPLATES / f"{kind}.j2", folder, force=force)
 
 
 def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterator[Draft]:

@@ -62,11 +62,8 @@ def render(pub: Publication, name: str, workspace_dir: Path | None = None) -> st
 
 def copy_layout(folder: Path, name: str, *, force: bool = False) -> Path:
     """Copy a built-in layout into a workspace's layouts folder for the team to edit."""
+    from engine.workspace import copy_builtin
+
     if name not in LAYOUTS:
         raise StetlineError(f"unknown layout {name!r}; layouts: {', '.join(LAYOUTS)}")
-    target = folder / f"{name}.j2"
-    if target.exists() and not force:
-        raise StetlineError(f"{target} exists already; edit it, or give --force to start again from the built-in one")
-    folder.mkdir(parents=True, exist_ok=True)
-    target.write_text((BUILTIN / f"{name}.j2").read_text(encoding="utf-8"), encoding="utf-8")
-    return target
+    return copy_builtin(BUILTIN / f"{name}.j2", folder, force=force)

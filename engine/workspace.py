@@ -116,3 +116,13 @@ def open_workspace(path: Path, url: str | None = None) -> Workspace:
 
     bring_up_to_date(ws)  # a workspace made by an older Stetline gets the migrations it lacks
     return ws
+
+
+def copy_builtin(source: Path, folder: Path, *, force: bool = False) -> Path:
+    """Copy a built-in template into a workspace folder for the team to edit; never overwrite silently."""
+    target = folder / source.name
+    if target.exists() and not force:
+        raise StetlineError(f"{target} exists already; edit it, or give --force to start again from the built-in one")
+    folder.mkdir(parents=True, exist_ok=True)
+    target.write_text(source.read_text(encoding="utf-8"), encoding="utf-8")
+    return target

@@ -15,6 +15,9 @@ slow machine moves both sides alike:
   load; no draft, layer or approval row may be written;
 * ``memory``: the peak resident set size of the first load.
 
+Each line reads ``name: ratio (target ...) PASS|FAIL [raw seconds]``; with GNU time present the
+raw figures include each process's CPU time, a steadier guide than wall time on a shared machine.
+
 Between the first and the second edition some human work is added (rewrites, pins, notes,
 suppressions, approvals), so the refreshes reconcile against it as a real one would.
 """
@@ -232,6 +235,9 @@ def raw(run: Run) -> str:
 def run(args: argparse.Namespace, work: Path) -> bool:
     sys.path.insert(0, str(HERE))
     import synthetic
+
+    for name in ("STETLINE_DATABASE_URL", "STETLINE_WORKSPACE"):  # the workspace is a SQLite file here
+        os.environ.pop(name, None)
 
     data = work / "data"
     ws = work / "ws"

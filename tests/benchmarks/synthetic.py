@@ -193,6 +193,8 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--periods", type=int, default=5)
     parser.add_argument("--seed", type=int, default=20260101)
     args = parser.parse_args(argv)
+    if min(args.entities, args.topics, args.periods) < 1:
+        parser.error("--entities, --topics and --periods must all be at least 1")
     paths = write(args.out, args.entities, args.topics, args.periods, args.seed)
     for name, path in paths.items():
         print(f"{name}: {path}")
