@@ -8,7 +8,7 @@ import pytest
 
 from engine.store import ops
 from engine.workspace import open_workspace
-from conftest import Cli
+from conftest import Cli, resolve_every_recheck
 
 
 def by_slot(items: list[dict]) -> dict[str, dict]:
@@ -226,13 +226,7 @@ def test_resolving_every_recheck_opens_the_gate(demo_cli: Cli, tmp_path: Path) -
     refused = demo_cli("publish", "--format", "md", "--by", "admin", ok=False)
     assert "publishing refused" in refused.stderr
     assert "change/heronsford/recycling" in refused.stderr
-    for item in demo_cli.json("list", "--status", "recheck"):
-        recheck = item["recheck"]
-        if recheck["clean"] and recheck["proposed"]:
-            demo_cli("approve", item["slot"], "--accept-proposed", "--by", "reviewer")
-        else:
-            demo_cli("approve", item["slot"], "--by", "reviewer")
-    assert demo_cli.json("status")["by_status"]["recheck"] == 0
+    resolve_every_recheck(demo_cli)
     out = tmp_path / "report.md"
     demo_cli("publish", "--format", "md", "-o", str(out), "--by", "admin")
     report = out.read_text(encoding="utf-8")

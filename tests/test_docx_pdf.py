@@ -13,7 +13,7 @@ import pytest
 from conftest import Cli
 from engine.demo import TITLE
 from engine.formats import FIGURE_NOTES
-from test_publish_formats import resolve_every_recheck
+from conftest import resolve_every_recheck
 
 TOOLS = {"soffice": "libreoffice-writer-nogui", "pdftotext": "poppler-utils"}
 HERONSFORD = "Heronsford kept its lead on recycling"  # the demo's rewrite, opening words

@@ -17,7 +17,7 @@ import docx
 import pytest
 from sqlalchemy import select
 
-from conftest import Cli
+from conftest import Cli, resolve_every_recheck
 from engine.formats import FIGURE_NOTES, TOC_INSTRUCTION, neutralise
 from engine.store.models import Event
 from engine.workspace import open_workspace
@@ -29,16 +29,6 @@ TAMPERED_SHOWN = '=1+2 <script>alert("x")</script> & North Quay recycled 46.5%; 
 NOTE = "The harbour regeneration opened two business parks in North Quay in 2023."
 WRACKHAVEN = "standing/wrackhaven/recycling"
 WRACKHAVEN_TEXT = "Household recycling rate in Wrackhaven was 45.7% (provisional) in 2025"
-
-
-def resolve_every_recheck(cli: Cli) -> None:
-    for item in cli.json("list", "--status", "recheck"):
-        recheck = item["recheck"]
-        if recheck["clean"] and recheck["proposed"]:
-            cli("approve", item["slot"], "--accept-proposed", "--by", "reviewer")
-        else:
-            cli("approve", item["slot"], "--by", "reviewer")
-    assert cli.json("status")["by_status"]["recheck"] == 0
 
 
 @pytest.fixture(scope="module")
