@@ -1,6 +1,6 @@
 """The demo: a fictional council's scorecard in two editions, with example human work.
 
-Builds a workspace from the invented files in ``seed_data``: loads the first edition, adds the
+Builds a workspace from the invented files in ``demo_data``: loads the first edition, adds the
 kind of work an editorial team does (rewrites with typed numbers, a rewrite with live fields,
 pins, an expert's notes, a suppression, approvals), loads the second edition and so shows
 rechecks of every reason, then changes a house-style setting and redrafts.
@@ -58,7 +58,7 @@ SUPPRESS = ("standing/puffin-holm/new-business",)
 
 def data_file(name: str) -> Path:
     """The path of a shipped demo file."""
-    return Path(str(resources.files("seed_data") / name))
+    return Path(str(resources.files("demo_data") / name))
 
 
 def is_demo(path: Path) -> bool:

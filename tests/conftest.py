@@ -231,7 +231,7 @@ def cli(tmp_path: Path) -> Cli:
 
 
 @pytest.fixture(scope="session")
-def seed() -> Path:
+def demo_files() -> Path:
     """The folder of the shipped demo data files."""
     return demo.data_file("topics.csv").parent
 

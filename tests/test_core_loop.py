@@ -154,9 +154,9 @@ def _snapshot(path: Path) -> dict:
     return {"counts": counts, "layers": layers, "approvals": approvals, "statuses": statuses}
 
 
-def test_identical_edition_sends_nothing_to_recheck_and_writes_no_draft(demo_cli: Cli, seed: Path) -> None:
+def test_identical_edition_sends_nothing_to_recheck_and_writes_no_draft(demo_cli: Cli, demo_files: Path) -> None:
     before = _snapshot(demo_cli.path)
-    out = demo_cli("load", str(seed / "observations-2025.csv"), "--json", "--by", "admin")
+    out = demo_cli("load", str(demo_files / "observations-2025.csv"), "--json", "--by", "admin")
     import json
 
     summary = json.loads(out.stdout)
@@ -173,9 +173,9 @@ def test_identical_edition_sends_nothing_to_recheck_and_writes_no_draft(demo_cli
     assert after["counts"]["edition"] == before["counts"]["edition"] + 1
 
 
-def test_dry_run_writes_nothing(demo_cli: Cli, seed: Path) -> None:
+def test_dry_run_writes_nothing(demo_cli: Cli, demo_files: Path) -> None:
     before = _snapshot(demo_cli.path)
-    out = demo_cli("load", str(seed / "observations-2024.csv"), "--dry-run")
+    out = demo_cli("load", str(demo_files / "observations-2024.csv"), "--dry-run")
     assert "dry run: nothing was written" in out.stdout
     assert _snapshot(demo_cli.path) == before
 
@@ -211,14 +211,14 @@ def test_unknown_slot_is_a_clear_error(demo_cli: Cli) -> None:
     assert "no statement 'standing/atlantis/recycling'" in result.stderr
 
 
-def test_taken_edition_label_is_refused(demo_cli: Cli, seed: Path) -> None:
-    result = demo_cli("load", str(seed / "observations-2025.csv"), "--edition", "2024", ok=False)
+def test_taken_edition_label_is_refused(demo_cli: Cli, demo_files: Path) -> None:
+    result = demo_cli("load", str(demo_files / "observations-2025.csv"), "--edition", "2024", ok=False)
     assert "edition '2024' already exists" in result.stderr
 
 
-def test_first_load_needs_metadata(cli: Cli, seed: Path) -> None:
+def test_first_load_needs_metadata(cli: Cli, demo_files: Path) -> None:
     cli("init")
-    result = cli("load", str(seed / "observations-2024.csv"), ok=False)
+    result = cli("load", str(demo_files / "observations-2024.csv"), ok=False)
     assert "give a topics file on the first load" in result.stderr
 
 
@@ -268,7 +268,7 @@ def test_rewrite_with_a_bad_live_field_is_refused(demo_cli: Cli, text: str, mess
 
 
 def test_a_load_that_fails_while_writing_leaves_the_workspace_as_it_was(
-    demo_path: Path, seed: Path, monkeypatch: pytest.MonkeyPatch,
+    demo_path: Path, demo_files: Path, monkeypatch: pytest.MonkeyPatch,
 ) -> None:
     from engine import loading
 
@@ -280,6 +280,6 @@ def test_a_load_that_fails_while_writing_leaves_the_workspace_as_it_was(
     monkeypatch.setattr(loading.ops, "apply_decisions", explode)
     ws = open_workspace(demo_path)
     with pytest.raises(RuntimeError):
-        loading.load_edition(ws, seed / "observations-2024.csv", by="admin", label="again")
+        loading.load_edition(ws, demo_files / "observations-2024.csv", by="admin", label="again")
     ws.close()
     assert _snapshot(demo_path) == before

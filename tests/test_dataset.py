@@ -26,11 +26,11 @@ import pandas as pd
 import pytest
 from openpyxl import Workbook
 
-import seed_data
+import demo_data
 from engine.dataset import Dataset, load_dataset
 from engine.errors import Problem, ValidationError
 
-SEED = Path(seed_data.__file__).parent
+DEMO_FILES = Path(demo_data.__file__).parent
 OBS_HEADER = "entity,topic,period,value"
 
 TOPICS_CSV = (
@@ -453,13 +453,13 @@ def test_mixed_period_formats_after_a_blank_line_are_reported(tmp_path: Path) ->
 
 def test_an_xlsx_workbook_loads_the_same_as_the_csv_files(tmp_path: Path) -> None:
     from_csv = load_dataset(
-        SEED / "observations-2025.csv", SEED / "topics.csv", SEED / "entities.csv",
+        DEMO_FILES / "observations-2025.csv", DEMO_FILES / "topics.csv", DEMO_FILES / "entities.csv",
     )
     book = tmp_path / "edition.xlsx"
     with pd.ExcelWriter(book, engine="openpyxl") as writer:
         for sheet in ("topics", "observations", "entities"):  # sheet order must not matter
             file = "observations-2025.csv" if sheet == "observations" else f"{sheet}.csv"
-            pd.read_csv(SEED / file).to_excel(writer, sheet_name=sheet, index=False)
+            pd.read_csv(DEMO_FILES / file).to_excel(writer, sheet_name=sheet, index=False)
     from_xlsx = load_dataset(book)
     pd.testing.assert_frame_equal(from_xlsx.observations, from_csv.observations)
     pd.testing.assert_frame_equal(from_xlsx.topics, from_csv.topics)
@@ -516,8 +516,8 @@ def test_an_xlsx_problem_names_the_workbook_and_sheet(tmp_path: Path) -> None:
 
 
 def test_the_demo_files_load() -> None:
-    data = load_dataset(SEED / "observations-2024.csv", SEED / "topics.csv", SEED / "entities.csv")
-    # counted from the shipped files (seed_data/README.md: 14 towns in four groups, 12 indicators)
+    data = load_dataset(DEMO_FILES / "observations-2024.csv", DEMO_FILES / "topics.csv", DEMO_FILES / "entities.csv")
+    # counted from the shipped files (demo_data/README.md: 14 towns in four groups, 12 indicators)
     assert len(data.entities) == 14
     assert set(data.entities["group"]) == {"Coast", "Estuary", "Uplands", "Islands"}
     assert len(data.topics) == 12
@@ -529,8 +529,8 @@ def test_the_demo_files_load() -> None:
 
 
 def test_the_2025_demo_file_loads_with_paper_timetables_discontinued() -> None:
-    data = load_dataset(SEED / "observations-2025.csv", SEED / "topics.csv", SEED / "entities.csv")
-    # seed_data/README.md: paper timetables have no rows in 2025 but stay in topics.csv
+    data = load_dataset(DEMO_FILES / "observations-2025.csv", DEMO_FILES / "topics.csv", DEMO_FILES / "entities.csv")
+    # demo_data/README.md: paper timetables have no rows in 2025 but stay in topics.csv
     assert "paper-timetables" in set(data.topics["topic"])
     assert "paper-timetables" not in set(data.observations["topic"])
     assert data.latest_period == "2025"

@@ -28,11 +28,11 @@ import pandas as pd
 import pytest
 from scipy.stats import norm, rankdata
 
-import seed_data
+import demo_data
 from engine.dataset import Dataset, load_dataset
 from engine.facts import Facts, compute_facts
 
-SEED = Path(seed_data.__file__).parent
+DEMO_FILES = Path(demo_data.__file__).parent
 
 
 def facts_of(data: Dataset) -> Facts:
@@ -41,7 +41,7 @@ def facts_of(data: Dataset) -> Facts:
 
 def demo(edition: str) -> Dataset:
     return load_dataset(
-        SEED / f"observations-{edition}.csv", SEED / "topics.csv", SEED / "entities.csv",
+        DEMO_FILES / f"observations-{edition}.csv", DEMO_FILES / "topics.csv", DEMO_FILES / "entities.csv",
     )
 
 
@@ -80,13 +80,13 @@ def test_ranks_match_scipy_competition_ranking_on_every_demo_topic(edition: str)
         ties_seen += len(values) - len(set(values))
         checked += 1
     # 12 demo topics minus the two neutral ones, population and paper timetables (the latter
-    # has no 2025 rows at all: seed_data/README.md)
+    # has no 2025 rows at all: demo_data/README.md)
     assert checked == 10
     assert ties_seen > 0, "the demo topics must include ties for this check to mean anything"
 
 
 def test_withheld_and_missing_values_are_left_out_of_the_ranking() -> None:
-    # seed_data/README.md: 2024 has a confidential new-business figure for Puffin Holm and a
+    # demo_data/README.md: 2024 has a confidential new-business figure for Puffin Holm and a
     # missing library-loans figure for Outer Skerrin; the other 13 towns are ranked 1..13
     cells = facts_of(demo("2024")).cells.set_index(["topic", "entity"])
     for topic, entity in (("new-business", "puffin-holm"), ("library-loans", "outer-skerrin")):
@@ -312,9 +312,9 @@ def test_significance_on_the_demo_parks_satisfaction_topic(edition: str) -> None
 def test_significance_when_changes_exceed_the_margins(tmp_path: Path) -> None:
     # the demo's parks-satisfaction survey with its 2025 values moved by chosen steps, so that
     # some changes exceed sqrt(m1² + m2²) and others do not
-    obs = pd.read_csv(SEED / "observations-2025.csv", dtype=str, keep_default_na=False)
-    topics = pd.read_csv(SEED / "topics.csv", dtype=str, keep_default_na=False)
-    entities = pd.read_csv(SEED / "entities.csv", dtype=str, keep_default_na=False)
+    obs = pd.read_csv(DEMO_FILES / "observations-2025.csv", dtype=str, keep_default_na=False)
+    topics = pd.read_csv(DEMO_FILES / "topics.csv", dtype=str, keep_default_na=False)
+    entities = pd.read_csv(DEMO_FILES / "entities.csv", dtype=str, keep_default_na=False)
     parks = obs["topic"] == "parks-satisfaction"
     before = obs.loc[parks & (obs["period"] == "2024")].set_index("entity")["value"].astype(float)
     steps = dict(zip(before.index, [-12, -9, -7, -6.5, -5, -3, -1, 0, 1, 3, 5, 6.5, 9, 12]))

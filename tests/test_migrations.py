@@ -31,6 +31,6 @@ def test_package_ships_migrations_and_demo_data() -> None:
     assert any(p.name.endswith(".py") for p in versions.iterdir())
     assert (resources.files("migrations") / "env.py").is_file()
     for name in ("topics.csv", "entities.csv", "observations-2024.csv", "observations-2025.csv"):
-        assert (resources.files("seed_data") / name).is_file(), name
+        assert (resources.files("demo_data") / name).is_file(), name
     for kind in ("standing", "change", "profile", "leaders", "movement", "headline"):
         assert (resources.files("engine") / "kinds" / "templates" / f"{kind}.j2").is_file()

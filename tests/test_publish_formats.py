@@ -229,11 +229,11 @@ def test_html_is_standalone_and_escapes_all_text(published: dict[str, Any]) -> N
     assert any("Council waste returns" in s for s in page.sources)
 
 
-def test_html_sections_by_topic(published: dict[str, Any], tmp_path: Path, seed: Path) -> None:
+def test_html_sections_by_topic(published: dict[str, Any], tmp_path: Path, demo_files: Path) -> None:
     out = tmp_path / "by-topic.html"
     published["cli"]("publish", "--format", "html", "--sections", "topic", "-o", str(out), "--by", "admin")
     page = read_html(out)
-    with (seed / "topics.csv").open(encoding="utf-8") as fh:
+    with (demo_files / "topics.csv").open(encoding="utf-8") as fh:
         labels = [row["label"] for row in csv.DictReader(fh)]
     assert "Household recycling rate" in page.h2
     assert set(page.h2) - {"Overview", FIGURE_NOTES} <= set(labels)
@@ -295,7 +295,7 @@ def test_csv_columns_names_and_neutralised_rewrite(published: dict[str, Any]) ->
 
 # -- Word -------------------------------------------------------------------------------------
 
-def test_docx_structure_styles_and_toc(published: dict[str, Any], seed: Path) -> None:
+def test_docx_structure_styles_and_toc(published: dict[str, Any], demo_files: Path) -> None:
     path = published["files"]["docx"]
     document = docx.Document(str(path))
     styles = {s.name: s for s in document.styles}
@@ -307,7 +307,7 @@ def test_docx_structure_styles_and_toc(published: dict[str, Any], seed: Path) ->
     assert paragraphs[0].text == "Kestrel Sound Regional Council: Service Scorecard"
     assert document.core_properties.title == paragraphs[0].text
     headings = [p.text for p in paragraphs if p.style.name == "Heading 1"]
-    with (seed / "entities.csv").open(encoding="utf-8") as fh:
+    with (demo_files / "entities.csv").open(encoding="utf-8") as fh:
         towns = [row["name"] for row in csv.DictReader(fh)]
     assert headings == ["Overview", *towns, FIGURE_NOTES]
     assert any("qualified person must check" in p.text for p in paragraphs)

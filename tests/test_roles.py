@@ -17,14 +17,14 @@ SLOT = "standing/tidemere/population"
 ROLES = ("editor", "expert", "reviewer", "admin")
 
 
-def _commands(seed: Path, tmp: Path) -> dict[str, list[str]]:
+def _commands(demo_files: Path, tmp: Path) -> dict[str, list[str]]:
     return {
         "rewrite": ["rewrite", SLOT, "Tidemere's population grew again."],
         "pin": ["pin", SLOT],
         "annotate": ["annotate", SLOT, "Checked with the planning team."],
         "suppress": ["suppress", SLOT],
         "approve": ["approve", SLOT],
-        "load": ["load", str(seed / "observations-2025.csv")],
+        "load": ["load", str(demo_files / "observations-2025.csv")],
         "publish": ["publish", "--allow-recheck", "-o", str(tmp / "r.md")],
         "settings": ["settings", "serial_comma", "false"],
         "redraft": ["redraft"],
@@ -42,8 +42,8 @@ ALLOWED = {
 
 @pytest.mark.parametrize("role", ROLES)
 @pytest.mark.parametrize("action", sorted(ALLOWED["admin"]))
-def test_role_matrix(team_cli: Cli, seed: Path, tmp_path: Path, role: str, action: str) -> None:
-    args = _commands(seed, tmp_path)[action]
+def test_role_matrix(team_cli: Cli, demo_files: Path, tmp_path: Path, role: str, action: str) -> None:
+    args = _commands(demo_files, tmp_path)[action]
     before = team_cli.json("show", SLOT)
     result = team_cli(*args, "--by", role, ok=False, input="a-long-password\n")
     if action in ALLOWED[role]:
