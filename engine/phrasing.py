@@ -36,7 +36,6 @@ from functools import lru_cache
 from numbers import Integral, Number, Real
 from typing import Any, Final, cast
 
-import inflect
 from babel import Locale, UnknownLocaleError
 from babel.numbers import format_decimal, get_decimal_symbol, get_group_symbol
 
@@ -296,14 +295,43 @@ def ratio(r: float | Decimal, style: HouseStyle = DEFAULT) -> str:
 
 # --------------------------------------------------------------------------- words
 
-_INFLECT: Final = inflect.engine()
 _INFLECT_LOCK: Final = threading.Lock()  # inflect keeps per-call state on its engine
 
 
-@lru_cache(maxsize=512)
+@lru_cache(maxsize=1)
+def _inflect() -> Any:
+    """The inflect engine, made on first use.
+
+    inflect wraps its methods in typeguard's run-time type checks, which rewrite and recompile
+    each method as the module is imported: about two seconds of every command's start. Our
+    wrappers check their arguments themselves, so inflect is imported with those checks off
+    (the decorator is swapped for the identity while it imports, then put back). The words it
+    gives are the same; tests/test_phrasing.py checks them.
+    """
+    import sys
+
+    if "inflect" in sys.modules:
+        return sys.modules["inflect"].engine()
+    import typeguard
+
+    checked = typeguard.typechecked
+    typeguard.typechecked = _unchecked  # type: ignore[assignment]
+    try:
+        import inflect
+    finally:
+        typeguard.typechecked = checked
+    return inflect.engine()
+
+
+def _unchecked(target: Any = None, **_options: Any) -> Any:
+    """typeguard.typechecked without the checks: @_unchecked and @_unchecked(...) give the target."""
+    return target if target is not None else (lambda fn: fn)
+
+
+@lru_cache(maxsize=16384)  # ranks run to the number of entities: keep them all
 def _ordinal(k: int) -> str:
     with _INFLECT_LOCK:
-        return str(_INFLECT.ordinal(cast(Number, k)))  # inflect types it as numbers.Number
+        return str(_inflect().ordinal(cast(Number, k)))  # inflect types it as numbers.Number
 
 
 def ordinal(n: int) -> str:
@@ -314,7 +342,7 @@ def ordinal(n: int) -> str:
 @lru_cache(maxsize=4096)
 def _plural_noun(word: str) -> str:
     with _INFLECT_LOCK:
-        return str(_INFLECT.plural_noun(word))
+        return str(_inflect().plural_noun(word))
 
 
 def noun_plural(word: str, n: int) -> str:
@@ -370,7 +398,7 @@ def _figure_takes_an(digits: str) -> bool:
 @lru_cache(maxsize=4096)
 def _article_for_word(word: str) -> str:
     with _INFLECT_LOCK:
-        spoken = str(_INFLECT.a(word))
+        spoken = str(_inflect().a(word))
     return spoken.split(" ", 1)[0]
 
 

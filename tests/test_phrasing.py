@@ -780,3 +780,24 @@ def test_filters_in_a_jinja_template() -> None:
         "An 8.0% rise in North Quay, Eastfield, and Hill Top, now 45.2% (1.3 percentage points)"
         " and three towns ranked 11th."
     )
+
+
+def test_inflect_without_its_run_time_checks_gives_the_same_words() -> None:
+    # inflect (with typeguard's checks, as imported here) is the reference; the engine imports
+    # it with the checks off in a fresh process, where it must give the same words
+    import subprocess
+    import sys
+
+    words = ["town", "local authority", "analysis", "criterion", "mother-in-law"]
+    script = (
+        "import sys; from engine import phrasing; "
+        f"print([phrasing.noun_plural(w, 2) for w in {words!r}]); "
+        "print([phrasing.ordinal(n) for n in (1, 2, 3, 11, 12, 13, 21, 112, 1003)]); "
+        "print([phrasing.article(w) for w in ('hour', 'unicorn', 'apple', 'rise')]); "
+        "import typeguard; print(typeguard.typechecked is typeguard._decorators.typechecked)"
+    )
+    out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, check=True).stdout.splitlines()
+    assert out[0] == str([INFLECT.plural_noun(w, 2) for w in words])
+    assert out[1] == str([INFLECT.ordinal(n) for n in (1, 2, 3, 11, 12, 13, 21, 112, 1003)])
+    assert out[2] == str([INFLECT.a(w) for w in ("hour", "unicorn", "apple", "rise")])
+    assert out[3] == "True", "typeguard's decorator is put back after inflect imports"

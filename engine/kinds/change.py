@@ -25,7 +25,10 @@ PHRASINGS = 2
 def candidates(ctx: Context) -> Iterator[Candidate]:
     """One change statement per entity × topic cell, including those that cannot state one."""
     style = ctx.style
-    spread = (ctx.facts.topics["best_value"] - ctx.facts.topics["worst_value"]).abs().to_dict()
+    topic_facts = ctx.facts.topics
+    spread = (topic_facts["best_value"] - topic_facts["worst_value"]).abs().to_dict()
+    mean_changes = topic_facts["mean_change"].to_dict()
+    compared_counts = topic_facts["compared"].to_dict()
     for c in ctx.facts.cells.itertuples(index=False):
         meta = ctx.topics[c.topic]
         percent = meta["unit"] == "percent"
@@ -77,8 +80,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         variables["state"] = {"up": "up", "down": "down"}.get(str(c.direction), "flat")
         if variables["state"] == "flat" and significant is False:
             variables["state"] = "not_significant"
-        mean_change = ctx.facts.topics.at[c.topic, "mean_change"]
-        compared = int(ctx.facts.topics.at[c.topic, "compared"])
+        mean_change = mean_changes[c.topic]
+        compared = int(compared_counts[c.topic])
         variables["average"] = ""
         if compared >= 3 and not missing(mean_change):
             evidence["mean_change"] = ev(float(mean_change), ctx.amount(c.topic, float(mean_change)))
