@@ -7,6 +7,8 @@ approvals are never deleted (dropping stamps ``dropped_at``).
 
 from __future__ import annotations
 
+import json
+
 from dataclasses import dataclass
 from typing import Any, Iterable, Sequence
 
@@ -194,6 +196,7 @@ def _bulk_insert(session: Session, model: type, records: list[dict[str, Any]]) -
 
 def _write_many(
     session: Session, model: Any, columns: list[str], rows: list[tuple[Any, ...]], *, where: str | None = None,
+    serialised: frozenset[str] = frozenset(),
 ) -> None:
     """INSERT (or, with ``where``, UPDATE ... WHERE where = the last value of each row) many rows.
 
@@ -201,6 +204,8 @@ def _write_many(
     an ORM insert would, then to the driver's executemany in chunks: no per-row statement
     compilation. Columns the rows leave out take their scalar or callable defaults, as in an
     ORM insert. Drivers with a placeholder style other than ? or %s use SQLAlchemy's own path.
+    JSON columns named in ``serialised`` hold text already serialised (a draft's evidence and
+    claims, serialised once for its digest too) and go to the driver as they are.
     """
     if not rows:
         return
@@ -209,13 +214,18 @@ def _write_many(
     dialect = session.get_bind().dialect
     placeholder = {"qmark": "?", "format": "%s", "pyformat": "%s"}.get(dialect.paramstyle)
     if placeholder is None:
+        if serialised:
+            at = [i for i, c in enumerate(columns) if c in serialised]
+            rows = [tuple(json.loads(v) if i in at else v for i, v in enumerate(r)) for r in rows]
         _write_many_orm(session, model, columns, rows, where)
         return
     columns = list(columns)
     if where is None:
         rows, columns = _with_defaults(table, columns, rows)
     q = dialect.identifier_preparer.quote
-    processors = [table.c[c].type.dialect_impl(dialect).bind_processor(dialect) for c in columns]
+    processors = [
+        None if c in serialised else table.c[c].type.dialect_impl(dialect).bind_processor(dialect) for c in columns
+    ]
     if where is None:
         sql = (f"INSERT INTO {q(table.name)} ({', '.join(q(c) for c in columns)}) "
                f"VALUES ({', '.join([placeholder] * len(columns))})")
@@ -277,6 +287,19 @@ def _write_many_orm(session: Session, model: Any, columns: list[str], rows: list
 
 # -- slot states for reconcile --------------------------------------------------------------
 
+def hold_writers(session: Session) -> None:
+    """Make every other writer of statements wait until this transaction ends (a load, a redraft).
+
+    On SQLite a writing transaction holds the database's single write lock from its start. On
+    PostgreSQL the slot table is locked in EXCLUSIVE mode: reading goes on, but an action, which
+    locks its slot's row, waits for the load and then sees what the load wrote, so nothing is
+    saved beside a load against the edition it replaces.
+    """
+    bind = session.get_bind()
+    if bind.dialect.name == "postgresql":
+        session.execute(text("LOCK TABLE slot IN EXCLUSIVE MODE"))
+
+
 def slot_states(session: Session) -> dict[str, SlotState]:
     """Every slot's state with its active human work, for reconcile."""
     states = {
@@ -331,7 +354,8 @@ def apply_decisions(
         state = (d.status, d.gone, d.recheck, d.severity, now)
         if d.write_draft and draft is not None:
             draft_rows.append((
-                next_id, d.slot, edition_id, draft.text, draft.evidence, draft.claims, draft.phrasing, draft.interest,
+                next_id, d.slot, edition_id, draft.text, draft.evidence_json, draft.claims_json, draft.phrasing,
+                draft.interest,
             ))
             written: tuple[Any, ...] = (next_id, draft.digest, draft.interest)
             next_id += 1
@@ -353,7 +377,7 @@ def apply_decisions(
     # slots first (drafts point at them); a new slot's draft_id refers to a draft inserted next
     _write_many(session, Slot, ["id", "kind", "entity", "topic"] + state_cols + draft_cols + ["version"], new_slots)
     _write_many(session, Draft, ["id", "slot_id", "edition_id", "text", "evidence", "claims", "phrasing", "interest"],
-                draft_rows)
+                draft_rows, serialised=frozenset({"evidence", "claims"}))
     _write_many(session, Slot, state_cols + draft_cols + ["version"], updates_with_draft, where="id")
     _write_many(session, Slot, state_cols + ["version"], updates, where="id")
     if session.bind is not None and session.bind.dialect.name == "postgresql" and draft_rows:
