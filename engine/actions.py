@@ -313,7 +313,7 @@ def views(session: Session, f: ops.SlotFilter, *, order: str = "id", limit: int 
     """Many slots with their layers, loaded in bulk."""
     rows = ops.list_slots(session, f, order=order, limit=limit, offset=offset)
     layers = ops.layers_for(session, [s.id for s, _ in rows])
-    approvals = {a.slot_id: a for a in ops.all_active_approvals(session)} if rows else {}
+    approvals = ops.approvals_for(session, [s.id for s, _ in rows])
     return [SlotView(s, d, layers.get(s.id, []), approvals.get(s.id)) for s, d in rows if d is not None]
 
 

@@ -60,13 +60,13 @@ def form_fields(html: str, action: str) -> list[tuple[str, str]]:
             for n, v in re.findall(r'<input[^>]*name="([^"]+)"[^>]*value="([^"]*)"', form)]
 
 
-def seed_bytes(name: str) -> bytes:
+def demo_bytes(name: str) -> bytes:
     return demo.data_file(name).read_bytes()
 
 
 def revised_2025() -> bytes:
     """The 2025 observations with Heronsford's 2025 recycling rate revised (59.3 → 61.0)."""
-    text = seed_bytes("observations-2025.csv").decode()
+    text = demo_bytes("observations-2025.csv").decode()
     assert "heronsford,recycling,2025,59.3," in text
     return text.replace("heronsford,recycling,2025,59.3,", "heronsford,recycling,2025,61.0,").encode()
 
@@ -162,7 +162,7 @@ def test_an_xlsx_workbook_is_read(client: FlaskClient) -> None:
 
 
 def test_the_observations_file_is_required(client: FlaskClient) -> None:
-    response = upload(client, {"topics": (seed_bytes("topics.csv"), "topics.csv")})
+    response = upload(client, {"topics": (demo_bytes("topics.csv"), "topics.csv")})
     assert response.status_code == 400 and "Choose the observations file" in response.get_data(as_text=True)
 
 
@@ -199,11 +199,11 @@ def test_an_upload_above_the_limit_gets_a_413_page(demo_ws: Workspace) -> None:
 
 def test_the_first_edition_loads_into_an_empty_workspace(ws: Workspace) -> None:
     client = create_app(ws, {"TESTING": True, "WTF_CSRF_ENABLED": False}).test_client()
-    response = upload(client, {"observations": (seed_bytes("observations-2024.csv"), "obs.csv")})
+    response = upload(client, {"observations": (demo_bytes("observations-2024.csv"), "obs.csv")})
     assert response.status_code == 400 and "no topic metadata" in response.get_data(as_text=True)
-    response = upload(client, {"observations": (seed_bytes("observations-2024.csv"), "obs.csv"),
-                               "topics": (seed_bytes("topics.csv"), "topics.csv"),
-                               "entities": (seed_bytes("entities.csv"), "entities.csv")})
+    response = upload(client, {"observations": (demo_bytes("observations-2024.csv"), "obs.csv"),
+                               "topics": (demo_bytes("topics.csv"), "topics.csv"),
+                               "entities": (demo_bytes("entities.csv"), "entities.csv")})
     html = response.get_data(as_text=True)
     assert response.status_code == 200 and "New, drafted" in html
     token = dict(form_fields(html, "/data/load"))["token"]

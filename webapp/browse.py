@@ -13,6 +13,7 @@ from engine.livefields import LiveFields
 from engine.loading import house_style
 from engine.store import ops
 from webapp.db import session
+from webapp.paging import current_page
 from webapp.selection import Selection
 
 bp = Blueprint("browse", __name__)
@@ -81,11 +82,12 @@ def topic(key: str) -> str:
 
 
 def _listing(s: Session, sel: Selection, title: str, subtitle: str) -> str:
-    items = sel.views(s)
-    every = ops.status_counts_by(s, sel.scope).get(sel.key or "", {})
+    page = current_page(sel.count(s))
+    items = sel.views(s, limit=page.size, offset=page.offset)
+    every = ops.status_counts_of(s, sel.scope, sel.key or "")
     return render_template("browse/statements.html", what=sel.scope, title=title, subtitle=subtitle,
                            rows=_rows(s, items), selection=sel, statuses=actions.STATUSES, every=every,
-                           total=sum(every.values()))
+                           total=sum(every.values()), page=page)
 
 
 def _rows(s: Session, items: list[actions.SlotView]) -> list[dict[str, Any]]:

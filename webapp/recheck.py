@@ -15,6 +15,7 @@ from engine.reconcile import REASONS
 from engine.store import ops
 from webapp.common import diff
 from webapp.db import session
+from webapp.paging import current_page
 from webapp.selection import Selection
 from webapp.statement import review_texts
 
@@ -27,22 +28,23 @@ def queue() -> str:
     s = session()
     selection = Selection.parse("recheck", None, request.args)
     chosen = selection.filters
-    waiting = actions.views(s, ops.SlotFilter(status="recheck"), order="severity")
-    shown = selection.views(s) if selection.filtered else waiting
+    total = ops.count_slots(s, ops.SlotFilter(status="recheck"))
+    page = current_page(selection.count(s) if selection.filtered else total)
     live = LiveFields(house_style(s)[0])
     items: list[dict[str, Any]] = []
-    for v in shown:
+    for v in selection.views(s, limit=page.size, offset=page.offset):
         data = v.to_json(s, live)
         current, proposed = review_texts(v, data)
         items.append({**data, "severity": v.slot.severity, "review_current": current,
                       "review_diff": diff(current, proposed) if proposed else None})
+    entities, topics = set(ops.recheck_keys(s, "entity")), set(ops.recheck_keys(s, "topic"))
     options = {
         "reason": [(r, r) for r in REASONS],
-        "kind": [(k, k) for k in sorted({v.slot.kind for v in waiting})],
-        "entity": [(e.key, e.name) for e in ops.entity_rows(s) if any(v.slot.entity == e.key for v in waiting)],
-        "topic": [(t.key, t.label) for t in ops.topic_rows(s) if any(v.slot.topic == t.key for v in waiting)],
+        "kind": [(k, k) for k in ops.recheck_keys(s, "kind")],
+        "entity": [(e.key, e.name) for e in ops.entity_rows(s) if e.key in entities],
+        "topic": [(t.key, t.label) for t in ops.topic_rows(s) if t.key in topics],
     }
-    return render_template("recheck/queue.html", items=items, total=len(waiting), chosen=chosen,
+    return render_template("recheck/queue.html", items=items, total=total, chosen=chosen, page=page,
                            options=options, back_to=request.full_path.rstrip("?"), selection=selection)
 
 
@@ -58,21 +60,28 @@ def accept_clean() -> Any:
     """Accept every clean proposal (each its own event), if the count is still the one confirmed."""
     from flask import flash, redirect, url_for
 
-    from engine.errors import StetlineError
+    from engine.accounts import authorize
+    from engine.errors import Forbidden, StetlineError
     from webapp.common import acting_name
     from webapp.db import workspace
 
     s = session()
     expected = request.form.get("count", type=int)
     pending = actions.clean_proposals(s)
+    by = acting_name()
+    try:
+        authorize(s, by, "accept")  # first: a refused account learns nothing about the queue
+    except Forbidden as exc:
+        return render_template("recheck/accept_clean.html", slots=pending, error=str(exc)), 403
     if expected != len(pending):
         return render_template("recheck/accept_clean.html", slots=pending,
                                error="The queue changed since you confirmed: check the count again."), 409
     try:
         with workspace().session() as ws_session:
-            done = actions.accept_all_clean(ws_session, by=acting_name())
+            done = actions.accept_all_clean(ws_session, by=by)
     except StetlineError as exc:
-        return render_template("recheck/accept_clean.html", slots=pending, error=str(exc)), 400
+        status = 403 if isinstance(exc, Forbidden) else 400
+        return render_template("recheck/accept_clean.html", slots=pending, error=str(exc)), status
     flash(f"Accepted the proposed text of {len(done)} statement(s) and approved them")
     return redirect(url_for("recheck.queue"), code=303)
 

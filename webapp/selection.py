@@ -50,10 +50,14 @@ class Selection:
             return ops.SlotFilter(topic=self.key, **f)
         return ops.SlotFilter(**{**f, "status": "recheck"})
 
-    def views(self, s: Session) -> list[actions.SlotView]:
-        """The statements of this selection, in the order the page lists them."""
+    def views(self, s: Session, *, limit: int | None = None, offset: int = 0) -> list[actions.SlotView]:
+        """The statements of this selection in the order the page lists them (or one page of them)."""
         order = "severity" if self.scope == "recheck" else "interest"
-        return actions.views(s, self.slot_filter(), order=order)
+        return actions.views(s, self.slot_filter(), order=order, limit=limit, offset=offset)
+
+    def count(self, s: Session) -> int:
+        """How many statements this selection holds."""
+        return ops.count_slots(s, self.slot_filter())
 
     @property
     def filtered(self) -> bool:

@@ -508,10 +508,6 @@ def list_slots(session: Session, f: SlotFilter, *, limit: int | None = None, off
         q = q.order_by(Slot.severity.desc(), Slot.id)
     else:
         q = q.order_by(Slot.id)
-    if f.reason:
-        # the reasons live in the slot's recheck JSON: filtered here, before paging
-        rows = [(s, d) for s, d in session.execute(q).all() if f.reason in (s.recheck or {}).get("reasons", [])]
-        return rows[offset:] if limit is None else rows[offset:offset + limit]
     if limit is not None:
         q = q.limit(limit).offset(offset)
     return [(s, d) for s, d in session.execute(q).all()]
@@ -526,15 +522,32 @@ def _filtered(q: Any, f: SlotFilter) -> Any:
         q = q.where(Slot.topic == f.topic)
     if f.status:
         q = q.where(Slot.status == f.status)
+    if f.reason:
+        q = q.where(_has_reason(f.reason))
     if not f.include_gone:
         q = q.where((Slot.gone.is_(False)) | (Slot.status == "recheck"))
     return q
 
 
+def _has_reason(reason: str) -> Any:
+    """Slots whose recheck JSON lists this reason (a reason outside the vocabulary: none).
+
+    The reasons are words of a fixed vocabulary, stored as JSON strings in ``recheck.reasons``;
+    no other part of that JSON holds one as a whole quoted string (a quote inside a proposed
+    text is escaped), so matching the quoted word in the JSON text is exact, and runs in the
+    database on SQLite and PostgreSQL alike.
+    """
+    from sqlalchemy import String, cast, false
+
+    from engine.reconcile import REASONS
+
+    if reason not in REASONS:
+        return false()
+    return cast(Slot.recheck, String).like(f'%"{reason}"%')
+
+
 def count_slots(session: Session, f: SlotFilter) -> int:
     """How many slots match a filter."""
-    if f.reason:
-        return len(list_slots(session, f))
     return int(session.scalar(_filtered(select(func.count()).select_from(Slot), f)) or 0)
 
 
@@ -554,6 +567,22 @@ def status_counts_by(session: Session, by: str) -> dict[str, dict[str, int]]:
     for key, status, n in session.execute(q).all():
         out.setdefault(key, {})[status] = int(n)
     return out
+
+
+def status_counts_of(session: Session, by: str, key: str) -> dict[str, int]:
+    """How many listed slots of one entity (``by="entity"``) or one topic are in each status."""
+    column = {"entity": Slot.entity, "topic": Slot.topic}[by]
+    q = select(Slot.status, func.count()).where(
+        column == key, (Slot.gone.is_(False)) | (Slot.status == "recheck")
+    ).group_by(Slot.status)
+    return {status: int(n) for status, n in session.execute(q).all()}
+
+
+def recheck_keys(session: Session, field: str) -> list[str]:
+    """The distinct kinds, entities or topics (``field``) of the slots waiting in recheck."""
+    column = {"kind": Slot.kind, "entity": Slot.entity, "topic": Slot.topic}[field]
+    q = select(column).where(Slot.status == "recheck", column.is_not(None)).distinct()
+    return sorted(str(k) for (k,) in session.execute(q))
 
 
 def recheck_reason_counts(session: Session) -> dict[str, int]:
@@ -585,6 +614,16 @@ def all_active_layers(session: Session) -> list[Layer]:
 def all_active_approvals(session: Session) -> list[Approval]:
     """Every active approval of the workspace."""
     return list(session.scalars(select(Approval).where(Approval.dropped_at.is_(None)).order_by(Approval.id)))
+
+
+def approvals_for(session: Session, slot_ids: Sequence[str]) -> dict[str, Approval]:
+    """The active approval of each of these slots that has one, by slot id."""
+    out: dict[str, Approval] = {}
+    for start in range(0, len(slot_ids), 900):
+        chunk = list(slot_ids[start:start + 900])
+        q = select(Approval).where(Approval.slot_id.in_(chunk), Approval.dropped_at.is_(None))
+        out.update((a.slot_id, a) for a in session.scalars(q))
+    return out
 
 
 def table_counts(session: Session) -> dict[str, int]:

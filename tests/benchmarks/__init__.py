@@ -1,1 +1,1 @@
-"""Benchmarks of a load at scale: a seeded data generator and a runner that prints ratios."""
+"""Benchmarks of a load at scale: a reproducible data generator and a runner that prints ratios."""

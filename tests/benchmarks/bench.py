@@ -13,7 +13,11 @@ slow machine moves both sides alike:
 * ``refresh``: loading the second edition against the first load;
 * ``no-op refresh``: loading the second edition's file again as a new edition against the first
   load; no draft, layer or approval row may be written;
-* ``memory``: the peak resident set size of the first load.
+* ``memory``: the peak resident set size of the first load;
+* ``pages``: the median and 95th-percentile times of the entity page, the topic page and the
+  recheck queue on the full-size workspace (after its refresh) divided by the same on a
+  workspace of about 3,000 statements (20 entities x 50 topics, refreshed the same way, with
+  human work on one slot in ten so that its queue holds more than a page); see ``pages.py``.
 
 Each line reads ``name: ratio (target ...) PASS|FAIL [raw seconds]``; with GNU time present the
 raw figures include each process's CPU time, a steadier guide than wall time on a shared machine.
@@ -45,6 +49,8 @@ TARGET_LOAD = 2.0
 TARGET_REFRESH = 1.5
 TARGET_NOOP = 0.5
 TARGET_MEMORY_MB = 2048
+TARGET_PAGES = 1.5
+SMALL = (20, 50)  # entities x topics of the 3,000-statement workspace the pages compare against
 
 # -- the floor ------------------------------------------------------------------------------
 
@@ -281,6 +287,10 @@ def run(args: argparse.Namespace, work: Path) -> bool:
     print(f"no-op refresh: edition {s3['edition']}, {s3['drafts_written']} drafts written "
           f"in {noop.seconds:.2f} s (peak RSS {noop.max_rss_mb or 0:.0f} MB)", flush=True)
 
+    pages_big = measure_pages(ws, args.page_requests)
+    small_ws = build_small(work, args.periods)
+    pages_small = measure_pages(small_ws, args.page_requests)
+
     ok = True
     print()
     r = first.seconds / floor.seconds
@@ -308,6 +318,47 @@ def run(args: argparse.Namespace, work: Path) -> bool:
         ok &= good
         print(f"memory: {gb:.2f} GB (target < {TARGET_MEMORY_MB / 1024:g} GB) {verdict(good)} "
               f"[peak RSS of the first load {first.max_rss_mb:.0f} MB; floor {floor.max_rss_mb or 0:.0f} MB]")
+    ok &= report_pages(pages_small, pages_big, counts(small_ws / "stetline.db")["slot"], slots)
+    return ok
+
+
+def build_small(work: Path, periods: int) -> Path:
+    """The workspace the pages are compared against: about 3,000 statements, refreshed once."""
+    import synthetic
+
+    paths = synthetic.write(work / "small-data", SMALL[0], SMALL[1], periods)
+    ws = work / "small-ws"
+    cli = stetline()
+    timed([cli, "init", "-w", str(ws)], work)
+    load = [cli, "load", "-w", str(ws), "--by", BY, "--json"]
+    timed(load + [str(paths["observations"]), "--topics", str(paths["topics"]),
+                  "--entities", str(paths["entities"])], work)
+    add_human_work(ws, 10)
+    timed(load + [str(paths["observations2"])], work)
+    return ws
+
+
+def measure_pages(ws: Path, requests: int) -> dict[str, list[float]]:
+    """Page times of one workspace, measured in a process of its own."""
+    out = timed([sys.executable, str(HERE / "pages.py"), "--measure", str(ws), "--requests", str(requests)], ws.parent)
+    return json.loads(out.stdout)
+
+
+def report_pages(small: dict[str, list[float]], big: dict[str, list[float]], n_small: int, n_big: int) -> bool:
+    """Print the median and p95 ratio of each page; True when every ratio meets its target."""
+    from pages import PAGES, summary
+
+    ok = True
+    queues = f"in recheck: {int(small['_in_recheck'][0]):,} and {int(big['_in_recheck'][0]):,}"
+    for name in PAGES:
+        (m_s, p_s), (m_b, p_b) = summary(small[name]), summary(big[name])
+        rm, rp = m_b / m_s, p_b / p_s
+        good = rm <= TARGET_PAGES and rp <= TARGET_PAGES
+        ok &= good
+        print(f"{name}: median {rm:.2f}, p95 {rp:.2f} (target <= {TARGET_PAGES:g}) {verdict(good)} "
+              f"[{n_small:,} statements {m_s * 1000:.0f} / {p_s * 1000:.0f} ms, "
+              f"{n_big:,} statements {m_b * 1000:.0f} / {p_b * 1000:.0f} ms"
+              + (f"; {queues}]" if name == "recheck queue" else "]"))
     return ok
 
 
@@ -322,6 +373,8 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--periods", type=int, default=5)
     parser.add_argument("--human-share", type=int, default=500,
                         help="add human work to about one slot in this many (default 500)")
+    parser.add_argument("--page-requests", type=int, default=40,
+                        help="requests of each page per workspace for the page ratios (default 40)")
     parser.add_argument("--keep", type=Path, default=None,
                         help="work in this folder and keep it (default: a temporary folder, removed)")
     parser.add_argument("--strict", action="store_true", help="exit 1 when a target is missed")

@@ -1,4 +1,4 @@
-"""A seeded generator of synthetic editions: E entities x T topics x P yearly periods.
+"""A reproducible generator of synthetic editions (fixed random state): E entities x T topics x P yearly periods.
 
 Writes CLI-loadable files into OUT_DIR:
 
