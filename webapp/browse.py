@@ -82,9 +82,10 @@ def topic(key: str) -> str:
 
 
 def _listing(s: Session, sel: Selection, title: str, subtitle: str) -> str:
-    page = current_page(sel.count(s))
-    items = sel.views(s, limit=page.size, offset=page.offset)
     every = ops.status_counts_of(s, sel.scope, sel.key or "")
+    status = sel.filters.get("status")
+    page = current_page(every.get(status, 0) if status else sum(every.values()))
+    items = sel.views(s, limit=page.size, offset=page.offset)
     return render_template("browse/statements.html", what=sel.scope, title=title, subtitle=subtitle,
                            rows=_rows(s, items), selection=sel, statuses=actions.STATUSES, every=every,
                            total=sum(every.values()), page=page)

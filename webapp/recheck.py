@@ -37,13 +37,8 @@ def queue() -> str:
         current, proposed = review_texts(v, data)
         items.append({**data, "severity": v.slot.severity, "review_current": current,
                       "review_diff": diff(current, proposed) if proposed else None})
-    entities, topics = set(ops.recheck_keys(s, "entity")), set(ops.recheck_keys(s, "topic"))
-    options = {
-        "reason": [(r, r) for r in REASONS],
-        "kind": [(k, k) for k in ops.recheck_keys(s, "kind")],
-        "entity": [(e.key, e.name) for e in ops.entity_rows(s) if e.key in entities],
-        "topic": [(t.key, t.label) for t in ops.topic_rows(s) if t.key in topics],
-    }
+    options = {"reason": [(r, r) for r in REASONS]}
+    options.update((field, ops.recheck_options(s, field)) for field in ("kind", "entity", "topic"))
     return render_template("recheck/queue.html", items=items, total=total, chosen=chosen, page=page,
                            options=options, back_to=request.full_path.rstrip("?"), selection=selection)
 

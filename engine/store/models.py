@@ -123,9 +123,11 @@ class Slot(Base):
     updated_at: Mapped[datetime] = mapped_column(default=utcnow)
 
     __table_args__ = (
-        Index("ix_slot_entity_interest", "entity", "interest"),
-        Index("ix_slot_topic_interest", "topic", "interest"),
-        Index("ix_slot_status_severity", "status", "severity"),
+        # the entity and topic pages: a page by interest (ties by id) read off the index, and
+        # the status counts from the index alone; the recheck queue by severity, ties by id
+        Index("ix_slot_entity_listing", "entity", "interest", "id", "status", "gone"),
+        Index("ix_slot_topic_listing", "topic", "interest", "id", "status", "gone"),
+        Index("ix_slot_recheck_queue", "status", "severity", "id"),
         Index("ix_slot_kind", "kind"),
     )
 

@@ -502,10 +502,11 @@ def list_slots(session: Session, f: SlotFilter, *, limit: int | None = None, off
     """Slots with their current drafts, filtered; ordered by id, or by interest or severity."""
     q = select(Slot, Draft).outerjoin(Draft, Draft.id == Slot.draft_id)
     q = _filtered(q, f)
+    # ties go by id, in the same direction, so one backward scan of an index gives the order
     if order == "interest":
-        q = q.order_by(Slot.interest.desc(), Slot.id)
+        q = q.order_by(Slot.interest.desc(), Slot.id.desc())
     elif order == "severity":
-        q = q.order_by(Slot.severity.desc(), Slot.id)
+        q = q.order_by(Slot.severity.desc(), Slot.id.desc())
     else:
         q = q.order_by(Slot.id)
     if limit is not None:
@@ -578,11 +579,18 @@ def status_counts_of(session: Session, by: str, key: str) -> dict[str, int]:
     return {status: int(n) for status, n in session.execute(q).all()}
 
 
-def recheck_keys(session: Session, field: str) -> list[str]:
-    """The distinct kinds, entities or topics (``field``) of the slots waiting in recheck."""
+def recheck_options(session: Session, field: str) -> list[tuple[str, str]]:
+    """The kinds, entities or topics (``field``) of the slots waiting in recheck, each with the
+    name to show: kinds sorted, entities and topics in file order."""
     column = {"kind": Slot.kind, "entity": Slot.entity, "topic": Slot.topic}[field]
-    q = select(column).where(Slot.status == "recheck", column.is_not(None)).distinct()
-    return sorted(str(k) for (k,) in session.execute(q))
+    waiting = select(column).where(Slot.status == "recheck", column.is_not(None)).distinct()
+    if field == "kind":
+        return sorted((str(k), str(k)) for (k,) in session.execute(waiting))
+    if field == "entity":
+        q = select(Entity.key, Entity.name).where(Entity.key.in_(waiting)).order_by(Entity.position)
+    else:
+        q = select(Topic.key, Topic.label).where(Topic.key.in_(waiting)).order_by(Topic.position)
+    return [(str(k), str(n)) for k, n in session.execute(q)]
 
 
 def recheck_reason_counts(session: Session) -> dict[str, int]:
