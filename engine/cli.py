@@ -69,8 +69,17 @@ def _is_loopback(host: str) -> bool:
         return False
 
 
+def _closing(ws: Workspace) -> Workspace:
+    """Close the workspace (releasing its database connections) when the running command ends,
+    however it ends."""
+    ctx = click.get_current_context(silent=True)
+    if ctx is not None:
+        ctx.call_on_close(ws.close)
+    return ws
+
+
 def _open(path: Path | None) -> Workspace:
-    return open_workspace(path or default_path())
+    return _closing(open_workspace(path or default_path()))
 
 
 def _echo_json(data: Any) -> None:
@@ -88,7 +97,7 @@ def main() -> None:
 @handle_errors
 def init(workspace: Path | None) -> None:
     """Create a workspace (or bring an existing one to the newest schema)."""
-    ws = init_workspace(workspace or default_path())
+    ws = _closing(init_workspace(workspace or default_path()))
     click.echo(f"workspace ready: {ws.path}")
 
 
@@ -718,12 +727,13 @@ def demo(no_serve: bool, host: str, port: int, workspace: Path | None) -> None:
     path = workspace or default_path()
     if path.exists() and any(path.iterdir()) and not (is_workspace(path) and demo_mod.is_demo(path)):
         raise StetlineError(f"{path} already holds other work; give an empty folder with -w")
-    ws = demo_mod.build(path, echo=click.echo)
+    built = demo_mod.build(path, echo=click.echo)
+    built.close()  # serving opens the workspace again
     if no_serve:
-        click.echo(f"demo workspace ready in {ws.path}; serve it with: stetline serve -w {ws.path}")
+        click.echo(f"demo workspace ready in {built.path}; serve it with: stetline serve -w {built.path}")
         return
     ctx = click.get_current_context()
-    ctx.invoke(serve, host=host, port=port, workspace=ws.path)
+    ctx.invoke(serve, host=host, port=port, workspace=built.path)
 
 
 @main.command(name="backup")

@@ -259,6 +259,7 @@ def load_edition(
     with _gc_paused(), ws.session() as session:
         if not dry_run:
             authorize(session, by, "load")
+            ops.hold_writers(session)  # before reading anything the load reconciles against
         dataset = load_dataset(
             observations, topics, entities,
             known_topics=ops.topics_frame(session), known_entities=ops.entities_frame(session),
@@ -339,6 +340,7 @@ def redraft(ws: Workspace, *, by: str) -> LoadSummary:
     """Redraft the current edition (after a phrasing or house-style change) and reconcile."""
     with _gc_paused(), ws.session() as session:
         authorize(session, by, "redraft")
+        ops.hold_writers(session)
         edition = ops.current_edition(session)
         if edition is None:
             raise StetlineError("nothing to redraft: load an edition first (stetline load)")

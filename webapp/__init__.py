@@ -9,6 +9,7 @@ from __future__ import annotations
 from typing import Any
 
 from flask import Flask, g, render_template
+from sqlalchemy.exc import OperationalError
 from werkzeug.exceptions import HTTPException
 
 from engine.workspace import Workspace
@@ -96,6 +97,29 @@ def _error_pages(app: Flask) -> None:
     def _csrf(exc: CSRFError) -> tuple[str, int]:
         exc.description = f"The form was refused ({exc.description}); reload the page and try again."
         return page(exc, "Form refused")
+
+    @app.errorhandler(OperationalError)
+    def _busy(exc: OperationalError) -> tuple[str, int, dict[str, str]]:
+        if not _is_busy(exc):
+            raise exc
+        message = ("The workspace is busy: another change, such as a data load, is being written. "
+                   "Nothing was saved; try again in a minute.")
+        return render_template("error.html", heading="Workspace busy", message=message), 503, \
+            {"Retry-After": str(BUSY_RETRY_SECONDS)}
+
+
+#: SQLite's messages and PostgreSQL's SQLSTATEs for a writer that gave up waiting for a lock
+_SQLITE_BUSY = ("database is locked", "database table is locked", "database is busy")
+_POSTGRES_BUSY = frozenset({"55P03", "40P01", "40001"})  # lock not available, deadlock, serialization
+BUSY_RETRY_SECONDS = 30
+
+
+def _is_busy(exc: OperationalError) -> bool:
+    """True when the database refused a write because another transaction held its lock."""
+    orig = exc.orig
+    if getattr(orig, "sqlstate", None) in _POSTGRES_BUSY:
+        return True
+    return any(text in str(orig).lower() for text in _SQLITE_BUSY)
 
 
 def _size(n: int) -> str:

@@ -21,7 +21,7 @@ from werkzeug.datastructures import FileStorage
 from werkzeug.utils import secure_filename
 from werkzeug.wrappers import Response
 
-from engine import loading
+from engine import accounts, loading
 from engine.errors import Forbidden, Problem, StetlineError, ValidationError
 from engine.reconcile import REASONS
 from engine.store import ops
@@ -98,10 +98,23 @@ def _sources(folder: Path, manifest: dict[str, Any]) -> dict[str, Path | None]:
     return {role: (folder / manifest["files"][role]) if role in manifest["files"] else None for role in ROLES}
 
 
+def _refused() -> tuple[str, int] | None:
+    """The 403 page when the acting account may not load data (checked before any file is kept or
+    claimed), else None."""
+    try:
+        accounts.authorize(session(), acting_name(), "load")
+    except Forbidden as exc:
+        return _page(status=403, form_error=str(exc))
+    return None
+
+
 @bp.post("/data")
 def check() -> tuple[str, int]:
     """Keep the uploaded files and show what loading them would do (a dry run: nothing written)."""
     sweep()
+    refused = _refused()
+    if refused is not None:
+        return refused
     uploads = {role: request.files.get(role) for role in ROLES}
     label = (request.form.get("label") or "").strip()[:MAX_LABEL] or None
     chosen = {role: f for role, f in uploads.items() if f is not None and f.filename}
@@ -140,6 +153,9 @@ def check() -> tuple[str, int]:
 @bp.post("/data/load")
 def load() -> Response | tuple[str, int]:
     """Load the files a dry run checked, then remove them."""
+    refused = _refused()  # before claiming the upload: a refused request leaves it waiting
+    if refused is not None:
+        return refused
     token = request.form.get("token", "")
     waiting = uploads_dir() / token
     folder = uploads_dir() / f"{token}{CLAIMED}"

@@ -65,7 +65,7 @@ def accept_clean() -> Any:
     pending = actions.clean_proposals(s)
     by = acting_name()
     try:
-        authorize(s, by, "accept")  # first: a refused account learns nothing about the queue
+        authorize(s, by, "accept")  # first, so that a refused account is told why, whatever the count
     except Forbidden as exc:
         return render_template("recheck/accept_clean.html", slots=pending, error=str(exc)), 403
     if expected != len(pending):

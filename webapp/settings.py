@@ -9,7 +9,7 @@ from flask import Blueprint, flash, redirect, render_template, request, url_for
 from werkzeug.wrappers import Response
 
 from engine import configure, loading, settings as settings_mod
-from engine.errors import StetlineError
+from engine.errors import Forbidden, StetlineError
 from engine.store import ops
 from webapp.common import acting_name
 from webapp.db import session, workspace
@@ -91,10 +91,12 @@ def save() -> Response | tuple[str, int]:
 
 
 @bp.post("/settings/redraft")
-def redraft() -> Response:
+def redraft() -> Response | tuple[str, int]:
     """Redraft the current edition so that drafts follow the house style."""
     try:
         summary = loading.redraft(workspace(), by=acting_name())
+    except Forbidden as exc:  # the account may not redraft: a refusal, not a message after the fact
+        return _page(refused=str(exc), status=403)
     except StetlineError as exc:
         flash(f"Nothing was redrafted: {exc}")
         return redirect(url_for("settings.page"), code=303)
