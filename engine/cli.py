@@ -123,13 +123,17 @@ def load(observations: Path, topics: Path | None, entities: Path | None, label: 
 
 
 @main.command()
+@click.option("--json", "as_json", is_flag=True, help="Print the summary as JSON.")
 @workspace_option
 @by_option
 @handle_errors
-def redraft(workspace: Path | None, by: str) -> None:
+def redraft(as_json: bool, workspace: Path | None, by: str) -> None:
     """Redraft the current edition after a phrasing or house-style change."""
     summary = loading.redraft(_open(workspace), by=by)
-    click.echo("\n".join(summary.lines()))
+    if as_json:
+        _echo_json(summary.to_json())
+    else:
+        click.echo("\n".join(summary.lines()))
 
 
 @main.command()

@@ -348,7 +348,10 @@ def redraft(ws: Workspace, *, by: str) -> LoadSummary:
         assert topics is not None and entities is not None
         obs = _with_times(ops.observations_frame(session), edition.period_format)
         previous = [e for e in ops.editions(session) if e.id < edition.id]
-        earlier = ops.observations_frame(session, previous[-1].id) if previous else None
+        earlier = None
+        if previous:  # what the edition's own load compared against, so a redraft agrees with it
+            stored = ops.observations_frame(session, previous[-1].id)
+            earlier = _held(session, obs, stored, before=edition.id)
         ctx = edition_context(session, obs, topics, entities, earlier, edition.label)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
@@ -362,17 +365,19 @@ def redraft(ws: Workspace, *, by: str) -> LoadSummary:
     return summary
 
 
-def _held(session: Session, new: pd.DataFrame, stored: pd.DataFrame | None = None) -> pd.DataFrame:
+def _held(session: Session, new: pd.DataFrame, stored: pd.DataFrame | None = None,
+          before: int | None = None) -> pd.DataFrame:
     """What earlier editions held for each observation, to tell a revised figure from a new one.
 
-    A value that differs from the current one was revised by this load; a value equal to the
-    current one keeps the revision the current edition made (so reloading the same data
-    changes nothing).
+    A value that differs from the stored one was revised by this load; a value equal to the
+    stored one keeps the revision the stored edition made (so reloading the same data changes
+    nothing). ``stored`` is the edition compared against (default: the current one); a redraft
+    passes the edition before its own and ``before`` = its own id, to see what its load saw.
     """
     if stored is None:
         stored = ops.observations_frame(session)
     current = stored[["entity", "topic", "period", "value"]]
-    replaced = ops.replaced_values(session)
+    replaced = ops.replaced_values(session, before)
     keys = ["entity", "topic", "period"]
     merged = current.merge(new[keys + ["value"]], on=keys, how="left", suffixes=("", "_new"))
     if not replaced.empty:

@@ -283,3 +283,20 @@ def test_a_load_that_fails_while_writing_leaves_the_workspace_as_it_was(
         loading.load_edition(ws, demo_files / "observations-2024.csv", by="admin", label="again")
     ws.close()
     assert _snapshot(demo_path) == before
+
+
+def test_a_redraft_sees_the_revisions_its_load_saw(demo_cli: Cli, demo_files: Path) -> None:
+    # the 2025 edition revised Shellby Sands' 2024 recycling (demo_data/README.md); loading the
+    # same file again keeps that revision on record, and so must a redraft of the reload:
+    # neither may reword a statement, however often they alternate
+    import json
+
+    reload = ["load", str(demo_files / "observations-2025.csv"), "--json", "--by", "admin"]
+    assert json.loads(demo_cli(*reload).stdout)["drafts_written"] == 0
+    revised = demo_cli.json("show", "change/shellby-sands/recycling")
+    assert "revised_from" in revised["evidence"]
+    for _ in range(2):
+        redrafted = json.loads(demo_cli("redraft", "--json", "--by", "admin").stdout)
+        assert redrafted["drafts_written"] == 0 and redrafted["sent_to_recheck"] == 0
+        assert json.loads(demo_cli(*reload).stdout)["drafts_written"] == 0
+    assert demo_cli.json("show", "change/shellby-sands/recycling")["evidence"] == revised["evidence"]

@@ -662,11 +662,14 @@ def get_topic(session: Session, key: str) -> Topic | None:
     return session.get(Topic, key)
 
 
-def replaced_values(session: Session) -> pd.DataFrame:
-    """For each observation key that was revised, the value it held before its latest revision."""
+def replaced_values(session: Session, before: int | None = None) -> pd.DataFrame:
+    """For each observation key that was revised, the value it held before its latest revision
+    (with ``before``, its latest revision by an edition older than that edition id)."""
     q = select(Observation.entity, Observation.topic, Observation.period, Observation.value, Observation.valid_to).where(
         Observation.valid_to.is_not(None)
     )
+    if before is not None:
+        q = q.where(Observation.valid_to < before)
     frame = _frame(session.execute(q).all(), ["entity", "topic", "period", "value", "valid_to"], ("value",))
     if frame.empty:
         return frame.drop(columns=["valid_to"])
