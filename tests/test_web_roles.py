@@ -492,3 +492,38 @@ def test_the_https_setting_saved_on_the_settings_page_applies_at_the_next_start(
     assert "secure" not in cookie_flags(session_cookie(app))  # this running app keeps its cookie flags
     restarted = create_app(team, {"TESTING": True, "WTF_CSRF_ENABLED": False})
     assert "secure" in cookie_flags(session_cookie(restarted))
+
+
+# -- pages offer only what the role may do ------------------------------------------------------
+
+def forms_on(html: str) -> set[str]:
+    """The actions of the forms a page offers (their last path segment), and formaction buttons."""
+    found = re.findall(r'(?:action|formaction)="([^"]+)"', html)
+    return {url.rstrip("/").rsplit("/", 1)[-1] for url in found}
+
+
+def test_a_statement_page_offers_each_role_only_its_own_actions(app: Flask) -> None:
+    # the server refuses the rest anyway (the matrix above); the page does not offer them
+    offered = {role: forms_on(sign_in(app, role).get(f"/statements/{REWRITTEN}").get_data(as_text=True))
+               for role in ROLES}
+    assert {"annotate", "comment"} <= offered["expert"]
+    assert not offered["expert"] & {"rewrite", "pin", "suppress", "revert", "approve", "accept", "send-back"}
+    assert {"rewrite", "pin", "suppress", "revert", "annotate", "comment"} <= offered["editor"]
+    assert not offered["editor"] & {"approve", "accept", "send-back"}
+    for role in ("reviewer", "admin"):
+        assert {"rewrite", "pin", "suppress", "revert", "approve", "annotate", "comment", "send-back"} <= offered[role]
+    html = sign_in(app, "expert").get(f"/statements/{REWRITTEN}").get_data(as_text=True)
+    assert "Signed in as expert (expert): you may add notes and comments here" in html
+
+
+def test_the_data_settings_and_publish_pages_offer_their_forms_to_an_admin_only(app: Flask) -> None:
+    for role in ROLES:
+        client = sign_in(app, role)
+        data = client.get("/data").get_data(as_text=True)
+        settings_page = client.get("/settings").get_data(as_text=True)
+        publish = client.get("/publish").get_data(as_text=True)
+        admin = role == "admin"
+        assert ('action="/data"' in data) == admin, role
+        assert ("Loading data is for an admin" in data) == (not admin), role
+        assert ("Save settings</button>" in settings_page) == admin, role
+        assert ('action="/publish/download"' in publish) == admin, role

@@ -104,6 +104,19 @@ def logout() -> Response:
     return redirect(url_for("auth.login_form") if accounts_on() else url_for("overview.index"), code=303)
 
 
+@bp.app_template_global("may")
+def may(action: str) -> bool:
+    """Whether the acting account's role allows an action (anyone may, without accounts).
+
+    Pages use it to offer only the controls a role can use; the server still checks every
+    action when it is posted, whatever the page offered.
+    """
+    if not accounts_on():
+        return True
+    who = signed_in()
+    return who is not None and who[1] in accounts.PERMISSIONS[action]
+
+
 @bp.app_context_processor
 def _who() -> dict[str, Any]:
     if request.endpoint == "static":
