@@ -111,6 +111,20 @@ def in_thread(fn: Callable[[], Any]) -> tuple[threading.Thread, dict[str, Any]]:
     return thread, out
 
 
+def saved_while_held(load: PausedLoad, other: Workspace, save: Callable[[], Any]) -> dict[str, Any]:
+    """Start a save from ``other`` while the load is held, check that it waits for the load,
+    release the load, and give the save's outcome once it has finished."""
+    saving = began(other)
+    saver, saved = in_thread(save)
+    assert saving.wait(WAIT)
+    saver.join(0.5)
+    assert saver.is_alive(), f"the save went ahead beside the load: {saved}"
+    load.release.set()
+    saver.join(WAIT)
+    assert not saver.is_alive() and "error" not in saved, saved.get("error")
+    return saved
+
+
 @pytest.fixture
 def other(demo_ws: Workspace) -> Iterator[Workspace]:
     """The same workspace opened a second time: its own engine and connections, as another process."""
@@ -163,20 +177,12 @@ def test_a_save_during_a_load_waits_and_lands_on_the_new_edition(
 ) -> None:
     """A rewrite sent while a load writes (as ``stetline rewrite`` does: no version) waits for the
     load, then is made against the new edition's draft."""
-    saving = began(other)
-
     def save() -> str:
         with other.session() as s:
             return actions.rewrite(s, SLOT, REWRITE, by="eve").status
 
     with load_held(demo_ws, revised, monkeypatch) as load:
-        saver, saved = in_thread(save)
-        assert saving.wait(WAIT)
-        saver.join(0.5)
-        assert saver.is_alive(), f"the save went ahead beside the load: {saved}"
-        load.release.set()
-    saver.join(WAIT)
-    assert not saver.is_alive() and "error" not in saved, saved.get("error")
+        saved = saved_while_held(load, other, save)
 
     after = outcome(demo_ws)
     assert after.rewrites == [("eve", REWRITE)]  # recorded exactly once
@@ -203,14 +209,7 @@ def test_a_web_save_from_a_page_opened_before_the_load_is_refused_as_a_conflict(
     form = {"version": str(seen_version), "text": REWRITE, "started_from": seen_draft, "by": "eve"}
 
     with load_held(demo_ws, revised, monkeypatch) as load:
-        saving = began(other)
-        saver, saved = in_thread(lambda: client.post(f"/statements/{SLOT}/rewrite", data=form))
-        assert saving.wait(WAIT)
-        saver.join(0.5)
-        assert saver.is_alive(), f"the save went ahead beside the load: {saved}"
-        load.release.set()
-    saver.join(WAIT)
-    assert not saver.is_alive() and "error" not in saved, saved.get("error")
+        saved = saved_while_held(load, other, lambda: client.post(f"/statements/{SLOT}/rewrite", data=form))
 
     response = saved["result"]
     body = html.unescape(response.get_data(as_text=True))
