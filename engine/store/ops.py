@@ -663,18 +663,25 @@ def get_topic(session: Session, key: str) -> Topic | None:
 
 
 def replaced_values(session: Session, before: int | None = None) -> pd.DataFrame:
-    """For each observation key that was revised, the value it held before its latest revision
-    (with ``before``, its latest revision by an edition older than that edition id)."""
-    q = select(Observation.entity, Observation.topic, Observation.period, Observation.value, Observation.valid_to).where(
-        Observation.valid_to.is_not(None)
+    """For each current observation that replaced an earlier value, the value it replaced.
+
+    That is the row the current one took over from: same key, closed by the edition that opened
+    the current row. A key that left the data and came back later replaced nothing (the load
+    that brought it back had nothing to compare it with). With ``before``, only rows closed by
+    an edition older than that edition id count (what that edition's own load saw). One probe of
+    the observation index per current row, however many editions are stored.
+    """
+    from sqlalchemy.orm import aliased
+
+    old, cur = aliased(Observation), aliased(Observation)
+    q = select(old.entity, old.topic, old.period, old.value).join(
+        cur, (cur.valid_to.is_(None)) & (cur.entity == old.entity) & (cur.topic == old.topic)
+        & (cur.period == old.period) & (old.valid_to == cur.valid_from),
     )
     if before is not None:
-        q = q.where(Observation.valid_to < before)
-    frame = _frame(session.execute(q).all(), ["entity", "topic", "period", "value", "valid_to"], ("value",))
-    if frame.empty:
-        return frame.drop(columns=["valid_to"])
-    frame = frame.sort_values("valid_to").drop_duplicates(OBS_KEY, keep="last")
-    return frame.drop(columns=["valid_to"]).astype({"value": "float64"})
+        q = q.where(old.valid_to < before)
+    frame = _frame(session.execute(q).all(), ["entity", "topic", "period", "value"], ("value",))
+    return frame.astype({"value": "float64"}) if not frame.empty else frame
 
 
 def drafts_as_of(session: Session, edition_id: int) -> dict[str, Draft]:
