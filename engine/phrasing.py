@@ -439,6 +439,7 @@ def starts_with_figure(sentence: str) -> bool:
 
 
 _ASCII_SPACE_RUN: Final = re.compile(r"[ \t\r\n\f\v]+")
+_SPLIT_ALSO_AT: Final = re.compile("[\x1c-\x1f]")  # str.split() takes these for whitespace too
 _SPACE_BEFORE_PUNCT: Final = re.compile(r" (?=[,.;:!?)])")
 _SPACE_AFTER_OPEN: Final = re.compile(r"(?<=\() ")
 _SENTENCE_BREAK: Final = re.compile(r"(?<=[.?!])[ \t\r\n\f\v]+")
@@ -452,7 +453,13 @@ def sentences(text: str) -> list[str]:
 def tidy(text: str) -> str:
     """Collapse whitespace runs to one space and drop spaces before , . ; : ! ? ) and after (."""
     # Only ASCII whitespace: the no-break spaces inside "12 345,7" or "45,2 %" must stay.
-    out = _ASCII_SPACE_RUN.sub(" ", str(text))
+    text = str(text)
+    if text.isascii() and _SPLIT_ALSO_AT.search(text) is None:
+        # str.split() splits at exactly the ASCII whitespace here (and \x1c-\x1f, ruled out):
+        # several times faster than the regex, on every drafted statement
+        out = " ".join(text.split())
+    else:
+        out = _ASCII_SPACE_RUN.sub(" ", text)
     out = _SPACE_BEFORE_PUNCT.sub("", out)
     out = _SPACE_AFTER_OPEN.sub("", out)
     return out.strip(" ")

@@ -14,6 +14,7 @@ than computed are marked "from memory".
 
 from __future__ import annotations
 
+import re
 from collections.abc import Callable
 from decimal import Decimal
 from typing import Any
@@ -801,3 +802,17 @@ def test_inflect_without_its_run_time_checks_gives_the_same_words() -> None:
     assert out[1] == str([INFLECT.ordinal(n) for n in (1, 2, 3, 11, 12, 13, 21, 112, 1003)])
     assert out[2] == str([INFLECT.a(w) for w in ("hour", "unicorn", "apple", "rise")])
     assert out[3] == "True", "typeguard's decorator is put back after inflect imports"
+
+
+def _tidy_by_regex(text: str) -> str:
+    # the rule as first written (common practice: collapse ASCII whitespace, no space before
+    # closing punctuation or after an opening bracket); tidy's fast path must agree with it
+    out = re.sub(r"[ \t\r\n\f\v]+", " ", text)
+    out = re.sub(r" (?=[,.;:!?)])", "", out)
+    return re.sub(r"(?<=\() ", "", out).strip(" ")
+
+
+@settings(max_examples=400, deadline=None)
+@given(st.text(alphabet=st.sampled_from(list(" \t\r\n\f\v\x1c\x1f\xa0\u202f,.;:!?()ab5%")), max_size=40))
+def test_tidy_fast_path_agrees_with_the_rule(text: str) -> None:
+    assert tidy(text) == _tidy_by_regex(text)
