@@ -281,9 +281,9 @@ class SlotView:
             "text": published_text(session, self.slot, self.draft, self.layers, live),
             "draft": self.draft.text,
             "layer": None if text_layer is None else {
-                "type": text_layer.type, "text": text_layer.text, "by": text_layer.by, "at": _iso(text_layer.at),
+                "type": text_layer.type, "text": text_layer.text, "by": text_layer.by, "at": iso_time(text_layer.at),
             },
-            "notes": [{"text": x.text, "by": x.by, "at": _iso(x.at)} for x in self.layers if x.type == "annotate"],
+            "notes": [{"text": x.text, "by": x.by, "at": iso_time(x.at)} for x in self.layers if x.type == "annotate"],
             "suppressed": suppressed,
             "recheck": recheck,
             "evidence": self.draft.evidence,
@@ -294,7 +294,8 @@ class SlotView:
         }
 
 
-def _iso(at: Any) -> str:
+def iso_time(at: Any) -> str:
+    """A stored time as shown and compared on pages: ISO 8601 in UTC to the second ("...Z")."""
     return at.isoformat(timespec="seconds") + "Z" if at is not None else ""
 
 
@@ -320,7 +321,7 @@ def views(session: Session, f: ops.SlotFilter, *, order: str = "id", limit: int 
 def history(session: Session, slot_id: str) -> list[dict[str, Any]]:
     """A slot's events, oldest first, as JSON objects."""
     return [
-        {"at": _iso(e.at), "by": e.by, "action": e.action, "before": e.before, "after": e.after, "detail": e.detail}
+        {"at": iso_time(e.at), "by": e.by, "action": e.action, "before": e.before, "after": e.after, "detail": e.detail}
         for e in ops.events_for(session, slot_id)
     ]
 

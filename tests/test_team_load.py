@@ -215,6 +215,7 @@ def test_a_web_save_from_a_page_opened_before_the_load_is_refused_as_a_conflict(
     body = html.unescape(response.get_data(as_text=True))
     assert response.status_code == 409, body[:2000]
     assert "Your text was not saved; nothing is lost" in body and REWRITE in body
+    assert "<h1>A data load changed this statement</h1>" in body and f"the load of edition {LABEL} by admin" in body
     after = outcome(demo_ws)
     assert after.rewrites == [] and after.layer is None  # nothing attached to the old edition
     assert after.conflicts == [("eve", REWRITE)]  # the refused attempt is in the history

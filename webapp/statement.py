@@ -167,6 +167,12 @@ def _conflict(slot_id: str, yours: str, started_from: str, by: str) -> tuple[str
         view = actions.view(s, slot_id)
         theirs = actions.published_text(s, view.slot, view.draft, view.layers) or view.draft.text
         last = next((e for e in reversed(actions.history(s, slot_id)) if e["action"] not in ("recheck",)), None)
+        edition = ops.current_edition(s)
+        if edition is not None and view.draft.edition_id == edition.id:
+            loaded = actions.iso_time(edition.loaded_at)
+            if last is None or last["at"] < loaded:  # a data load redrafted it after the last edit
+                last = {"action": f"the load of edition {edition.label}", "by": edition.loaded_by, "at": loaded,
+                        "load": True}
         ops.add_event(s, by, "conflict", slot_id, before=theirs, after=yours,
                       detail={"refused": "the statement changed since the page was opened"})
         version = view.slot.version
