@@ -124,10 +124,11 @@ class Slot(Base):
 
     __table_args__ = (
         # the entity and topic pages: a page by interest (ties by id) read off the index, and
-        # the status counts from the index alone; the recheck queue by severity, ties by id
+        # the status counts from the index alone; the recheck queue by severity (ties by id),
+        # its count and its filter choices from the index alone
         Index("ix_slot_entity_listing", "entity", "interest", "id", "status", "gone"),
         Index("ix_slot_topic_listing", "topic", "interest", "id", "status", "gone"),
-        Index("ix_slot_recheck_queue", "status", "severity", "id"),
+        Index("ix_slot_recheck_queue", "status", "severity", "id", "gone", "kind", "entity", "topic"),
         Index("ix_slot_kind", "kind"),
     )
 

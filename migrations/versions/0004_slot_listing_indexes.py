@@ -1,9 +1,10 @@
 """slot listing indexes cover the status counts
 
 The entity and topic pages list a page of statements by interest (ties by id) and count the
-statements of each status; the recheck queue lists by severity (ties by id). With the id in the
-index a page is read off it without sorting, and with status and gone in it the counts read the
-index alone, however many statements an entity or a topic has.
+statements of each status; the recheck queue lists by severity (ties by id), counts what waits
+and offers the kinds, entities and topics waiting as filters. With the id in the index a page is
+read off it without sorting, and with the other columns in it the counts and the filter choices
+read the index alone, however many statements the workspace has.
 
 Revision ID: 0004
 Revises: 0003
@@ -28,7 +29,8 @@ def upgrade() -> None:
         batch_op.drop_index('ix_slot_status_severity')
         batch_op.create_index('ix_slot_entity_listing', ['entity', 'interest', 'id', 'status', 'gone'], unique=False)
         batch_op.create_index('ix_slot_topic_listing', ['topic', 'interest', 'id', 'status', 'gone'], unique=False)
-        batch_op.create_index('ix_slot_recheck_queue', ['status', 'severity', 'id'], unique=False)
+        batch_op.create_index('ix_slot_recheck_queue', ['status', 'severity', 'id', 'gone', 'kind', 'entity', 'topic'],
+                              unique=False)
 
 
 def downgrade() -> None:

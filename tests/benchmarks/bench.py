@@ -287,9 +287,8 @@ def run(args: argparse.Namespace, work: Path) -> bool:
     print(f"no-op refresh: edition {s3['edition']}, {s3['drafts_written']} drafts written "
           f"in {noop.seconds:.2f} s (peak RSS {noop.max_rss_mb or 0:.0f} MB)", flush=True)
 
-    pages_big = measure_pages(ws, args.page_requests)
     small_ws = build_small(work, args.periods)
-    pages_small = measure_pages(small_ws, args.page_requests)
+    pages = measure_pages(small_ws, ws, args.page_requests)
 
     ok = True
     print()
@@ -318,7 +317,7 @@ def run(args: argparse.Namespace, work: Path) -> bool:
         ok &= good
         print(f"memory: {gb:.2f} GB (target < {TARGET_MEMORY_MB / 1024:g} GB) {verdict(good)} "
               f"[peak RSS of the first load {first.max_rss_mb:.0f} MB; floor {floor.max_rss_mb or 0:.0f} MB]")
-    ok &= report_pages(pages_small, pages_big, counts(small_ws / "stetline.db")["slot"], slots)
+    ok &= report_pages(pages["small"], pages["big"], counts(small_ws / "stetline.db")["slot"], slots)
     return ok
 
 
@@ -338,10 +337,10 @@ def build_small(work: Path, periods: int) -> Path:
     return ws
 
 
-def measure_pages(ws: Path, requests: int) -> dict[str, list[float]]:
-    """Page times of one workspace, measured in a process of its own."""
-    out = timed([sys.executable, str(HERE / "pages.py"), "--measure", str(ws), "--requests", str(requests)], ws.parent)
-    return json.loads(out.stdout)
+def measure_pages(small: Path, big: Path, requests: int) -> dict[str, dict[str, list[float]]]:
+    """Page times of both workspaces, measured alternately in one process of their own."""
+    cmd = [sys.executable, str(HERE / "pages.py"), "--measure", str(small), str(big), "--requests", str(requests)]
+    return json.loads(timed(cmd, big.parent).stdout)
 
 
 def report_pages(small: dict[str, list[float]], big: dict[str, list[float]], n_small: int, n_big: int) -> bool:
@@ -373,8 +372,8 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--periods", type=int, default=5)
     parser.add_argument("--human-share", type=int, default=500,
                         help="add human work to about one slot in this many (default 500)")
-    parser.add_argument("--page-requests", type=int, default=40,
-                        help="requests of each page per workspace for the page ratios (default 40)")
+    parser.add_argument("--page-requests", type=int, default=100,
+                        help="requests of each page per workspace for the page ratios (default 100)")
     parser.add_argument("--keep", type=Path, default=None,
                         help="work in this folder and keep it (default: a temporary folder, removed)")
     parser.add_argument("--strict", action="store_true", help="exit 1 when a target is missed")

@@ -1,12 +1,13 @@
 """Page latency at two sizes: the entity page, the topic page and the recheck queue.
 
-``python tests/benchmarks/pages.py --measure WORKSPACE [--requests 40]`` opens the workspace's web
-app in this process (Flask's test client: no network, the server's own work only), asks for each
-page ``--requests`` times after a few warm-up requests, a different entity or topic each time,
-and prints the times as JSON. ``bench.py`` runs it on a 3,000-statement workspace and on the
-full-size one, each in its own process, and prints the ratios of their medians and 95th
-percentiles; the pages are paged (50 statements), so the ratios stay near 1 when the queries
-use their indexes and grow with the workspace when they scan.
+``python tests/benchmarks/pages.py --measure SMALL BIG [--requests 100]`` opens both workspaces'
+web apps in this process (Flask's test client: no network, the server's own work only), asks
+for each page ``--requests`` times in each after a few warm-up requests, a different entity or
+topic each time, alternating between the two workspaces so that a busy moment of the machine
+hits both alike, and prints the times as JSON. ``bench.py`` runs it on a 3,000-statement
+workspace and the full-size one and prints the ratios of their medians and 95th percentiles;
+the pages are paged (50 statements), so the ratios stay near 1 when the queries use their
+indexes and grow with the workspace when they scan.
 """
 
 from __future__ import annotations
@@ -23,43 +24,61 @@ PAGES = ("entity page", "topic page", "recheck queue")
 WARM_UP = 5
 
 
-def measure(ws_path: Path, requests: int) -> dict[str, list[float]]:
-    """Seconds per request of each page, ``requests`` times each, after warming up."""
-    from engine.store import ops
-    from engine.workspace import open_workspace
-    from webapp import create_app
+class _Site:
+    """One workspace's web app in this process, with the pages to ask for."""
 
-    ws = open_workspace(ws_path)
+    def __init__(self, ws_path: Path, random_state: int) -> None:
+        from engine.store import ops
+        from engine.workspace import open_workspace
+        from webapp import create_app
+
+        self.ws = open_workspace(ws_path)
+        with self.ws.reading() as s:
+            self.entities = [e.key for e in ops.entity_rows(s)]
+            self.topics = [t.key for t in ops.topic_rows(s)]
+            self.in_recheck = ops.count_slots(s, ops.SlotFilter(status="recheck"))
+        self.client = create_app(self.ws, {"TESTING": True}).test_client()
+        self.rng = random.Random(random_state)
+
+    def url(self, page: str) -> str:
+        """A page's address: a different entity or topic each time."""
+        if page == "entity page":
+            return f"/entities/{self.rng.choice(self.entities)}"
+        if page == "topic page":
+            return f"/topics/{self.rng.choice(self.topics)}"
+        return "/recheck"
+
+    def time(self, page: str) -> float:
+        """Seconds to serve the page once."""
+        address = self.url(page)
+        start = time.perf_counter()
+        response = self.client.get(address)
+        took = time.perf_counter() - start
+        if response.status_code != 200:
+            raise SystemExit(f"{address}: HTTP {response.status_code}")
+        return took
+
+
+def measure(small_path: Path, big_path: Path, requests: int) -> dict[str, dict[str, list[float]]]:
+    """Seconds per request of each page in both workspaces, ``requests`` times each after a
+    warm-up, the two asked alternately so that a busy moment of the machine hits both alike."""
+    sites = {"small": _Site(small_path, 11), "big": _Site(big_path, 11)}
     try:
-        with ws.reading() as s:
-            entities = [e.key for e in ops.entity_rows(s)]
-            topics = [t.key for t in ops.topic_rows(s)]
-        app = create_app(ws, {"TESTING": True})
-        client = app.test_client()
-        rng = random.Random(11)
-        urls = {
-            "entity page": lambda: f"/entities/{rng.choice(entities)}",
-            "topic page": lambda: f"/topics/{rng.choice(topics)}",
-            "recheck queue": lambda: "/recheck",
-        }
-        out: dict[str, list[float]] = {}
-        for name, url in urls.items():
-            times = []
-            for i in range(WARM_UP + requests):
-                address = url()
-                start = time.perf_counter()
-                response = client.get(address)
-                took = time.perf_counter() - start
-                if response.status_code != 200:
-                    raise SystemExit(f"{address}: HTTP {response.status_code}")
-                if i >= WARM_UP:
-                    times.append(took)
-            out[name] = times
-        with ws.reading() as s:
-            out["_in_recheck"] = [float(ops.count_slots(s, ops.SlotFilter(status="recheck")))]
+        out: dict[str, dict[str, list[float]]] = {name: {} for name in sites}
+        for page in PAGES:
+            for name, site in sites.items():
+                out[name][page] = []
+                for _ in range(WARM_UP):
+                    site.time(page)
+            for _ in range(requests):
+                for name, site in sites.items():
+                    out[name][page].append(site.time(page))
+        for name, site in sites.items():
+            out[name]["_in_recheck"] = [float(site.in_recheck)]
         return out
     finally:
-        ws.close()
+        for site in sites.values():
+            site.ws.close()
 
 
 def percentile(values: list[float], q: float) -> float:
@@ -81,10 +100,11 @@ def summary(times: list[float]) -> tuple[float, float]:
 
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--measure", type=Path, required=True, help="the workspace folder")
-    parser.add_argument("--requests", type=int, default=40)
+    parser.add_argument("--measure", type=Path, nargs=2, required=True, metavar=("SMALL", "BIG"),
+                        help="the two workspace folders")
+    parser.add_argument("--requests", type=int, default=100)
     args = parser.parse_args(argv)
-    json.dump(measure(args.measure, args.requests), sys.stdout)
+    json.dump(measure(args.measure[0], args.measure[1], args.requests), sys.stdout)
     return 0
 
 
