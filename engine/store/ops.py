@@ -8,9 +8,8 @@ approvals are never deleted (dropping stamps ``dropped_at``).
 from __future__ import annotations
 
 import json
-
 from dataclasses import dataclass
-from typing import Any, Iterable, Sequence
+from typing import Any, Iterable, Iterator, Sequence
 
 import numpy as np
 import pandas as pd
@@ -24,6 +23,15 @@ from engine.store.models import (
 )
 
 CHUNK = 20_000
+#: ids per IN (...) list: below SQLite's oldest limit on bound parameters (999)
+IN_CHUNK = 900
+
+
+def _id_chunks(ids: Iterable[str]) -> Iterator[list[str]]:
+    """The ids in lists short enough for one IN (...) each."""
+    ids = list(ids)
+    for start in range(0, len(ids), IN_CHUNK):
+        yield ids[start:start + IN_CHUNK]
 
 
 # -- settings -------------------------------------------------------------------------------
@@ -317,14 +325,13 @@ def slot_states(session: Session) -> dict[str, SlotState]:
 
 def current_drafts(session: Session, slot_ids: Iterable[str]) -> list[DraftText]:
     """The current draft of each of these slots (slots without one are left out), as drafted."""
-    ids = list(slot_ids)
     out: list[DraftText] = []
     q = select(
         Slot.id, Slot.kind, Slot.entity, Slot.topic, Draft.text, Draft.evidence, Draft.claims,
         Draft.interest, Draft.phrasing,
     ).join(Draft, Draft.id == Slot.draft_id)
-    for start in range(0, len(ids), 900):
-        for row in session.execute(q.where(Slot.id.in_(ids[start:start + 900]))):
+    for chunk in _id_chunks(slot_ids):
+        for row in session.execute(q.where(Slot.id.in_(chunk))):
             out.append(DraftText(*row))
     return out
 
@@ -605,8 +612,7 @@ def recheck_reason_counts(session: Session) -> dict[str, int]:
 def layers_for(session: Session, slot_ids: Sequence[str]) -> dict[str, list[Layer]]:
     """Active layers of many slots, by slot id."""
     out: dict[str, list[Layer]] = {}
-    for start in range(0, len(slot_ids), 900):
-        chunk = list(slot_ids[start:start + 900])
+    for chunk in _id_chunks(slot_ids):
         for layer in session.scalars(
             select(Layer).where(Layer.slot_id.in_(chunk), Layer.dropped_at.is_(None)).order_by(Layer.id)
         ):
@@ -627,8 +633,7 @@ def all_active_approvals(session: Session) -> list[Approval]:
 def approvals_for(session: Session, slot_ids: Sequence[str]) -> dict[str, Approval]:
     """The active approval of each of these slots that has one, by slot id."""
     out: dict[str, Approval] = {}
-    for start in range(0, len(slot_ids), 900):
-        chunk = list(slot_ids[start:start + 900])
+    for chunk in _id_chunks(slot_ids):
         q = select(Approval).where(Approval.slot_id.in_(chunk), Approval.dropped_at.is_(None))
         out.update((a.slot_id, a) for a in session.scalars(q))
     return out
@@ -720,8 +725,7 @@ def layer_types_by_slot(session: Session, before_edition_id: int) -> dict[str, l
 def slot_statuses(session: Session, slot_ids: Sequence[str]) -> dict[str, tuple[str, Any]]:
     """Status and recheck of many slots."""
     out: dict[str, tuple[str, Any]] = {}
-    for start in range(0, len(slot_ids), 900):
-        chunk = list(slot_ids[start:start + 900])
+    for chunk in _id_chunks(slot_ids):
         for sid, status, recheck in session.execute(select(Slot.id, Slot.status, Slot.recheck).where(Slot.id.in_(chunk))):
             out[sid] = (status, recheck)
     return out
