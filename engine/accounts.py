@@ -8,17 +8,17 @@ while. Account changes are recorded as events.
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from datetime import timedelta
-from typing import Iterable
 
 from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 from werkzeug.security import check_password_hash, generate_password_hash
 
-from engine import settings as settings_mod
-from engine.errors import Forbidden, NotFound, StetlineError
-from engine.store import ops
-from engine.store.models import Account, Assignment, utcnow
+from stetline import settings as settings_mod
+from stetline.errors import Forbidden, NotFound, StetlineError
+from stetline.store import ops
+from stetline.store.models import Account, Assignment, utcnow
 
 ROLES = ("editor", "expert", "reviewer", "admin")
 EDITING = frozenset({"editor", "reviewer", "admin"})

@@ -12,15 +12,15 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from engine import reconcile
-from engine.accounts import authorize, check_two_person_rule
-from engine.drafting import Draft as DraftText
-from engine.errors import Conflict, NotFound, StetlineError
-from engine.livefields import LiveFields, LiveFieldError
-from engine.loading import house_style
-from engine.reconcile import Basis, HumanWork, SlotState
-from engine.store import ops
-from engine.store.models import Approval, Draft, Layer, Slot, utcnow
+from stetline import reconcile
+from stetline.accounts import authorize, check_two_person_rule
+from stetline.drafting import Draft as DraftText
+from stetline.errors import Conflict, NotFound, StetlineError
+from stetline.livefields import LiveFieldError, LiveFields
+from stetline.loading import house_style
+from stetline.reconcile import Basis, HumanWork, SlotState
+from stetline.store import ops
+from stetline.store.models import Approval, Draft, Layer, Slot, utcnow
 
 STATUSES = ("draft", "edited", "approved", "recheck", "suppressed")
 LAYER_TYPES = ("rewrite", "pin", "annotate", "suppress")

@@ -13,11 +13,11 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from engine.actions import published_text, views
-from engine.livefields import LiveFields
-from engine.loading import house_style
-from engine.numbers import find_numbers, trace
-from engine.store import ops
+from stetline.actions import published_text, views
+from stetline.livefields import LiveFields
+from stetline.loading import house_style
+from stetline.numbers import find_numbers, trace
+from stetline.store import ops
 
 LABEL = "(label)"
 

@@ -17,17 +17,17 @@ import shutil
 import sqlite3
 import tempfile
 from dataclasses import dataclass
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from pathlib import Path
 
 from sqlalchemy import create_engine
 from sqlalchemy.exc import SQLAlchemyError
 from sqlalchemy.orm import Session
 
-from engine.accounts import authorize
-from engine.errors import StetlineError
-from engine.store import db, ops
-from engine.workspace import DB_FILE, Workspace, _url_for, is_workspace
+from stetline.accounts import authorize
+from stetline.errors import StetlineError
+from stetline.store import db, ops
+from stetline.workspace import DB_FILE, Workspace, _url_for, is_workspace
 
 SQLITE_MAGIC = b"SQLite format 3\x00"
 REQUIRED_TABLES = ("slot", "alembic_version")
@@ -300,7 +300,7 @@ def _keep_current(ws: Workspace, live: Path) -> Path | None:
     """Save the database about to be replaced as a dated copy in the workspace folder."""
     if not live.exists():
         return None
-    stamp = datetime.now(timezone.utc).strftime("%Y%m%dT%H%M%S%fZ")
+    stamp = datetime.now(UTC).strftime("%Y%m%dT%H%M%S%fZ")
     kept = live.with_name(f"{KEPT_PREFIX}{stamp}.db")
     temp = _temp_beside(live, ".stetline-keep-")
     try:

@@ -13,9 +13,9 @@ from dataclasses import dataclass, field
 
 from sqlalchemy.orm import Session
 
-from engine import actions
-from engine.actions import SlotView
-from engine.errors import StetlineError
+from stetline import actions
+from stetline.actions import SlotView
+from stetline.errors import StetlineError
 
 ACTIONS = ("approve", "annotate", "suppress")
 MAX_ITEMS = 5_000

@@ -13,9 +13,9 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from engine.errors import StetlineError
-from engine.reconcile import claim_changes
-from engine.store import ops
+from stetline.errors import StetlineError
+from stetline.reconcile import claim_changes
+from stetline.store import ops
 
 TOP_NUMBERS = 20
 

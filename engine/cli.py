@@ -10,19 +10,21 @@ import functools
 import getpass
 import json
 import sys
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 import click
 from sqlalchemy.exc import SQLAlchemyError
 
-from engine import actions, loading, publish as publishing
-from engine import settings as settings_mod
-from engine.errors import StetlineError
-from engine.formats import BINARY, FORMATS
-from engine.reconcile import REASONS
-from engine.store import ops
-from engine.workspace import Workspace, default_path, init_workspace, is_workspace, open_workspace
+from stetline import actions, loading
+from stetline import publish as publishing
+from stetline import settings as settings_mod
+from stetline.errors import StetlineError
+from stetline.formats import BINARY, FORMATS
+from stetline.reconcile import REASONS
+from stetline.store import ops
+from stetline.workspace import Workspace, default_path, init_workspace, is_workspace, open_workspace
 
 
 def _default_by() -> str:
@@ -291,7 +293,7 @@ def _selection_option(fn: Callable[..., Any]) -> Callable[..., Any]:
 def _bulk(workspace: Path | None, action: str, slot: str | None, entity: str | None, topic: str | None,
           kind: str | None, yes: bool, by: str, text: str | None = None) -> None:
     """Run an action on one statement, or on a selection after confirming how many."""
-    from engine import bulk
+    from stetline import bulk
 
     if slot and (entity or topic or kind):
         raise StetlineError("give either a statement or a selection (--entity, --topic, --kind), not both")
@@ -406,7 +408,7 @@ def approve_(slot: str | None, accept_proposed: bool, all_clean: bool, yes: bool
 @handle_errors
 def audit_(as_json: bool, only_untraced: bool, workspace: Path | None) -> None:
     """List every number in the text that would be published, with its source fact."""
-    from engine.audit import audit
+    from stetline.audit import audit
 
     ws = _open(workspace)
     with ws.reading() as session:
@@ -432,7 +434,7 @@ def audit_(as_json: bool, only_untraced: bool, workspace: Path | None) -> None:
 @handle_errors
 def changes_(from_label: str | None, to_label: str | None, fmt: str, workspace: Path | None) -> None:
     """Show what changed between two editions."""
-    from engine.changelog import changes
+    from stetline.changelog import changes
 
     ws = _open(workspace)
     with ws.reading() as session:
@@ -492,7 +494,7 @@ def settings_(key: str | None, value: str | None, workspace: Path | None, by: st
         if value is None:
             click.echo(json.dumps(values[key]))
             return
-        from engine.accounts import authorize
+        from stetline.accounts import authorize
 
         authorize(session, by, "settings")
         parsed = spec.parse(value)
@@ -513,7 +515,7 @@ def settings_(key: str | None, value: str | None, workspace: Path | None, by: st
 @handle_errors
 def worksheet_(output: Path, entity: str | None, topic: str | None, kind: str | None, workspace: Path | None) -> None:
     """Write a worksheet of statements to edit offline (fill in the "new text" column)."""
-    from engine.worksheet import write_worksheet
+    from stetline.worksheet import write_worksheet
 
     ws = _open(workspace)
     with ws.reading() as session:
@@ -528,7 +530,7 @@ def worksheet_(output: Path, entity: str | None, topic: str | None, kind: str | 
 @handle_errors
 def apply_worksheet_(file: Path, workspace: Path | None, by: str) -> None:
     """Turn every filled "new text" of a worksheet into a rewrite."""
-    from engine.worksheet import apply_worksheet
+    from stetline.worksheet import apply_worksheet
 
     ws = _open(workspace)
     with ws.session() as session:
@@ -560,7 +562,7 @@ def _read_password(password_stdin: bool) -> str:
 @handle_errors
 def user_add(name: str, role: str, password_stdin: bool, workspace: Path | None, by: str) -> None:
     """Add an account NAME with a role (prompts for its password)."""
-    from engine import accounts
+    from stetline import accounts
 
     ws = _open(workspace)
     password = _read_password(password_stdin)
@@ -575,7 +577,7 @@ def user_add(name: str, role: str, password_stdin: bool, workspace: Path | None,
 @handle_errors
 def user_list(as_json: bool, workspace: Path | None) -> None:
     """List the accounts with their roles."""
-    from engine import accounts
+    from stetline import accounts
 
     ws = _open(workspace)
     with ws.reading() as session:
@@ -597,7 +599,7 @@ def user_list(as_json: bool, workspace: Path | None) -> None:
 @handle_errors
 def user_set_role(name: str, role: str, workspace: Path | None, by: str) -> None:
     """Change an account's role (admins only)."""
-    from engine import accounts
+    from stetline import accounts
 
     ws = _open(workspace)
     with ws.session() as session:
@@ -613,7 +615,7 @@ def user_set_role(name: str, role: str, workspace: Path | None, by: str) -> None
 @handle_errors
 def user_disable(name: str, enable: bool, workspace: Path | None, by: str) -> None:
     """Disable an account (or, with --enable, enable it again)."""
-    from engine import accounts
+    from stetline import accounts
 
     ws = _open(workspace)
     with ws.session() as session:
@@ -629,7 +631,7 @@ def user_disable(name: str, enable: bool, workspace: Path | None, by: str) -> No
 @handle_errors
 def user_password(name: str, password_stdin: bool, workspace: Path | None, by: str) -> None:
     """Set an account's password (the account itself, or an admin)."""
-    from engine import accounts
+    from stetline import accounts
 
     ws = _open(workspace)
     password = _read_password(password_stdin)
@@ -647,7 +649,7 @@ def user_password(name: str, password_stdin: bool, workspace: Path | None, by: s
 @handle_errors
 def user_assign(name: str, entity: str | None, topic: str | None, workspace: Path | None, by: str) -> None:
     """Assign an entity or a topic to a person (admins only)."""
-    from engine import accounts
+    from stetline import accounts
 
     ws = _open(workspace)
     with ws.session() as session:
@@ -667,7 +669,7 @@ def layout_() -> None:
 @handle_errors
 def layout_copy(name: str, force: bool, workspace: Path | None) -> None:
     """Copy the built-in NAME layout into the workspace to edit."""
-    from engine.layout import copy_layout
+    from stetline.layout import copy_layout
 
     target = copy_layout(_open(workspace).layouts_dir, name, force=force)
     click.echo(f"wrote {target}; edit it, then publish as usual")
@@ -685,7 +687,7 @@ def phrasing_() -> None:
 @handle_errors
 def phrasing_copy(kind: str, force: bool, workspace: Path | None) -> None:
     """Copy KIND's built-in template into the workspace to edit (it renders in the sandbox)."""
-    from engine.drafting import copy_template
+    from stetline.kinds import copy_template
 
     ws = _open(workspace)
     target = copy_template(ws.phrasing_dir, kind, force=force)
@@ -699,10 +701,10 @@ def phrasing_copy(kind: str, force: bool, workspace: Path | None) -> None:
 @handle_errors
 def serve(host: str, port: int, workspace: Path | None) -> None:
     """Serve the web app for the workspace."""
-    from webapp import create_app  # the one place the engine imports the web app
+    from stetline.web import create_app  # the one place the engine imports the web app
 
     ws = _open(workspace)
-    from engine import accounts
+    from stetline import accounts
 
     with ws.session() as session:
         shared = accounts.has_accounts(session)
@@ -726,7 +728,7 @@ def serve(host: str, port: int, workspace: Path | None) -> None:
 @handle_errors
 def demo(no_serve: bool, host: str, port: int, workspace: Path | None) -> None:
     """Build the demo workspace (two editions, example layers, rechecks) and serve it."""
-    from engine import demo as demo_mod
+    from stetline import demo as demo_mod
 
     path = workspace or default_path()
     if path.exists() and any(path.iterdir()) and not (is_workspace(path) and demo_mod.is_demo(path)):
@@ -748,7 +750,7 @@ def demo(no_serve: bool, host: str, port: int, workspace: Path | None) -> None:
 @handle_errors
 def backup_(file: Path, force: bool, workspace: Path | None, by: str) -> None:
     """Write a consistent copy of the workspace database to FILE (safe while the app runs)."""
-    from engine import backup as backup_mod
+    from stetline import backup as backup_mod
 
     ws = backup_mod.attach(workspace or default_path())
     try:
@@ -772,7 +774,7 @@ def restore_(file: Path, workspace: Path | None, by: str) -> None:
 
     Stop `stetline serve` first, and start it again afterwards.
     """
-    from engine import backup as backup_mod
+    from stetline import backup as backup_mod
 
     ws = backup_mod.attach(workspace or default_path())
     try:

@@ -12,10 +12,10 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from engine.accounts import authorize
-from engine.errors import NotFound, StetlineError
-from engine.store import ops
-from engine.store.models import Comment
+from stetline.accounts import authorize
+from stetline.errors import NotFound, StetlineError
+from stetline.store import ops
+from stetline.store.models import Comment
 
 MAX_COMMENT = 5_000
 

@@ -11,10 +11,10 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from engine import settings as settings_mod
-from engine.accounts import authorize
-from engine.errors import StetlineError
-from engine.store import ops
+from stetline import settings as settings_mod
+from stetline.accounts import authorize
+from stetline.errors import StetlineError
+from stetline.store import ops
 
 MAX_TEXT = 300
 

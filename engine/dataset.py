@@ -1,7 +1,7 @@
 """Read and validate an edition's input files: observations, topic and entity metadata.
 
 Everything is checked before anything is written: the caller gets a :class:`Dataset` or a
-:class:`~engine.errors.ValidationError` listing every problem with its file, row and column.
+:class:`~stetline.errors.ValidationError` listing every problem with its file, row and column.
 Rows are numbered as a spreadsheet shows them: the header is row 1, the first data row is row 2.
 This module reads files and returns frames; it never touches the database.
 """
@@ -11,14 +11,15 @@ from __future__ import annotations
 import difflib
 import io
 import zipfile
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import IO, Iterable
+from typing import IO
 
 import pandas as pd
 
-from engine import periods
-from engine.errors import Problem, ValidationError
+from stetline import periods
+from stetline.errors import Problem, ValidationError
 
 OBSERVATION_COLUMNS = ("entity", "topic", "period", "value")
 OBSERVATION_OPTIONAL = ("margin", "status")

@@ -1,6 +1,6 @@
 """The demo: a fictional council's scorecard in two editions, with example human work.
 
-Builds a workspace from the invented files in ``demo_data``: loads the first edition, adds the
+Builds a workspace from the invented files in ``seed_data``: loads the first edition, adds the
 kind of work an editorial team does (rewrites with typed numbers, a rewrite with live fields,
 pins, an expert's notes, a suppression, approvals), loads the second edition and so shows
 rechecks of every reason, then changes a house-style setting and redrafts.
@@ -10,13 +10,13 @@ from __future__ import annotations
 
 import secrets
 import shutil
+from collections.abc import Callable
 from importlib import resources
 from pathlib import Path
-from typing import Callable
 
-from engine import accounts, actions, loading
-from engine.store import ops
-from engine.workspace import Workspace, init_workspace, is_workspace
+from stetline import accounts, actions, loading
+from stetline.store import ops
+from stetline.workspace import Workspace, init_workspace, is_workspace
 
 DEMO_MARKER = "demo-workspace"
 ACCOUNTS_FILE = "demo-accounts.txt"
@@ -58,7 +58,7 @@ SUPPRESS = ("standing/puffin-holm/new-business",)
 
 def data_file(name: str) -> Path:
     """The path of a shipped demo file."""
-    return Path(str(resources.files("demo_data") / name))
+    return Path(str(resources.files("stetline.seed_data") / name))
 
 
 def is_demo(path: Path) -> bool:

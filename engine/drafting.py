@@ -22,9 +22,9 @@ from typing import Any
 import jinja2
 import orjson
 
-from engine import phrasing
-from engine.facts import Facts
-from engine.phrasing import HouseStyle
+from stetline import phrasing
+from stetline.facts import Facts
+from stetline.phrasing import HouseStyle
 
 TEMPLATES = Path(__file__).parent / "kinds" / "templates"
 
@@ -219,7 +219,7 @@ class Renderer:
         self._sandbox: jinja2.Environment | None = None
         self._workspace_dir = workspace_dir
         if workspace_dir is not None and workspace_dir.is_dir():
-            from engine.livefields import CappedSandbox  # caps * and ** as live fields do
+            from stetline.livefields import CappedSandbox  # caps * and ** as live fields do
 
             self._sandbox = CappedSandbox(
                 loader=jinja2.FileSystemLoader(str(workspace_dir)), autoescape=False,
@@ -246,22 +246,6 @@ class Renderer:
     def render(self, kind: str, variables: dict[str, Any]) -> str:
         """Render a kind's template and tidy the spacing."""
         return phrasing.tidy(self.template(kind).render(variables))
-
-
-def builtin_template(kind: str) -> str:
-    """The text of a kind's built-in template (for copying into a workspace)."""
-    return (TEMPLATES / f"{kind}.j2").read_text(encoding="utf-8")
-
-
-def copy_template(folder: Path, kind: str, *, force: bool = False) -> Path:
-    """Copy a kind's built-in template into a workspace's phrasing folder for the team to edit."""
-    from engine.errors import StetlineError
-    from engine.kinds import BY_NAME
-    from engine.workspace import copy_builtin
-
-    if kind not in BY_NAME:
-        raise StetlineError(f"unknown statement kind {kind!r}; kinds: {', '.join(BY_NAME)}")
-    return copy_builtin(TEMPLATES / f"{kind}.j2", folder, force=force)
 
 
 def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterator[Draft]:

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from engine.dataset import PERCENT
+from stetline.dataset import PERCENT
 
 WITHHELD = "confidential"
 BREAK = "break"

@@ -1,6 +1,6 @@
 """Render a Publication in the publication formats: Markdown, HTML, JSON, CSV and Word (docx).
 
-Every renderer works from the same Publication (see engine.publish.gather), so the statements,
+Every renderer works from the same Publication (see stetline.publish.gather), so the statements,
 their order, the notes and the caveats are the same in every format. Text from the data or from
 editors is always treated as text: HTML escapes it, CSV neutralises cells a spreadsheet would run
 as a formula, Word gets it in runs with characters XML cannot carry removed.
@@ -13,11 +13,12 @@ import html
 import io
 import json
 import re
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
-from engine.numbers import find_numbers, trace
-from engine.publish import CAUTION, Publication, Statement
+from stetline.numbers import find_numbers, trace
+from stetline.publication import CAUTION, Publication, Statement
 
 FORMATS = ("md", "html", "json", "csv", "docx")
 BINARY = frozenset({"docx"})
@@ -38,7 +39,7 @@ _NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
 def render(pub: Publication, fmt: str, layouts_dir: Path | None = None) -> bytes:
     """A publication in one format, as the bytes of the file (md and html use the layouts)."""
     if fmt in ("md", "html"):
-        from engine import layout
+        from stetline import layout
 
         return layout.render(pub, fmt, layouts_dir).encode("utf-8")
     try:
@@ -70,7 +71,7 @@ def _caveats(pub: Publication) -> list[str]:
 
 def to_html(pub: Publication) -> bytes:
     """A standalone HTML document (inline CSS, no external assets), from the html layout."""
-    from engine import layout
+    from stetline import layout
 
     return layout.render(pub, "html").encode("utf-8")
 

@@ -12,9 +12,9 @@ from typing import Any
 
 import jinja2
 
-from engine.errors import StetlineError
-from engine.livefields import CappedSandbox
-from engine.publish import CAUTION, Publication
+from stetline.errors import StetlineError
+from stetline.livefields import CappedSandbox
+from stetline.publication import CAUTION, Publication
 
 BUILTIN = Path(__file__).parent / "layouts"
 LAYOUTS = ("md", "html")
@@ -62,7 +62,7 @@ def render(pub: Publication, name: str, workspace_dir: Path | None = None) -> st
 
 def copy_layout(folder: Path, name: str, *, force: bool = False) -> Path:
     """Copy a built-in layout into a workspace's layouts folder for the team to edit."""
-    from engine.workspace import copy_builtin
+    from stetline.workspace import copy_builtin
 
     if name not in LAYOUTS:
         raise StetlineError(f"unknown layout {name!r}; layouts: {', '.join(LAYOUTS)}")

@@ -9,15 +9,16 @@ sandbox with strict undefined names, no ``*`` on strings, no ``**``, and a cap o
 from __future__ import annotations
 
 import operator
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Any, Callable
+from typing import Any
 
 import jinja2
 from jinja2.sandbox import ImmutableSandboxedEnvironment, SecurityError
 
-from engine import phrasing
-from engine.errors import StetlineError
-from engine.phrasing import HouseStyle
+from stetline import phrasing
+from stetline.errors import StetlineError
+from stetline.phrasing import HouseStyle
 
 MAX_OUTPUT = 5_000
 MAX_PRODUCT = 10**9

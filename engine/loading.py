@@ -23,18 +23,18 @@ from typing import Any
 import pandas as pd
 from sqlalchemy.orm import Session
 
-from engine import settings as settings_mod
-from engine.accounts import authorize
-from engine.dataset import Dataset, Source, load_dataset
-from engine.drafting import Context, Draft, Renderer, draft_all
-from engine.errors import StetlineError
-from engine.facts import compute_facts
-from engine.kinds import KINDS
-from engine.phrasing import HouseStyle
-from engine.reconcile import REASONS, Decision, SlotState, reconcile
-from engine.store import ops
-from engine.store.models import Edition
-from engine.workspace import Workspace
+from stetline import settings as settings_mod
+from stetline.accounts import authorize
+from stetline.dataset import Dataset, Source, load_dataset
+from stetline.drafting import Context, Draft, Renderer, draft_all
+from stetline.errors import StetlineError
+from stetline.facts import compute_facts
+from stetline.kinds import KINDS
+from stetline.phrasing import HouseStyle
+from stetline.reconcile import REASONS, Decision, SlotState, reconcile
+from stetline.store import ops
+from stetline.store.models import Edition
+from stetline.workspace import Workspace
 
 
 @dataclass
@@ -177,7 +177,7 @@ def drafting_inputs(ws: Workspace, ctx: Context) -> str:
         _hash_value(h, getattr(ctx.facts, f.name))
     for f in dataclasses.fields(ctx):  # the metadata, house style, entity noun and any field to come
         if f.name not in ("facts", "edition") and not f.name.startswith("_"):
-            h.update(f"{f.name}={getattr(ctx, f.name)!r};".encode("utf-8"))
+            h.update(f"{f.name}={getattr(ctx, f.name)!r};".encode())
     phrasing_dir = ws.phrasing_dir
     if phrasing_dir.is_dir():
         for path in sorted(p for p in phrasing_dir.rglob("*") if p.is_file()):
@@ -388,7 +388,7 @@ def _held(session: Session, new: pd.DataFrame, stored: pd.DataFrame | None = Non
 
 
 def _with_times(obs: pd.DataFrame, fmt: str) -> pd.DataFrame:
-    from engine import periods
+    from stetline import periods
 
     obs = obs.drop(columns=["id"])
     obs["time"] = periods.times(obs["period"], fmt)

@@ -12,7 +12,7 @@ import re
 from dataclasses import dataclass
 from typing import Any
 
-from engine.phrasing import ordinal, round_half_up
+from stetline.phrasing import ordinal, round_half_up
 
 NUMBER = re.compile(
     r"(?<![\w.,])(?P<cur>[£$€])?(?P<int>\d{1,3}(?:,\d{3})+|\d+)(?P<dec>\.\d+)?"

@@ -3,69 +3,30 @@
 Published: every slot that is neither suppressed nor gone, with its text layer if it has one,
 else its draft, and its notes, in interest order within each entity (or topic) section. The gate
 refuses while any slot is in recheck, unless told to publish those with their last approved text.
-The other formats (HTML, JSON, CSV, Word) render the same Publication; see engine.formats.
+The other formats (HTML, JSON, CSV, Word) render the same Publication; see stetline.formats.
 """
 
 from __future__ import annotations
 
 import hashlib
-from pathlib import Path
-from dataclasses import dataclass, field
 from datetime import date, datetime
+from pathlib import Path
 from typing import Any
 
 from sqlalchemy.orm import Session
 
-from engine import settings as settings_mod
-from engine.actions import published_text, views
-from engine.errors import StetlineError
-from engine.livefields import LiveFields
-from engine.loading import house_style
-from engine.reconcile import TEXT_LAYERS
-from engine.store import ops
-
-CAUTION = (
-    "These statements are drafts computed from the loaded data. A qualified person must check "
-    "them before release; the publisher's own statistical release policy or code of practice comes first."
-)
+from stetline import settings as settings_mod
+from stetline.actions import published_text, views
+from stetline.errors import StetlineError
+from stetline.livefields import LiveFields
+from stetline.loading import house_style
+from stetline.publication import Publication, Statement
+from stetline.reconcile import TEXT_LAYERS
+from stetline.store import ops
 
 
 class GateClosed(StetlineError):
     """Publishing is refused: some slots are in recheck (or unapproved, when approval is required)."""
-
-
-@dataclass
-class Statement:
-    """One published statement."""
-
-    slot: str
-    kind: str
-    entity: str | None
-    topic: str | None
-    status: str
-    text: str
-    notes: list[str]
-    caveat: str | None
-    interest: float
-    warning: str | None = None
-    evidence: dict[str, Any] = field(default_factory=dict)  # the facts the published text rests on
-    written_by: str | None = None  # who wrote the text layer (rewrite or pin), if any
-    approved_by: str | None = None
-    approved_at: str | None = None  # ISO 8601, UTC
-
-
-@dataclass
-class Publication:
-    """What a publication holds, before it is rendered to a format."""
-
-    title: str
-    edition: str
-    date: str
-    sections: list[tuple[str, str, list[Statement]]]  # (key, heading, statements)
-    warnings: list[str] = field(default_factory=list)
-    sources: dict[str, str] = field(default_factory=dict)
-    entity_names: dict[str, str] = field(default_factory=dict)
-    topic_labels: dict[str, str] = field(default_factory=dict)
 
 
 def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = False,
@@ -136,7 +97,7 @@ def _iso(at: datetime | None) -> str | None:
 
 def to_markdown(pub: Publication, layouts_dir: Path | None = None) -> str:
     """Render a publication as a Markdown document (the workspace's layout if it has one)."""
-    from engine import layout  # layout imports this module
+    from stetline import layout  # layout imports this module
 
     return layout.render(pub, "md", layouts_dir)
 
@@ -149,13 +110,13 @@ def checksum(data: bytes) -> str:
 def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", allow_recheck: bool = False,
             require_approval: bool = False, layouts_dir: Path | None = None) -> tuple[bytes, Publication]:
     """Produce a publication in a format and record it as an event with its checksum."""
-    from engine.formats import FORMATS, render  # formats imports this module
+    from stetline.formats import FORMATS, render  # formats imports this module
 
     if fmt not in FORMATS:
         raise StetlineError(f"unknown format {fmt!r}; available: " + ", ".join(FORMATS))
     if sections not in ("entity", "topic"):
         raise StetlineError("sections are by entity or by topic")
-    from engine.accounts import authorize
+    from stetline.accounts import authorize
 
     authorize(session, by, "publish")
     pub = gather(session, sections=sections, allow_recheck=allow_recheck, require_approval=require_approval)
@@ -181,6 +142,6 @@ def describe(values: dict[str, Any]) -> str:
 
 def untraced_numbers(session: Session) -> list[tuple[str, list[str]]]:
     """Every published slot holding typed numbers that match no fact, with those numbers."""
-    from engine.audit import audit
+    from stetline.audit import audit
 
     return [(a.slot, [u.text for u in a.untraced]) for a in audit(session) if a.untraced]

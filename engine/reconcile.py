@@ -8,12 +8,13 @@ only digits below display precision moved. No I/O happens here; nothing is ever 
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from dataclasses import dataclass, field
-from typing import Any, Iterable
+from typing import Any
 
-from engine import numbers, textmerge
-from engine.drafting import Draft
-from engine.livefields import has_live_fields
+from stetline import numbers, textmerge
+from stetline.drafting import Draft
+from stetline.livefields import has_live_fields
 
 CLAIM_CHANGED = "claim-changed"
 NUMBERS_CHANGED = "numbers-changed"
@@ -38,12 +39,12 @@ class Basis:
         return {"evidence": self.evidence, "claims": self.claims, "text": self.text}
 
     @classmethod
-    def from_json(cls, data: dict[str, Any]) -> "Basis":
+    def from_json(cls, data: dict[str, Any]) -> Basis:
         """A basis from its stored form."""
         return cls(data.get("evidence", {}), data.get("claims", {}), data.get("text", ""))
 
     @classmethod
-    def of(cls, draft: Draft) -> "Basis":
+    def of(cls, draft: Draft) -> Basis:
         """The basis a draft offers."""
         return cls(draft.evidence, draft.claims, draft.text)
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from engine.errors import StetlineError
+from stetline.errors import StetlineError
 
 
 @dataclass(frozen=True)

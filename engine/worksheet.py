@@ -14,9 +14,9 @@ from openpyxl import Workbook, load_workbook
 from openpyxl.styles import Alignment, Font
 from sqlalchemy.orm import Session
 
-from engine import actions
-from engine.errors import Conflict, StetlineError, ValidationError, Problem
-from engine.store import ops
+from stetline import actions
+from stetline.errors import Conflict, Problem, StetlineError, ValidationError
+from stetline.store import ops
 
 COLUMNS = ("slot", "entity", "topic", "kind", "status", "current text", "draft", "new text", "version")
 WIDTHS = {"slot": 34, "current text": 60, "draft": 60, "new text": 60}

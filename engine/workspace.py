@@ -17,8 +17,8 @@ from pathlib import Path
 from sqlalchemy import Engine
 from sqlalchemy.orm import Session, sessionmaker
 
-from engine.errors import StetlineError
-from engine.store import db
+from stetline.errors import StetlineError
+from stetline.store import db
 
 DB_FILE = "stetline.db"
 URL_VARIABLE = "STETLINE_DATABASE_URL"
@@ -39,6 +39,10 @@ class Workspace:
     url: str
     engine: Engine
     sessions: sessionmaker[Session] = field(repr=False)
+
+    def bring_up_to_date(self) -> bool:
+        """Apply the migrations the database lacks (a workspace made by an older Stetline)."""
+        return db.bring_up_to_date(self.url, self.engine)
 
     @property
     def phrasing_dir(self) -> Path:
@@ -112,9 +116,7 @@ def open_workspace(path: Path, url: str | None = None) -> Workspace:
     url = _url_for(path, url)
     engine = db.make_engine(url)
     ws = Workspace(path, url, engine, db.session_factory(engine))
-    from engine.schema import bring_up_to_date  # schema imports this module
-
-    bring_up_to_date(ws)  # a workspace made by an older Stetline gets the migrations it lacks
+    ws.bring_up_to_date()  # a workspace made by an older Stetline gets the migrations it lacks
     return ws
 
 

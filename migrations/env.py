@@ -1,12 +1,12 @@
-"""Alembic environment: runs the migrations against the URL set by engine.store.db."""
+"""Alembic environment: runs the migrations against the URL set by stetline.store.db."""
 
 from __future__ import annotations
 
 from alembic import context
 from sqlalchemy import text
 
-from engine.store.db import make_engine
-from engine.store.models import Base
+from stetline.store.db import make_engine
+from stetline.store.models import Base
 
 config = context.config
 target_metadata = Base.metadata

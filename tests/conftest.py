@@ -19,16 +19,15 @@ from typing import Any
 
 import pytest
 from click.testing import CliRunner, Result
-
 from sqlalchemy import Engine, create_engine, delete, text
 from sqlalchemy.engine import make_url
 
-from engine import demo
-from engine.store.models import Account
-from engine.cli import main
-import engine.backup
-import engine.workspace
-from engine.workspace import Workspace, init_workspace, open_workspace
+import stetline.backup
+import stetline.workspace
+from stetline import demo
+from stetline.cli import main
+from stetline.store.models import Account
+from stetline.workspace import Workspace, init_workspace, open_workspace
 
 TEST_URL_VARIABLE = "STETLINE_TEST_DATABASE_URL"
 TEST_DATABASE_URL = os.environ.get(TEST_URL_VARIABLE)
@@ -91,7 +90,7 @@ class TestDatabases:
         return name
 
     def url_for(self, path: Path, url: str | None = None) -> str:
-        """The database URL of a workspace folder (the patched ``engine.workspace._url_for``)."""
+        """The database URL of a workspace folder (the patched ``stetline.workspace._url_for``)."""
         if url:
             return url
         folder = path.resolve()
@@ -128,8 +127,8 @@ def test_databases() -> TestDatabases | None:
         return
     databases = TestDatabases(TEST_DATABASE_URL)
     with pytest.MonkeyPatch.context() as mp:
-        mp.setattr(engine.workspace, "_url_for", databases.url_for)
-        mp.setattr(engine.backup, "_url_for", databases.url_for)
+        mp.setattr(stetline.workspace, "_url_for", databases.url_for)
+        mp.setattr(stetline.backup, "_url_for", databases.url_for)
         try:
             yield databases
         finally:
@@ -178,7 +177,7 @@ def team_path(demo_template: Path, tmp_path: Path) -> Path:
 
 
 @pytest.fixture
-def team_cli(team_path: Path) -> "Cli":
+def team_cli(team_path: Path) -> Cli:
     """A CLI runner on the demo workspace with its accounts."""
     return Cli(team_path)
 
@@ -237,7 +236,7 @@ def demo_files() -> Path:
 
 
 
-def resolve_every_recheck(cli: "Cli") -> None:
+def resolve_every_recheck(cli: Cli) -> None:
     """Resolve every recheck as a reviewer would: accept clean proposals, approve the rest as they are."""
     for item in cli.json("list", "--status", "recheck"):
         recheck = item["recheck"]

@@ -14,14 +14,14 @@ import time
 from pathlib import Path
 
 import pytest
+from conftest import Cli
 from sqlalchemy import select
 
-from conftest import Cli
-from engine import actions, backup
-from engine.errors import StetlineError
-from engine.store import ops
-from engine.store.models import Event
-from engine.workspace import DB_FILE, Workspace, open_workspace
+from stetline import actions, backup
+from stetline.errors import StetlineError
+from stetline.store import ops
+from stetline.store.models import Event
+from stetline.workspace import DB_FILE, Workspace, open_workspace
 
 LATER = "A sentence written after the backup, which the restore must take away."
 SLOT = "standing/tidemere/recycling"
@@ -228,7 +228,7 @@ def test_restore_refuses_what_is_not_a_stetline_backup(
 def test_restored_database_is_at_the_newest_schema(demo_cli: Cli, demo_path: Path, tmp_path: Path) -> None:
     from alembic.script import ScriptDirectory
 
-    from engine.store.db import alembic_config, sqlite_url
+    from stetline.store.db import alembic_config, sqlite_url
 
     file = tmp_path / "b.db"
     demo_cli("backup", str(file))
@@ -246,7 +246,7 @@ def test_a_backup_from_an_older_schema_is_brought_up_to_date(demo_cli: Cli, demo
     from alembic import command
     from alembic.script import ScriptDirectory
 
-    from engine.store.db import alembic_config, sqlite_url
+    from stetline.store.db import alembic_config, sqlite_url
 
     before = snapshot(demo_path)
     old = tmp_path / "old.db"
@@ -272,7 +272,7 @@ def test_a_backup_from_an_older_schema_is_brought_up_to_date(demo_cli: Cli, demo
 
 
 def test_with_accounts_only_an_admin_may_back_up_or_restore(demo_cli: Cli, demo_path: Path, tmp_path: Path) -> None:
-    from engine import accounts
+    from stetline import accounts
 
     ws = open_workspace(demo_path)
     try:

@@ -5,10 +5,10 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
-
-from engine.store import ops
-from engine.workspace import open_workspace
 from conftest import Cli, resolve_every_recheck
+
+from stetline.store import ops
+from stetline.workspace import open_workspace
 
 
 def by_slot(items: list[dict]) -> dict[str, dict]:
@@ -29,7 +29,7 @@ def test_status_after_demo_shows_two_editions_and_every_recheck_reason(demo_cli:
 
 
 def test_every_layer_of_the_first_edition_survives_the_refresh(demo_cli: Cli) -> None:
-    from engine import demo
+    from stetline import demo
 
     items = by_slot(demo_cli.json("list"))
     for slot, text in demo.REWRITES.items():
@@ -270,7 +270,7 @@ def test_rewrite_with_a_bad_live_field_is_refused(demo_cli: Cli, text: str, mess
 def test_a_load_that_fails_while_writing_leaves_the_workspace_as_it_was(
     demo_path: Path, demo_files: Path, monkeypatch: pytest.MonkeyPatch,
 ) -> None:
-    from engine import loading
+    from stetline import loading
 
     before = _snapshot(demo_path)
 
@@ -286,7 +286,7 @@ def test_a_load_that_fails_while_writing_leaves_the_workspace_as_it_was(
 
 
 def test_a_redraft_sees_the_revisions_its_load_saw(demo_cli: Cli, demo_files: Path) -> None:
-    # the 2025 edition revised Shellby Sands' 2024 recycling (demo_data/README.md); loading the
+    # the 2025 edition revised Shellby Sands' 2024 recycling (seed_data/README.md); loading the
     # same file again keeps that revision on record, and so must a redraft of the reload:
     # neither may reword a statement, however often they alternate
     import json

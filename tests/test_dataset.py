@@ -1,4 +1,4 @@
-"""Tests for engine.dataset: bad input names file, row and column; good input loads.
+"""Tests for stetline.dataset: bad input names file, row and column; good input loads.
 
 Rows are counted the way a spreadsheet shows them: the header is row 1, the first data row is
 row 2 (common practice: this is how Excel and LibreOffice Calc number the rows of an opened
@@ -26,11 +26,11 @@ import pandas as pd
 import pytest
 from openpyxl import Workbook
 
-import demo_data
-from engine.dataset import Dataset, load_dataset
-from engine.errors import Problem, ValidationError
+import stetline.seed_data as seed_data
+from stetline.dataset import Dataset, load_dataset
+from stetline.errors import Problem, ValidationError
 
-DEMO_FILES = Path(demo_data.__file__).parent
+DEMO_FILES = Path(seed_data.__file__).parent
 OBS_HEADER = "entity,topic,period,value"
 
 TOPICS_CSV = (
@@ -136,7 +136,7 @@ def test_a_non_numeric_value_is_named_with_file_row_column_and_the_value_quoted(
     assert (p.file, p.row, p.column) == ("observations.csv", 3, "value")
     assert "not a number" in p.message
     assert repr(bad) in p.message
-    assert f"observations.csv, row 3, column 'value'" in str(p)
+    assert "observations.csv, row 3, column 'value'" in str(p)
 
 
 def test_more_than_twenty_bad_values_lists_the_first_twenty_and_counts_the_rest(
@@ -517,7 +517,7 @@ def test_an_xlsx_problem_names_the_workbook_and_sheet(tmp_path: Path) -> None:
 
 def test_the_demo_files_load() -> None:
     data = load_dataset(DEMO_FILES / "observations-2024.csv", DEMO_FILES / "topics.csv", DEMO_FILES / "entities.csv")
-    # counted from the shipped files (demo_data/README.md: 14 towns in four groups, 12 indicators)
+    # counted from the shipped files (seed_data/README.md: 14 towns in four groups, 12 indicators)
     assert len(data.entities) == 14
     assert set(data.entities["group"]) == {"Coast", "Estuary", "Uplands", "Islands"}
     assert len(data.topics) == 12
@@ -530,7 +530,7 @@ def test_the_demo_files_load() -> None:
 
 def test_the_2025_demo_file_loads_with_paper_timetables_discontinued() -> None:
     data = load_dataset(DEMO_FILES / "observations-2025.csv", DEMO_FILES / "topics.csv", DEMO_FILES / "entities.csv")
-    # demo_data/README.md: paper timetables have no rows in 2025 but stay in topics.csv
+    # seed_data/README.md: paper timetables have no rows in 2025 but stay in topics.csv
     assert "paper-timetables" in set(data.topics["topic"])
     assert "paper-timetables" not in set(data.observations["topic"])
     assert data.latest_period == "2025"

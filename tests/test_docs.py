@@ -7,8 +7,8 @@ from pathlib import Path
 import click
 import pytest
 
-from engine.cli import main
-from engine.settings import SETTINGS
+from stetline.cli import main
+from stetline.settings import SETTINGS
 
 README = Path(__file__).resolve().parent.parent / "README.md"
 

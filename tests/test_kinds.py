@@ -16,11 +16,11 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from engine import periods
-from engine.drafting import Context, Renderer, draft_all
-from engine.facts import compute_facts
-from engine.kinds import KINDS
-from engine.phrasing import HouseStyle
+from stetline import periods
+from stetline.drafting import Context, Renderer, draft_all
+from stetline.facts import compute_facts
+from stetline.kinds import KINDS
+from stetline.phrasing import HouseStyle
 
 ENTITIES = pd.DataFrame({
     "entity": ["a", "b", "c", "d"], "name": ["Ashby", "Brill", "Colne", "Dunmere"],

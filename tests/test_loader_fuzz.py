@@ -16,8 +16,9 @@ from __future__ import annotations
 import csv
 import io
 import shutil
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 import pandas as pd
 import pytest
@@ -27,15 +28,20 @@ from hypothesis import strategies as st
 from openpyxl import Workbook
 from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
 
-from engine import demo, loading
-from engine.cli import main
-from engine.dataset import (
-    ENTITY_COLUMNS, OBSERVATION_COLUMNS, OBSERVATION_OPTIONAL, TOPIC_COLUMNS, TOPIC_OPTIONAL,
-    Dataset, load_dataset,
+from stetline import demo, loading
+from stetline.cli import main
+from stetline.dataset import (
+    ENTITY_COLUMNS,
+    OBSERVATION_COLUMNS,
+    OBSERVATION_OPTIONAL,
+    TOPIC_COLUMNS,
+    TOPIC_OPTIONAL,
+    Dataset,
+    load_dataset,
 )
-from engine.errors import ValidationError
-from engine.store import ops
-from engine.workspace import init_workspace, open_workspace
+from stetline.errors import ValidationError
+from stetline.store import ops
+from stetline.workspace import init_workspace, open_workspace
 
 FUZZ = settings(
     max_examples=80, deadline=None, database=None, derandomize=True,

@@ -7,7 +7,7 @@ from pathlib import Path
 
 from alembic import command
 
-from engine.store.db import alembic_config, make_engine, sqlite_url, upgrade
+from stetline.store.db import alembic_config, make_engine, sqlite_url, upgrade
 
 
 def test_models_and_migrations_agree(tmp_path: Path) -> None:
@@ -27,10 +27,10 @@ def test_sqlite_runs_in_wal_mode_with_foreign_keys(tmp_path: Path) -> None:
 
 
 def test_package_ships_migrations_and_demo_data() -> None:
-    versions = resources.files("migrations") / "versions"
+    versions = resources.files("stetline.migrations") / "versions"
     assert any(p.name.endswith(".py") for p in versions.iterdir())
-    assert (resources.files("migrations") / "env.py").is_file()
+    assert (resources.files("stetline.migrations") / "env.py").is_file()
     for name in ("topics.csv", "entities.csv", "observations-2024.csv", "observations-2025.csv"):
-        assert (resources.files("demo_data") / name).is_file(), name
+        assert (resources.files("stetline.seed_data") / name).is_file(), name
     for kind in ("standing", "change", "profile", "leaders", "movement", "headline"):
-        assert (resources.files("engine") / "kinds" / "templates" / f"{kind}.j2").is_file()
+        assert (resources.files("stetline") / "kinds" / "templates" / f"{kind}.j2").is_file()

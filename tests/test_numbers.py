@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from engine.numbers import find_numbers, substitute, trace
+from stetline.numbers import find_numbers, substitute, trace
 
 EVIDENCE = {
     "value": {"value": 45.21, "shown": "45.2%"},

@@ -1,4 +1,4 @@
-"""Tests for engine.phrasing, checked against outside references named beside each check.
+"""Tests for stetline.phrasing, checked against outside references named beside each check.
 
 References used:
 * Unicode CLDR data as shipped in Babel: babel.numbers.format_decimal / format_percent.
@@ -28,7 +28,7 @@ from hypothesis import strategies as st
 from jinja2 import Environment
 from markupsafe import Markup
 
-from engine.phrasing import (
+from stetline.phrasing import (
     DEFAULT,
     HouseStyle,
     article,
@@ -791,7 +791,7 @@ def test_inflect_without_its_run_time_checks_gives_the_same_words() -> None:
 
     words = ["town", "local authority", "analysis", "criterion", "mother-in-law"]
     script = (
-        "import sys; from engine import phrasing; "
+        "import sys; from stetline import phrasing; "
         f"print([phrasing.noun_plural(w, 2) for w in {words!r}]); "
         "print([phrasing.ordinal(n) for n in (1, 2, 3, 11, 12, 13, 21, 112, 1003)]); "
         "print([phrasing.article(w) for w in ('hour', 'unicorn', 'apple', 'rise')]); "

@@ -8,14 +8,13 @@ from __future__ import annotations
 import threading
 
 import pytest
+from conftest import ON_POSTGRES, TEST_URL_VARIABLE
 from sqlalchemy import select
 
-from engine import actions
-from engine.errors import Conflict
-from engine.store.models import Event, Slot
-from engine.workspace import Workspace
-
-from conftest import ON_POSTGRES, TEST_URL_VARIABLE
+from stetline import actions
+from stetline.errors import Conflict
+from stetline.store.models import Event, Slot
+from stetline.workspace import Workspace
 
 pytestmark = pytest.mark.skipif(not ON_POSTGRES, reason=f"needs PostgreSQL: set {TEST_URL_VARIABLE}")
 
@@ -36,7 +35,7 @@ def test_two_concurrent_saves_of_one_version_one_wins_the_other_conflicts(demo_w
             with demo_ws.session() as s:
                 actions.rewrite(s, SLOT, texts[person], by=person, version=version)
             outcome[person] = "saved"
-        except Exception as exc:  # noqa: BLE001 - the test inspects what each thread got
+        except Exception as exc:
             outcome[person] = exc
 
     threads = [threading.Thread(target=save, args=(person,)) for person in texts]

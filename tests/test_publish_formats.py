@@ -8,19 +8,19 @@ import json
 import re
 import shutil
 import zipfile
-from xml.etree import ElementTree
 from html.parser import HTMLParser
 from pathlib import Path
 from typing import Any
+from xml.etree import ElementTree
 
 import docx
 import pytest
+from conftest import Cli, resolve_every_recheck
 from sqlalchemy import select
 
-from conftest import Cli, resolve_every_recheck
-from engine.formats import FIGURE_NOTES, TOC_INSTRUCTION, neutralise
-from engine.store.models import Event
-from engine.workspace import open_workspace
+from stetline.formats import FIGURE_NOTES, TOC_INSTRUCTION, neutralise
+from stetline.store.models import Event
+from stetline.workspace import open_workspace
 
 FORMATS = ("md", "html", "json", "csv", "docx")
 TAMPERED = "standing/north-quay/recycling"

@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from engine.drafting import Draft
-from engine.reconcile import Basis, HumanWork, SlotState, decide
+from stetline.drafting import Draft
+from stetline.reconcile import Basis, HumanWork, SlotState, decide
 
 EV = {"value": {"value": 45.21, "shown": "45.2%"}, "period": {"value": "2024", "shown": "2024"}}
 CLAIMS = {"direction": "up", "better": "improved"}

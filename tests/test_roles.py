@@ -6,12 +6,12 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
-
 from conftest import Cli
-from engine import accounts, demo
-from engine.cli import main
-from engine.errors import StetlineError
-from engine.workspace import init_workspace, open_workspace
+
+from stetline import accounts, demo
+from stetline.cli import main
+from stetline.errors import StetlineError
+from stetline.workspace import init_workspace, open_workspace
 
 SLOT = "standing/tidemere/population"
 ROLES = ("editor", "expert", "reviewer", "admin")

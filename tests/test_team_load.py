@@ -25,13 +25,13 @@ from click.testing import CliRunner
 from conftest import ON_POSTGRES
 from sqlalchemy import event
 
-import engine.backup
-import engine.cli
-import engine.demo
-from engine import actions, demo, loading
-from engine.store import db, ops
-from engine.workspace import Workspace, open_workspace
-from webapp import create_app
+import stetline.backup
+import stetline.cli
+import stetline.demo
+from stetline import actions, demo, loading
+from stetline.store import db, ops
+from stetline.web import create_app
+from stetline.workspace import Workspace, open_workspace
 
 SLOT = "standing/cairnbrook/recycling"  # a draft nobody worked on; the new edition revises its value
 REWRITE = "Cairnbrook recycles {{ value }} of its household waste."
@@ -79,7 +79,7 @@ def load_held(ws: Workspace, observations: Path, monkeypatch: pytest.MonkeyPatch
     def run() -> None:
         try:
             held.outcome["summary"] = loading.load_edition(ws, observations, label=LABEL, by="admin")
-        except BaseException as exc:  # noqa: BLE001 - reported by the test below
+        except BaseException as exc:
             held.outcome["error"] = exc
 
     monkeypatch.setattr(ops, "slot_states", slot_states_then_wait)
@@ -103,7 +103,7 @@ def in_thread(fn: Callable[[], Any]) -> tuple[threading.Thread, dict[str, Any]]:
     def run() -> None:
         try:
             out["result"] = fn()
-        except BaseException as exc:  # noqa: BLE001 - reported by the test
+        except BaseException as exc:
             out["error"] = exc
 
     thread = threading.Thread(target=run, daemon=True)
@@ -289,8 +289,8 @@ def test_every_cli_command_closes_the_workspace_it_opens(
         return make
 
     monkeypatch.setattr(Workspace, "close", close)
-    for module, name in ((engine.cli, "open_workspace"), (engine.cli, "init_workspace"),
-                         (engine.demo, "init_workspace"), (engine.backup, "attach")):
+    for module, name in ((stetline.cli, "open_workspace"), (stetline.cli, "init_workspace"),
+                         (stetline.demo, "init_workspace"), (stetline.backup, "attach")):
         monkeypatch.setattr(module, name, recording(getattr(module, name)))
     monkeypatch.setattr(werkzeug.serving, "run_simple", lambda *_a, **_k: None)  # serve returns at once
 
@@ -330,14 +330,14 @@ def test_every_cli_command_closes_the_workspace_it_opens(
         ("user set-role", ["user", "set-role", "boss", "admin", *by], None),
         ("user disable", ["user", "disable", "boss", "--enable", *by], None),
     ]
-    assert sorted(name for name, _args, _input in runs) == sorted(cli_commands(engine.cli.main)), \
+    assert sorted(name for name, _args, _input in runs) == sorted(cli_commands(stetline.cli.main)), \
         "add the new command to this list"
     runner = CliRunner()
     sqlite_only = {"backup", "restore"}  # PostgreSQL workspaces are pointed to pg_dump: a clear refusal
     for name, args, given in runs:
         if "-w" not in args:
             args = [*args, "-w", str(demo_path)]
-        result = runner.invoke(engine.cli.main, args, input=given, catch_exceptions=False)
+        result = runner.invoke(stetline.cli.main, args, input=given, catch_exceptions=False)
         if not (ON_POSTGRES and name in sqlite_only):
             assert result.exit_code == 0, f"{name}: {result.output}"
         assert opened, name

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from engine.textmerge import merge3, word_diff
+from stetline.textmerge import merge3, word_diff
 
 BASE = "Recycling in Eelbridge rose from 44.0% in 2023 to 45.0% in 2024."
 
@@ -54,8 +54,8 @@ def test_word_diff_marks_added_and_deleted_words() -> None:
 
 def test_a_proposal_updates_numbers_before_merging_so_shifted_years_do_not_conflict() -> None:
     """A year moving on (2024 → 2025) shifts every number; the typed numbers are updated first."""
-    from engine.drafting import Draft
-    from engine.reconcile import Basis, HumanWork, propose
+    from stetline.drafting import Draft
+    from stetline.reconcile import Basis, HumanWork, propose
 
     old = {"value": {"value": 45.0, "shown": "45.0%"}, "previous": {"value": 44.0, "shown": "44.0%"},
            "period": {"value": "2024", "shown": "2024"}, "previous_period": {"value": "2023", "shown": "2023"}}

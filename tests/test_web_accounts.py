@@ -10,10 +10,10 @@ import pytest
 from flask import Flask
 from flask.testing import FlaskClient
 
-from engine import accounts, actions
-from engine.store import ops
-from engine.workspace import Workspace
-from webapp import create_app
+from stetline import accounts, actions
+from stetline.store import ops
+from stetline.web import create_app
+from stetline.workspace import Workspace
 
 HERONSFORD = "change/heronsford/recycling"
 GORSE = "change/gorse-point/recycling"

@@ -10,10 +10,10 @@ import pytest
 from flask import Flask
 from flask.testing import FlaskClient
 
-from engine import actions
-from engine.store import ops
-from engine.workspace import Workspace
-from webapp import create_app
+from stetline import actions
+from stetline.store import ops
+from stetline.web import create_app
+from stetline.workspace import Workspace
 
 HERONSFORD = "change/heronsford/recycling"  # a rewrite in recheck with a clean proposal
 GORSE = "change/gorse-point/recycling"  # a rewrite in recheck whose proposal has a conflict

@@ -5,9 +5,9 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
-from engine import demo
-from engine.workspace import open_workspace
-from webapp import create_app
+from stetline import demo
+from stetline.web import create_app
+from stetline.workspace import open_workspace
 
 
 def test_resolve_every_recheck_in_the_browser_and_publish(team_path: Path) -> None:

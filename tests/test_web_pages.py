@@ -20,12 +20,12 @@ from flask.testing import FlaskClient
 from markupsafe import escape
 from sqlalchemy import inspect
 
-from engine import actions, comments, demo
-from engine.errors import NotFound, StetlineError
-from engine.store import ops
-from engine.store.db import alembic_config
-from engine.workspace import Workspace
-from webapp import create_app
+from stetline import actions, comments, demo
+from stetline.errors import NotFound, StetlineError
+from stetline.store import ops
+from stetline.store.db import alembic_config
+from stetline.web import create_app
+from stetline.workspace import Workspace
 
 HERONSFORD = "change/heronsford/recycling"
 GORSE = "change/gorse-point/recycling"
@@ -266,7 +266,7 @@ def test_an_unknown_format_is_refused(client: FlaskClient) -> None:
 # -- settings -------------------------------------------------------------------------------
 
 def test_settings_page_has_a_labelled_control_and_help_for_every_setting(client: FlaskClient) -> None:
-    from engine.settings import SETTINGS
+    from stetline.settings import SETTINGS
 
     html = get(client, "/settings")
     for spec in SETTINGS:

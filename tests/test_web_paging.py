@@ -9,11 +9,11 @@ import pytest
 from flask import Flask
 from flask.testing import FlaskClient
 
-from engine import actions
-from engine.reconcile import REASONS
-from engine.store import ops
-from engine.workspace import Workspace
-from webapp import create_app, paging
+from stetline import actions
+from stetline.reconcile import REASONS
+from stetline.store import ops
+from stetline.web import create_app, paging
+from stetline.workspace import Workspace
 
 SLOT_LINK = re.compile(r'<a href="/statements/([^"]+)"><code>')
 

@@ -26,13 +26,13 @@ from flask.testing import FlaskClient
 from sqlalchemy import func, select
 from werkzeug.datastructures import MultiDict
 
-from engine import actions, demo
-from engine import settings as settings_mod
-from engine.accounts import PERMISSIONS, ROLES
-from engine.store import ops
-from engine.store.models import Base, Comment, Event, Setting, Slot
-from engine.workspace import Workspace, open_workspace
-from webapp import create_app
+from stetline import actions, demo
+from stetline import settings as settings_mod
+from stetline.accounts import PERMISSIONS, ROLES
+from stetline.store import ops
+from stetline.store.models import Base, Comment, Event, Setting, Slot
+from stetline.web import create_app
+from stetline.workspace import Workspace, open_workspace
 
 PLAIN = "standing/cairnbrook/recycling"  # a draft nobody worked on
 REWRITTEN = "change/gorse-point/recycling"  # the editor's rewrite, now in recheck

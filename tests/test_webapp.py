@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from engine.workspace import Workspace
-from webapp import create_app
+from stetline.web import create_app
+from stetline.workspace import Workspace
 
 
 def test_overview_shows_the_edition_and_the_counts(demo_ws: Workspace) -> None:

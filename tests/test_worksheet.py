@@ -4,10 +4,10 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from conftest import Cli
 from openpyxl import load_workbook
 
-from conftest import Cli
-from engine.worksheet import neutralise
+from stetline.worksheet import neutralise
 
 
 def _fill(path: Path, texts: dict[str, str]) -> None:

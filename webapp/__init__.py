@@ -12,7 +12,7 @@ from flask import Flask, g, render_template
 from sqlalchemy.exc import OperationalError
 from werkzeug.exceptions import HTTPException
 
-from engine.workspace import Workspace
+from stetline.workspace import Workspace
 
 MAX_UPLOAD_MB = 50
 
@@ -36,7 +36,7 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flas
 
     CSRFProtect(app)
 
-    from webapp import auth, browse, bulk, data, mine, overview, publishing, recheck, search, settings, statement
+    from stetline.web import auth, browse, bulk, data, mine, overview, publishing, recheck, search, settings, statement
 
     for module in (auth, overview, browse, statement, recheck, bulk, search, data, publishing, settings, mine):
         app.register_blueprint(module.bp)
@@ -53,15 +53,13 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flas
 
 def _schema_current(ws: Workspace) -> None:
     """Bring a workspace made by an older Stetline up to the newest schema."""
-    from engine import schema
-
-    schema.bring_up_to_date(ws)
+    ws.bring_up_to_date()
 
 
 def _https(ws: Workspace) -> bool:
     """The workspace's ``https`` setting: session cookies are then sent over HTTPS only."""
-    from engine import settings
-    from engine.store import ops
+    from stetline import settings
+    from stetline.store import ops
 
     with ws.session() as s:
         return bool(settings.with_defaults(ops.get_settings(s))["https"])

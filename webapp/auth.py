@@ -12,12 +12,13 @@ from __future__ import annotations
 from typing import Any
 from urllib.parse import urlsplit
 
-from flask import Blueprint, g, redirect, render_template, request, session as cookie, url_for
+from flask import Blueprint, g, redirect, render_template, request, url_for
+from flask import session as cookie
 from werkzeug.wrappers import Response
 
-from engine import accounts, demo
-from engine.errors import StetlineError
-from webapp.db import session, workspace
+from stetline import accounts, demo
+from stetline.errors import StetlineError
+from stetline.web.db import session, workspace
 
 bp = Blueprint("auth", __name__)
 

@@ -8,13 +8,13 @@ from typing import Any
 from flask import Blueprint, abort, render_template, request
 from sqlalchemy.orm import Session
 
-from engine import actions
-from engine.livefields import LiveFields
-from engine.loading import house_style
-from engine.store import ops
-from webapp.db import session
-from webapp.paging import current_page
-from webapp.selection import Selection
+from stetline import actions
+from stetline.livefields import LiveFields
+from stetline.loading import house_style
+from stetline.store import ops
+from stetline.web.db import session
+from stetline.web.paging import current_page
+from stetline.web.selection import Selection
 
 bp = Blueprint("browse", __name__)
 

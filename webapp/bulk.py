@@ -11,12 +11,12 @@ from __future__ import annotations
 from flask import Blueprint, abort, flash, redirect, render_template, request
 from werkzeug.wrappers import Response
 
-from engine import bulk as bulk_mod
-from engine.errors import Conflict, Forbidden, NotFound, StetlineError
-from engine.store import ops
-from webapp.common import acting_name, safe_next
-from webapp.db import session, workspace
-from webapp.selection import SCOPES, Selection
+from stetline import bulk as bulk_mod
+from stetline.errors import Conflict, Forbidden, NotFound, StetlineError
+from stetline.store import ops
+from stetline.web.common import acting_name, safe_next
+from stetline.web.db import session, workspace
+from stetline.web.selection import SCOPES, Selection
 
 bp = Blueprint("bulk", __name__)
 

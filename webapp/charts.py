@@ -8,10 +8,10 @@ label, so it does not rest on colour. Each chart comes with a title, a one-sente
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import Callable
 
-from engine import phrasing
+from stetline import phrasing
 
 Format = Callable[[float], str]
 

@@ -6,10 +6,11 @@ from typing import Any
 
 import markdown
 import nh3
-from flask import request, session as cookie
+from flask import request
+from flask import session as cookie
 
-from engine.livefields import LiveFields
-from engine.textmerge import word_diff
+from stetline.livefields import LiveFields
+from stetline.textmerge import word_diff
 
 DEFAULT_NAME = "web"
 MAX_NAME = 100
@@ -18,7 +19,7 @@ MAX_NAME = 100
 def acting_name() -> str:
     """Who acts: the signed-in account when the workspace has accounts; else a name given in the
     form (then kept in the session cookie), else the kept one."""
-    from webapp.auth import accounts_on, signed_in
+    from stetline.web.auth import accounts_on, signed_in
 
     if accounts_on():
         who = signed_in()
@@ -32,7 +33,7 @@ def acting_name() -> str:
 
 def current_name() -> str:
     """The signed-in account, else the name kept in the session cookie, else the default."""
-    from webapp.auth import accounts_on, signed_in
+    from stetline.web.auth import accounts_on, signed_in
 
     if accounts_on():
         who = signed_in()

@@ -21,12 +21,12 @@ from werkzeug.datastructures import FileStorage
 from werkzeug.utils import secure_filename
 from werkzeug.wrappers import Response
 
-from engine import accounts, loading
-from engine.errors import Forbidden, Problem, StetlineError, ValidationError
-from engine.reconcile import REASONS
-from engine.store import ops
-from webapp.common import acting_name
-from webapp.db import session, workspace
+from stetline import accounts, loading
+from stetline.errors import Forbidden, Problem, StetlineError, ValidationError
+from stetline.reconcile import REASONS
+from stetline.store import ops
+from stetline.web.common import acting_name
+from stetline.web.db import session, workspace
 
 bp = Blueprint("data", __name__)
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from flask import current_app, g
 from sqlalchemy.orm import Session
 
-from engine.workspace import Workspace
+from stetline.workspace import Workspace
 
 
 def workspace() -> Workspace:

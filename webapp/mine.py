@@ -4,10 +4,10 @@ from __future__ import annotations
 
 from flask import Blueprint, render_template
 
-from engine import accounts, actions
-from engine.store import ops
-from webapp.common import acting_name
-from webapp.db import session
+from stetline import accounts, actions
+from stetline.store import ops
+from stetline.web.common import acting_name
+from stetline.web.db import session
 
 bp = Blueprint("mine", __name__)
 

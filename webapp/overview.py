@@ -4,11 +4,11 @@ from __future__ import annotations
 
 from flask import Blueprint, render_template
 
-from engine import actions
-from engine.publish import CAUTION
-from engine.reconcile import REASONS
-from engine.store import ops
-from webapp.db import session
+from stetline import actions
+from stetline.publication import CAUTION
+from stetline.reconcile import REASONS
+from stetline.store import ops
+from stetline.web.db import session
 
 bp = Blueprint("overview", __name__)
 

@@ -1,6 +1,6 @@
 """The publish page: what blocks publication, the numbers no fact backs, and the download.
 
-The download goes through engine.publish.publish, which applies the gate and records the
+The download goes through stetline.publish.publish, which applies the gate and records the
 publication with its checksum; the file comes back with its format's media type as an attachment.
 """
 
@@ -11,12 +11,13 @@ from typing import Any
 
 from flask import Blueprint, Response, render_template, request
 
-from engine import actions, publish, settings
-from engine.errors import Forbidden, StetlineError
-from engine.formats import FORMATS, MEDIA_TYPES
-from engine.store import ops
-from webapp.common import acting_name
-from webapp.db import session, workspace
+from stetline import actions, publish, settings
+from stetline.errors import Forbidden, StetlineError
+from stetline.formats import FORMATS, MEDIA_TYPES
+from stetline.publication import CAUTION
+from stetline.store import ops
+from stetline.web.common import acting_name
+from stetline.web.db import session, workspace
 
 bp = Blueprint("publishing", __name__)
 
@@ -50,7 +51,7 @@ def _page(*, error: str | None = None, chosen: dict[str, Any] | None = None, sta
         "publish/page.html", edition=edition, waiting=waiting[:SHOWN], waiting_total=len(waiting),
         unapproved=counts.get("draft", 0) + counts.get("edited", 0), approved=counts.get("approved", 0),
         untraced=untraced[:SHOWN], untraced_total=len(untraced), untraced_mode=mode,
-        caution=publish.CAUTION, formats=[(f, *FORMAT_LABELS.get(f, (f, ""))) for f in FORMATS],
+        caution=CAUTION, formats=[(f, *FORMAT_LABELS.get(f, (f, ""))) for f in FORMATS],
         sections=SECTIONS, chosen=chosen or {"format": "md", "sections": "entity"}, error=error,
         publications=ops.events_by_action(s, "publish", 10),
     ), status

@@ -8,16 +8,16 @@ from typing import Any
 
 from flask import Blueprint, render_template, request
 
-from engine import actions
-from engine.livefields import LiveFields
-from engine.loading import house_style
-from engine.reconcile import REASONS
-from engine.store import ops
-from webapp.common import diff
-from webapp.db import session
-from webapp.paging import current_page
-from webapp.selection import Selection
-from webapp.statement import review_texts
+from stetline import actions
+from stetline.livefields import LiveFields
+from stetline.loading import house_style
+from stetline.reconcile import REASONS
+from stetline.store import ops
+from stetline.web.common import diff
+from stetline.web.db import session
+from stetline.web.paging import current_page
+from stetline.web.selection import Selection
+from stetline.web.statement import review_texts
 
 bp = Blueprint("recheck", __name__)
 
@@ -55,10 +55,10 @@ def accept_clean() -> Any:
     """Accept every clean proposal (each its own event), if the count is still the one confirmed."""
     from flask import flash, redirect, url_for
 
-    from engine.accounts import authorize
-    from engine.errors import Forbidden, StetlineError
-    from webapp.common import acting_name
-    from webapp.db import workspace
+    from stetline.accounts import authorize
+    from stetline.errors import Forbidden, StetlineError
+    from stetline.web.common import acting_name
+    from stetline.web.db import workspace
 
     s = session()
     expected = request.form.get("count", type=int)
@@ -84,8 +84,8 @@ def accept_clean() -> Any:
 @bp.get("/changes")
 def changes() -> Any:
     """What changed between two editions (default: the last two)."""
-    from engine.changelog import changes as changelog
-    from engine.errors import StetlineError
+    from stetline.changelog import changes as changelog
+    from stetline.errors import StetlineError
 
     s = session()
     labels = [e.label for e in ops.editions(s)]

@@ -5,9 +5,9 @@ from __future__ import annotations
 
 from flask import Blueprint, render_template, request, url_for
 
-from engine.store import ops
-from webapp.common import highlight
-from webapp.db import session
+from stetline.store import ops
+from stetline.web.common import highlight
+from stetline.web.db import session
 
 bp = Blueprint("search", __name__)
 

@@ -8,15 +8,15 @@ the statements the page showed.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Mapping
 from urllib.parse import urlencode
 
 from flask import url_for
 from sqlalchemy.orm import Session
 
-from engine import actions
-from engine.store import ops
+from stetline import actions
+from stetline.store import ops
 
 SCOPES = ("entity", "topic", "recheck")
 FILTERS = {"entity": ("status",), "topic": ("status",), "recheck": ("reason", "kind", "entity", "topic")}
@@ -32,7 +32,7 @@ class Selection:
     filters: dict[str, str | None] = field(default_factory=dict)
 
     @classmethod
-    def parse(cls, scope: str, key: str | None, args: Mapping[str, str]) -> "Selection":
+    def parse(cls, scope: str, key: str | None, args: Mapping[str, str]) -> Selection:
         """A selection from a scope, a key and the request's filter values (unknown ones ignored)."""
         if scope not in SCOPES:
             raise ValueError(f"unknown selection {scope!r}")

@@ -8,11 +8,12 @@ from typing import Any
 from flask import Blueprint, flash, redirect, render_template, request, url_for
 from werkzeug.wrappers import Response
 
-from engine import configure, loading, settings as settings_mod
-from engine.errors import Forbidden, StetlineError
-from engine.store import ops
-from webapp.common import acting_name
-from webapp.db import session, workspace
+from stetline import configure, loading
+from stetline import settings as settings_mod
+from stetline.errors import Forbidden, StetlineError
+from stetline.store import ops
+from stetline.web.common import acting_name
+from stetline.web.db import session, workspace
 
 bp = Blueprint("settings", __name__)
 

@@ -8,20 +8,21 @@ back with a message. An engine error re-renders the page with the message next t
 
 from __future__ import annotations
 
-from typing import Any, Callable
+from collections.abc import Callable
+from typing import Any
 
 from flask import Blueprint, abort, flash, redirect, render_template, request, url_for
 from sqlalchemy.orm import Session
 from werkzeug.wrappers import Response
 
-from engine import actions, comments, phrasing
-from engine.errors import Conflict, Forbidden, NotFound, StetlineError
-from engine.livefields import FILTER_HELP, LiveFields
-from engine.loading import house_style
-from engine.store import ops
-from webapp import charts
-from webapp.common import acting_name, current_name, diff, markdown_html, preview_html, safe_next
-from webapp.db import session, workspace
+from stetline import actions, comments, phrasing
+from stetline.errors import Conflict, Forbidden, NotFound, StetlineError
+from stetline.livefields import FILTER_HELP, LiveFields
+from stetline.loading import house_style
+from stetline.store import ops
+from stetline.web import charts
+from stetline.web.common import acting_name, current_name, diff, markdown_html, preview_html, safe_next
+from stetline.web.db import session, workspace
 
 bp = Blueprint("statement", __name__)
 
@@ -160,8 +161,8 @@ def rewrite(slot: str) -> Response | tuple[str, int]:
 
 def _conflict(slot_id: str, yours: str, started_from: str, by: str) -> tuple[str, int]:
     """The other person's change beside yours, with a merge; the refused attempt is recorded."""
-    from engine.store import ops
-    from engine.textmerge import merge3
+    from stetline.store import ops
+    from stetline.textmerge import merge3
 
     with workspace().session() as s:
         view = actions.view(s, slot_id)

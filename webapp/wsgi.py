@@ -5,7 +5,7 @@ Run the migrations once (``stetline init``) before starting the workers.
 
 from __future__ import annotations
 
-from engine.workspace import default_path, open_workspace
-from webapp import create_app
+from stetline.web import create_app
+from stetline.workspace import default_path, open_workspace
 
 app = create_app(open_workspace(default_path()))

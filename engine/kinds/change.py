@@ -14,9 +14,9 @@ from __future__ import annotations
 import math
 from collections.abc import Iterator
 
-from engine import phrasing
-from engine.drafting import Candidate, Context, ev, slot_id
-from engine.kinds.common import caveat, missing, status_shown
+from stetline import phrasing
+from stetline.drafting import Candidate, Context, ev, slot_id
+from stetline.kinds.common import caveat, missing, status_shown
 
 KIND = "change"
 PHRASINGS = 2

@@ -5,7 +5,7 @@ from __future__ import annotations
 import math
 from typing import Any
 
-from engine import phrasing
+from stetline import phrasing
 
 #: fewer entities than this reporting a topic: no ranking is stated (a rank of 2 says little)
 MIN_RANKED = 3

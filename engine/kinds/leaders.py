@@ -11,9 +11,9 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
-from engine import phrasing
-from engine.drafting import Candidate, Context, ev, slot_id
-from engine.kinds.common import MIN_RANKED, best_word
+from stetline import phrasing
+from stetline.drafting import Candidate, Context, ev, slot_id
+from stetline.kinds.common import MIN_RANKED, best_word
 
 KIND = "leaders"
 PHRASINGS = 2

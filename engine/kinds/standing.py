@@ -9,9 +9,9 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
-from engine import phrasing
-from engine.drafting import Candidate, Context, ev, slot_id
-from engine.kinds.common import MIN_RANKED, band, caveat, missing, rank_phrase, status_shown
+from stetline import phrasing
+from stetline.drafting import Candidate, Context, ev, slot_id
+from stetline.kinds.common import MIN_RANKED, band, caveat, missing, rank_phrase, status_shown
 
 KIND = "standing"
 PHRASINGS = 2

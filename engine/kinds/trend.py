@@ -15,10 +15,10 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
-from engine import phrasing
-from engine.drafting import Candidate, Context, ev, slot_id
-from engine.facts import trend_facts
-from engine.kinds.common import caveat, missing
+from stetline import phrasing
+from stetline.drafting import Candidate, Context, ev, slot_id
+from stetline.facts import trend_facts
+from stetline.kinds.common import caveat, missing
 
 KIND = "trend"
 PHRASINGS = 2

@@ -14,7 +14,9 @@ from pathlib import Path
 
 from alembic import command
 from alembic.config import Config
-from sqlalchemy import Engine, create_engine, event, inspect
+from alembic.runtime.migration import MigrationContext
+from alembic.script import ScriptDirectory
+from sqlalchemy import Engine, create_engine, event
 from sqlalchemy.orm import Session, sessionmaker
 
 BUSY_TIMEOUT_MS = 30_000
@@ -81,7 +83,7 @@ def _close_all(connections: set[object]) -> None:
     for connection in list(connections):
         try:
             connection.close()  # type: ignore[attr-defined]
-        except Exception:  # noqa: BLE001 - a connection the server already dropped
+        except Exception:
             pass
     connections.clear()
 
@@ -94,7 +96,7 @@ def session_factory(engine: Engine) -> sessionmaker[Session]:
 def alembic_config(url: str) -> Config:
     """An Alembic configuration pointing at the shipped migrations, with no alembic.ini."""
     cfg = Config()
-    cfg.set_main_option("script_location", str(resources.files("migrations")))
+    cfg.set_main_option("script_location", str(resources.files("stetline.migrations")))
     cfg.set_main_option("sqlalchemy.url", url.replace("%", "%%"))
     return cfg
 
@@ -104,6 +106,16 @@ def upgrade(url: str) -> None:
     command.upgrade(alembic_config(url), "head")
 
 
-def has_schema(engine: Engine) -> bool:
-    """True when the database already holds Stetline's tables."""
-    return "slot" in inspect(engine).get_table_names()
+def is_current(url: str, engine: Engine) -> bool:
+    """True when the database is at the newest migration."""
+    heads = set(ScriptDirectory.from_config(alembic_config(url)).get_heads())
+    with engine.connect() as conn:
+        return set(MigrationContext.configure(conn).get_current_heads()) == heads
+
+
+def bring_up_to_date(url: str, engine: Engine) -> bool:
+    """Apply the migrations the database lacks; True when any were applied."""
+    if is_current(url, engine):
+        return False
+    upgrade(url)
+    return True

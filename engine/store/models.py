@@ -8,7 +8,7 @@ or claims change. Layers and approvals are never deleted: dropping one stamps ``
 
 from __future__ import annotations
 
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from typing import Any
 
 from sqlalchemy import JSON, ForeignKey, Index, MetaData, String, Text, UniqueConstraint
@@ -25,7 +25,7 @@ NAMING = {
 
 def utcnow() -> datetime:
     """The current time in UTC, without microseconds noise in the display."""
-    return datetime.now(timezone.utc).replace(tzinfo=None)
+    return datetime.now(UTC).replace(tzinfo=None)
 
 
 class Base(DeclarativeBase):

@@ -8,18 +8,29 @@ approvals are never deleted (dropping stamps ``dropped_at``).
 from __future__ import annotations
 
 import json
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass
-from typing import Any, Iterable, Iterator, Sequence
+from typing import Any
 
 import numpy as np
 import pandas as pd
 from sqlalchemy import func, select, text, update
 from sqlalchemy.orm import Session
 
-from engine.drafting import Draft as DraftText
-from engine.reconcile import Basis, Decision, HumanWork, SlotState
-from engine.store.models import (
-    Approval, Draft, Edition, Entity, Event, Layer, Observation, Setting, Slot, Topic, utcnow,
+from stetline.drafting import Draft as DraftText
+from stetline.reconcile import Basis, Decision, HumanWork, SlotState
+from stetline.store.models import (
+    Approval,
+    Draft,
+    Edition,
+    Entity,
+    Event,
+    Layer,
+    Observation,
+    Setting,
+    Slot,
+    Topic,
+    utcnow,
 )
 
 CHUNK = 20_000
@@ -547,7 +558,7 @@ def _has_reason(reason: str) -> Any:
     """
     from sqlalchemy import String, cast, false
 
-    from engine.reconcile import REASONS
+    from stetline.reconcile import REASONS
 
     if reason not in REASONS:
         return false()
@@ -735,10 +746,12 @@ def slot_statuses(session: Session, slot_ids: Sequence[str]) -> dict[str, tuple[
 
 from datetime import datetime  # noqa: E402
 
-from sqlalchemy import String as _String, DateTime as _DateTime, case, cast, literal, null, union_all  # noqa: E402
+from sqlalchemy import DateTime as _DateTime
+from sqlalchemy import String as _String  # noqa: E402
+from sqlalchemy import case, cast, literal, null, union_all
 
-from engine import periods as _periods  # noqa: E402
-from engine.store.models import Comment  # noqa: E402
+from stetline import periods as _periods  # noqa: E402
+from stetline.store.models import Comment  # noqa: E402
 
 COMMENT_KINDS = ("comment", "send-back")
 SEARCH_LIMIT = 50

@@ -185,8 +185,8 @@ def add_human_work(ws_path: Path, share: int) -> dict[str, int]:
     """Rewrites, pins, notes, suppressions and approvals on about one slot in ``share``."""
     import random
 
-    from engine import actions
-    from engine.workspace import open_workspace
+    from stetline import actions
+    from stetline.workspace import open_workspace
 
     con = sqlite3.connect(ws_path / "stetline.db")
     slots = [r[0] for r in con.execute("SELECT id FROM slot ORDER BY id")]

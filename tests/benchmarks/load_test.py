@@ -27,9 +27,9 @@ import urllib.parse
 import urllib.request
 from pathlib import Path
 
-from engine import demo
-from engine.store import ops
-from engine.workspace import open_workspace
+from stetline import demo
+from stetline.store import ops
+from stetline.workspace import open_workspace
 
 SLOTS = ("standing/tidemere/recycling", "change/north-quay/broadband", "standing/larkholt/population",
          "trend/heronsford/recycling", "profile/cairnbrook")
@@ -66,7 +66,7 @@ def run(clients: int, requests: int) -> dict[str, float]:
 
     logging.getLogger("waitress").setLevel(logging.ERROR)  # queue-depth notices are expected here
 
-    from webapp import create_app
+    from stetline.web import create_app
 
     tmp = Path(tempfile.mkdtemp())
     path = tmp / "demo"
@@ -75,7 +75,7 @@ def run(clients: int, requests: int) -> dict[str, float]:
     with ws.session() as s:  # a one-person copy: no sign-in needed
         from sqlalchemy import delete
 
-        from engine.store.models import Account
+        from stetline.store.models import Account
 
         s.execute(delete(Account))
     app = create_app(ws)

@@ -29,9 +29,9 @@ class _Site:
     """One workspace's web app in this process, with the pages to ask for."""
 
     def __init__(self, ws_path: Path, random_state: int) -> None:
-        from engine.store import ops
-        from engine.workspace import open_workspace
-        from webapp import create_app
+        from stetline.store import ops
+        from stetline.web import create_app
+        from stetline.workspace import open_workspace
 
         self.ws = open_workspace(ws_path)
         with self.ws.reading() as s:

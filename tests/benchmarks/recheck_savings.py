@@ -25,10 +25,10 @@ import pandas as pd
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from engine import actions, demo, loading  # noqa: E402
-from engine.reconcile import claim_changes  # noqa: E402
-from engine.store import ops  # noqa: E402
-from engine.workspace import init_workspace  # noqa: E402
+from stetline import actions, demo, loading
+from stetline.reconcile import claim_changes
+from stetline.store import ops
+from stetline.workspace import init_workspace
 
 BIG_SHARE = 0.05
 

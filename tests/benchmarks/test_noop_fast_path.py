@@ -17,10 +17,10 @@ from typing import Any
 import pytest
 from sqlalchemy import select
 
-from engine import actions, loading
-from engine.store import ops
-from engine.store.models import Base, Slot
-from engine.workspace import Workspace, init_workspace
+from stetline import actions, loading
+from stetline.store import ops
+from stetline.store.models import Base, Slot
+from stetline.workspace import Workspace, init_workspace
 
 TIMES = {"loaded_at", "updated_at", "at", "dropped_at"}
 

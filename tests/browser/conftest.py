@@ -17,9 +17,9 @@ from typing import Any
 import pytest
 from werkzeug.serving import make_server
 
-from engine.workspace import open_workspace
 from browser.livesite import Live, QuietHandler
-from webapp import create_app
+from stetline.web import create_app
+from stetline.workspace import open_workspace
 
 CHROMIUM = Path("/usr/bin/chromium")
 CHROMIUM_ARGS = [
@@ -69,7 +69,7 @@ def screens(tmp_path_factory: pytest.TempPathFactory) -> Path:
 
 def sign_in(page: Any, live: Live, name: str) -> None:
     """Sign in through the sign-in page as one of the demo's accounts."""
-    from engine import demo
+    from stetline import demo
 
     page.goto(live("/login"))
     page.get_by_label("Account name").fill(name)

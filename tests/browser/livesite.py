@@ -7,7 +7,7 @@ from typing import Any
 
 from werkzeug.serving import WSGIRequestHandler
 
-from engine.workspace import Workspace
+from stetline.workspace import Workspace
 
 TABLET = {"width": 820, "height": 1180}
 
@@ -15,7 +15,7 @@ TABLET = {"width": 820, "height": 1180}
 class QuietHandler(WSGIRequestHandler):
     """A request handler that does not print a line per request."""
 
-    def log(self, type: str, message: str, *args: Any) -> None:  # noqa: A002 - werkzeug's name
+    def log(self, type: str, message: str, *args: Any) -> None:
         pass
 
 

@@ -10,8 +10,8 @@ from typing import Any
 import pytest
 from playwright.sync_api import Page, expect
 
-from engine import actions
 from browser.livesite import TABLET, Live
+from stetline import actions
 
 pytestmark = [
     pytest.mark.browser,
@@ -82,7 +82,7 @@ def test_a_bad_upload_shows_the_problems_table(page: Page, live: Live) -> None:
     expect(alert.locator("td", has_text="the value is not a number: 'lots'")).to_be_visible()
     expect(page.get_by_role("button", name="Load this edition")).to_have_count(0)
     with live.ws.session() as s:
-        from engine.store import ops
+        from stetline.store import ops
 
         assert [e.label for e in ops.editions(s)] == ["2024", "2025"]
 
@@ -113,7 +113,7 @@ UNLABELLED = """() => [...document.querySelectorAll("input:not([type=hidden]), s
 
 
 def test_signing_in_once_the_workspace_has_accounts(browser: Any, live: Live, screens: Path) -> None:
-    from engine import demo
+    from stetline import demo
 
     page = browser.new_page()  # a fresh browser, not signed in
     page.goto(live("/recheck?reason=slot-gone"))
