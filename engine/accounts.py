@@ -8,7 +8,6 @@ while. Account changes are recorded as events.
 
 from __future__ import annotations
 
-from collections.abc import Iterable
 from datetime import timedelta
 
 from sqlalchemy.orm import Session
@@ -195,8 +194,3 @@ def assign(session: Session, name: str, *, entity: str | None = None, topic: str
 def assignments(session: Session, name: str) -> list[Assignment]:
     """What is assigned to a person."""
     return stored.assignments_of(session, name)
-
-
-def roles_allowed(action: str) -> Iterable[str]:
-    """The roles that may take an action."""
-    return sorted(PERMISSIONS[action])
