@@ -8,15 +8,14 @@ while. Account changes are recorded as events.
 
 from __future__ import annotations
 
-from collections.abc import Iterable
 from datetime import timedelta
 
-from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 from werkzeug.security import check_password_hash, generate_password_hash
 
 from stetline import settings as settings_mod
 from stetline.errors import Forbidden, NotFound, StetlineError
+from stetline.store import accounts as stored
 from stetline.store import ops
 from stetline.store.models import Account, Assignment, utcnow
 
@@ -41,17 +40,17 @@ MIN_PASSWORD = 8
 
 def has_accounts(session: Session) -> bool:
     """True once the workspace has any account (it is then no longer a one-person workspace)."""
-    return bool(session.scalar(select(func.count()).select_from(Account)))
+    return stored.has_accounts(session)
 
 
 def get_account(session: Session, name: str) -> Account | None:
     """An account by name."""
-    return session.scalars(select(Account).where(Account.name == name)).first()
+    return stored.get_account(session, name)
 
 
 def accounts(session: Session) -> list[Account]:
     """Every account, by name."""
-    return list(session.scalars(select(Account).order_by(Account.name)))
+    return stored.all_accounts(session)
 
 
 def role_of(session: Session, name: str) -> str | None:
@@ -121,7 +120,7 @@ def set_role(session: Session, name: str, role: str, *, by: str) -> Account:
     if role not in ROLES:
         raise StetlineError(f"unknown role {role!r}; roles: {', '.join(ROLES)}")
     account = _existing(session, name)
-    if account.role == "admin" and role != "admin" and _admins(session) == 1:
+    if account.role == "admin" and role != "admin" and stored.enabled_admins(session) == 1:
         raise StetlineError("this is the last admin; make another admin first")
     old, account.role = account.role, role
     ops.add_event(session, by, "account-role", detail={"account": name, "old": old, "new": role})
@@ -132,7 +131,7 @@ def disable(session: Session, name: str, *, by: str, enable: bool = False) -> Ac
     """Disable (or enable again) an account (admins only); the last enabled admin stays."""
     authorize(session, by, "accounts")
     account = _existing(session, name)
-    if not enable and account.role == "admin" and account.enabled and _admins(session) == 1:
+    if not enable and account.role == "admin" and account.enabled and stored.enabled_admins(session) == 1:
         raise StetlineError("this is the last enabled admin; make another admin first")
     account.enabled = enable
     if enable:
@@ -156,12 +155,6 @@ def _existing(session: Session, name: str) -> Account:
     if account is None:
         raise NotFound(f"there is no account {name!r}")
     return account
-
-
-def _admins(session: Session) -> int:
-    return int(session.scalar(
-        select(func.count()).select_from(Account).where(Account.role == "admin", Account.enabled.is_(True))
-    ) or 0)
 
 
 def login(session: Session, name: str, password: str) -> Account:
@@ -200,9 +193,4 @@ def assign(session: Session, name: str, *, entity: str | None = None, topic: str
 
 def assignments(session: Session, name: str) -> list[Assignment]:
     """What is assigned to a person."""
-    return list(session.scalars(select(Assignment).where(Assignment.account == name).order_by(Assignment.id)))
-
-
-def roles_allowed(action: str) -> Iterable[str]:
-    """The roles that may take an action."""
-    return sorted(PERMISSIONS[action])
+    return stored.assignments_of(session, name)

@@ -7,25 +7,24 @@ Stetline database, keeps the database it replaces as a dated copy in the workspa
 no work done since the backup is lost), swaps the new file in with one atomic rename and brings
 its schema up to date. PostgreSQL workspaces are backed up with pg_dump instead.
 
-This module handles files and SQLite connections only; it holds no business rules.
+This module handles files only; stetline.store.backup opens the SQLite databases. It holds no
+business rules.
 """
 
 from __future__ import annotations
 
 import os
 import shutil
-import sqlite3
 import tempfile
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 
-from sqlalchemy import create_engine
 from sqlalchemy.exc import SQLAlchemyError
-from sqlalchemy.orm import Session
 
 from stetline.accounts import authorize
 from stetline.errors import StetlineError
+from stetline.store import backup as sqlite_files
 from stetline.store import db, ops
 from stetline.workspace import DB_FILE, Workspace, _url_for, is_workspace
 
@@ -59,7 +58,8 @@ class RestoreResult:
 
 def _sqlite_file(ws: Workspace, action: str) -> Path:
     if not ws.url.startswith("sqlite"):
-        how = "back it up with pg_dump" if action == "backup" else "restore it with pg_restore (or psql for a plain dump)"
+        how = ("back it up with pg_dump" if action == "backup"
+               else "restore it with pg_restore (or psql for a plain dump)")
         raise StetlineError(
             f"this workspace keeps its data in PostgreSQL: {how}, as the README describes; "
             f"stetline {action} handles SQLite workspaces only"
@@ -119,19 +119,7 @@ def _fsync_dir(folder: Path) -> None:
 
 def _copy_live(ws: Workspace, target: Path) -> None:
     """Copy the workspace database into ``target`` (a new file) with the online backup API."""
-    raw = ws.engine.raw_connection()
-    try:
-        source = raw.driver_connection
-        assert isinstance(source, sqlite3.Connection)
-        dest = sqlite3.connect(target)
-        try:
-            source.backup(dest)
-            # one self-contained file: no write-ahead log beside it
-            dest.execute("PRAGMA journal_mode=DELETE")
-        finally:
-            dest.close()
-    finally:
-        raw.close()
+    sqlite_files.copy_live(ws.engine, target)
     _fsync(target)
 
 
@@ -161,17 +149,7 @@ def backup(ws: Workspace, target: Path, *, by: str, force: bool = False) -> Back
         raise
     size = target.stat().st_size
     recorded = _record(ws, by, "backup", {"file": str(target.resolve()), "bytes": size})
-    return BackupResult(target, size, _counts(target), recorded)
-
-
-def _counts(path: Path) -> dict[str, int]:
-    """The row counts of a database file, read without changing it."""
-    engine = create_engine(db.sqlite_url(path))
-    try:
-        with Session(engine) as session:
-            return ops.table_counts(session)
-    finally:
-        engine.dispose()
+    return BackupResult(target, size, sqlite_files.file_counts(target), recorded)
 
 
 def _record(ws: Workspace, by: str, action: str, detail: dict[str, object]) -> bool:
@@ -191,21 +169,15 @@ def _refuse(source: Path, why: str) -> StetlineError:
 def _check_candidate(source: Path, candidate: Path, known: set[str]) -> str:
     """Check the copied file is a sound Stetline database; return its schema revision."""
     try:
-        conn = sqlite3.connect(candidate)
-        try:
-            conn.execute("PRAGMA journal_mode=DELETE")  # folds in a copied write-ahead log
-            check = conn.execute("PRAGMA quick_check").fetchone()
-            if not check or check[0] != "ok":
-                raise _refuse(source, f"the database is damaged ({check[0] if check else 'no result'})")
-            tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
-            missing = [t for t in REQUIRED_TABLES if t not in tables]
-            if missing:
-                raise _refuse(source, f"the database lacks Stetline's table(s) {', '.join(missing)}")
-            revisions = [r[0] for r in conn.execute("SELECT version_num FROM alembic_version")]
-        finally:
-            conn.close()
-    except sqlite3.DatabaseError as exc:
+        found = sqlite_files.check_file(candidate, REQUIRED_TABLES)
+    except sqlite_files.UnreadableDatabase as exc:
         raise _refuse(source, f"SQLite cannot read it ({exc})") from None
+    if found.integrity != "ok":
+        raise _refuse(source, f"the database is damaged ({found.integrity or 'no result'})")
+    missing = [t for t in REQUIRED_TABLES if t not in found.tables]
+    if missing:
+        raise _refuse(source, f"the database lacks Stetline's table(s) {', '.join(missing)}")
+    revisions = found.revisions
     if len(revisions) != 1:
         raise _refuse(source, "its schema version is missing or ambiguous")
     if revisions[0] not in known:
@@ -220,15 +192,6 @@ def _known_revisions(url: str) -> set[str]:
     from alembic.script import ScriptDirectory
 
     return {s.revision for s in ScriptDirectory.from_config(db.alembic_config(url)).walk_revisions()}
-
-
-def _revision(path: Path) -> str:
-    conn = sqlite3.connect(path)
-    try:
-        row = conn.execute("SELECT version_num FROM alembic_version").fetchone()
-    finally:
-        conn.close()
-    return str(row[0]) if row else ""
 
 
 def restore(ws: Workspace, source: Path, *, by: str) -> RestoreResult:
@@ -266,7 +229,7 @@ def restore(ws: Workspace, source: Path, *, by: str) -> RestoreResult:
         _same_mode(candidate, live)
         kept = _keep_current(ws, live)
         ws.close()  # no connection of ours may checkpoint an old log into the new file
-        _settle(live)
+        sqlite_files.checkpoint(live)  # fold the old file's write-ahead log into it before it goes
         os.replace(candidate, live)
         for suffix in SIDE_FILES:  # stale beside the new file: they belonged to the old one
             Path(str(live) + suffix).unlink(missing_ok=True)
@@ -288,7 +251,7 @@ def restore(ws: Workspace, source: Path, *, by: str) -> RestoreResult:
     })
     with ws.session() as session:
         counts = ops.table_counts(session)
-    return RestoreResult(source, revision_before, _revision(live), kept, counts, recorded)
+    return RestoreResult(source, revision_before, sqlite_files.revision_of(live), kept, counts, recorded)
 
 
 def _remove_sides(path: Path) -> None:
@@ -304,29 +267,15 @@ def _keep_current(ws: Workspace, live: Path) -> Path | None:
     kept = live.with_name(f"{KEPT_PREFIX}{stamp}.db")
     temp = _temp_beside(live, ".stetline-keep-")
     try:
-        try:
-            _copy_live(ws, temp)
-        except (sqlite3.DatabaseError, SQLAlchemyError):
-            # a damaged database cannot be read page by page: keep its bytes as they are
-            shutil.copyfile(live, temp)
+        # a damaged database cannot be read page by page: its bytes are kept as they are
+        sqlite_files.copy_live_or_bytes(ws.engine, live, temp)
+        _fsync(temp)
         _same_mode(temp, live)
         os.replace(temp, kept)
     except BaseException:
         _remove(temp)
         raise
     return kept
-
-
-def _settle(live: Path) -> None:
-    """Fold the write-ahead log into the old database file before it is replaced."""
-    try:
-        conn = sqlite3.connect(live)
-        try:
-            conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
-        finally:
-            conn.close()
-    except sqlite3.DatabaseError:
-        pass  # a damaged database: it is kept as a copy already
 
 
 def attach(path: Path, url: str | None = None) -> Workspace:

@@ -1,0 +1,110 @@
+"""Bulk operations and queries on the workspace database; the session belongs to the caller.
+
+Writes are bulk and touch only rows that changed: observations are versioned by edition, a
+draft row is written only when a slot's text, evidence or claims change, and layers and
+approvals are never deleted (dropping stamps ``dropped_at``). One module per concern, each
+importing only the ones listed before it:
+
+- bulk: write_many (every bulk INSERT and UPDATE), id lists for IN (...), rows to frames
+- editions: settings, editions, entity and topic metadata, observations
+- slots: a slot, its draft, layers and approvals
+- listing: the listed predicate, slot filters, listings and status counts, recheck choices
+- refresh: slot states for reconcile, a refresh's decisions written in bulk
+- history: events, comment threads, drafts and layers as of an edition
+- search: the texts of listed slots that hold every word of a query
+
+Callers write ``ops.name(...)``; the names below are the public ones.
+"""
+
+from __future__ import annotations
+
+from stetline.store.ops.editions import (
+    current_edition,
+    edition_by_label,
+    editions,
+    entities_frame,
+    entity_rows,
+    get_entity,
+    get_settings,
+    get_topic,
+    label_taken,
+    latest_values,
+    observations_frame,
+    put_setting,
+    replace_metadata,
+    replaced_values,
+    series,
+    store_observations,
+    topic_rows,
+    topics_frame,
+)
+from stetline.store.ops.history import (
+    COMMENT_KINDS,
+    add_comment,
+    add_event,
+    comments_for,
+    drafts_as_of,
+    events_after,
+    events_by_action,
+    events_for,
+    gone_as_of,
+    latest_event,
+    layer_types_by_slot,
+    recent_events,
+)
+from stetline.store.ops.listing import (
+    SlotFilter,
+    count_slots,
+    list_slots,
+    listed,
+    recheck_options,
+    recheck_reason_counts,
+    status_counts,
+    status_counts_by,
+    status_counts_of,
+)
+from stetline.store.ops.refresh import (
+    Applied,
+    apply_decisions,
+    current_drafts,
+    hold_writers,
+    slot_states,
+    table_counts,
+)
+from stetline.store.ops.search import (
+    MAX_SEARCH_TERMS,
+    SEARCH_LIMIT,
+    SearchHit,
+    SearchPage,
+    search,
+    search_terms,
+)
+from stetline.store.ops.slots import (
+    active_approval,
+    active_layers,
+    add_approval,
+    add_layer,
+    all_active_approvals,
+    all_active_layers,
+    approvals_for,
+    drop,
+    get_draft,
+    get_slot,
+    last_approval,
+    layers_for,
+    slot_statuses,
+)
+
+__all__ = [
+    "get_settings", "put_setting", "current_edition", "editions", "edition_by_label", "label_taken",
+    "topic_rows", "entity_rows", "get_entity", "get_topic", "topics_frame", "entities_frame",
+    "replace_metadata", "observations_frame", "store_observations", "replaced_values", "series",
+    "latest_values", "get_slot", "get_draft", "active_layers", "active_approval", "last_approval",
+    "add_layer", "drop", "add_approval", "layers_for", "approvals_for", "all_active_layers",
+    "all_active_approvals", "slot_statuses", "listed", "SlotFilter", "list_slots", "count_slots",
+    "status_counts", "status_counts_by", "status_counts_of", "recheck_options", "recheck_reason_counts",
+    "hold_writers", "slot_states", "current_drafts", "Applied", "apply_decisions", "table_counts",
+    "add_event", "events_for", "recent_events", "events_by_action", "latest_event", "events_after",
+    "COMMENT_KINDS", "add_comment", "comments_for", "drafts_as_of", "gone_as_of", "layer_types_by_slot",
+    "SEARCH_LIMIT", "MAX_SEARCH_TERMS", "SearchHit", "SearchPage", "search_terms", "search",
+]

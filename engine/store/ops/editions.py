@@ -1,0 +1,214 @@
+"""Settings, editions, entity and topic metadata, and the observations versioned by edition."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import pandas as pd
+from sqlalchemy import select
+from sqlalchemy.orm import Session, aliased
+
+from stetline import periods
+from stetline.store.models import Edition, Entity, Observation, Setting, Topic
+from stetline.store.ops.bulk import floats_or_none, to_frame, write_many
+
+
+def get_settings(session: Session) -> dict[str, Any]:
+    """Every stored setting (without defaults)."""
+    return {s.key: s.value for s in session.scalars(select(Setting))}
+
+
+def put_setting(session: Session, key: str, value: Any) -> None:
+    """Store a setting."""
+    row = session.get(Setting, key)
+    if row is None:
+        session.add(Setting(key=key, value=value))
+    else:
+        row.value = value
+
+
+def current_edition(session: Session) -> Edition | None:
+    """The newest edition, or None before the first load."""
+    return session.scalars(select(Edition).order_by(Edition.id.desc()).limit(1)).first()
+
+
+def editions(session: Session) -> list[Edition]:
+    """Every edition, oldest first."""
+    return list(session.scalars(select(Edition).order_by(Edition.id)))
+
+
+def edition_by_label(session: Session, label: str) -> Edition | None:
+    """The edition with a label."""
+    return session.scalars(select(Edition).where(Edition.label == label)).first()
+
+
+def label_taken(session: Session, label: str) -> bool:
+    """True when an edition already has this label."""
+    return edition_by_label(session, label) is not None
+
+
+def topic_rows(session: Session) -> list[Topic]:
+    """Every topic, in file order."""
+    return list(session.scalars(select(Topic).order_by(Topic.position)))
+
+
+def entity_rows(session: Session) -> list[Entity]:
+    """Every entity, in file order."""
+    return list(session.scalars(select(Entity).order_by(Entity.position)))
+
+
+def get_entity(session: Session, key: str) -> Entity | None:
+    """An entity by key."""
+    return session.get(Entity, key)
+
+
+def get_topic(session: Session, key: str) -> Topic | None:
+    """A topic by key."""
+    return session.get(Topic, key)
+
+
+def topics_frame(session: Session) -> pd.DataFrame | None:
+    """The stored topic metadata as a frame shaped like engine.dataset's, or None if empty."""
+    rows = session.scalars(select(Topic).order_by(Topic.position)).all()
+    if not rows:
+        return None
+    return pd.DataFrame([{
+        "topic": r.key, "label": r.label, "unit": r.unit, "better": r.better,
+        "decimals": r.decimals, "category": r.category,
+        "target": float("nan") if r.target is None else r.target,
+        "weight": r.weight, "source": r.source, "position": r.position,
+    } for r in rows]).astype({"target": "float64", "weight": "float64", "decimals": "int64"})
+
+
+def entities_frame(session: Session) -> pd.DataFrame | None:
+    """The stored entity metadata as a frame, or None if empty."""
+    rows = session.scalars(select(Entity).order_by(Entity.position)).all()
+    if not rows:
+        return None
+    return pd.DataFrame([{"entity": r.key, "name": r.name, "group": r.group, "position": r.position} for r in rows])
+
+
+def replace_metadata(session: Session, topics: pd.DataFrame, entities: pd.DataFrame) -> None:
+    """Store the metadata in force (rows not in the frames are kept: nothing is deleted)."""
+    existing_t = {t.key: t for t in session.scalars(select(Topic))}
+    for r in topics.itertuples(index=False):
+        values = dict(
+            label=r.label, unit=r.unit, better=r.better, decimals=int(r.decimals), category=r.category,
+            target=None if pd.isna(r.target) else float(r.target), weight=float(r.weight),
+            source=r.source, position=int(r.position),
+        )
+        topic = existing_t.get(r.topic)
+        if topic is None:
+            session.add(Topic(key=r.topic, **values))
+        else:
+            _update(topic, values)
+    existing_e = {e.key: e for e in session.scalars(select(Entity))}
+    for r in entities.itertuples(index=False):
+        values = dict(name=r.name, group=r.group, position=int(r.position))
+        entity = existing_e.get(r.entity)
+        if entity is None:
+            session.add(Entity(key=r.entity, **values))
+        else:
+            _update(entity, values)
+    session.flush()
+
+
+def _update(row: Topic | Entity, values: dict[str, Any]) -> None:
+    """Set the attributes whose value differs (an unchanged row is not written)."""
+    for k, v in values.items():
+        if getattr(row, k) != v:
+            setattr(row, k, v)
+
+
+OBS_KEY = ["entity", "topic", "period"]
+
+
+def observations_frame(session: Session, edition_id: int | None = None) -> pd.DataFrame:
+    """The observations valid in an edition (default: the current ones)."""
+    q = select(
+        Observation.id, Observation.entity, Observation.topic, Observation.period,
+        Observation.value, Observation.margin, Observation.status,
+    )
+    if edition_id is None:
+        q = q.where(Observation.valid_to.is_(None))
+    else:
+        q = q.where(Observation.valid_from <= edition_id).where(
+            (Observation.valid_to.is_(None)) | (Observation.valid_to > edition_id)
+        )
+    rows = session.execute(q).all()
+    frame = to_frame(rows, ["id", "entity", "topic", "period", "value", "margin", "status"], ("value", "margin"))
+    return frame.astype({"value": "float64", "margin": "float64"})
+
+
+def store_observations(
+    session: Session, edition_id: int, observations: pd.DataFrame, current: pd.DataFrame | None = None,
+) -> dict[str, int]:
+    """Version the observations: close rows that changed or left, insert new and changed rows.
+
+    ``current`` is what observations_frame(session) gives, when the caller has already read it.
+    """
+    old = observations_frame(session) if current is None else current
+    new = observations[["entity", "topic", "period", "value", "margin", "status"]]
+    merged = new.merge(old, on=OBS_KEY, how="outer", suffixes=("", "_old"), indicator=True)
+
+    def same(a: pd.Series, b: pd.Series) -> pd.Series:
+        return (a == b) | (a.isna() & b.isna())
+
+    both = merged["_merge"] == "both"
+    unchanged = both & same(merged["value"], merged["value_old"]) & same(merged["margin"], merged["margin_old"]) & (
+        merged["status"] == merged["status_old"]
+    )
+    to_close = merged.loc[(merged["_merge"] == "right_only") | (both & ~unchanged), "id"].dropna().astype("int64")
+    columns_in = ["entity", "topic", "period", "value", "margin", "status"]
+    to_insert = merged.loc[(merged["_merge"] == "left_only") | (both & ~unchanged), columns_in]
+    ids = to_close.tolist()
+    write_many(session, Observation, ["valid_to"], [(edition_id, i) for i in ids], where="id")
+    n = len(to_insert)
+    columns = {
+        "entity": to_insert["entity"].tolist(), "topic": to_insert["topic"].tolist(),
+        "period": to_insert["period"].tolist(),
+        "value": floats_or_none(to_insert["value"]), "margin": floats_or_none(to_insert["margin"]),
+        "status": to_insert["status"].tolist(), "valid_from": [edition_id] * n, "valid_to": [None] * n,
+    }
+    write_many(session, Observation, list(columns), list(zip(*columns.values())))
+    return {"closed": len(ids), "inserted": n}
+
+
+def replaced_values(session: Session, before: int | None = None) -> pd.DataFrame:
+    """For each current observation that replaced an earlier value, the value it replaced.
+
+    That is the row the current one took over from: same key, closed by the edition that opened
+    the current row. A key that left the data and came back later replaced nothing (the load
+    that brought it back had nothing to compare it with). With ``before``, only rows closed by
+    an edition older than that edition id count (what that edition's own load saw). One probe of
+    the observation index per current row, however many editions are stored.
+    """
+    old, cur = aliased(Observation), aliased(Observation)
+    q = select(old.entity, old.topic, old.period, old.value).join(
+        cur, (cur.valid_to.is_(None)) & (cur.entity == old.entity) & (cur.topic == old.topic)
+        & (cur.period == old.period) & (old.valid_to == cur.valid_from),
+    )
+    if before is not None:
+        q = q.where(old.valid_to < before)
+    frame = to_frame(session.execute(q).all(), ["entity", "topic", "period", "value"], ("value",))
+    return frame.astype({"value": "float64"}) if not frame.empty else frame
+
+
+def series(session: Session, entity: str, topic: str) -> list[Observation]:
+    """The current observations of one entity on one topic, in period order."""
+    rows = session.scalars(select(Observation).where(
+        Observation.valid_to.is_(None), Observation.entity == entity, Observation.topic == topic,
+    ))
+    return sorted(rows, key=lambda o: periods.period_time(o.period))
+
+
+def latest_values(session: Session, topic: str) -> tuple[str | None, list[tuple[str, float]]]:
+    """The topic's latest period with a value, and every entity's value in it (highest first)."""
+    rows = session.execute(select(Observation.entity, Observation.period, Observation.value).where(
+        Observation.valid_to.is_(None), Observation.topic == topic, Observation.value.is_not(None),
+    )).all()
+    if not rows:
+        return None, []
+    latest = max({r.period for r in rows}, key=periods.period_time)
+    values = sorted(((r.entity, float(r.value)) for r in rows if r.period == latest), key=lambda p: (-p[1], p[0]))
+    return latest, values
