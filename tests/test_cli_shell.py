@@ -125,6 +125,9 @@ def test_a_team_is_served_by_waitress_with_a_warning_without_https(
     assert result.exit_code == 0, result.output
     assert [(c["host"], c["port"]) for c in served] == [("0.0.0.0", 8123)]
     assert "warning: the https setting is off" in result.stderr
+    on_this_machine = CliRunner().invoke(main, ["serve", "-w", str(team_path)])
+    assert on_this_machine.exit_code == 0 and on_this_machine.stderr == ""  # loopback: nobody else reaches it
+    assert [c["host"] for c in served] == ["0.0.0.0", "127.0.0.1"]
 
 
 def test_no_https_warning_once_the_setting_is_on(team_cli: Cli, served: list[dict[str, Any]]) -> None:

@@ -51,7 +51,7 @@ def serve(host: str, port: int, workspace: Path | None) -> None:
             f"this workspace has no accounts, so anyone who reaches {host} could act in it; "
             "serve it on 127.0.0.1, or add an admin first: stetline user add NAME --role admin"
         )
-    if shared and not https:
+    if shared and not https and not is_loopback(host):  # others reach it: their sign-in must be encrypted
         click.echo("warning: the https setting is off, so sign-in cookies may travel unencrypted; serve the app "
                    "behind HTTPS and run `stetline settings https true`", err=True)
     app = create_app(ws)
