@@ -20,13 +20,14 @@ from typing import Any
 
 import click
 import pytest
-import werkzeug.serving
+import waitress
 from click.testing import CliRunner
 from conftest import ON_POSTGRES
 from sqlalchemy import event
 
 import stetline.backup
 import stetline.cli
+import stetline.cli.common
 import stetline.demo
 from stetline import actions, demo, loading
 from stetline.store import db, ops
@@ -289,10 +290,10 @@ def test_every_cli_command_closes_the_workspace_it_opens(
         return make
 
     monkeypatch.setattr(Workspace, "close", close)
-    for module, name in ((stetline.cli, "open_workspace"), (stetline.cli, "init_workspace"),
+    for module, name in ((stetline.cli.common, "open_workspace"), (stetline.cli.common, "init_workspace"),
                          (stetline.demo, "init_workspace"), (stetline.backup, "attach")):
         monkeypatch.setattr(module, name, recording(getattr(module, name)))
-    monkeypatch.setattr(werkzeug.serving, "run_simple", lambda *_a, **_k: None)  # serve returns at once
+    monkeypatch.setattr(waitress, "serve", lambda *_a, **_k: None)  # serve returns at once
 
     observations = str(demo.data_file("observations-2025.csv"))
     sheet, copy = str(tmp_path / "sheet.xlsx"), str(tmp_path / "copy.db")

@@ -271,6 +271,7 @@ def test_settings_page_has_a_labelled_control_and_help_for_every_setting(client:
     html = get(client, "/settings")
     for spec in SETTINGS:
         assert f'<label for="set-{spec.key}">' in html and str(escape(spec.help)) in html
+        assert f'<label for="set-{spec.key}">{escape(spec.label)} <code' in html  # the declared label
         kind = "checkbox" if isinstance(spec.default, bool) else None
         if kind:
             assert f'<input type="checkbox" id="set-{spec.key}" name="{spec.key}"' in html

@@ -4,10 +4,8 @@ from __future__ import annotations
 
 from flask import Blueprint, render_template
 
-from stetline import actions
 from stetline.publication import CAUTION
-from stetline.reconcile import REASONS
-from stetline.store import ops
+from stetline.summary import status_summary
 from stetline.web.db import session
 
 bp = Blueprint("overview", __name__)
@@ -16,14 +14,9 @@ bp = Blueprint("overview", __name__)
 @bp.get("/")
 def index() -> str:
     """Show the overview of the workspace."""
-    s = session()
-    counts = ops.status_counts(s)
-    by_status = {k: counts.get(k, 0) for k in actions.STATUSES}
-    reasons = ops.recheck_reason_counts(s)
-    total = sum(by_status.values())
-    ready = by_status["approved"] + by_status["draft"] + by_status["edited"]
+    summary = status_summary(session())
     return render_template(
-        "overview.html", edition=ops.current_edition(s), editions=ops.editions(s), by_status=by_status,
-        reasons={r: reasons.get(r, 0) for r in REASONS}, total=total, waiting=by_status["recheck"],
-        ready=ready, caution=CAUTION,
+        "overview.html", edition=summary.edition, editions=summary.editions, by_status=summary.by_status,
+        reasons=summary.recheck_reasons, total=summary.total, waiting=summary.waiting, ready=summary.ready,
+        caution=CAUTION,
     )

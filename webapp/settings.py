@@ -17,10 +17,6 @@ from stetline.web.db import session, workspace
 
 bp = Blueprint("settings", __name__)
 
-LABELS = {"title": "Publication title", "entity_noun": "What one entity is called", "locale": "Number locale",
-          "serial_comma": "Serial comma", "percent_word": "Per cent sign", "small_numbers_in_words":
-          "Small numbers in words", "untraced_numbers": "Untraced numbers when publishing",
-          "self_approval": "Reviewers may approve their own rewrites", "https": "Served over HTTPS"}
 GROUPS = (("publication", "The publication"), ("style", "House style: the wording of drafts"),
           ("rules", "Rules and the web app"))
 
@@ -53,7 +49,7 @@ def _page(*, errors: dict[str, str] | None = None, submitted: dict[str, str] | N
             if isinstance(spec.default, bool):
                 value = value == "true"
         rows.append({"spec": spec, "control": _control(spec), "value": value, "group": _group(spec.key),
-                     "label": LABELS.get(spec.key, spec.key.replace("_", " ").capitalize()),
+                     "label": spec.label,
                      "style": spec.key in settings_mod.STYLE_KEYS, "default": spec.default})
     groups = [(title, [r for r in rows if r["group"] == key]) for key, title in GROUPS]
     return render_template("settings/page.html", groups=[g for g in groups if g[1]], errors=errors or {},
