@@ -23,6 +23,7 @@ from stetline.status import STATUSES as STATUSES  # re-exported: the CLI and the
 from stetline.status import Reason, Status
 from stetline.store import ops
 from stetline.store.models import Approval, Draft, Layer, Slot, utcnow
+from stetline.timestamps import iso_time as iso_time  # re-exported: pages show times with it
 
 LAYER_TYPES = ("rewrite", "pin", "annotate", "suppress")
 
@@ -294,11 +295,6 @@ class SlotView:
             "gone": self.slot.gone,
             "interest": self.slot.interest,
         }
-
-
-def iso_time(at: Any) -> str:
-    """A stored time as shown and compared on pages: ISO 8601 in UTC to the second ("...Z")."""
-    return at.isoformat(timespec="seconds") + "Z" if at is not None else ""
 
 
 def view(session: Session, slot_id: str) -> SlotView:
