@@ -8,7 +8,6 @@ while. Account changes are recorded as events.
 
 from __future__ import annotations
 
-from collections.abc import Iterable
 from datetime import timedelta
 
 from sqlalchemy import func, select
@@ -201,8 +200,3 @@ def assign(session: Session, name: str, *, entity: str | None = None, topic: str
 def assignments(session: Session, name: str) -> list[Assignment]:
     """What is assigned to a person."""
     return list(session.scalars(select(Assignment).where(Assignment.account == name).order_by(Assignment.id)))
-
-
-def roles_allowed(action: str) -> Iterable[str]:
-    """The roles that may take an action."""
-    return sorted(PERMISSIONS[action])

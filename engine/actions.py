@@ -25,8 +25,6 @@ from stetline.store import ops
 from stetline.store.models import Approval, Draft, Layer, Slot, utcnow
 from stetline.timestamps import iso_time as iso_time  # re-exported: pages show times with it
 
-LAYER_TYPES = ("rewrite", "pin", "annotate", "suppress")
-
 
 def _slot(session: Session, slot_id: str) -> tuple[Slot, Draft]:
     slot = ops.get_slot(session, slot_id, lock=True)

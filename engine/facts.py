@@ -13,13 +13,10 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from stetline.dataset import PERCENT
 from stetline.rounding import round_half_up_array
 
 WITHHELD = "confidential"
 BREAK = "break"
-#: the statuses whose values come with a caveat
-CAVEAT_STATUSES = ("provisional", "estimated")
 
 
 @dataclass
@@ -268,11 +265,6 @@ def _entity_facts(cells: pd.DataFrame, meta: pd.DataFrame, entities: pd.DataFram
     out["setback"] = down.set_index("entity")["topic"]
     out["topics"] = cells.groupby("entity").size()
     return out
-
-
-def is_percent(unit: str) -> bool:
-    """True when a topic's unit is the reserved ``percent`` (changes in percentage points)."""
-    return unit == PERCENT
 
 
 def trend_facts(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
