@@ -19,11 +19,11 @@ from stetline.errors import Conflict, NotFound, StetlineError
 from stetline.livefields import LiveFieldError, LiveFields
 from stetline.loading import house_style
 from stetline.reconcile import Basis, HumanWork, SlotState
+from stetline.status import STATUSES as STATUSES  # re-exported: the CLI and the web app list them from here
+from stetline.status import Reason, Status
 from stetline.store import ops
 from stetline.store.models import Approval, Draft, Layer, Slot, utcnow
-
-STATUSES = ("draft", "edited", "approved", "recheck", "suppressed")
-LAYER_TYPES = ("rewrite", "pin", "annotate", "suppress")
+from stetline.timestamps import iso_time as iso_time  # re-exported: pages show times with it
 
 
 def _slot(session: Session, slot_id: str) -> tuple[Slot, Draft]:
@@ -44,7 +44,8 @@ def _check_version(slot: Slot, version: int | None) -> None:
 
 
 def _as_text(draft: Draft) -> DraftText:
-    return DraftText(draft.slot_id, "", None, None, draft.text, draft.evidence, draft.claims, draft.interest, draft.phrasing)
+    return DraftText(draft.slot_id, "", None, None, draft.text, draft.evidence, draft.claims, draft.interest,
+                     draft.phrasing)
 
 
 def _basis(draft: Draft) -> dict[str, Any]:
@@ -80,11 +81,11 @@ def restatus(session: Session, slot: Slot, draft: Draft) -> None:
     state = SlotState(slot.id, slot.digest, False, "", work)
     if slot.gone:
         if not work:
-            slot.status, slot.recheck, slot.severity = "draft", None, 0
+            slot.status, slot.recheck, slot.severity = Status.DRAFT, None, 0
         return
     decision = reconcile.decide(state, _as_text(draft))
     if decision is None:
-        slot.status = "draft" if not work else slot.status
+        slot.status = Status.DRAFT if not work else slot.status
         return
     slot.status = decision.status
     slot.recheck = decision.recheck
@@ -242,7 +243,7 @@ def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = 
     after = published_text(session, slot, draft)
     ops.add_approval(session, slot_id, after or "", _basis(draft), by)
     slot.recheck, slot.severity = None, 0
-    slot.status = "approved"
+    slot.status = Status.APPROVED
     _touch(slot)
     ops.add_event(session, by, action, slot_id, before=before, after=after,
                   detail={"reasons": reasons})
@@ -294,11 +295,6 @@ class SlotView:
         }
 
 
-def iso_time(at: Any) -> str:
-    """A stored time as shown and compared on pages: ISO 8601 in UTC to the second ("...Z")."""
-    return at.isoformat(timespec="seconds") + "Z" if at is not None else ""
-
-
 def view(session: Session, slot_id: str) -> SlotView:
     """Everything about one slot."""
     slot = ops.get_slot(session, slot_id)
@@ -328,10 +324,10 @@ def history(session: Session, slot_id: str) -> list[dict[str, Any]]:
 
 def clean_proposals(session: Session) -> list[str]:
     """Slots in recheck only because numbers changed, whose proposal merged cleanly."""
-    rows = ops.list_slots(session, ops.SlotFilter(status="recheck"), order="severity")
+    rows = ops.list_slots(session, ops.SlotFilter(status=Status.RECHECK), order="severity")
     return [
         slot.id for slot, _draft in rows
-        if slot.recheck and slot.recheck.get("reasons") == [reconcile.NUMBERS_CHANGED]
+        if slot.recheck and slot.recheck.get("reasons") == [Reason.NUMBERS_CHANGED]
         and slot.recheck.get("clean") and not slot.recheck.get("conflicts") and slot.recheck.get("proposed")
     ]
 

@@ -16,6 +16,7 @@ from stetline.accounts import authorize
 from stetline.errors import NotFound, StetlineError
 from stetline.store import ops
 from stetline.store.models import Comment
+from stetline.timestamps import iso_time
 
 MAX_COMMENT = 5_000
 
@@ -63,5 +64,5 @@ class ThreadEntry:
 
 def thread(session: Session, slot: str) -> list[ThreadEntry]:
     """A statement's thread, oldest first."""
-    return [ThreadEntry(c.by, c.at.isoformat(timespec="seconds") + "Z", c.text, c.kind)
+    return [ThreadEntry(c.by, iso_time(c.at), c.text, c.kind)
             for c in ops.comments_for(session, slot)]

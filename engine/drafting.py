@@ -23,6 +23,7 @@ import jinja2
 import orjson
 
 from stetline import phrasing
+from stetline.errors import StetlineError
 from stetline.facts import Facts
 from stetline.phrasing import HouseStyle
 
@@ -232,10 +233,13 @@ class Renderer:
         """The compiled template of a kind: the workspace's copy if there is one."""
         if kind not in self._cache:
             name = f"{kind}.j2"
-            if self._sandbox is not None and self._workspace_dir and (self._workspace_dir / name).exists():
-                template = self._sandbox.get_template(name)
-            else:
-                template = self._builtin.get_template(name)
+            try:
+                if self._sandbox is not None and self._workspace_dir and (self._workspace_dir / name).exists():
+                    template = self._sandbox.get_template(name)
+                else:
+                    template = self._builtin.get_template(name)
+            except jinja2.TemplateSyntaxError as exc:
+                raise template_error(kind, exc.filename or name, exc.lineno, exc) from None
             # Jinja2 chains a template's globals over its environment's and copies the chain at
             # every render; one flat copy (this renderer never changes them) saves a third of
             # each render's overhead
@@ -254,8 +258,34 @@ def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterato
         template = renderer.template(kind.KIND)
         for c in kind.candidates(ctx):
             choice = phrasing_index(c.slot, kind.PHRASINGS)
-            text = phrasing.tidy(template.render(c.variables, p=choice, ev=_shown(c.evidence), c=c.claims))
+            try:
+                text = phrasing.tidy(template.render(c.variables, p=choice, ev=_shown(c.evidence), c=c.claims))
+            except jinja2.TemplateError as exc:
+                where = template.filename or f"{kind.KIND}.j2"
+                raise template_error(kind.KIND, where, _line_in(exc, where), exc, c.slot) from None
             yield Draft(c.slot, c.kind, c.entity, c.topic, text, c.evidence, c.claims, round(c.interest, 4), choice)
+
+
+def template_error(kind: str, where: str, line: int | None, exc: jinja2.TemplateError,
+                   slot: str | None = None) -> StetlineError:
+    """A clear message for a kind's template that cannot be compiled or rendered."""
+    at = f"{where}, line {line}" if line else where
+    during = f", while drafting {slot}" if slot else ""
+    return StetlineError(
+        f"the {kind} template cannot be used ({at}{during}): {exc.message or exc}; fix the template and run the "
+        f"command again (the opening comment of the built-in {kind} template lists the variables it offers)"
+    )
+
+
+def _line_in(exc: BaseException, filename: str) -> int | None:
+    """The template line an error was raised at (Jinja2 puts template lines in the traceback)."""
+    line = None
+    tb = exc.__traceback__
+    while tb is not None:
+        if tb.tb_frame.f_code.co_filename == filename:
+            line = tb.tb_lineno
+        tb = tb.tb_next
+    return line
 
 
 def _shown(evidence: dict[str, dict[str, Any]]) -> dict[str, str]:

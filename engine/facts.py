@@ -13,12 +13,10 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from stetline.dataset import PERCENT
+from stetline.rounding import round_half_up_array
 
 WITHHELD = "confidential"
 BREAK = "break"
-#: the statuses whose values come with a caveat
-CAVEAT_STATUSES = ("provisional", "estimated")
 
 
 @dataclass
@@ -36,13 +34,6 @@ class Facts:
     entities: pd.DataFrame
     series: pd.DataFrame
     latest_period: str
-
-
-def round_half_up(values: pd.Series | np.ndarray, decimals: pd.Series | np.ndarray | int) -> np.ndarray:
-    """Round every value half away from zero at its decimals, as the displayed text does."""
-    x = np.asarray(values, dtype="float64")
-    factor = np.power(10.0, np.asarray(decimals, dtype="float64"))
-    return np.sign(x) * np.floor(np.abs(x) * factor + 0.5 + 1e-9) / factor
 
 
 def _sign(better: pd.Series) -> pd.Series:
@@ -160,8 +151,8 @@ def _changes(cells: pd.DataFrame) -> None:
     significant = pd.Series(pd.NA, index=cells.index, dtype="boolean")
     significant[both & cells["change_known"]] = (cells["change"].abs() > threshold)[both & cells["change_known"]]
     cells["significant"] = significant
-    shown_now = round_half_up(cells["value"], cells["decimals"])
-    shown_before = round_half_up(cells["prev_value"], cells["decimals"])
+    shown_now = round_half_up_array(cells["value"], cells["decimals"])
+    shown_before = round_half_up_array(cells["prev_value"], cells["decimals"])
     flat = (shown_now == shown_before) | (significant.fillna(True) == False)  # noqa: E712
     step = np.where(flat, 0.0, np.sign(cells["change"]))
     direction = pd.Series(np.select([step > 0, step < 0], ["up", "down"], "flat"), index=cells.index)
@@ -186,8 +177,8 @@ def _revisions(cells: pd.DataFrame, earlier: pd.DataFrame | None) -> None:
         held, on=["entity", "topic", "prev_period"], how="left",
     )
     differs = merged["held_value"].notna() & (
-        round_half_up(merged["held_value"], merged["decimals"])
-        != round_half_up(merged["prev_value"], merged["decimals"])
+        round_half_up_array(merged["held_value"], merged["decimals"])
+        != round_half_up_array(merged["prev_value"], merged["decimals"])
     )
     cells["revised_from"] = merged["held_value"].where(differs).to_numpy()
 
@@ -263,7 +254,8 @@ def _entity_facts(cells: pd.DataFrame, meta: pd.DataFrame, entities: pd.DataFram
     out["weakest_percentile"] = weakest.set_index("entity")["percentile"]
     out["rated_topics"] = rated.groupby("entity").size()
     # biggest improvement and setback, compared across topics as a share of the topic's range
-    moved = cells.loc[cells["change_known"] & (cells["sign"] != 0) & cells["better_change"].isin(["improved", "worsened"])]
+    judged = cells["better_change"].isin(["improved", "worsened"])
+    moved = cells.loc[cells["change_known"] & (cells["sign"] != 0) & judged]
     spread = cells.loc[cells["usable"]].groupby("topic")["value"].agg(lambda s: s.max() - s.min())
     moved = moved.assign(size=(moved["change"] * moved["sign"]) / moved["topic"].map(spread).replace(0, np.nan))
     moved = moved.loc[moved["size"].notna()]
@@ -273,11 +265,6 @@ def _entity_facts(cells: pd.DataFrame, meta: pd.DataFrame, entities: pd.DataFram
     out["setback"] = down.set_index("entity")["topic"]
     out["topics"] = cells.groupby("entity").size()
     return out
-
-
-def is_percent(unit: str) -> bool:
-    """True when a topic's unit is the reserved ``percent`` (changes in percentage points)."""
-    return unit == PERCENT
 
 
 def trend_facts(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
@@ -294,7 +281,7 @@ def trend_facts(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
     s["segment"] = (s["status"] == BREAK).astype("int64").groupby([s["entity"], s["topic"]]).cumsum()
     s = s.loc[s["value"].notna()]
     g = s.groupby(keys + ["segment"], sort=False)
-    shown = round_half_up(s["value"], s["decimals"])
+    shown = round_half_up_array(s["value"], s["decimals"])
     s["shown"] = shown
     step = np.sign(s["shown"] - g["shown"].shift(1)).fillna(0.0)
     direction = np.where(s["sign"] == 0, 1.0, s["sign"])

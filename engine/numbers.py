@@ -12,7 +12,8 @@ import re
 from dataclasses import dataclass
 from typing import Any
 
-from stetline.phrasing import ordinal, round_half_up
+from stetline.rounding import round_half_up
+from stetline.words import ordinal
 
 NUMBER = re.compile(
     r"(?<![\w.,])(?P<cur>[£$€])?(?P<int>\d{1,3}(?:,\d{3})+|\d+)(?P<dec>\.\d+)?"
@@ -91,7 +92,10 @@ def _rewrite(number: TypedNumber, old: dict[str, Any], new: dict[str, Any]) -> s
         raw = new.get("value")
         if not isinstance(raw, (int, float)) or isinstance(raw, bool):
             return None
-        if old_shown is not None and old.get("value") is not None and float(round_half_up(abs(float(old["value"])), number.decimals)) == number.value:
+        old_value = old.get("value")
+        if old_shown is not None and old_value is not None and (
+            float(round_half_up(abs(float(old_value)), number.decimals)) == number.value
+        ):
             raw = abs(float(raw))
         q = round_half_up(float(raw), number.decimals)
         digits = f"{q:,.{number.decimals}f}" if number.grouped else f"{q:.{number.decimals}f}"

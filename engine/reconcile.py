@@ -15,14 +15,9 @@ from typing import Any
 from stetline import numbers, textmerge
 from stetline.drafting import Draft
 from stetline.livefields import has_live_fields
+from stetline.status import REASONS as REASONS  # re-exported: callers import the reasons from here
+from stetline.status import SEVERITY, Reason, Status
 
-CLAIM_CHANGED = "claim-changed"
-NUMBERS_CHANGED = "numbers-changed"
-SLOT_GONE = "slot-gone"
-WORDING_CHANGED = "wording-changed"
-REASONS = (CLAIM_CHANGED, SLOT_GONE, NUMBERS_CHANGED, WORDING_CHANGED)
-#: higher is more urgent; the recheck queue sorts by it
-SEVERITY = {CLAIM_CHANGED: 3, SLOT_GONE: 3, NUMBERS_CHANGED: 2, WORDING_CHANGED: 1}
 TEXT_LAYERS = ("rewrite", "pin")
 
 
@@ -133,22 +128,22 @@ def propose(work: HumanWork | None, draft: Draft) -> dict[str, Any]:
     return {"proposed": merged.text, "clean": merged.clean, "conflicts": [list(c) for c in merged.conflicts]}
 
 
-def _compare(work: HumanWork, draft: Draft, has_text_layer: bool) -> tuple[set[str], list[dict[str, Any]]]:
-    reasons: set[str] = set()
+def _compare(work: HumanWork, draft: Draft, has_text_layer: bool) -> tuple[set[Reason], list[dict[str, Any]]]:
+    reasons: set[Reason] = set()
     changes: list[dict[str, Any]] = []
     claims = claim_changes(work.basis.claims, draft.claims)
     shown = numbers.shown_changes(work.basis.evidence, draft.evidence)
     if claims:
-        reasons.add(CLAIM_CHANGED)
+        reasons.add(Reason.CLAIM_CHANGED)
         changes += claims
     if shown and not (not claims and _live_only(work, shown)):
-        reasons.add(NUMBERS_CHANGED)
+        reasons.add(Reason.NUMBERS_CHANGED)
     changes += shown
     if (
         not reasons and work.type == "approval" and not has_text_layer
         and work.basis.text != draft.text
     ):
-        reasons.add(WORDING_CHANGED)
+        reasons.add(Reason.WORDING_CHANGED)
     return reasons, changes
 
 
@@ -156,25 +151,27 @@ def decide(state: SlotState | None, draft: Draft | None) -> Decision | None:
     """Decide one slot; None when nothing at all changes."""
     if state is None:
         assert draft is not None
-        return Decision(draft.slot, "draft", write_draft=True, silent=True)
+        return Decision(draft.slot, Status.DRAFT, write_draft=True, silent=True)
     if draft is None:
         if state.gone:
             return None
         if not state.human:
             return Decision(state.slot, state.status, gone=True)
         if state.suppressed:
-            return Decision(state.slot, "suppressed", gone=True)
-        recheck = {"reasons": [SLOT_GONE], "changes": [], "proposed": None, "clean": False, "conflicts": []}
-        return Decision(state.slot, "recheck", gone=True, recheck=recheck, severity=SEVERITY[SLOT_GONE])
+            return Decision(state.slot, Status.SUPPRESSED, gone=True)
+        gone: dict[str, Any] = {
+            "reasons": [Reason.SLOT_GONE], "changes": [], "proposed": None, "clean": False, "conflicts": [],
+        }
+        return Decision(state.slot, Status.RECHECK, gone=True, recheck=gone, severity=SEVERITY[Reason.SLOT_GONE])
     changed = draft.digest != state.digest
     if not state.human:
         if not changed and not state.gone:
             return None
-        return Decision(state.slot, "draft", write_draft=changed, silent=changed)
+        return Decision(state.slot, Status.DRAFT, write_draft=changed, silent=changed)
     if state.suppressed:
-        return Decision(state.slot, "suppressed", write_draft=changed, rebase=list(state.work))
+        return Decision(state.slot, Status.SUPPRESSED, write_draft=changed, rebase=list(state.work))
     has_text = state.text_layer is not None
-    reasons: set[str] = set()
+    reasons: set[Reason] = set()
     changes: dict[str, dict[str, Any]] = {}
     rebase: list[HumanWork] = []
     for work in state.work:
@@ -187,22 +184,22 @@ def decide(state: SlotState | None, draft: Draft | None) -> Decision | None:
             rebase.append(work)
     if not reasons:
         approved = any(w.type == "approval" for w in state.work)
-        status = "approved" if approved else "edited"
+        status = Status.APPROVED if approved else Status.EDITED
         if not changed and state.status == status and not state.gone and not _needs_rebase(rebase, draft):
             return None
         return Decision(state.slot, status, write_draft=changed, rebase=rebase)
-    ordered = [r for r in REASONS if r in reasons]
+    ordered = [r for r in Reason if r in reasons]
     proposal = propose(state.text_layer, draft)
-    recheck = {
+    severity = max(SEVERITY[r] for r in ordered)
+    recheck: dict[str, Any] = {
         "reasons": ordered,
         "changes": list(changes.values()),
         "proposed": proposal["proposed"],
-        "clean": proposal["clean"] and CLAIM_CHANGED not in reasons,
+        "clean": proposal["clean"] and Reason.CLAIM_CHANGED not in reasons,
         "conflicts": proposal["conflicts"],
-        "severity": max(SEVERITY[r] for r in ordered),
+        "severity": severity,
     }
-    return Decision(state.slot, "recheck", write_draft=changed, recheck=recheck,
-                    severity=recheck["severity"], rebase=rebase)
+    return Decision(state.slot, Status.RECHECK, write_draft=changed, recheck=recheck, severity=severity, rebase=rebase)
 
 
 def _needs_rebase(rebase: list[HumanWork], draft: Draft) -> bool:

@@ -20,7 +20,8 @@ def test_a_copied_layout_changes_the_publication(demo_cli: Cli, tmp_path: Path) 
     assert copied.read_text().startswith("{#- The built-in Markdown report layout.")
     copied.write_text(copied.read_text().replace("# {{ title }}", "# {{ title }} (council draft)"))
     demo_cli("publish", "-o", str(tmp_path / "r.md"), "--by", "admin")
-    assert (tmp_path / "r.md").read_text().startswith("# Kestrel Sound Regional Council: Service Scorecard (council draft)")
+    title = "# Kestrel Sound Regional Council: Service Scorecard (council draft)"
+    assert (tmp_path / "r.md").read_text().startswith(title)
     again = demo_cli("layout", "copy", "md", ok=False)
     assert "exists already" in again.stderr
 
@@ -46,3 +47,37 @@ def test_copied_phrasing_rewords_drafts_after_a_redraft(demo_cli: Cli) -> None:
 
     old_wording = re.compile(r"^[A-Z][\w ]+ in [A-Z][\w ]+ was \d")
     assert [d for d in drafts if old_wording.match(d)] == []
+
+
+def test_copied_phrasing_rewords_the_sentences_about_averages(demo_cli: Cli) -> None:
+    # every sentence of change and headline statements is in their templates, so a team can reword it
+    demo_cli("phrasing", "copy", "change")
+    demo_cli("phrasing", "copy", "headline")
+    change = demo_cli.path / "phrasing" / "change.j2"
+    change.write_text(change.read_text().replace("the average did not change", "the average held steady"))
+    headline = demo_cli.path / "phrasing" / "headline.j2"
+    headline.write_text(headline.read_text().replace("The biggest shift was in", "The largest movement was in")
+                        .replace('plural("indicator")', 'plural("measure")'))
+    before = [i["draft"] for i in demo_cli.json("list", "--kind", "change") if not i["gone"]]
+    assert sum("the average did not change" in d for d in before) > 0
+    demo_cli("redraft", "--by", "admin")
+    after = [i["draft"] for i in demo_cli.json("list", "--kind", "change") if not i["gone"]]
+    assert [d for d in after if "the average did not change" in d] == []
+    assert sum("the average held steady" in d for d in after) == sum("the average did not change" in d for d in before)
+    (top,) = [i["draft"] for i in demo_cli.json("list", "--kind", "headline")]
+    assert "The largest movement was in median broadband download speed" in top
+    assert "of 10 measures" in top
+
+
+def test_a_broken_phrasing_template_is_a_clear_error_and_changes_nothing(demo_cli: Cli) -> None:
+    before = demo_cli.json("list")
+    demo_cli("phrasing", "copy", "headline")
+    path = demo_cli.path / "phrasing" / "headline.j2"
+    path.write_text("In {{ period }}:\n{{ indicators }} moved.\n")  # a variable headline statements do not offer
+    result = demo_cli("redraft", "--by", "admin", ok=False)
+    assert "headline.j2, line 2" in result.stderr and "'indicators' is undefined" in result.stderr
+    assert "Traceback" not in result.stderr
+    path.write_text("{% if %}\n")
+    result = demo_cli("redraft", "--by", "admin", ok=False)
+    assert "headline.j2, line 1" in result.stderr
+    assert demo_cli.json("list") == before

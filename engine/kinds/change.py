@@ -29,8 +29,10 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     spread = (topic_facts["best_value"] - topic_facts["worst_value"]).abs().to_dict()
     mean_changes = topic_facts["mean_change"].to_dict()
     compared_counts = topic_facts["compared"].to_dict()
+    nouns = ctx.entity_nouns
     for c in ctx.facts.cells.itertuples(index=False):
         meta = ctx.topics[c.topic]
+        slot = slot_id(KIND, c.entity, c.topic)
         percent = meta["unit"] == "percent"
         evidence = {"period": ev(c.period, str(c.period)), "status": ev(c.status, status_shown(c.status))}
         prev_period = None if missing(c.prev_period) else str(c.prev_period)
@@ -39,7 +41,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         variables: dict[str, object] = {
             "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
             "period": c.period, "prev_period": prev_period, "caveat": caveat(c.status),
-            "state": "", "revised": "", "neutral": c.better == "neutral",
+            "state": "", "revised": "", "neutral": c.better == "neutral", "nouns": nouns,
         }
         interest = 0.1
         if c.usable:
@@ -53,8 +55,9 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         else:
             evidence["previous"] = ev(float(c.prev_value), ctx.value(c.topic, float(c.prev_value)))
             if not missing(c.revised_from):
-                variables["revised"] = ctx.value(c.topic, float(c.revised_from))
-                evidence["revised_from"] = ev(float(c.revised_from), variables["revised"])
+                revised = ctx.value(c.topic, float(c.revised_from))
+                variables["revised"] = revised
+                evidence["revised_from"] = ev(float(c.revised_from), revised)
         if not c.usable:
             variables["state"] = "withheld" if c.status == "confidential" else "missing"
         elif c.status == "break":
@@ -65,7 +68,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             variables["state"] = "prev_withheld" if c.prev_status == "confidential" else "prev_missing"
         if variables["state"]:
             evidence["change"] = ev(None, "not stated")
-            yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)
+            yield Candidate(slot, KIND, c.entity, c.topic, evidence, claims, interest, variables)
             continue
         change = float(c.change)
         d = int(meta["decimals"])
@@ -82,15 +85,12 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             variables["state"] = "not_significant"
         mean_change = mean_changes[c.topic]
         compared = int(compared_counts[c.topic])
-        variables["average"] = ""
+        variables["average_move"] = ""
         if compared >= 3 and not missing(mean_change):
             evidence["mean_change"] = ev(float(mean_change), ctx.amount(c.topic, float(mean_change)))
             evidence["compared"] = ev(compared, phrasing.count(compared, style))
             shown_zero = phrasing.round_half_up(abs(float(mean_change)), d) == 0
-            variables["average"] = (
-                f"Across the {ctx.of_n(compared)}, the average did not change." if shown_zero else
-                f"Across the {ctx.of_n(compared)}, the average {'rose' if mean_change > 0 else 'fell'} by {evidence['mean_change']['shown']}."
-            )
+            variables["average_move"] = "flat" if shown_zero else ("up" if mean_change > 0 else "down")
         variables["improved"] = c.better_change == "improved"
         variables["worsened"] = c.better_change == "worsened"
         variables["significant"] = significant is True
@@ -98,4 +98,4 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         interest = 0.3 + min(0.5, 0.5 * size) + (0.2 if significant else 0.0)
         if variables["state"] in ("flat", "not_significant"):
             interest = 0.2
-        yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)
+        yield Candidate(slot, KIND, c.entity, c.topic, evidence, claims, interest, variables)

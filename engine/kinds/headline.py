@@ -44,7 +44,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         "improving": improving, "worsening": worsening,
     }
     # the biggest shift: the topic whose average change is largest against its spread
-    shift = ""
+    shift_move, shift_label = "", ""
     spread = (t["best_value"] - t["worst_value"]).abs()
     sized = (t["mean_change"].abs() / spread.where(spread > 0)).dropna()
     if len(sized):
@@ -52,11 +52,11 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         mean = float(t.at[topic, "mean_change"])
         evidence["biggest_shift"] = ev(mean, ctx.amount(topic, mean))
         if evidence["biggest_shift"]["shown"] and not evidence["biggest_shift"]["shown"].startswith(("0 ", "0.0 ")):
-            shift = f"The biggest shift was in {ctx.lower_label(topic)}, which {'rose' if mean > 0 else 'fell'} by {evidence['biggest_shift']['shown']} on average."
+            shift_move, shift_label = ("up" if mean > 0 else "down"), ctx.lower_label(topic)
             claims["biggest_shift"] = topic
     variables = {
-        "period": period, "nouns": ctx.entity_nouns, "shift": shift,
-        "indicators": phrasing.plural(len(directed), "indicator", style),
+        "period": period, "nouns": ctx.entity_nouns, "shift_move": shift_move, "shift_label": shift_label,
+        "n_topics": len(directed),
         "leaders": ctx.names(leaders), "n_leaders": len(leaders),
         "improving_labels": phrasing.join([ctx.lower_label(k) for k in improving][:3], style),
         "n_improving": len(improving), "n_worsening": len(worsening),

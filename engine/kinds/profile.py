@@ -56,4 +56,5 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "setback": "" if missing(e["setback"]) else ctx.lower_label(str(e["setback"])),
         }
         interest = 0.7 + (0.2 if claims["composite_band"] in ("top", "bottom") else 0.0)
-        yield Candidate(slot_id(KIND, str(entity), None), KIND, str(entity), None, evidence, claims, interest, variables)
+        key = str(entity)
+        yield Candidate(slot_id(KIND, key, None), KIND, key, None, evidence, claims, interest, variables)

@@ -35,7 +35,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         interest = 0.1
         if not c.usable:
             evidence["value"] = ev(None, "withheld" if c.status == "confidential" else "missing")
-            yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)
+            yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest,
+                            variables)
             continue
         value = float(c.value)
         evidence["value"] = ev(value, ctx.value(c.topic, value))
@@ -46,9 +47,10 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             evidence["rank_of"] = ev(of, phrasing.count(of, style))
             claims["rank_band"] = band(rank, of)
             variables["ranked"] = True
-            variables["rank_text"] = rank_phrase(rank, of, (c.topic, float(rank)) in tied, c.better, ctx.of_n(of))
+            rank_text = rank_phrase(rank, of, (c.topic, float(rank)) in tied, c.better, ctx.of_n(of))
             if claims["rank_band"] in ("top", "bottom") and rank != 1 and not bool(c.worst):
-                variables["rank_text"] += f" (in the {claims['rank_band']} quarter)"
+                rank_text += f" (in the {claims['rank_band']} quarter)"
+            variables["rank_text"] = rank_text
             if rank == 1 or bool(c.worst):
                 interest += 0.4
             elif claims["rank_band"] in ("top", "bottom"):
@@ -88,4 +90,5 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                 else f"missing the target of {evidence['target']['shown']} by {evidence['target_gap']['shown']}"
             )
             interest += 0.1
-        yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)
+        yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest,
+                        variables)

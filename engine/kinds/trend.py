@@ -77,7 +77,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                 if phrasing.round_half_up(abs(per_year), int(meta["decimals"])) == 0:
                     rate_text = "changed little on average"
                 else:
-                    rate_text = f"{'risen' if per_year > 0 else 'fallen'} by an average of {evidence['yearly_change']['shown']} a year"
+                    moved = "risen" if per_year > 0 else "fallen"
+                    rate_text = f"{moved} by an average of {evidence['yearly_change']['shown']} a year"
             elif float(t.first_value) > 0 and value > 0:
                 cagr = (value / float(t.first_value)) ** (1 / years) - 1
                 evidence["yearly_growth"] = ev(cagr, phrasing.relative(abs(cagr), style))
@@ -101,4 +102,5 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "first_period": t.first_period,
         }
         interest = 0.25 + 0.05 * min(streak, 5) + (0.25 if record != "none" else 0.0)
-        yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest, variables)
+        yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest,
+                        variables)

@@ -1,0 +1,198 @@
+"""Figures: numbers, counts, percentages, changes and ratios written in a house style.
+
+What it must not do: no I/O of its own (no files, no network, no logging), no database, no
+pandas, no Flask. Every public function is pure; the only module state is a cache of locale
+data. Babel reads its own CLDR data files when a locale is first used.
+
+Rules chosen here:
+
+* Rounding is :func:`stetline.rounding.round_half_up`: half-up on the number as written, once,
+  at the last step. A value that rounds to zero carries no sign.
+* Negative numbers use ASCII "-", as Babel's ``format_decimal`` writes them.
+* Number words ("one" to "nine") and unit words are English whatever the locale; the locale
+  sets only the decimal sign, the group separator and the percent sign's placement.
+* ``relative``: whole per cent when the exact size is 9.95% or more (that is, when its
+  one-decimal rounding is 10.0% or more), otherwise one decimal.
+* ``ratio``: 2 or more reads "about N times"; below 10 it shows one decimal unless that
+  decimal is 0 (2.5 -> "about 2.5 times", 3.02 -> "about 3 times"); 10 or more is whole.
+  From 1 up to 2 it reads "N% higher" and below 1 "N% lower", both through ``relative``
+  (so exactly 1 reads "0.0% higher": test for equality in the template if that matters).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from decimal import Decimal, localcontext
+from functools import lru_cache
+from typing import Final
+
+from babel import Locale, UnknownLocaleError
+from babel.numbers import format_decimal, get_decimal_symbol, get_group_symbol
+
+from stetline.rounding import CONTEXT, as_whole, check_decimals, quantize, to_decimal
+
+PERCENT_WORDS: Final[tuple[str, ...]] = ("%", "per cent", "percent")
+_HUNDRED: Final = Decimal(100)
+_WHOLE_PER_CENT_FROM: Final = Decimal("9.95")
+_RATIO_WHOLE_FROM: Final = Decimal(10)
+_SMALL_WORDS: Final[tuple[str, ...]] = (
+    "zero", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine",
+)
+
+
+@dataclass(frozen=True)
+class _LocaleNumbers:
+    """What number formatting needs to know about one locale, looked up once."""
+
+    locale: Locale
+    # Maps Python's "," and "." to the locale's group and decimal signs; None when the same.
+    table: dict[int, str] | None
+    # Integer part of a Babel pattern, set only when the locale does not group in threes.
+    fallback_pattern: str | None
+    # (prefix, suffix) around a positive and around a negative percentage.
+    percent_positive: tuple[str, str]
+    percent_negative: tuple[str, str]
+
+
+@lru_cache(maxsize=64)
+def _locale_numbers(name: str) -> _LocaleNumbers:
+    try:
+        loc = Locale.parse(name.replace("-", "_"))
+    except (UnknownLocaleError, ValueError, TypeError) as exc:
+        raise ValueError(f"unknown locale {name!r}: Babel has no CLDR data for it") from exc
+    decimal_sign = get_decimal_symbol(loc)
+    group_sign = get_group_symbol(loc)
+    table: dict[int, str] | None = None
+    if (group_sign, decimal_sign) != (",", "."):
+        table = {ord(","): group_sign, ord("."): decimal_sign}
+    pattern = loc.decimal_formats[None]
+    primary, secondary = pattern.grouping
+    fallback: str | None = None
+    if (primary, secondary) != (3, 3):
+        if primary >= 1000:  # the locale does not group digits at all
+            fallback = "0"
+        else:
+            fallback = "#," + "#" * secondary + "," + "#" * (primary - 1) + "0"
+    pct = loc.percent_formats[None]
+    return _LocaleNumbers(
+        locale=loc,
+        table=table,
+        fallback_pattern=fallback,
+        percent_positive=(pct.prefix[0], pct.suffix[0]),
+        percent_negative=(pct.prefix[1], pct.suffix[1]),
+    )
+
+
+@dataclass(frozen=True)
+class HouseStyle:
+    """How figures are written: locale, serial comma, percent word, small numbers in words."""
+
+    locale: str = "en_GB"
+    serial_comma: bool = False
+    percent_word: str = "%"
+    small_numbers_in_words: bool = True
+
+    def __post_init__(self) -> None:
+        if self.percent_word not in PERCENT_WORDS:
+            raise ValueError(
+                f"percent_word must be one of {', '.join(repr(w) for w in PERCENT_WORDS)}; "
+                f"got {self.percent_word!r}"
+            )
+        _locale_numbers(self.locale)  # raises ValueError for a locale Babel does not know
+
+
+DEFAULT: Final = HouseStyle()
+
+
+def _format_rounded(q: Decimal, decimals: int, locale: str) -> str:
+    nums = _locale_numbers(locale)
+    if nums.fallback_pattern is None:
+        text = f"{q:,f}"
+        return text if nums.table is None else text.translate(nums.table)
+    pattern = nums.fallback_pattern
+    if decimals:
+        pattern += "." + "0" * decimals
+    with localcontext(CONTEXT):
+        return str(format_decimal(q, format=pattern, locale=nums.locale))
+
+
+def number(x: float | Decimal, decimals: int, style: HouseStyle = DEFAULT) -> str:
+    """Write x rounded half-up to `decimals` places with the locale's grouping and decimal sign."""
+    check_decimals(decimals)
+    locale = style.locale
+    return _format_rounded(quantize(to_decimal(x), decimals), decimals, locale)
+
+
+def count(n: int, style: HouseStyle = DEFAULT) -> str:
+    """Write a count: one to nine in words when the style says so, otherwise grouped figures."""
+    k = as_whole(n, "count()")
+    if style.small_numbers_in_words and 1 <= k <= 9:
+        return _SMALL_WORDS[k]
+    return _format_rounded(Decimal(k), 0, style.locale)
+
+
+def _percent_rounded(q: Decimal, decimals: int, style: HouseStyle) -> str:
+    if style.percent_word != "%":
+        return f"{_format_rounded(q, decimals, style.locale)} {style.percent_word}"
+    nums = _locale_numbers(style.locale)
+    if q < 0:
+        prefix, suffix = nums.percent_negative
+        return prefix + _format_rounded(q.copy_abs(), decimals, style.locale) + suffix
+    prefix, suffix = nums.percent_positive
+    return prefix + _format_rounded(q, decimals, style.locale) + suffix
+
+
+def percent(x: float | Decimal, decimals: int, style: HouseStyle = DEFAULT) -> str:
+    """Write x, already in per cent, as "45.2%" or "45.2 per cent" following the style."""
+    check_decimals(decimals)
+    return _percent_rounded(quantize(to_decimal(x), decimals), decimals, style)
+
+
+def value(
+    x: float | Decimal, unit: str, decimals: int, style: HouseStyle = DEFAULT
+) -> str:
+    """Write x with its unit: "percent" (or "%") as a percentage, "" bare, else "12.5 tonnes"."""
+    if unit in ("percent", "%"):
+        return percent(x, decimals, style)
+    shown = number(x, decimals, style)
+    return f"{shown} {unit}" if unit else shown
+
+
+def points(d: float | Decimal, decimals: int, style: HouseStyle = DEFAULT) -> str:
+    """Write the unsigned size of a change between percentages in percentage points."""
+    check_decimals(decimals)
+    q = quantize(to_decimal(d), decimals).copy_abs()
+    shown = _format_rounded(q, decimals, style.locale)
+    unit = "percentage point" if decimals == 0 and q == 1 else "percentage points"
+    return f"{shown} {unit}"
+
+
+def _relative_size(rel: Decimal, style: HouseStyle) -> str:
+    size = CONTEXT.multiply(rel.copy_abs(), _HUNDRED)
+    decimals = 0 if size >= _WHOLE_PER_CENT_FROM else 1
+    return _percent_rounded(quantize(size, decimals), decimals, style)
+
+
+def relative(rel: float | Decimal, style: HouseStyle = DEFAULT) -> str:
+    """Write the unsigned size of a relative change given as a fraction: 0.123 -> "12%"."""
+    return _relative_size(to_decimal(rel), style)
+
+
+def ratio(r: float | Decimal, style: HouseStyle = DEFAULT) -> str:
+    """Compare two values by their ratio: "about 4 times", "3% higher" or "27% lower"."""
+    d = to_decimal(r)
+    if d < 0:
+        raise ValueError(f"ratio() needs a ratio of two positive values, got {r!r}")
+    if d >= 2:
+        if d < _RATIO_WHOLE_FROM:
+            one_place = quantize(d, 1)
+            if one_place == one_place.to_integral_value():
+                shown = _format_rounded(quantize(one_place, 0), 0, style.locale)
+            else:
+                shown = _format_rounded(one_place, 1, style.locale)
+        else:
+            shown = _format_rounded(quantize(d, 0), 0, style.locale)
+        return f"about {shown} times"
+    if d >= 1:
+        return f"{_relative_size(d - 1, style)} higher"
+    return f"{_relative_size(1 - d, style)} lower"
