@@ -23,7 +23,7 @@ bp = Blueprint("recheck", __name__)
 
 #: what each recheck reason means, in the words the queue shows beside it
 REASON_TEXT = {
-    "claim-changed": "what the statement says no longer holds with the new data (the claims below changed)",
+    "claim-changed": "what the statement says no longer holds with the new data (see the facts that changed)",
     "numbers-changed": "numbers it shows changed; what it says still holds",
     "slot-gone": "it no longer applies to the current edition: its entity or topic left the data, "
                  "or its kind no longer applies",
