@@ -8,7 +8,7 @@ from typing import Any
 
 from flask import Blueprint, render_template, request
 
-from stetline import actions
+from stetline import actions, comments
 from stetline.livefields import LiveFields
 from stetline.loading import house_style
 from stetline.reconcile import REASONS
@@ -20,6 +20,42 @@ from stetline.web.selection import Selection
 from stetline.web.statement import review_texts
 
 bp = Blueprint("recheck", __name__)
+
+#: what each recheck reason means, in the words the queue shows beside it
+REASON_TEXT = {
+    "claim-changed": "what the statement says no longer holds with the new data (see the facts that changed)",
+    "numbers-changed": "numbers it shows changed; what it says still holds",
+    "slot-gone": "it no longer applies to the current edition: its entity or topic left the data, "
+                 "or its kind no longer applies",
+    "wording-changed": "only the draft's wording changed (a phrasing or house-style change); "
+                       "numbers and claims are the same",
+}
+
+
+def proposal_state(recheck: dict[str, Any]) -> str | None:
+    """How a proposed text may be taken: "clean", "conflict" (it has conflict regions) or "person"."""
+    if not recheck.get("proposed"):
+        return None
+    if recheck.get("conflicts"):
+        return "conflict"
+    return "clean" if recheck.get("clean") else "person"
+
+
+def human_work(v: actions.SlotView, data: dict[str, Any], thread: list[comments.ThreadEntry]) -> list[dict[str, str]]:
+    """The people's work on a statement in recheck, each checked against the new data: text layer,
+    notes and approval, and the latest comment of its discussion."""
+    work: list[dict[str, str]] = []
+    layer = data["layer"]
+    if layer is not None:
+        work.append({"what": layer["type"], "by": layer["by"], "at": layer["at"], "text": ""})
+    work += [{"what": "note", "by": n["by"], "at": n["at"], "text": n["text"]} for n in data["notes"]]
+    if v.approval is not None:
+        work.append({"what": "approval", "by": v.approval.by, "at": actions.iso_time(v.approval.at), "text": ""})
+    if thread:
+        last = thread[-1]
+        work.append({"what": "sent back" if last.kind == "send-back" else "comment", "by": last.by, "at": last.at,
+                     "text": last.text})
+    return work
 
 
 @bp.get("/recheck")
@@ -35,12 +71,17 @@ def queue() -> str:
     for v in selection.views(s, limit=page.size, offset=page.offset):
         data = v.to_json(s, live)
         current, proposed = review_texts(v, data)
-        items.append({**data, "severity": v.slot.severity, "review_current": current,
-                      "review_diff": diff(current, proposed) if proposed else None})
+        changed = diff(current, proposed) if proposed else []
+        items.append({
+            **data, "severity": v.slot.severity, "review_current": current,
+            "review_diff": changed if any(op != "same" for op, _ in changed) else None,  # an empty diff is hidden
+            "proposal": proposal_state(data["recheck"]), "work": human_work(v, data, comments.thread(s, v.slot.id)),
+        })
     options = {"reason": [(r, r) for r in REASONS]}
     options.update((field, ops.recheck_options(s, field)) for field in ("kind", "entity", "topic"))
     return render_template("recheck/queue.html", items=items, total=total, chosen=chosen, page=page,
-                           options=options, back_to=request.full_path.rstrip("?"), selection=selection)
+                           options=options, back_to=request.full_path.rstrip("?"), selection=selection,
+                           reason_text=REASON_TEXT)
 
 
 @bp.get("/recheck/accept-clean")

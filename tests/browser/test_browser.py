@@ -16,7 +16,8 @@ from stetline import actions
 pytestmark = [
     pytest.mark.browser,
     # pytest-playwright's own base_url fixture is a session-scoped instance method, which pytest 9 warns about
-    pytest.mark.filterwarnings("ignore:Session-scoped fixtures defined as instance methods:pytest.PytestRemovedIn10Warning"),
+    pytest.mark.filterwarnings(
+        "ignore:Session-scoped fixtures defined as instance methods:pytest.PytestRemovedIn10Warning"),
 ]
 
 HERONSFORD = "change/heronsford/recycling"
