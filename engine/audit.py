@@ -60,13 +60,13 @@ def audit_text(text: str, evidence: dict[str, dict[str, Any]], labels: list[str]
         [(str(e.get("shown", "")), name) for name, e in evidence.items()] + [(lab, LABEL) for lab in labels],
         key=lambda pair: -len(pair[0]),
     )
-    for shown, source in spans:
+    for shown, fact in spans:
         if not shown or not any(ch.isdigit() for ch in shown):
             continue
         start = text.find(shown)
         while start >= 0:
             for pos in range(start, start + len(shown)):
-                covered.setdefault(pos, source)
+                covered.setdefault(pos, fact)
             start = text.find(shown, start + len(shown))
     uses = []
     for number in find_numbers(text):

@@ -61,7 +61,7 @@ def series_chart(label: str, name: str, periods: list[str], values: list[float |
 
     chart = Chart("series-chart", f"{label} in {name}, {known[0][0]} to {known[-1][0]}", "", width, height,
                   axis_y=height - bottom, left=left, right=width - right)
-    parts = []
+    parts: list[str] = []
     for i, (p, v) in enumerate(zip(periods, values)):
         if v is None:
             continue

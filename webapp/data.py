@@ -94,8 +94,11 @@ def _keep(folder: Path, role: str, upload: FileStorage) -> tuple[str, Problem | 
     return f"{role}/{name}", None
 
 
-def _sources(folder: Path, manifest: dict[str, Any]) -> dict[str, Path | None]:
-    return {role: (folder / manifest["files"][role]) if role in manifest["files"] else None for role in ROLES}
+def _sources(folder: Path, manifest: dict[str, Any]) -> tuple[Path, Path | None, Path | None]:
+    """The kept observations, topics and entities files of an upload (observations are required)."""
+    files = manifest["files"]
+    topics, entities = (folder / files[role] if role in files else None for role in ("topics", "entities"))
+    return folder / files["observations"], topics, entities
 
 
 def _refused() -> tuple[str, int] | None:
@@ -138,8 +141,7 @@ def check() -> tuple[str, int]:
     (folder / MANIFEST).write_text(json.dumps(manifest))
     sources = _sources(folder, manifest)
     try:
-        summary = loading.load_edition(workspace(), sources["observations"], sources["topics"], sources["entities"],
-                                       label=label, by=manifest["by"], dry_run=True)
+        summary = loading.load_edition(workspace(), *sources, label=label, by=str(manifest["by"]), dry_run=True)
     except ValidationError as exc:
         shutil.rmtree(folder, ignore_errors=True)
         return _page(status=400, problems=exc.problems, label=label)
@@ -170,8 +172,7 @@ def load() -> Response | tuple[str, int]:
     try:
         manifest = json.loads((folder / MANIFEST).read_text())
         sources = _sources(folder, manifest)
-        summary = loading.load_edition(workspace(), sources["observations"], sources["topics"], sources["entities"],
-                                       label=manifest.get("label"), by=acting_name())
+        summary = loading.load_edition(workspace(), *sources, label=manifest.get("label"), by=acting_name())
     except ValidationError as exc:
         return _page(status=400, problems=exc.problems)
     except StetlineError as exc:

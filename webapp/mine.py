@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from flask import Blueprint, render_template
+from sqlalchemy.orm import Session
 
 from stetline import accounts, actions
 from stetline.store import ops
@@ -33,8 +34,16 @@ def index() -> str:
     for a in assigned:
         f = ops.SlotFilter(entity=a.entity, topic=a.topic)
         views = [v for v in actions.views(s, f, order="interest") if v.slot.status in waiting]
-        label = (ops.get_entity(s, a.entity).name if a.entity and ops.get_entity(s, a.entity) else a.entity) \
-            if a.entity else (ops.get_topic(s, a.topic).label if a.topic and ops.get_topic(s, a.topic) else a.topic)
+        label = _label(s, a.entity, a.topic)
         groups.append({"what": "entity" if a.entity else "topic", "key": a.entity or a.topic, "label": label,
                        "items": [v.to_json(s) for v in views]})
     return render_template("mine/index.html", name=name, role=role, groups=groups, waiting=waiting)
+
+
+def _label(s: Session, entity: str | None, topic: str | None) -> str:
+    """The name of an assigned entity, or the label of an assigned topic (the key if it left the data)."""
+    if entity:
+        row = ops.get_entity(s, entity)
+        return row.name if row is not None else entity
+    found = ops.get_topic(s, topic) if topic else None
+    return found.label if found is not None else (topic or "")

@@ -16,6 +16,7 @@ from flask import url_for
 from sqlalchemy.orm import Session
 
 from stetline import actions
+from stetline.status import Status
 from stetline.store import ops
 
 SCOPES = ("entity", "topic", "recheck")
@@ -44,11 +45,13 @@ class Selection:
     def slot_filter(self) -> ops.SlotFilter:
         """The store filter of this selection."""
         f = {k: v for k, v in self.filters.items() if v}
+        kind, status, reason = f.get("kind"), f.get("status"), f.get("reason")
         if self.scope == "entity":
-            return ops.SlotFilter(entity=self.key, **f)
+            return ops.SlotFilter(kind=kind, entity=self.key, topic=f.get("topic"), status=status, reason=reason)
         if self.scope == "topic":
-            return ops.SlotFilter(topic=self.key, **f)
-        return ops.SlotFilter(**{**f, "status": "recheck"})
+            return ops.SlotFilter(kind=kind, entity=f.get("entity"), topic=self.key, status=status, reason=reason)
+        return ops.SlotFilter(kind=kind, entity=f.get("entity"), topic=f.get("topic"), status=Status.RECHECK,
+                              reason=reason)
 
     def views(self, s: Session, *, limit: int | None = None, offset: int = 0) -> list[actions.SlotView]:
         """The statements of this selection in the order the page lists them (or one page of them)."""
