@@ -14,7 +14,7 @@ import time
 from pathlib import Path
 
 import pytest
-from conftest import Cli
+from helpers import Cli
 from sqlalchemy import select
 
 from stetline import actions, backup

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from conftest import Cli
+from helpers import Cli
 
 
 def test_annotate_a_selection_after_confirming_the_count(demo_cli: Cli) -> None:

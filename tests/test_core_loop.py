@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
-from conftest import Cli, resolve_every_recheck
+from helpers import Cli, resolve_every_recheck
 
 from stetline.store import ops
 from stetline.workspace import open_workspace

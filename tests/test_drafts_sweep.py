@@ -5,7 +5,7 @@ from __future__ import annotations
 import re
 
 import pytest
-from conftest import Cli
+from helpers import Cli
 
 from stetline.phrasing import sentences, starts_with_figure
 

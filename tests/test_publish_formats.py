@@ -15,7 +15,7 @@ from xml.etree import ElementTree
 
 import docx
 import pytest
-from conftest import Cli, resolve_every_recheck
+from helpers import Cli, resolve_every_recheck
 from sqlalchemy import select
 
 from stetline.formats import FIGURE_NOTES, TOC_INSTRUCTION, neutralise

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
-from conftest import Cli
+from helpers import Cli
 
 from stetline import accounts, demo
 from stetline.cli import main

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from conftest import Cli
+from helpers import Cli
 from openpyxl import load_workbook
 
 from stetline.worksheet import neutralise
