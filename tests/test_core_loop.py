@@ -32,6 +32,16 @@ def test_every_layer_of_the_first_edition_survives_the_refresh(demo_cli: Cli) ->
     from stetline import demo
 
     items = by_slot(demo_cli.json("list"))
+    # the demo's human work (stetline.demo), listed here so that emptying it fails this test
+    assert set(demo.REWRITES) == {
+        "change/heronsford/recycling", "standing/tidemere/recycling", "change/gorse-point/recycling",
+        "standing/larkholt/recycling", "leaders/paper-timetables",
+    }
+    assert set(demo.PINS) == {"leaders/broadband", "standing/north-quay/broadband"}
+    assert set(demo.NOTES) == {
+        "change/samphire-reach/recycling", "profile/north-quay", "standing/wrackhaven/paper-timetables",
+    }
+    assert set(demo.SUPPRESS) == {"standing/puffin-holm/new-business"}
     for slot, text in demo.REWRITES.items():
         assert items[slot]["layer"] == {**items[slot]["layer"], "type": "rewrite", "text": text, "by": "editor"}
     for slot in demo.PINS:
@@ -60,6 +70,7 @@ def test_numbers_changed_rewrite_gets_a_clean_proposal_with_the_new_numbers(demo
 
 
 def test_each_numbers_changed_rewrite_proposes_every_new_number(demo_cli: Cli) -> None:
+    checked: dict[str, int] = {}
     for item in demo_cli.json("list", "--status", "recheck"):
         recheck = item["recheck"]
         if recheck["reasons"] != ["numbers-changed"] or not item["layer"] or item["layer"]["type"] != "rewrite":
@@ -68,6 +79,11 @@ def test_each_numbers_changed_rewrite_proposes_every_new_number(demo_cli: Cli) -
             old, new = change["old"], change["new"]
             if old and old in item["layer"]["text"]:
                 assert new in recheck["proposed"], (item["slot"], change)
+                checked[item["slot"]] = checked.get(item["slot"], 0) + 1
+    # the demo's two rewrites whose only recheck reason is new numbers, and the numbers their
+    # editor's text quotes: Heronsford's 2.4 points, 56.6% and 59.0% with their three years;
+    # Tidemere's 53.5% and its year
+    assert checked == {"change/heronsford/recycling": 5, "standing/tidemere/recycling": 2}
 
 
 def test_claim_change_lists_each_claim_old_to_new(demo_cli: Cli) -> None:

@@ -603,6 +603,7 @@ def test_every_post_form_carries_a_csrf_token(demo_ws: Workspace) -> None:
 
 
 def test_every_control_has_a_label(client: FlaskClient) -> None:
+    seen: dict[str, int] = {}
     for url in PAGES:
         html = get(client, url)
         labelled = set(re.findall(r'<label for="([^"]+)"', html))
@@ -611,6 +612,10 @@ def test_every_control_has_a_label(client: FlaskClient) -> None:
                 continue
             ident = re.search(r'id="([^"]+)"', tag)
             assert ident and ident.group(1) in labelled or "aria-label=" in tag, (url, tag)
+            seen[url] = seen.get(url, 0) + 1
+    # every page showed controls (at least the search box), 56 in all today
+    assert set(seen) == set(PAGES)
+    assert sum(seen.values()) > 50
 
 
 @pytest.mark.parametrize("slot", [
