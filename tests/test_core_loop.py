@@ -165,7 +165,8 @@ def _snapshot(path: Path) -> dict:
         counts = ops.table_counts(s)
         layers = [(x.id, x.slot_id, x.type, x.text, x.dropped_at) for x in ops.all_active_layers(s)]
         approvals = [(a.id, a.slot_id, a.text) for a in ops.all_active_approvals(s)]
-        statuses = {sl.id: (sl.status, sl.version, sl.recheck) for sl, _ in ops.list_slots(s, ops.SlotFilter(include_gone=True))}
+        statuses = {sl.id: (sl.status, sl.version, sl.recheck)
+                    for sl, _ in ops.list_slots(s, ops.SlotFilter(include_gone=True))}
     ws.close()
     return {"counts": counts, "layers": layers, "approvals": approvals, "statuses": statuses}
 
@@ -198,10 +199,13 @@ def test_dry_run_writes_nothing(demo_cli: Cli, demo_files: Path) -> None:
 
 BAD_FILES = {
     "missing column": ("entity,topic,value\nnorth-quay,recycling,40\n", "missing column(s) period"),
-    "not a number": ("entity,topic,period,value\nnorth-quay,recycling,2025,forty\n", "row 2, column 'value': the value is not a number: 'forty'"),
-    "duplicate": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\nnorth-quay,recycling,2025,41\n", "row 3: duplicate observation"),
+    "not a number": ("entity,topic,period,value\nnorth-quay,recycling,2025,forty\n",
+                     "row 2, column 'value': the value is not a number: 'forty'"),
+    "duplicate": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\nnorth-quay,recycling,2025,41\n",
+                  "row 3: duplicate observation"),
     "unknown topic": ("entity,topic,period,value\nnorth-quay,recyclng,2025,40\n", "did you mean 'recycling'?"),
-    "mixed periods": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\nnorth-quay,bus-punctuality,2025-Q1,40\n", "mixed period formats"),
+    "mixed periods": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\n"
+                      "north-quay,bus-punctuality,2025-Q1,40\n", "mixed period formats"),
     "empty": ("", "the file is empty"),
     "slash in key": ("entity,topic,period,value\nnorth/quay,recycling,2025,40\n", "a key may not contain '/'"),
 }
@@ -248,7 +252,8 @@ def test_resolving_every_recheck_opens_the_gate(demo_cli: Cli, tmp_path: Path) -
     report = out.read_text(encoding="utf-8")
     assert report.startswith("# Kestrel Sound Regional Council: Service Scorecard")
     assert "qualified person must check" in report
-    assert "Heronsford kept its lead on recycling: the household recycling rate improved from 59.0% in 2024 to 59.3% in 2025" in report
+    assert ("Heronsford kept its lead on recycling: the household recycling rate improved from 59.0% in 2024 "
+            "to 59.3% in 2025") in report
     assert "Printed timetables were withdrawn" not in report  # gone slots are not published
     assert "Puffin Holm's 2025 figure" not in report
 

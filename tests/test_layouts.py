@@ -20,7 +20,8 @@ def test_a_copied_layout_changes_the_publication(demo_cli: Cli, tmp_path: Path) 
     assert copied.read_text().startswith("{#- The built-in Markdown report layout.")
     copied.write_text(copied.read_text().replace("# {{ title }}", "# {{ title }} (council draft)"))
     demo_cli("publish", "-o", str(tmp_path / "r.md"), "--by", "admin")
-    assert (tmp_path / "r.md").read_text().startswith("# Kestrel Sound Regional Council: Service Scorecard (council draft)")
+    assert (tmp_path / "r.md").read_text().startswith(
+        "# Kestrel Sound Regional Council: Service Scorecard (council draft)")
     again = demo_cli("layout", "copy", "md", ok=False)
     assert "exists already" in again.stderr
 
