@@ -10,28 +10,21 @@ All of them are dropped when the session ends. Without it, workspaces use SQLite
 from __future__ import annotations
 
 import gc
-import json
-import os
 import shutil
 import uuid
 from pathlib import Path
-from typing import Any
 
 import pytest
-from click.testing import CliRunner, Result
+from helpers import ON_POSTGRES, TEST_DATABASE_URL, Cli
 from sqlalchemy import Engine, create_engine, delete, text
 from sqlalchemy.engine import make_url
 
 import stetline.backup
 import stetline.workspace
 from stetline import demo
-from stetline.cli import main
 from stetline.store.models import Account
 from stetline.workspace import Workspace, init_workspace, open_workspace
 
-TEST_URL_VARIABLE = "STETLINE_TEST_DATABASE_URL"
-TEST_DATABASE_URL = os.environ.get(TEST_URL_VARIABLE)
-ON_POSTGRES = bool(TEST_DATABASE_URL)
 DATABASE_NOTE = ".stetline-test-database"  # in a workspace folder: the name of its test database
 
 # Tests about SQLite files, processes and pragmas, which have no PostgreSQL counterpart.
@@ -198,25 +191,6 @@ def ws(tmp_path: Path) -> Workspace:
     w.close()
 
 
-class Cli:
-    """Runs stetline commands against one workspace and decodes JSON output."""
-
-    def __init__(self, path: Path) -> None:
-        self.path = path
-        self.runner = CliRunner()
-
-    def __call__(self, *args: str, ok: bool = True, input: str | None = None) -> Result:
-        if ON_POSTGRES:
-            gc.collect()  # earlier commands' engines, dropped unclosed, give their connections back
-        result = self.runner.invoke(main, [*args, "-w", str(self.path)], input=input, catch_exceptions=False)
-        if ok:
-            assert result.exit_code == 0, result.output
-        return result
-
-    def json(self, *args: str) -> Any:
-        return json.loads(self(*args, "--json").stdout)
-
-
 @pytest.fixture
 def demo_cli(demo_path: Path) -> Cli:
     """A CLI runner on a copy of the demo workspace."""
@@ -234,14 +208,3 @@ def demo_files() -> Path:
     """The folder of the shipped demo data files."""
     return demo.data_file("topics.csv").parent
 
-
-
-def resolve_every_recheck(cli: Cli) -> None:
-    """Resolve every recheck as a reviewer would: accept clean proposals, approve the rest as they are."""
-    for item in cli.json("list", "--status", "recheck"):
-        recheck = item["recheck"]
-        if recheck["clean"] and recheck["proposed"]:
-            cli("approve", item["slot"], "--accept-proposed", "--by", "reviewer")
-        else:
-            cli("approve", item["slot"], "--by", "reviewer")
-    assert cli.json("status")["by_status"]["recheck"] == 0

@@ -14,7 +14,7 @@ import time
 from pathlib import Path
 
 import pytest
-from conftest import Cli
+from helpers import Cli
 from sqlalchemy import select
 
 from stetline import actions, backup
@@ -35,7 +35,8 @@ def snapshot(path: Path) -> dict[str, object]:
             return {
                 "layers": [(x.id, x.slot_id, x.type, x.text, x.by) for x in ops.all_active_layers(s)],
                 "approvals": [(a.id, a.slot_id, a.text, a.by) for a in ops.all_active_approvals(s)],
-                "events": [(e.id, e.action, e.by, e.slot_id, e.after) for e in s.scalars(select(Event).order_by(Event.id))],
+                "events": [(e.id, e.action, e.by, e.slot_id, e.after)
+                           for e in s.scalars(select(Event).order_by(Event.id))],
                 "counts": ops.table_counts(s),
                 "text": actions.view(s, SLOT).to_json(s)["text"],
             }
@@ -56,7 +57,9 @@ def folder_listing(path: Path) -> set[str]:
     return {p.name for p in path.iterdir()}
 
 
-def test_restore_brings_back_every_layer_and_event_of_the_backup(demo_cli: Cli, demo_path: Path, tmp_path: Path) -> None:
+def test_restore_brings_back_every_layer_and_event_of_the_backup(
+    demo_cli: Cli, demo_path: Path, tmp_path: Path,
+) -> None:
     before = snapshot(demo_path)
     assert before["layers"], "the demo holds human work"
     file = tmp_path / "kept" / "scorecard.db"

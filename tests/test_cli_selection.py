@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
-from conftest import Cli
+from helpers import Cli
 
 
 def test_annotate_a_selection_after_confirming_the_count(demo_cli: Cli) -> None:
-    refused = demo_cli("annotate", "--topic", "population", "Mid-year estimates.", "--by", "expert", input="n\n", ok=False)
+    refused = demo_cli("annotate", "--topic", "population", "Mid-year estimates.", "--by", "expert",
+                       input="n\n", ok=False)
     assert "Annotate" in refused.output and "statement(s)?" in refused.output
     assert all(not i["notes"] for i in demo_cli.json("list", "--topic", "population"))
     out = demo_cli("annotate", "--topic", "population", "Mid-year estimates.", "--by", "expert", "--yes")

@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
-from conftest import Cli, resolve_every_recheck
+from helpers import Cli, resolve_every_recheck
 
 from stetline.store import ops
 from stetline.workspace import open_workspace
@@ -32,6 +32,16 @@ def test_every_layer_of_the_first_edition_survives_the_refresh(demo_cli: Cli) ->
     from stetline import demo
 
     items = by_slot(demo_cli.json("list"))
+    # the demo's human work (stetline.demo), listed here so that emptying it fails this test
+    assert set(demo.REWRITES) == {
+        "change/heronsford/recycling", "standing/tidemere/recycling", "change/gorse-point/recycling",
+        "standing/larkholt/recycling", "leaders/paper-timetables",
+    }
+    assert set(demo.PINS) == {"leaders/broadband", "standing/north-quay/broadband"}
+    assert set(demo.NOTES) == {
+        "change/samphire-reach/recycling", "profile/north-quay", "standing/wrackhaven/paper-timetables",
+    }
+    assert set(demo.SUPPRESS) == {"standing/puffin-holm/new-business"}
     for slot, text in demo.REWRITES.items():
         assert items[slot]["layer"] == {**items[slot]["layer"], "type": "rewrite", "text": text, "by": "editor"}
     for slot in demo.PINS:
@@ -60,6 +70,7 @@ def test_numbers_changed_rewrite_gets_a_clean_proposal_with_the_new_numbers(demo
 
 
 def test_each_numbers_changed_rewrite_proposes_every_new_number(demo_cli: Cli) -> None:
+    checked: dict[str, int] = {}
     for item in demo_cli.json("list", "--status", "recheck"):
         recheck = item["recheck"]
         if recheck["reasons"] != ["numbers-changed"] or not item["layer"] or item["layer"]["type"] != "rewrite":
@@ -68,6 +79,11 @@ def test_each_numbers_changed_rewrite_proposes_every_new_number(demo_cli: Cli) -
             old, new = change["old"], change["new"]
             if old and old in item["layer"]["text"]:
                 assert new in recheck["proposed"], (item["slot"], change)
+                checked[item["slot"]] = checked.get(item["slot"], 0) + 1
+    # the demo's two rewrites whose only recheck reason is new numbers, and the numbers their
+    # editor's text quotes: Heronsford's 2.4 points, 56.6% and 59.0% with their three years;
+    # Tidemere's 53.5% and its year
+    assert checked == {"change/heronsford/recycling": 5, "standing/tidemere/recycling": 2}
 
 
 def test_claim_change_lists_each_claim_old_to_new(demo_cli: Cli) -> None:
@@ -149,7 +165,8 @@ def _snapshot(path: Path) -> dict:
         counts = ops.table_counts(s)
         layers = [(x.id, x.slot_id, x.type, x.text, x.dropped_at) for x in ops.all_active_layers(s)]
         approvals = [(a.id, a.slot_id, a.text) for a in ops.all_active_approvals(s)]
-        statuses = {sl.id: (sl.status, sl.version, sl.recheck) for sl, _ in ops.list_slots(s, ops.SlotFilter(include_gone=True))}
+        statuses = {sl.id: (sl.status, sl.version, sl.recheck)
+                    for sl, _ in ops.list_slots(s, ops.SlotFilter(include_gone=True))}
     ws.close()
     return {"counts": counts, "layers": layers, "approvals": approvals, "statuses": statuses}
 
@@ -182,10 +199,13 @@ def test_dry_run_writes_nothing(demo_cli: Cli, demo_files: Path) -> None:
 
 BAD_FILES = {
     "missing column": ("entity,topic,value\nnorth-quay,recycling,40\n", "missing column(s) period"),
-    "not a number": ("entity,topic,period,value\nnorth-quay,recycling,2025,forty\n", "row 2, column 'value': the value is not a number: 'forty'"),
-    "duplicate": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\nnorth-quay,recycling,2025,41\n", "row 3: duplicate observation"),
+    "not a number": ("entity,topic,period,value\nnorth-quay,recycling,2025,forty\n",
+                     "row 2, column 'value': the value is not a number: 'forty'"),
+    "duplicate": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\nnorth-quay,recycling,2025,41\n",
+                  "row 3: duplicate observation"),
     "unknown topic": ("entity,topic,period,value\nnorth-quay,recyclng,2025,40\n", "did you mean 'recycling'?"),
-    "mixed periods": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\nnorth-quay,bus-punctuality,2025-Q1,40\n", "mixed period formats"),
+    "mixed periods": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\n"
+                      "north-quay,bus-punctuality,2025-Q1,40\n", "mixed period formats"),
     "empty": ("", "the file is empty"),
     "slash in key": ("entity,topic,period,value\nnorth/quay,recycling,2025,40\n", "a key may not contain '/'"),
 }
@@ -232,7 +252,8 @@ def test_resolving_every_recheck_opens_the_gate(demo_cli: Cli, tmp_path: Path) -
     report = out.read_text(encoding="utf-8")
     assert report.startswith("# Kestrel Sound Regional Council: Service Scorecard")
     assert "qualified person must check" in report
-    assert "Heronsford kept its lead on recycling: the household recycling rate improved from 59.0% in 2024 to 59.3% in 2025" in report
+    assert ("Heronsford kept its lead on recycling: the household recycling rate improved from 59.0% in 2024 "
+            "to 59.3% in 2025") in report
     assert "Printed timetables were withdrawn" not in report  # gone slots are not published
     assert "Puffin Holm's 2025 figure" not in report
 

@@ -9,7 +9,7 @@ import subprocess
 from pathlib import Path
 
 import pytest
-from conftest import Cli, resolve_every_recheck
+from helpers import Cli, resolve_every_recheck
 
 from stetline.demo import TITLE
 from stetline.formats import FIGURE_NOTES

@@ -45,6 +45,11 @@ def demo(edition: str) -> Dataset:
     )
 
 
+def read_input(name: str) -> pd.DataFrame:
+    """A demo file as plain text columns, as a person would open it (no engine code involved)."""
+    return pd.read_csv(DEMO_FILES / name, dtype=str, keep_default_na=False)
+
+
 def write_edition(
     tmp_path: Path, obs: pd.DataFrame, topics: pd.DataFrame, entities: pd.DataFrame,
 ) -> Dataset:
@@ -60,23 +65,27 @@ def write_edition(
 @pytest.mark.parametrize("edition", ["2025", "2024"])
 def test_ranks_match_scipy_competition_ranking_on_every_demo_topic(edition: str) -> None:
     cells = facts_of(demo(edition)).cells
+    # the expectation comes from the input files alone: the latest period's rows of each topic,
+    # less the empty and the confidential values (seed_data/README.md)
+    obs = read_input(f"observations-{edition}.csv")
+    better_of = read_input("topics.csv").set_index("topic")["better"]
+    latest = obs.loc[obs["period"] == edition]
+    ranked = latest.loc[(latest["value"] != "") & (latest["status"] != "confidential")]
     ties_seen = 0
     checked = 0
-    for topic, group in cells.groupby("topic"):
-        usable = group.loc[group["usable"]]
-        values = usable["value"].to_numpy(dtype="float64")
-        better = usable["better"].iloc[0]
+    for topic, rows in ranked.groupby("topic"):
+        better = better_of[topic]
         if better == "neutral":
             continue  # no outside rule for neutral topics; see the test below
+        values = rows["value"].astype("float64").to_numpy()
         # SciPy docs, rankdata(method="min"): competition ranking "1224"
-        if better == "higher":
-            expected = rankdata(-values, method="min")
-        else:
-            expected = rankdata(values, method="min")
-        assert usable["rank"].to_numpy().tolist() == expected.astype(float).tolist(), topic
-        # rank_of is how many entities have a usable value for the topic
-        assert (group["rank_of"] == len(usable)).all(), topic
-        assert group.loc[~group["usable"], "rank"].isna().all(), topic
+        expected = rankdata(-values if better == "higher" else values, method="min").astype(float)
+        group = cells.loc[cells["topic"] == topic].set_index("entity")
+        assert group.loc[rows["entity"], "rank"].tolist() == expected.tolist(), topic
+        # every other town of the topic has no rank; rank_of counts the ranked ones
+        others = group.index.difference(rows["entity"])
+        assert len(group) == 14 and group.loc[others, "rank"].isna().all(), topic
+        assert (group["rank_of"] == len(rows)).all(), topic
         ties_seen += len(values) - len(set(values))
         checked += 1
     # 12 demo topics minus the two neutral ones, population and paper timetables (the latter
@@ -273,18 +282,28 @@ def test_gapminder_composite_follows_the_oecd_jrc_min_max_formula(
 # --------------------------------------------------------------------------- significance
 
 
-def expected_significance(cells: pd.DataFrame) -> pd.Series:
+def survey_from_input(obs: pd.DataFrame, topic: str, latest: str, previous: str) -> pd.DataFrame:
+    """Each town's two survey results and their margins, read from the input frame (text columns)."""
+    def period(label: str) -> pd.DataFrame:
+        rows = obs.loc[(obs["topic"] == topic) & (obs["period"] == label)].set_index("entity")
+        return rows[["value", "margin"]].astype("float64")
+
+    out = period(latest).join(period(previous).add_suffix("_before"), how="inner")
+    return out.assign(change=out["value"] - out["value_before"])
+
+
+def expected_significance(survey: pd.DataFrame) -> pd.Series:
     # common practice: two 95% half-widths m1, m2 -> significant when |d| > sqrt(m1² + m2²)
-    threshold = np.sqrt(cells["margin"] ** 2 + cells["prev_margin"] ** 2)
-    return cells["change"].abs() > threshold
+    threshold = np.sqrt(survey["margin"] ** 2 + survey["margin_before"] ** 2)
+    return survey["change"].abs() > threshold
 
 
-def z_test_significance(cells: pd.DataFrame) -> pd.Series:
+def z_test_significance(survey: pd.DataFrame) -> pd.Series:
     # SciPy docs, norm.ppf(0.975) is the two-sided 95% z-value (~1.96)
     z975 = norm.ppf(0.975)
-    se1, se2 = cells["margin"] / z975, cells["prev_margin"] / z975
-    z = cells["change"] / np.sqrt(se1 ** 2 + se2 ** 2)
-    return pd.Series(2 * norm.sf(np.abs(z)) < 0.05, index=cells.index)
+    se1, se2 = survey["margin"] / z975, survey["margin_before"] / z975
+    z = survey["change"] / np.sqrt(se1 ** 2 + se2 ** 2)
+    return pd.Series(2 * norm.sf(np.abs(z)) < 0.05, index=survey.index)
 
 
 def test_the_95_percent_z_value_is_1_96() -> None:
@@ -293,18 +312,26 @@ def test_the_95_percent_z_value_is_1_96() -> None:
 
 
 @pytest.mark.parametrize("edition", ["2025", "2024"])
-def test_significance_on_the_demo_parks_satisfaction_topic(edition: str) -> None:
-    cells = facts_of(demo(edition)).cells
-    parks = cells.loc[cells["topic"] == "parks-satisfaction"]
-    assert len(parks) == 14
-    assert parks["margin"].notna().all() and parks["prev_margin"].notna().all()
-    got = parks["significant"].astype("bool")
-    assert parks["significant"].notna().all()
-    assert got.tolist() == expected_significance(parks).tolist()
-    assert got.tolist() == z_test_significance(parks).tolist()
-    # no change in the demo's survey exceeds its combined margin, so none may read as a change
-    assert not got.any()
-    assert (parks["direction"] == "flat").all()
+def test_significance_on_the_demo_parks_satisfaction_topic(edition: str, tmp_path: Path) -> None:
+    obs = read_input(f"observations-{edition}.csv")
+    previous = str(int(edition) - 1)
+    # no change in the demo's survey exceeds its combined margin (the input alone says so) ...
+    assert not expected_significance(survey_from_input(obs, "parks-satisfaction", edition, previous)).any()
+    # ... so North Quay's latest result is moved up 10 points, which exceeds it: both outcomes
+    moved = (obs["entity"] == "north-quay") & (obs["topic"] == "parks-satisfaction") & (obs["period"] == edition)
+    obs.loc[moved, "value"] = [f"{float(v) + 10:g}" for v in obs.loc[moved, "value"]]
+    survey = survey_from_input(obs, "parks-satisfaction", edition, previous)
+    expected = expected_significance(survey)
+    assert expected.tolist().count(True) == 1 and expected["north-quay"]
+    assert expected.tolist() == z_test_significance(survey).tolist()
+    cells = facts_of(write_edition(tmp_path, obs, read_input("topics.csv"), read_input("entities.csv"))).cells
+    parks = cells.loc[cells["topic"] == "parks-satisfaction"].set_index("entity")
+    assert len(parks) == 14 and parks["significant"].notna().all()
+    got = parks.loc[survey.index, "significant"].astype("bool")
+    assert got.tolist() == expected.tolist()
+    # an insignificant change reads as flat, the significant one as up
+    assert (parks.loc[survey.index[~expected], "direction"] == "flat").all()
+    assert parks.at["north-quay", "direction"] == "up"
     # topics without margins make no significance claim
     assert cells.loc[cells["topic"] == "recycling", "significant"].isna().all()
 
@@ -312,23 +339,24 @@ def test_significance_on_the_demo_parks_satisfaction_topic(edition: str) -> None
 def test_significance_when_changes_exceed_the_margins(tmp_path: Path) -> None:
     # the demo's parks-satisfaction survey with its 2025 values moved by chosen steps, so that
     # some changes exceed sqrt(m1² + m2²) and others do not
-    obs = pd.read_csv(DEMO_FILES / "observations-2025.csv", dtype=str, keep_default_na=False)
-    topics = pd.read_csv(DEMO_FILES / "topics.csv", dtype=str, keep_default_na=False)
-    entities = pd.read_csv(DEMO_FILES / "entities.csv", dtype=str, keep_default_na=False)
+    obs = read_input("observations-2025.csv")
+    topics = read_input("topics.csv")
+    entities = read_input("entities.csv")
     parks = obs["topic"] == "parks-satisfaction"
     before = obs.loc[parks & (obs["period"] == "2024")].set_index("entity")["value"].astype(float)
     steps = dict(zip(before.index, [-12, -9, -7, -6.5, -5, -3, -1, 0, 1, 3, 5, 6.5, 9, 12]))
     now = parks & (obs["period"] == "2025")
     obs.loc[now, "value"] = [f"{before[e] + steps[e]:g}" for e in obs.loc[now, "entity"]]
+    survey = survey_from_input(obs, "parks-satisfaction", "2025", "2024")
+    threshold = np.sqrt(survey["margin"] ** 2 + survey["margin_before"] ** 2)
+    assert (np.abs(survey["change"].abs() - threshold) > 0.05).all()  # no knife-edge cases
+    expected = expected_significance(survey)
+    assert expected.any() and not expected.all(), "the steps must give both outcomes"
+    assert expected.tolist() == z_test_significance(survey).tolist()
     cells = facts_of(write_edition(tmp_path, obs, topics, entities)).cells
-    parks_cells = cells.loc[cells["topic"] == "parks-satisfaction"].set_index("entity")
-    threshold = np.sqrt(parks_cells["margin"] ** 2 + parks_cells["prev_margin"] ** 2)
-    assert (np.abs(parks_cells["change"].abs() - threshold) > 0.05).all()  # no knife-edge cases
+    parks_cells = cells.loc[cells["topic"] == "parks-satisfaction"].set_index("entity").loc[survey.index]
     got = parks_cells["significant"].astype("bool")
-    expected = expected_significance(parks_cells)
-    assert got.any() and not got.all(), "the steps must give both outcomes"
     assert got.tolist() == expected.tolist()
-    assert got.tolist() == z_test_significance(parks_cells).tolist()
     # a significant change reads as up or down; an insignificant one as flat
-    assert (parks_cells.loc[got, "direction"] != "flat").all()
-    assert (parks_cells.loc[~got, "direction"] == "flat").all()
+    assert (parks_cells.loc[expected, "direction"] != "flat").all()
+    assert (parks_cells.loc[~expected, "direction"] == "flat").all()

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from conftest import Cli
+from helpers import Cli
 
 
 def _resolve_all(cli: Cli) -> None:

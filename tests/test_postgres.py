@@ -8,7 +8,7 @@ from __future__ import annotations
 import threading
 
 import pytest
-from conftest import ON_POSTGRES, TEST_URL_VARIABLE
+from helpers import ON_POSTGRES, TEST_URL_VARIABLE
 from sqlalchemy import select
 
 from stetline import actions

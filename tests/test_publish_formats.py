@@ -15,7 +15,7 @@ from xml.etree import ElementTree
 
 import docx
 import pytest
-from conftest import Cli, resolve_every_recheck
+from helpers import Cli, resolve_every_recheck
 from sqlalchemy import select
 
 from stetline.formats import FIGURE_NOTES, TOC_INSTRUCTION, neutralise
@@ -253,7 +253,8 @@ def test_json_traces_numbers_and_gives_provenance(published: dict[str, Any]) -> 
     tampered = items[TAMPERED]
     assert tampered["status"] == "edited"
     assert tampered["text"] == TAMPERED_SHOWN
-    assert tampered["html"] == "<p>=1+2 &lt;script&gt;alert(&quot;x&quot;)&lt;/script&gt; &amp; North Quay recycled 46.5%; 999 bins.</p>"
+    assert tampered["html"] == (
+        "<p>=1+2 &lt;script&gt;alert(&quot;x&quot;)&lt;/script&gt; &amp; North Quay recycled 46.5%; 999 bins.</p>")
     assert {"text": "46.5%", "fact": "value"} in tampered["numbers"]
     assert {"text": "999", "fact": None} in tampered["numbers"]
     assert tampered["provenance"]["written_by"] == "editor"

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import json
 
-from conftest import Cli
+from helpers import Cli
 
 
 def test_audit_names_every_untraced_number_of_the_demo(demo_cli: Cli) -> None:

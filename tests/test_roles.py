@@ -6,7 +6,7 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
-from conftest import Cli
+from helpers import Cli
 
 from stetline import accounts, demo
 from stetline.cli import main
@@ -36,7 +36,8 @@ ALLOWED = {
     "editor": {"rewrite", "pin", "annotate", "suppress"},
     "expert": {"annotate"},
     "reviewer": {"rewrite", "pin", "annotate", "suppress", "approve"},
-    "admin": {"rewrite", "pin", "annotate", "suppress", "approve", "load", "publish", "settings", "redraft", "user add"},
+    "admin": {"rewrite", "pin", "annotate", "suppress", "approve", "load", "publish", "settings", "redraft",
+              "user add"},
 }
 
 
@@ -75,10 +76,12 @@ def test_read_commands_need_no_account(team_cli: Cli) -> None:
 
 def test_the_first_account_must_be_an_admin_and_only_admins_add_more(cli: Cli) -> None:
     cli("init")
-    result = cli("user", "add", "eve", "--role", "editor", "--password-stdin", "--by", "eve", input="a-long-password\n", ok=False)
+    result = cli("user", "add", "eve", "--role", "editor", "--password-stdin", "--by", "eve",
+                 input="a-long-password\n", ok=False)
     assert "the first account must be an admin" in result.stderr
     cli("user", "add", "max", "--role", "admin", "--password-stdin", "--by", "max", input="a-long-password\n")
-    result = cli("user", "add", "eve", "--role", "editor", "--password-stdin", "--by", "nobody", input="a-long-password\n", ok=False)
+    result = cli("user", "add", "eve", "--role", "editor", "--password-stdin", "--by", "nobody",
+                 input="a-long-password\n", ok=False)
     assert "there is no account 'nobody'" in result.stderr
     cli("user", "add", "eve", "--role", "editor", "--password-stdin", "--by", "max", input="a-long-password\n")
     result = cli("user", "set-role", "max", "editor", "--by", "max", ok=False)

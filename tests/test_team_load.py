@@ -22,7 +22,7 @@ import click
 import pytest
 import waitress
 from click.testing import CliRunner
-from conftest import ON_POSTGRES
+from helpers import ON_POSTGRES
 from sqlalchemy import event
 
 import stetline.backup

@@ -286,8 +286,10 @@ def _settings_form(client: FlaskClient) -> dict[str, str]:
     html = get(client, "/settings")
     start = html.index('action="/settings"')
     form = html[start: html.index("</form>", start)]
-    out = {n: html_mod.unescape(v) for n, v in re.findall(r'<input type="text" id="[^"]+" name="([^"]+)" value="([^"]*)"', form)}
-    out.update({n: "true" for n in re.findall(r'<input type="checkbox" id="[^"]+" name="([^"]+)" value="true" checked', form)})
+    texts = re.findall(r'<input type="text" id="[^"]+" name="([^"]+)" value="([^"]*)"', form)
+    out = {n: html_mod.unescape(v) for n, v in texts}
+    checked = re.findall(r'<input type="checkbox" id="[^"]+" name="([^"]+)" value="true" checked', form)
+    out.update({n: "true" for n in checked})
     for name, body in re.findall(r'<select id="[^"]+" name="([^"]+)"[^>]*>(.*?)</select>', form, re.S):
         out[name] = html_mod.unescape(re.search(r'<option value="([^"]*)" selected>', body).group(1))  # type: ignore[union-attr]
     return out
@@ -481,7 +483,8 @@ def test_bulk_approve_confirms_the_count_then_approves_exactly_those(client: Fla
     slots = [v for n, v in fields if n == "slot"]
     assert len(slots) == 33 and HERONSFORD not in slots
     with demo_ws.session() as s:
-        assert all(v.slot.status == "draft" for v in actions.views(s, ops.SlotFilter(entity="heronsford", status="draft")))
+        assert all(v.slot.status == "draft"
+                   for v in actions.views(s, ops.SlotFilter(entity="heronsford", status="draft")))
     response = client.post("/bulk/apply", data=_multi([(n, "reviewer" if n == "by" else v) for n, v in fields]))
     assert response.status_code == 303 and response.headers["Location"].endswith("/entities/heronsford?status=draft")
     html = get(client, "/entities/heronsford?status=draft")
@@ -548,7 +551,8 @@ def test_bulk_apply_changes_nothing_when_a_statement_changed_since(client: Flask
 def test_bulk_forms_refuse_unknown_selections(client: FlaskClient) -> None:
     assert client.post("/bulk/confirm", data={"action": "approve", "scope": "galaxy"}).status_code == 400
     assert client.post("/bulk/confirm", data={"action": "delete", "scope": "recheck"}).status_code == 400
-    assert client.post("/bulk/confirm", data={"action": "approve", "scope": "entity", "key": "atlantis"}).status_code == 404
+    unknown = {"action": "approve", "scope": "entity", "key": "atlantis"}
+    assert client.post("/bulk/confirm", data=unknown).status_code == 404
     response = client.post("/bulk/apply", data=_multi([("action", "approve"), ("scope", "recheck"),
                                                       ("slot", HERONSFORD), ("version", "x")]))
     assert response.status_code == 400
@@ -604,6 +608,7 @@ def test_every_post_form_carries_a_csrf_token(demo_ws: Workspace) -> None:
 
 
 def test_every_control_has_a_label(client: FlaskClient) -> None:
+    seen: dict[str, int] = {}
     for url in PAGES:
         html = get(client, url)
         labelled = set(re.findall(r'<label for="([^"]+)"', html))
@@ -612,6 +617,10 @@ def test_every_control_has_a_label(client: FlaskClient) -> None:
                 continue
             ident = re.search(r'id="([^"]+)"', tag)
             assert ident and ident.group(1) in labelled or "aria-label=" in tag, (url, tag)
+            seen[url] = seen.get(url, 0) + 1
+    # every page showed controls (at least the search box), 56 in all today
+    assert set(seen) == set(PAGES)
+    assert sum(seen.values()) > 50
 
 
 @pytest.mark.parametrize("slot", [

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from conftest import Cli
+from helpers import Cli
 from openpyxl import load_workbook
 
 from stetline.worksheet import neutralise
@@ -48,10 +48,12 @@ def test_round_trip_applies_new_texts_and_refuses_stale_rows(demo_cli: Cli, tmp_
 
 
 def test_formula_like_text_is_written_as_text(demo_cli: Cli, tmp_path: Path) -> None:
-    demo_cli("rewrite", "standing/tidemere/recycling", "=HYPERLINK(\"http://example.invalid\") recycling", "--by", "editor")
+    demo_cli("rewrite", "standing/tidemere/recycling", "=HYPERLINK(\"http://example.invalid\") recycling",
+             "--by", "editor")
     path = tmp_path / "w.xlsx"
     demo_cli("worksheet", "-o", str(path), "--entity", "tidemere", "--kind", "standing")
     sheet = load_workbook(path)["statements"]
-    cells = [c for row in sheet.iter_rows(min_row=2) for c in row if isinstance(c.value, str) and "HYPERLINK" in c.value]
+    cells = [c for row in sheet.iter_rows(min_row=2) for c in row
+             if isinstance(c.value, str) and "HYPERLINK" in c.value]
     assert cells and all(c.data_type == "s" and c.value.startswith("'=") for c in cells)
     assert neutralise("@cmd") == "'@cmd" and neutralise("plain") == "plain"

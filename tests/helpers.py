@@ -1,0 +1,53 @@
+"""Helpers the test modules import: the database the suite runs on, a CLI runner, a reviewer's sweep.
+
+Fixtures live in conftest.py; this module holds only plain code, so test modules import it by
+name (``from helpers import Cli``) and never import conftest.
+"""
+
+from __future__ import annotations
+
+import gc
+import json
+import os
+from pathlib import Path
+from typing import Any
+
+from click.testing import CliRunner, Result
+
+from stetline.cli import main
+
+TEST_URL_VARIABLE = "STETLINE_TEST_DATABASE_URL"
+TEST_DATABASE_URL = os.environ.get(TEST_URL_VARIABLE)
+ON_POSTGRES = bool(TEST_DATABASE_URL)
+
+
+class Cli:
+    """Runs stetline commands against one workspace and decodes JSON output."""
+
+    def __init__(self, path: Path) -> None:
+        self.path = path
+        self.runner = CliRunner()
+
+    def __call__(self, *args: str, ok: bool = True, input: str | None = None) -> Result:
+        """Run one command on the workspace; with ok, assert it exited 0."""
+        if ON_POSTGRES:
+            gc.collect()  # earlier commands' engines, dropped unclosed, give their connections back
+        result = self.runner.invoke(main, [*args, "-w", str(self.path)], input=input, catch_exceptions=False)
+        if ok:
+            assert result.exit_code == 0, result.output
+        return result
+
+    def json(self, *args: str) -> Any:
+        """Run one command with --json and return its decoded output."""
+        return json.loads(self(*args, "--json").stdout)
+
+
+def resolve_every_recheck(cli: Cli) -> None:
+    """Resolve every recheck as a reviewer would: accept clean proposals, approve the rest as they are."""
+    for item in cli.json("list", "--status", "recheck"):
+        recheck = item["recheck"]
+        if recheck["clean"] and recheck["proposed"]:
+            cli("approve", item["slot"], "--accept-proposed", "--by", "reviewer")
+        else:
+            cli("approve", item["slot"], "--by", "reviewer")
+    assert cli.json("status")["by_status"]["recheck"] == 0
