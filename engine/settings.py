@@ -16,6 +16,7 @@ class SettingSpec:
     default: Any
     help: str
     choices: tuple[Any, ...] = ()
+    minimum: int | None = None
 
     def parse(self, text: str) -> Any:
         """Turn a typed value into this setting's type; raise StetlineError when it is not valid."""
@@ -28,9 +29,12 @@ class SettingSpec:
             raise StetlineError(f"setting {self.key} is true or false, not {text!r}")
         if isinstance(self.default, int):
             try:
-                return int(text)
+                number = int(text)
             except ValueError:
                 raise StetlineError(f"setting {self.key} is a whole number, not {text!r}") from None
+            if self.minimum is not None and number < self.minimum:
+                raise StetlineError(f"setting {self.key} is at least {self.minimum}, not {number}")
+            return number
         if self.choices and text not in self.choices:
             raise StetlineError(f"setting {self.key} is one of {', '.join(map(str, self.choices))}, not {text!r}")
         return text
@@ -43,10 +47,16 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 ("en_GB", "en_US", "en_IE", "en_AU", "en_NZ", "en_CA")),
     SettingSpec("serial_comma", False, "Put a comma before the last 'and' of a list (A, B, and C)."),
     SettingSpec("percent_word", "%", "How per cent is written after a number.", ("%", "per cent", "percent")),
-    SettingSpec("small_numbers_in_words", True, "Write counts from one to nine as words (house style of many statistical offices)."),
-    SettingSpec("untraced_numbers", "warn", "What publishing does with typed numbers that match no fact.", ("warn", "refuse")),
+    SettingSpec("small_numbers_in_words", True,
+                "Write counts from one to nine as words (house style of many statistical offices)."),
+    SettingSpec("untraced_numbers", "warn", "What publishing does with typed numbers that match no fact.",
+                ("warn", "refuse")),
     SettingSpec("self_approval", False, "Let a reviewer approve their own rewrite (off: two-person rule)."),
     SettingSpec("https", False, "The web app is served over HTTPS: session cookies are marked Secure."),
+    SettingSpec("session_idle_minutes", 60, "A web session ends after this many minutes without a request.",
+                minimum=1),
+    SettingSpec("session_hours", 12, "A web session ends this many hours after signing in, however busy.",
+                minimum=1),
 )
 
 BY_KEY = {spec.key: spec for spec in SETTINGS}

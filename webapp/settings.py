@@ -20,7 +20,8 @@ bp = Blueprint("settings", __name__)
 LABELS = {"title": "Publication title", "entity_noun": "What one entity is called", "locale": "Number locale",
           "serial_comma": "Serial comma", "percent_word": "Per cent sign", "small_numbers_in_words":
           "Small numbers in words", "untraced_numbers": "Untraced numbers when publishing",
-          "self_approval": "Reviewers may approve their own rewrites", "https": "Served over HTTPS"}
+          "self_approval": "Reviewers may approve their own rewrites", "https": "Served over HTTPS",
+          "session_idle_minutes": "Sign-in ends after idle minutes", "session_hours": "Sign-in ends after hours"}
 GROUPS = (("publication", "The publication"), ("style", "House style: the wording of drafts"),
           ("rules", "Rules and the web app"))
 
