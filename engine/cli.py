@@ -713,7 +713,7 @@ def serve(host: str, port: int, workspace: Path | None) -> None:
             f"this workspace has no accounts, so anyone who reaches {host} could act in it; "
             "serve it on 127.0.0.1, or add an admin first: stetline user add NAME --role admin"
         )
-    app = create_app(ws)
+    app = create_app(ws, hosts=[host, "localhost", "127.0.0.1", "::1"])  # and $STETLINE_HOSTS
     click.echo(f"Stetline is listening on http://{host}:{port}/ (Ctrl+C to stop)")
     from werkzeug.serving import run_simple
 

@@ -210,6 +210,14 @@ def test_the_host_names_given_at_start_are_the_ones_answered(demo_ws: Workspace)
     assert client.get("/", headers={"Host": "127.0.0.1"}).status_code == 400
 
 
+def test_more_host_names_come_from_the_environment(demo_ws: Workspace, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setenv("STETLINE_HOSTS", "stet.example, reports.example")
+    client = create_app(demo_ws, {"TESTING": True}).test_client()
+    for host in ("reports.example", "stet.example:443", "localhost:5000", "[::1]:5000"):
+        assert client.get("/", headers={"Host": host}).status_code == 200, host
+    assert client.get("/", headers={"Host": "evil.example"}).status_code == 400
+
+
 # 10. signing in --------------------------------------------------------------------------------
 
 def test_every_failed_sign_in_gives_the_same_answer_after_one_hash_check(

@@ -10,6 +10,7 @@ site's own scripts, styles and images only, and may not be shown in another site
 
 from __future__ import annotations
 
+import os
 from collections.abc import Iterable
 from urllib.parse import urlsplit
 
@@ -17,6 +18,8 @@ from flask import Flask, current_app, render_template, request
 from werkzeug.wrappers import Response
 
 LOOPBACK = ("localhost", "127.0.0.1", "::1")
+#: more host names to answer to, comma-separated (the names a proxy or the public use)
+HOSTS_VARIABLE = "STETLINE_HOSTS"
 SAFE_METHODS = frozenset({"GET", "HEAD", "OPTIONS"})
 CONTENT_SECURITY_POLICY = (
     "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; object-src 'none'; "
@@ -54,8 +57,13 @@ def site_path(target: str) -> str | None:
 
 
 def install(app: Flask, hosts: Iterable[str] | None) -> None:
-    """Check Host and form origins before every request, and add the protective headers after it."""
-    app.config["STETLINE_HOSTS"] = frozenset(host_name(h) for h in (hosts or LOOPBACK))
+    """Check Host and form origins before every request, and add the protective headers after it.
+
+    The host names answered are the ones given (loopback names when none) and those in
+    $STETLINE_HOSTS.
+    """
+    extra = [h for h in os.environ.get(HOSTS_VARIABLE, "").split(",") if h.strip()]
+    app.config["STETLINE_HOSTS"] = frozenset(host_name(h) for h in [*(hosts or LOOPBACK), *extra])
     app.before_request(_check_request)
     app.after_request(_protect)
 
