@@ -2,22 +2,22 @@
 
 A workspace with no accounts is a one-person workspace: any name may act. Once the first account
 exists (it must be an admin), every action needs an existing, enabled account whose role allows
-it. Passwords are hashed with werkzeug.security; repeated failed logins lock an account for a
-while. Account changes are recorded as events.
+it. Passwords are hashed with werkzeug.security (see passwords.py). Signing in gives one answer
+for every failure; the web app slows down repeated failures per account and client. Signing out,
+a new password or role, and disabling or enabling an account raise the account's session
+generation, which ends its existing sessions. Account changes are recorded as events.
 """
 
 from __future__ import annotations
 
-from datetime import timedelta
-
 from sqlalchemy.orm import Session
-from werkzeug.security import check_password_hash, generate_password_hash
 
+from stetline import passwords
 from stetline import settings as settings_mod
 from stetline.errors import Forbidden, NotFound, StetlineError
 from stetline.store import accounts as stored
 from stetline.store import ops
-from stetline.store.models import Account, Assignment, utcnow
+from stetline.store.models import Account, Assignment
 
 ROLES = ("editor", "expert", "reviewer", "admin")
 EDITING = frozenset({"editor", "reviewer", "admin"})
@@ -33,9 +33,9 @@ PERMISSIONS: dict[str, frozenset[str]] = {
     "load": ADMIN, "redraft": ADMIN, "publish": ADMIN, "settings": ADMIN,
     "backup": ADMIN, "restore": ADMIN, "accounts": ADMIN, "assign": ADMIN,
 }
-MAX_FAILED_LOGINS = 5
-LOCK_FOR = timedelta(minutes=15)
-MIN_PASSWORD = 8
+MAX_NAME = 100
+#: the one answer to a failed sign-in, whatever failed (so it names no account)
+REFUSED = "the name or the password is wrong, or the account is disabled"
 
 
 def has_accounts(session: Session) -> bool:
@@ -88,16 +88,16 @@ def check_two_person_rule(session: Session, by: str, author: str | None) -> None
                     "the setting self_approval allows it)")
 
 
-def _check_password(password: str) -> None:
-    if len(password) < MIN_PASSWORD:
-        raise StetlineError(f"a password needs at least {MIN_PASSWORD} characters")
+def _check_name(name: str) -> None:
+    if not name or "/" in name or len(name) > MAX_NAME or not name.isprintable():
+        raise StetlineError(f"an account name is 1 to {MAX_NAME} printable characters, without '/' "
+                            "(no line breaks, tabs or control characters)")
 
 
 def add_account(session: Session, name: str, role: str, password: str, *, by: str) -> Account:
     """Add an account; the first must be an admin, later ones are added by an admin."""
     name = name.strip()
-    if not name or "/" in name or len(name) > 100:
-        raise StetlineError("an account name is 1 to 100 characters, without '/'")
+    _check_name(name)
     if role not in ROLES:
         raise StetlineError(f"unknown role {role!r}; roles: {', '.join(ROLES)}")
     if has_accounts(session):
@@ -106,8 +106,8 @@ def add_account(session: Session, name: str, role: str, password: str, *, by: st
         raise StetlineError("the first account must be an admin (--role admin)")
     if get_account(session, name) is not None:
         raise StetlineError(f"the account {name!r} exists already")
-    _check_password(password)
-    account = Account(name=name, role=role, password_hash=generate_password_hash(password))
+    passwords.check_new(name, password)
+    account = Account(name=name, role=role, password_hash=passwords.hash_password(password))
     session.add(account)
     session.flush()
     ops.add_event(session, by, "account-add", detail={"account": name, "role": role})
@@ -123,6 +123,7 @@ def set_role(session: Session, name: str, role: str, *, by: str) -> Account:
     if account.role == "admin" and role != "admin" and stored.enabled_admins(session) == 1:
         raise StetlineError("this is the last admin; make another admin first")
     old, account.role = account.role, role
+    account.session_generation += 1
     ops.add_event(session, by, "account-role", detail={"account": name, "old": old, "new": role})
     return account
 
@@ -134,6 +135,7 @@ def disable(session: Session, name: str, *, by: str, enable: bool = False) -> Ac
     if not enable and account.role == "admin" and account.enabled and stored.enabled_admins(session) == 1:
         raise StetlineError("this is the last enabled admin; make another admin first")
     account.enabled = enable
+    account.session_generation += 1
     if enable:
         account.failed_logins, account.locked_until = 0, None
     ops.add_event(session, by, "account-enable" if enable else "account-disable", detail={"account": name})
@@ -145,8 +147,9 @@ def set_password(session: Session, name: str, password: str, *, by: str) -> None
     if by != name:
         authorize(session, by, "accounts")
     account = _existing(session, name)
-    _check_password(password)
-    account.password_hash = generate_password_hash(password)
+    passwords.check_new(name, password)
+    account.password_hash = passwords.hash_password(password)
+    account.session_generation += 1
     ops.add_event(session, by, "account-password", detail={"account": name})
 
 
@@ -158,25 +161,34 @@ def _existing(session: Session, name: str) -> Account:
 
 
 def login(session: Session, name: str, password: str) -> Account:
-    """Check a login; after MAX_FAILED_LOGINS failures the account waits LOCK_FOR."""
+    """Check a sign-in; every failure gives the same answer after the same work (REFUSED).
+
+    A wrong password is counted on the account (failed_logins) for the admin to see; slowing
+    down repeated failures is the web app's part, per account and client.
+    """
     account = get_account(session, name)
-    refused = StetlineError("the name or the password is wrong")
-    if account is None:
-        raise refused
-    now = utcnow()
-    if account.locked_until is not None and account.locked_until > now:
-        minutes = max(1, int((account.locked_until - now).total_seconds() // 60) + 1)
-        raise StetlineError(f"too many failed logins: try again in {minutes} minute(s)")
-    if not account.enabled:
-        raise StetlineError(f"the account {name!r} is disabled")
-    if not check_password_hash(account.password_hash, password):
-        account.failed_logins += 1
-        if account.failed_logins >= MAX_FAILED_LOGINS:
-            account.locked_until = now + LOCK_FOR
-            account.failed_logins = 0
-        raise refused
+    right = passwords.matches(account.password_hash if account is not None else None, password)
+    if account is None or not right or not account.enabled:
+        if account is not None and not right:
+            account.failed_logins += 1
+        raise StetlineError(REFUSED)
     account.failed_logins, account.locked_until = 0, None
     return account
+
+
+def end_sessions(session: Session, name: str) -> None:
+    """End every session of an account (signing out): cookies made before are refused."""
+    account = get_account(session, name)
+    if account is not None:
+        account.session_generation += 1
+
+
+def session_role(session: Session, name: str, generation: object) -> str | None:
+    """The role of an enabled account whose session generation is still ``generation``, or None."""
+    account = get_account(session, name)
+    if account is None or not account.enabled or account.session_generation != generation:
+        return None
+    return account.role
 
 
 def assign(session: Session, name: str, *, entity: str | None = None, topic: str | None = None, by: str) -> Assignment:

@@ -26,7 +26,7 @@ from stetline.accounts import authorize
 from stetline.errors import StetlineError
 from stetline.store import backup as sqlite_files
 from stetline.store import db, ops
-from stetline.workspace import DB_FILE, Workspace, _url_for, is_workspace
+from stetline.workspace import DB_FILE, PRIVATE, Workspace, _url_for, is_workspace
 
 SQLITE_MAGIC = b"SQLite format 3\x00"
 REQUIRED_TABLES = ("slot", "alembic_version")
@@ -141,7 +141,7 @@ def backup(ws: Workspace, target: Path, *, by: str, force: bool = False) -> Back
     temp = _temp_beside(target, ".stetline-backup-")
     try:
         _copy_live(ws, temp)
-        _same_mode(temp, live)
+        os.chmod(temp, PRIVATE)  # it holds the password hashes: the owner's eyes only
         os.replace(temp, target)
         _fsync_dir(target.parent)
     except BaseException:

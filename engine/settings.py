@@ -18,6 +18,7 @@ class SettingSpec:
     default: Any
     help: str
     choices: tuple[Any, ...] = ()
+    minimum: int | None = None
 
     def parse(self, text: str) -> Any:
         """Turn a typed value into this setting's type; raise StetlineError when it is not valid."""
@@ -30,9 +31,12 @@ class SettingSpec:
             raise StetlineError(f"setting {self.key} is true or false, not {text!r}")
         if isinstance(self.default, int):
             try:
-                return int(text)
+                number = int(text)
             except ValueError:
                 raise StetlineError(f"setting {self.key} is a whole number, not {text!r}") from None
+            if self.minimum is not None and number < self.minimum:
+                raise StetlineError(f"setting {self.key} is at least {self.minimum}, not {number}")
+            return number
         if self.choices and text not in self.choices:
             raise StetlineError(f"setting {self.key} is one of {', '.join(map(str, self.choices))}, not {text!r}")
         return text
@@ -58,6 +62,10 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "Let a reviewer approve their own rewrite (off: two-person rule)."),
     SettingSpec("https", "Served over HTTPS", False,
                 "The web app is served over HTTPS: session cookies are marked Secure."),
+    SettingSpec("session_idle_minutes", "Sign-in ends after idle minutes", 60,
+                "A web session ends after this many minutes without a request.", minimum=1),
+    SettingSpec("session_hours", "Sign-in ends after hours", 12,
+                "A web session ends this many hours after signing in, however busy.", minimum=1),
 )
 
 BY_KEY = {spec.key: spec for spec in SETTINGS}

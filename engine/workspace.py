@@ -3,6 +3,10 @@
 The database is ``stetline.db`` inside the folder unless ``STETLINE_DATABASE_URL`` names another
 (PostgreSQL for a team). Copied phrasing templates live in ``phrasing/``, copied report layouts
 in ``layouts/``; the web app's secret key is ``secret_key``, created on first use.
+
+The database and the secret key are created readable by their owner only (0600): they hold the
+password hashes and the key that signs session cookies. SQLite gives its -wal and -shm files the
+database file's permissions.
 """
 
 from __future__ import annotations
@@ -24,6 +28,8 @@ DB_FILE = "stetline.db"
 URL_VARIABLE = "STETLINE_DATABASE_URL"
 WORKSPACE_VARIABLE = "STETLINE_WORKSPACE"
 MARKER = "stetline-workspace"
+#: the permissions of the files that hold secrets: the owner reads and writes, nobody else
+PRIVATE = 0o600
 
 
 def default_path() -> Path:
@@ -80,9 +86,12 @@ class Workspace:
     def secret_key(self) -> str:
         """The web app's secret key, generated once per workspace and kept in its folder."""
         key_file = self.path / "secret_key"
-        if not key_file.exists():
-            key_file.write_text(secrets.token_hex(32))
-            key_file.chmod(0o600)
+        try:
+            fd = os.open(key_file, os.O_WRONLY | os.O_CREAT | os.O_EXCL, PRIVATE)
+        except FileExistsError:
+            return key_file.read_text().strip()
+        with os.fdopen(fd, "w") as out:
+            out.write(secrets.token_hex(32))
         return key_file.read_text().strip()
 
     def close(self) -> None:
@@ -94,6 +103,14 @@ def _url_for(path: Path, url: str | None) -> str:
     return url or os.environ.get(URL_VARIABLE) or db.sqlite_url(path / DB_FILE)
 
 
+def create_private(file: Path) -> None:
+    """Create an empty file readable by its owner only, unless it exists already."""
+    try:
+        os.close(os.open(file, os.O_WRONLY | os.O_CREAT | os.O_EXCL, PRIVATE))
+    except FileExistsError:
+        pass
+
+
 def is_workspace(path: Path) -> bool:
     """True when the folder was initialised as a workspace."""
     return (path / MARKER).exists()
@@ -103,6 +120,8 @@ def init_workspace(path: Path, url: str | None = None) -> Workspace:
     """Create (or upgrade) a workspace in a folder and bring its database to the newest schema."""
     path.mkdir(parents=True, exist_ok=True)
     url = _url_for(path, url)
+    if url == db.sqlite_url(path / DB_FILE):
+        create_private(path / DB_FILE)  # before SQLite creates it with the usual 0644
     db.upgrade(url)
     (path / MARKER).write_text("This folder is a Stetline workspace.\n")
     engine = db.make_engine(url)

@@ -15,6 +15,7 @@ from __future__ import annotations
 import html as html_mod
 import io
 import re
+import time
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
@@ -26,7 +27,7 @@ from flask.testing import FlaskClient
 from sqlalchemy import func, select
 from werkzeug.datastructures import MultiDict
 
-from stetline import actions, demo
+from stetline import accounts, actions, demo
 from stetline import settings as settings_mod
 from stetline.accounts import PERMISSIONS, ROLES
 from stetline.store import ops
@@ -64,8 +65,12 @@ def sign_in(app: Flask, name: str) -> FlaskClient:
     the matrix and has its own tests.
     """
     client = app.test_client()
+    ws: Workspace = app.extensions["stetline_workspace"]
+    with ws.reading() as s:
+        generation = accounts.get_account(s, name).session_generation  # type: ignore[union-attr]
+    now = int(time.time())
     with client.session_transaction() as cookie:
-        cookie["account"] = name
+        cookie.update({"account": name, "gen": generation, "since": now, "seen": now})
     return client
 
 

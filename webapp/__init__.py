@@ -6,6 +6,8 @@ business rules and no SQL.
 
 from __future__ import annotations
 
+from collections.abc import Iterable
+from datetime import timedelta
 from typing import Any
 
 from flask import Flask, g, render_template
@@ -17,15 +19,18 @@ from stetline.workspace import Workspace
 MAX_UPLOAD_MB = 50
 
 
-def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flask:
-    """Create the web app for an open workspace."""
+def create_app(ws: Workspace, test_config: dict[str, Any] | None = None,
+               hosts: Iterable[str] | None = None) -> Flask:
+    """Create the web app for an open workspace, answering to the given host names (loopback by default)."""
     _schema_current(ws)
     app = Flask(__name__)
+    https, session_hours = _startup_settings(ws)
     app.config.update(
         SECRET_KEY=ws.secret_key(),
         SESSION_COOKIE_HTTPONLY=True,
         SESSION_COOKIE_SAMESITE="Lax",
-        SESSION_COOKIE_SECURE=_https(ws),
+        SESSION_COOKIE_SECURE=https,
+        PERMANENT_SESSION_LIFETIME=timedelta(hours=session_hours),  # no signed cookie outlives it
         MAX_CONTENT_LENGTH=MAX_UPLOAD_MB * 1024 * 1024,
     )
     if test_config:
@@ -34,6 +39,10 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None) -> Flas
 
     from flask_wtf import CSRFProtect
 
+    from stetline.web import guard, throttle
+
+    app.extensions["stetline_throttle"] = throttle.Throttle()
+    guard.install(app, hosts)  # before CSRF: a foreign Host or a form from another site is refused first
     CSRFProtect(app)
 
     from stetline.web import auth, browse, bulk, data, mine, overview, publishing, recheck, search, settings, statement
@@ -56,13 +65,14 @@ def _schema_current(ws: Workspace) -> None:
     ws.bring_up_to_date()
 
 
-def _https(ws: Workspace) -> bool:
-    """The workspace's ``https`` setting: session cookies are then sent over HTTPS only."""
+def _startup_settings(ws: Workspace) -> tuple[bool, int]:
+    """The ``https`` setting (session cookies then go over HTTPS only) and ``session_hours``."""
     from stetline import settings
     from stetline.store import ops
 
     with ws.session() as s:
-        return bool(settings.with_defaults(ops.get_settings(s))["https"])
+        values = settings.with_defaults(ops.get_settings(s))
+    return bool(values["https"]), int(values["session_hours"])
 
 
 def _error_pages(app: Flask) -> None:

@@ -3,27 +3,37 @@
 A workspace without accounts is a one-person workspace: anyone may act, under the name typed in
 the "Your name" field. Once it has accounts, every page but the sign-in page needs a signed-in,
 enabled account; the actions then run under that account, and the engine checks its role. The
-session cookie holds the account's name only; its role and whether it is enabled are read from
-the workspace on every request.
+session cookie holds the account's name, its session generation and when the session began and
+was last used; its role, whether it is enabled and whether the generation is still current are
+read from the workspace on every request. Signing out, a new password or role, and disabling or
+enabling the account raise the generation and so end every existing session. A session also ends
+after ``session_idle_minutes`` without a request and ``session_hours`` after signing in.
 """
 
 from __future__ import annotations
 
+import time
 from typing import Any
 from urllib.parse import urlsplit
 
-from flask import Blueprint, g, redirect, render_template, request, url_for
+from flask import Blueprint, current_app, g, redirect, render_template, request, url_for
 from flask import session as cookie
 from werkzeug.wrappers import Response
 
-from stetline import accounts, demo
+from stetline import accounts, demo, passwords
+from stetline import settings as settings_mod
 from stetline.errors import StetlineError
+from stetline.store import ops
 from stetline.web.db import session, workspace
+from stetline.web.guard import site_path
+from stetline.web.throttle import Throttle
 
 bp = Blueprint("auth", __name__)
 
 OPEN = frozenset({"auth.login", "auth.login_form", "static"})
 MAX_FIELD = 200
+#: the last-used time in the cookie is renewed at most this often (seconds), not on every request
+SEEN_EVERY = 60
 
 
 def accounts_on() -> bool:
@@ -36,17 +46,33 @@ def accounts_on() -> bool:
 def signed_in() -> tuple[str, str] | None:
     """The signed-in account's name and role, when it still exists and is enabled."""
     if "signed_in" not in g:
-        name = cookie.get("account")
-        role = accounts.role_of(session(), name) if isinstance(name, str) and accounts_on() else None
-        g.signed_in = (name, role) if role is not None else None
+        g.signed_in = _from_cookie()
     return g.signed_in  # type: ignore[no-any-return]
 
 
+def _from_cookie() -> tuple[str, str] | None:
+    """The account the session cookie names, while its session is current; a stale one is dropped."""
+    name = cookie.get("account")
+    if not isinstance(name, str) or not accounts_on():
+        return None
+    since, seen, now = cookie.get("since"), cookie.get("seen"), int(time.time())
+    if not isinstance(since, int) or not isinstance(seen, int):
+        cookie.clear()
+        return None
+    values = settings_mod.with_defaults(ops.get_settings(session()))
+    fresh = (now - since <= int(values["session_hours"]) * 3600
+             and now - seen <= int(values["session_idle_minutes"]) * 60)
+    role = accounts.session_role(session(), name, cookie.get("gen")) if fresh else None
+    if role is None:
+        cookie.clear()
+        return None
+    if now - seen >= SEEN_EVERY:
+        cookie["seen"] = now
+    return name, role
+
+
 def _next_target(default: str) -> str:
-    target = (request.values.get("next") or "").strip()
-    if target.startswith("/") and not target.startswith("//") and "\\" not in target:
-        return target
-    return default
+    return site_path(request.values.get("next") or "") or default
 
 
 def _referrer_path() -> str:
@@ -70,6 +96,7 @@ def _require_sign_in() -> Response | None:
 
 def _page(error: str | None = None, name: str = "", status: int = 200) -> tuple[str, int]:
     return render_template("auth/login.html", error=error, name=name, next_url=_next_target(""),
+                           max_password=passwords.MAX_PASSWORD,
                            is_demo=(workspace().path / demo.ACCOUNTS_FILE).is_file()), status
 
 
@@ -81,26 +108,40 @@ def login_form() -> tuple[str, int]:
 
 @bp.post("/login")
 def login() -> Response | tuple[str, int]:
-    """Check the name and password; a failed attempt counts towards locking the account."""
+    """Check the name and password; repeated failures from one client for one name must wait."""
     name = (request.form.get("name") or "").strip()[:MAX_FIELD]
-    password = (request.form.get("password") or "")[:MAX_FIELD]
+    password = request.form.get("password") or ""  # never cut: a long one is refused whole
+    client = request.remote_addr or ""
+    throttle: Throttle = current_app.extensions["stetline_throttle"]
+    wait = throttle.wait(name, client)
+    if wait > 0:
+        minutes = int(wait // 60) + 1
+        return _page(error=f"Not signed in: too many failed attempts for this name from here; try again in "
+                           f"{minutes} minute{'s' if minutes > 1 else ''}.", name=name, status=429)
     error = None
     with workspace().session() as s:  # committed either way: failed attempts are counted
         try:
             account = accounts.login(s, name, password)
-            name = account.name
+            name, generation = account.name, account.session_generation
         except StetlineError as exc:
             error = str(exc)
     if error is not None:
+        throttle.failed(name, client)
         return _page(error=f"Not signed in: {error}.", name=name, status=401)
+    throttle.succeeded(name, client)
+    now = int(time.time())
     cookie.clear()
-    cookie["account"] = name
+    cookie.update({"account": name, "gen": generation, "since": now, "seen": now})
     return redirect(_next_target(url_for("overview.index")), code=303)
 
 
 @bp.post("/logout")
 def logout() -> Response:
-    """Forget who is signed in."""
+    """End the account's sessions (here and on every other device) and forget who is signed in."""
+    who = signed_in()
+    if who is not None:
+        with workspace().session() as s:
+            accounts.end_sessions(s, who[0])
     cookie.clear()
     return redirect(url_for("auth.login_form") if accounts_on() else url_for("overview.index"), code=303)
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from typing import Any
+from urllib.parse import urlsplit
 
 import markdown
 import nh3
@@ -11,6 +12,7 @@ from flask import session as cookie
 
 from stetline.livefields import LiveFields
 from stetline.textmerge import word_diff
+from stetline.web.guard import site_path
 
 DEFAULT_NAME = "web"
 MAX_NAME = 100
@@ -43,15 +45,22 @@ def current_name() -> str:
 
 def safe_next(default: str) -> str:
     """The form's ``next`` address when it is a path on this site, else the default."""
-    target = (request.form.get("next") or "").strip()
-    if target.startswith("/") and not target.startswith("//") and "\\" not in target:
-        return target
-    return default
+    return site_path(request.form.get("next") or "") or default
+
+
+def _local_images_only(element: str, attribute: str, value: str) -> str | None:
+    """Drop an image's address when it names another site (its loading would tell that site who reads)."""
+    if element == "img" and attribute == "src":
+        parts = urlsplit(value.strip())
+        if parts.scheme or parts.netloc or value.strip().startswith(("//", "\\")):
+            return None
+    return value
 
 
 def markdown_html(text: str) -> str:
-    """Markdown rendered to HTML and cleaned (scripts, handlers and unknown tags removed)."""
-    return nh3.clean(markdown.markdown(text))
+    """Markdown rendered to HTML and cleaned (scripts, handlers, unknown tags and images from
+    other sites removed)."""
+    return nh3.clean(markdown.markdown(text), attribute_filter=_local_images_only)
 
 
 def preview_html(live: LiveFields, text: str, evidence: dict[str, dict[str, Any]]) -> str:

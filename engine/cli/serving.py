@@ -54,7 +54,7 @@ def serve(host: str, port: int, workspace: Path | None) -> None:
     if shared and not https and not is_loopback(host):  # others reach it: their sign-in must be encrypted
         click.echo("warning: the https setting is off, so sign-in cookies may travel unencrypted; serve the app "
                    "behind HTTPS and run `stetline settings https true`", err=True)
-    app = create_app(ws)
+    app = create_app(ws, hosts=[host, "localhost", "127.0.0.1", "::1"])
     click.echo(f"Stetline is listening on http://{host}:{port}/ (Ctrl+C to stop)")
     waitress_serve(app, host=host, port=port, threads=THREADS)
 

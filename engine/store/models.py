@@ -224,6 +224,9 @@ class Account(Base):
     created_at: Mapped[datetime] = mapped_column(default=utcnow)
     failed_logins: Mapped[int] = mapped_column(default=0)
     locked_until: Mapped[datetime | None]
+    #: raised when the account signs out, changes password or role, or is disabled or enabled:
+    #: a session cookie carrying an older number is no longer accepted
+    session_generation: Mapped[int] = mapped_column(default=0, server_default="0")
 
 
 class Assignment(Base):
