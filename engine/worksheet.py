@@ -40,7 +40,7 @@ def write_worksheet(session: Session, path: Path, f: ops.SlotFilter) -> int:
     for v in actions.views(session, f, order="id"):
         data = v.to_json(session)
         values = [data["slot"], data["entity"] or "", data["topic"] or "", data["kind"], data["status"],
-                  data["text"] or "", data["draft"], "", data["version"]]
+                  data["current"] or "", data["draft"], "", data["version"]]
         sheet.append([neutralise(x) if isinstance(x, str) else x for x in values])
         for cell in sheet[sheet.max_row]:
             if isinstance(cell.value, str):
