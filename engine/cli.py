@@ -147,23 +147,26 @@ def status(as_json: bool, workspace: Path | None) -> None:
     ws = _open(workspace)
     with ws.reading() as session:
         edition = ops.current_edition(session)
-        counts = ops.status_counts(session)
-        by_status = {s: counts.get(s, 0) for s in actions.STATUSES}
-        reasons = ops.recheck_reason_counts(session)
-        data = {
+        counts = ops.workspace_counts(session)
+        by_status = {s: counts.by_status.get(s, 0) for s in actions.STATUSES}
+        reasons = {r: counts.reasons.get(r, 0) for r in REASONS}
+        data: dict[str, object] = {
             "edition": edition.label if edition else None,
             "editions": len(ops.editions(session)),
-            "slots": sum(by_status.values()),
+            "slots": counts.statements,
             "by_status": by_status,
-            "recheck_reasons": {r: reasons.get(r, 0) for r in REASONS},
+            "recheck_reasons": reasons,
+            **counts.totals(),
         }
     if as_json:
         _echo_json(data)
         return
-    click.echo(f"edition {data['edition'] or '(none loaded)'} · {data['editions']} edition(s) · {data['slots']} statements")
+    click.echo(f"edition {data['edition'] or '(none loaded)'} · {data['editions']} edition(s) · {counts.summary()}")
     for s, n in by_status.items():
         click.echo(f"  {s:<11} {n}")
-    for r, n in data["recheck_reasons"].items():
+    if any(reasons.values()):
+        click.echo("  recheck reasons (a statement may have several):")
+    for r, n in reasons.items():
         if n:
             click.echo(f"    {r:<16} {n}")
 
@@ -759,7 +762,7 @@ def backup_(file: Path, force: bool, workspace: Path | None, by: str) -> None:
         ws.close()
     c = result.counts
     click.echo(f"backed up the workspace to {result.file} ({result.size:,} bytes: {c['edition']} edition(s), "
-               f"{c['slot']} statements, {c['layer']} layer(s), {c['event']} event(s))")
+               f"{ops.describe_totals(c)}, {c['layer']} layer(s), {c['event']} event(s))")
     if not result.recorded:
         click.echo("note: the workspace was busy, so the backup is not in its history", err=True)
 
@@ -782,7 +785,7 @@ def restore_(file: Path, workspace: Path | None, by: str) -> None:
     finally:
         ws.close()
     c = result.counts
-    click.echo(f"restored the workspace from {result.file}: {c['edition']} edition(s), {c['slot']} statements, "
+    click.echo(f"restored the workspace from {result.file}: {c['edition']} edition(s), {ops.describe_totals(c)}, "
                f"{c['layer']} layer(s), {c['event']} event(s)")
     if not result.recorded:
         click.echo("note: the workspace was busy, so the restore is not in its history", err=True)

@@ -77,7 +77,8 @@ def apply_worksheet(session: Session, path: Path, *, by: str) -> Applied:
     header = [str(c or "").strip().lower() for c in next(rows, ())]
     missing = [c for c in ("slot", "new text", "version") if c not in header]
     if missing:
-        raise ValidationError([Problem(path.name, 1, None, f"missing column(s) {', '.join(missing)}; is this a Stetline worksheet?")])
+        raise ValidationError([Problem(path.name, 1, None,
+                                       f"missing column(s) {', '.join(missing)}; is this a Stetline worksheet?")])
     col = {name: header.index(name) for name in ("slot", "new text", "version")}
     result = Applied()
     for number, row in enumerate(rows, start=2):

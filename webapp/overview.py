@@ -17,13 +17,13 @@ bp = Blueprint("overview", __name__)
 def index() -> str:
     """Show the overview of the workspace."""
     s = session()
-    counts = ops.status_counts(s)
-    by_status = {k: counts.get(k, 0) for k in actions.STATUSES}
-    reasons = ops.recheck_reason_counts(s)
-    total = sum(by_status.values())
+    counts = ops.workspace_counts(s)
+    by_status = {k: counts.by_status.get(k, 0) for k in actions.STATUSES}
+    reasons = counts.reasons
+    total = counts.statements
     ready = by_status["approved"] + by_status["draft"] + by_status["edited"]
     return render_template(
         "overview.html", edition=ops.current_edition(s), editions=ops.editions(s), by_status=by_status,
         reasons={r: reasons.get(r, 0) for r in REASONS}, total=total, waiting=by_status["recheck"],
-        ready=ready, caution=CAUTION,
+        ready=ready, caution=CAUTION, counts_summary=counts.summary(),
     )
