@@ -45,7 +45,8 @@ def _check_version(slot: Slot, version: int | None) -> None:
 
 
 def _as_text(draft: Draft) -> DraftText:
-    return DraftText(draft.slot_id, "", None, None, draft.text, draft.evidence, draft.claims, draft.interest, draft.phrasing)
+    return DraftText(draft.slot_id, "", None, None, draft.text, draft.evidence, draft.claims, draft.interest,
+                     draft.phrasing)
 
 
 def _basis(draft: Draft) -> dict[str, Any]:
