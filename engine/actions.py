@@ -18,6 +18,7 @@ from stetline.drafting import Draft as DraftText
 from stetline.errors import Conflict, NotFound, StetlineError
 from stetline.livefields import LiveFieldError, LiveFields
 from stetline.loading import house_style
+from stetline.printing import Printed, printed
 from stetline.reconcile import Basis, HumanWork, SlotState
 from stetline.status import STATUSES as STATUSES  # re-exported: the CLI and the web app list them from here
 from stetline.status import Reason, Status
@@ -261,8 +262,17 @@ class SlotView:
     layers: list[Layer]
     approval: Approval | None
 
+    def printed(self, session: Session, live: LiveFields | None = None) -> Printed:
+        """What the next publication prints for this slot, and why (see stetline.printing)."""
+        live = live or LiveFields(house_style(session)[0])
+        current = published_text(session, self.slot, self.draft, self.layers, live)
+        return printed(self.slot, self.draft, self.layers, self.approval, current, live)
+
     def to_json(self, session: Session, live: LiveFields | None = None) -> dict[str, Any]:
-        """The slot as DESIGN's JSON contract gives it."""
+        """The slot as DESIGN's JSON contract gives it (``text``: what the next publication prints)."""
+        live = live or LiveFields(house_style(session)[0])
+        current = published_text(session, self.slot, self.draft, self.layers, live)
+        shown = printed(self.slot, self.draft, self.layers, self.approval, current, live)
         text_layer = next((x for x in self.layers if x.type in reconcile.TEXT_LAYERS), None)
         suppressed = any(x.type == "suppress" for x in self.layers)
         recheck = None
@@ -279,7 +289,9 @@ class SlotView:
             "entity": self.slot.entity,
             "topic": self.slot.topic,
             "status": self.slot.status,
-            "text": published_text(session, self.slot, self.draft, self.layers, live),
+            "text": shown.text,
+            "printed": {"source": shown.source, "reason": shown.reason, "notes": shown.notes},
+            "current": current,
             "draft": self.draft.text,
             "layer": None if text_layer is None else {
                 "type": text_layer.type, "text": text_layer.text, "by": text_layer.by, "at": iso_time(text_layer.at),

@@ -13,7 +13,7 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from stetline.actions import published_text, views
+from stetline.actions import views
 from stetline.livefields import LiveFields
 from stetline.loading import house_style
 from stetline.numbers import find_numbers, trace
@@ -53,7 +53,8 @@ class SlotAudit:
                 "untraced": [u.text for u in self.untraced]}
 
 
-def audit_text(text: str, evidence: dict[str, dict[str, Any]], labels: list[str], where: str = "text") -> list[NumberUse]:
+def audit_text(text: str, evidence: dict[str, dict[str, Any]], labels: list[str],
+               where: str = "text") -> list[NumberUse]:
     """Trace every number of a text to the evidence, a label, or nothing."""
     covered: dict[int, str] = {}
     spans = sorted(
@@ -70,11 +71,11 @@ def audit_text(text: str, evidence: dict[str, dict[str, Any]], labels: list[str]
             start = text.find(shown, start + len(shown))
     uses = []
     for number in find_numbers(text):
-        source = covered.get(number.start)
-        if source is None:
+        found = covered.get(number.start)
+        if found is None:
             facts = trace(number, evidence)
-            source = facts[0] if facts else None
-        uses.append(NumberUse(number.text, source, where))
+            found = facts[0] if facts else None
+        uses.append(NumberUse(number.text, found, where))
     return uses
 
 
@@ -88,7 +89,8 @@ def audit(session: Session, f: ops.SlotFilter | None = None) -> list[SlotAudit]:
     for v in views(session, f or ops.SlotFilter(), order="interest"):
         if v.slot.gone:
             continue
-        text = published_text(session, v.slot, v.draft, v.layers, live)
+        shown = v.printed(session, live)  # the text and notes a publication prints, as the gate would
+        text = shown.text
         if text is None:
             continue
         labels = [entities[v.slot.entity].name] if v.slot.entity in entities else []
@@ -97,8 +99,8 @@ def audit(session: Session, f: ops.SlotFilter | None = None) -> list[SlotAudit]:
         labels += [e.name for e in entities.values()] if v.slot.entity is None else []
         labels += [t.label for t in topics.values()] if v.slot.topic is None else []
         result = SlotAudit(v.slot.id, audit_text(text, v.draft.evidence, labels))
-        for layer in v.layers:
-            if layer.type == "annotate" and layer.text:
-                result.uses += audit_text(layer.text, v.draft.evidence, labels, where="note")
+        for note in shown.notes:
+            if note:
+                result.uses += audit_text(note, v.draft.evidence, labels, where="note")
         out.append(result)
     return out

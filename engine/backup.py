@@ -250,7 +250,7 @@ def restore(ws: Workspace, source: Path, *, by: str) -> RestoreResult:
         "file": str(source.resolve()), "schema_before": revision_before, "kept": str(kept) if kept else None,
     })
     with ws.session() as session:
-        counts = ops.table_counts(session)
+        counts = {**ops.table_counts(session), **ops.workspace_counts(session).totals()}
     return RestoreResult(source, revision_before, sqlite_files.revision_of(live), kept, counts, recorded)
 
 

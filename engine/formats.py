@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import Any
 
 from stetline.numbers import find_numbers, trace
-from stetline.publication import CAUTION, Publication, Statement
+from stetline.publication import CAUTION, RECHECK_MARK, WAITING_HEADING, WAITING_INTRO, Publication, Statement
 
 FORMATS = ("md", "html", "json", "csv", "docx")
 BINARY = frozenset({"docx"})
@@ -31,7 +31,8 @@ MEDIA_TYPES = {
 }
 FIGURE_NOTES = "Notes on the figures"
 TOC_INSTRUCTION = 'TOC \\o "1-3" \\h \\z \\u'
-CSV_COLUMNS = ("slot", "entity", "topic", "kind", "text", "entity_name", "topic_label")
+CSV_COLUMNS = ("slot", "entity", "topic", "kind", "status", "text", "notes", "entity_name", "topic_label")
+NOTES_SEPARATOR = "\n"  # the notes of a statement, one a line, in one CSV cell
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 _NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
 
@@ -131,7 +132,7 @@ def to_csv(pub: Publication) -> bytes:
     for _k, _h, statements in pub.sections:
         for st in statements:
             writer.writerow([neutralise(c) for c in (
-                st.slot, st.entity, st.topic, st.kind, st.text,
+                st.slot, st.entity, st.topic, st.kind, st.status, st.text, NOTES_SEPARATOR.join(st.notes),
                 pub.entity_names.get(st.entity or "", ""), pub.topic_labels.get(st.topic or "", ""),
             )])
     return buf.getvalue().encode("utf-8")
@@ -210,7 +211,10 @@ def to_docx(pub: Publication) -> bytes:
     for _key, heading, statements in pub.sections:
         document.add_heading(_x(heading), level=1)
         for st in statements:
-            paragraph = document.add_paragraph(_x(st.text), style="Statement")
+            paragraph = document.add_paragraph(style="Statement")
+            if st.status == "recheck":
+                paragraph.add_run(RECHECK_MARK + " ").bold = True
+            paragraph.add_run(_x(st.text))
             n = numbers.get(id(st))
             if n is not None:
                 paragraph.add_run(str(n)).font.superscript = True
@@ -228,6 +232,13 @@ def to_docx(pub: Publication) -> bytes:
             p = document.add_paragraph(style="Figure Note")
             p.add_run(str(n)).font.superscript = True
             p.add_run(" " + _x(caveat))
+    if pub.waiting:
+        document.add_heading(WAITING_HEADING, level=1)
+        document.add_paragraph(_x(WAITING_INTRO), style="Figure Note")
+        for slot, reason in pub.waiting:
+            p = document.add_paragraph(style="List Bullet")
+            p.add_run(_x(slot)).bold = True
+            p.add_run(" " + _x(reason))
     buf = io.BytesIO()
     document.save(buf)
     return buf.getvalue()

@@ -14,7 +14,7 @@ import jinja2
 
 from stetline.errors import StetlineError
 from stetline.livefields import CappedSandbox
-from stetline.publication import CAUTION, Publication
+from stetline.publication import CAUTION, RECHECK_MARK, WAITING_HEADING, WAITING_INTRO, Publication
 
 BUILTIN = Path(__file__).parent / "layouts"
 LAYOUTS = ("md", "html")
@@ -33,12 +33,15 @@ def context(pub: Publication) -> dict[str, Any]:
                 footnotes.append(st.caveat)
                 number = len(footnotes)
             items.append({"slot": st.slot, "kind": st.kind, "entity": st.entity, "topic": st.topic,
-                          "text": st.text, "notes": list(st.notes), "footnote": number, "status": st.status})
+                          "text": st.text, "notes": list(st.notes), "footnote": number, "status": st.status,
+                          "mark": RECHECK_MARK if st.status == "recheck" else ""})
         used = sorted({st.topic for st in statements if st.topic and st.topic in pub.sources})
         sources = "Sources: " + "; ".join(pub.sources[t] for t in used) + "." if used else ""
         sections.append({"key": key, "heading": heading, "statements": items, "sources": sources})
     return {"title": pub.title, "edition": pub.edition, "date": pub.date, "caution": CAUTION,
-            "sections": sections, "footnotes": footnotes, "figure_notes": FIGURE_NOTES}
+            "sections": sections, "footnotes": footnotes, "figure_notes": FIGURE_NOTES,
+            "waiting": [{"slot": slot, "reason": reason} for slot, reason in pub.waiting],
+            "waiting_heading": WAITING_HEADING, "waiting_intro": WAITING_INTRO}
 
 
 def _environment(folder: Path, name: str) -> jinja2.Environment:

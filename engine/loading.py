@@ -53,29 +53,35 @@ class LoadSummary:
     drafts_written: int = 0
     observations_written: int = 0
     dry_run: bool = False
-    slots: int = 0
+    slots: int = 0  # statements this edition drafted
+    gone_waiting: int = 0  # of the slots gone in this load, those that wait in recheck (human work on them)
+    totals: dict[str, int] = field(default_factory=dict)  # the workspace after the load (ops.Counts.totals)
 
     def to_json(self) -> dict[str, Any]:
-        """The summary as a JSON object."""
-        return dict(self.__dict__)
+        """The summary as a JSON object (``workspace``: the totals after the load, in words)."""
+        return {**self.__dict__, "workspace": ops.describe_totals(self.totals) if self.totals else None}
 
     def lines(self) -> list[str]:
         """The summary for people, one fact a line."""
         out = [
-            f"edition {self.edition}: {self.slots} statements",
+            f"edition {self.edition}: {self.slots} statements drafted",
             f"  new, drafted:               {self.drafted}",
             f"  updated silently (no human work on them): {self.updated}",
             f"  unchanged:                  {self.unchanged}",
         ]
-        total = self.sent_to_recheck
-        out.append(f"  sent to recheck:            {total}")
+        out.append(f"  sent to recheck:            {self.sent_to_recheck}")
+        if self.sent_to_recheck:
+            out.append("    for these reasons (a statement may have several):")
         for reason in REASONS:
             if self.recheck.get(reason):
                 out.append(f"    {reason}: {self.recheck[reason]}")
         if self.still_in_recheck:
             out.append(f"  already in recheck, still waiting: {self.still_in_recheck}")
         if self.gone:
-            out.append(f"  no longer apply:            {self.gone} (any human work on them is kept)")
+            out.append(f"  no longer apply:            {self.gone} (any human work on them is kept; "
+                       f"{self.gone_waiting} of them wait in recheck)")
+        if self.totals:
+            out.append(f"workspace now: {ops.describe_totals(self.totals)}")
         if self.dry_run:
             out.insert(0, "dry run: nothing was written; the load would give")
         return out
@@ -232,6 +238,9 @@ def _summarise(summary: LoadSummary, decisions: list[Decision], drafts: Collecti
     touched = 0
     for d in decisions:
         state = states.get(d.slot)
+        if d.gone:
+            summary.gone += 1
+            summary.gone_waiting += d.recheck is not None
         if state is None:
             summary.drafted += 1
         elif d.recheck and state.status == "recheck":
@@ -243,7 +252,7 @@ def _summarise(summary: LoadSummary, decisions: list[Decision], drafts: Collecti
             for reason in d.reasons:
                 summary.recheck[reason] = summary.recheck.get(reason, 0) + 1
         elif d.gone:
-            summary.gone += 1
+            pass
         elif d.silent:
             summary.updated += 1
         summary.rebased += len(d.rebase)
@@ -293,6 +302,8 @@ def load_edition(
         del decisions, by_slot, states  # the drafts are written: free them before the observations
         written = ops.store_observations(session, edition.id, dataset.observations, stored)
         summary.observations_written = written["inserted"]
+        session.flush()
+        summary.totals = ops.workspace_counts(session).totals()
         edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs}
         ops.add_event(session, by, "load", edition_id=edition.id, detail=summary.to_json())
     return summary
@@ -360,6 +371,8 @@ def redraft(ws: Workspace, *, by: str) -> LoadSummary:
         summary = LoadSummary(edition.label)
         _summarise(summary, decisions, by_slot.keys(), states)
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
+        session.flush()
+        summary.totals = ops.workspace_counts(session).totals()
         edition.summary = {**(edition.summary or {}), DRAFTED_FROM: inputs}
         ops.add_event(session, by, "redraft", edition_id=edition.id, detail=summary.to_json())
     return summary

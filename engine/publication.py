@@ -23,8 +23,8 @@ class Statement:
     kind: str
     entity: str | None
     topic: str | None
-    status: str
-    text: str
+    status: str  # the slot's status word; "recheck" marks a statement printed while it waits
+    text: str  # the text alone, never a marker
     notes: list[str]
     caveat: str | None
     interest: float
@@ -47,3 +47,16 @@ class Publication:
     sources: dict[str, str] = field(default_factory=dict)
     entity_names: dict[str, str] = field(default_factory=dict)
     topic_labels: dict[str, str] = field(default_factory=dict)
+    waiting: list[tuple[str, str]] = field(default_factory=list)  # (slot, reason) of each statement in recheck
+
+    @property
+    def marked(self) -> bool:
+        """True when the publication holds statements that wait in recheck (each marked, and listed)."""
+        return bool(self.waiting)
+
+
+RECHECK_MARK = "[recheck]"
+WAITING_HEADING = "Waiting in recheck"
+WAITING_INTRO = ("These statements wait for a reviewer because the data changed since they were written or "
+                 "approved; each is printed with the newest text the current data do not contradict, and "
+                 "marked " + RECHECK_MARK + ".")

@@ -1,8 +1,9 @@
 """Publish the statements: what is published, the gate that stops stale text, and Markdown.
 
-Published: every slot that is neither suppressed nor gone, with its text layer if it has one,
-else its draft, and its notes, in interest order within each entity (or topic) section. The gate
-refuses while any slot is in recheck, unless told to publish those with their last approved text.
+Published: for every listed slot, what stetline.printing.printed says (the text layer if it has
+one, else the draft, with its notes; nothing for a suppressed or gone slot), in interest order
+within each entity (or topic) section. The gate refuses while any slot is in recheck, unless told
+to publish them: then each prints the newest text the current data do not contradict, marked.
 The other formats (HTML, JSON, CSV, Word) render the same Publication; see stetline.formats.
 """
 
@@ -16,12 +17,11 @@ from typing import Any
 from sqlalchemy.orm import Session
 
 from stetline import settings as settings_mod
-from stetline.actions import published_text, views
+from stetline.actions import views
 from stetline.errors import StetlineError
 from stetline.livefields import LiveFields
 from stetline.loading import house_style
 from stetline.publication import Publication, Statement
-from stetline.reconcile import TEXT_LAYERS
 from stetline.store import ops
 
 
@@ -53,28 +53,22 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
     topics = {t.key: t for t in ops.topic_rows(session)}
     entities = {e.key: e for e in ops.entity_rows(session)}
     warnings: list[str] = []
+    waiting: list[tuple[str, str]] = []
     grouped: dict[str, list[Statement]] = {}
     for v in every:
-        if v.slot.gone or any(x.type == "suppress" for x in v.layers):
+        shown = v.printed(session, live)
+        if shown.waiting:
+            waiting.append((v.slot.id, shown.reason))
+            warnings.append(waiting_warning(v.slot.id, shown.reason))
+        if shown.text is None:
             continue
-        text = published_text(session, v.slot, v.draft, v.layers, live) or ""
-        warning = None
-        evidence = v.draft.evidence
-        approval = v.approval
-        if v.slot.status == "recheck":
-            last = ops.last_approval(session, v.slot.id)
-            if last is not None:
-                text, approval = last.text, last
-                evidence = (last.basis or {}).get("evidence") or evidence
-            warning = f"{v.slot.id} is in recheck; published with its " + ("last approved text" if last else "current text")
-            warnings.append(warning)
-        text_layer = next((x for x in v.layers if x.type in TEXT_LAYERS), None)
-        status = v.draft.evidence.get("status", {}).get("value") or ""
-        caveat = f"The {v.draft.evidence.get('period', {}).get('shown', '')} figure is {status}." if status in ("provisional", "estimated") else None
-        st = Statement(v.slot.id, v.slot.kind, v.slot.entity, v.slot.topic, v.slot.status, text,
-                       [x.text or "" for x in v.layers if x.type == "annotate"], caveat, v.slot.interest, warning,
-                       evidence, text_layer.by if text_layer is not None else None,
-                       approval.by if approval is not None else None,
+        figure = v.draft.evidence.get("status", {}).get("value") or ""
+        period = v.draft.evidence.get("period", {}).get("shown", "")
+        caveat = f"The {period} figure is {figure}." if figure in ("provisional", "estimated") else None
+        approval = shown.approval
+        st = Statement(v.slot.id, v.slot.kind, v.slot.entity, v.slot.topic, shown.status, shown.text,
+                       list(shown.notes), caveat, v.slot.interest, shown.reason if shown.waiting else None,
+                       v.draft.evidence, shown.written_by, approval.by if approval is not None else None,
                        _iso(approval.at) if approval is not None else None)
         key = (v.slot.entity if sections == "entity" else v.slot.topic) or ""
         grouped.setdefault(key, []).append(st)
@@ -88,7 +82,12 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
             out_sections.append((key, heading, grouped.pop(key)))
     sources = {k: t.source for k, t in topics.items() if t.source}
     return Publication(str(values["title"]), edition.label, date.today().isoformat(), out_sections, warnings, sources,
-                       {k: e.name for k, e in entities.items()}, {k: t.label for k, t in topics.items()})
+                       {k: e.name for k, e in entities.items()}, {k: t.label for k, t in topics.items()}, waiting)
+
+
+def waiting_warning(slot_id: str, reason: str) -> str:
+    """The warning for a statement published while it waits in recheck (stderr and the web page alike)."""
+    return f"{slot_id}: {reason}"
 
 
 def _iso(at: datetime | None) -> str | None:

@@ -25,11 +25,16 @@ class StatusSummary:
     editions: list[Edition]
     by_status: dict[str, int]
     recheck_reasons: dict[str, int]
+    counts: ops.Counts
 
     @property
     def total(self) -> int:
         """How many statements are listed (gone ones only while they wait in recheck)."""
-        return sum(self.by_status.values())
+        return self.counts.statements
+
+    def phrase(self) -> str:
+        """The totals in the one phrase every message about statement counts uses."""
+        return self.counts.summary()
 
     @property
     def waiting(self) -> int:
@@ -49,16 +54,17 @@ class StatusSummary:
             "slots": self.total,
             "by_status": dict(self.by_status),
             "recheck_reasons": dict(self.recheck_reasons),
+            **self.counts.totals(),
         }
 
 
 def status_summary(session: Session) -> StatusSummary:
     """Count the statements of the workspace by status and by recheck reason (every one listed)."""
-    counts = ops.status_counts(session)
-    reasons = ops.recheck_reason_counts(session)
+    counts = ops.workspace_counts(session)
     return StatusSummary(
         edition=ops.current_edition(session),
         editions=ops.editions(session),
-        by_status={s: counts.get(s, 0) for s in STATUSES},
-        recheck_reasons={r: reasons.get(r, 0) for r in REASONS},
+        by_status={s: counts.by_status.get(s, 0) for s in STATUSES},
+        recheck_reasons={r: counts.reasons.get(r, 0) for r in REASONS},
+        counts=counts,
     )

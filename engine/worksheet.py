@@ -40,7 +40,7 @@ def write_worksheet(session: Session, path: Path, f: ops.SlotFilter) -> int:
     for v in actions.views(session, f, order="id"):
         data = v.to_json(session)
         values = [data["slot"], data["entity"] or "", data["topic"] or "", data["kind"], data["status"],
-                  data["text"] or "", data["draft"], "", data["version"]]
+                  data["current"] or "", data["draft"], "", data["version"]]
         sheet.append([neutralise(x) if isinstance(x, str) else x for x in values])
         for cell in sheet[sheet.max_row]:
             if isinstance(cell.value, str):
@@ -77,7 +77,8 @@ def apply_worksheet(session: Session, path: Path, *, by: str) -> Applied:
     header = [str(c or "").strip().lower() for c in next(rows, ())]
     missing = [c for c in ("slot", "new text", "version") if c not in header]
     if missing:
-        raise ValidationError([Problem(path.name, 1, None, f"missing column(s) {', '.join(missing)}; is this a Stetline worksheet?")])
+        raise ValidationError([Problem(path.name, 1, None,
+                                       f"missing column(s) {', '.join(missing)}; is this a Stetline worksheet?")])
     col = {name: header.index(name) for name in ("slot", "new text", "version")}
     result = Applied()
     for number, row in enumerate(rows, start=2):

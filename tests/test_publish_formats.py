@@ -286,8 +286,11 @@ def test_csv_columns_names_and_neutralised_rewrite(published: dict[str, Any]) ->
     with published["files"]["csv"].open(encoding="utf-8", newline="") as fh:
         reader = csv.DictReader(fh)
         rows = {row["slot"]: row for row in reader}
-        assert reader.fieldnames == ["slot", "entity", "topic", "kind", "text", "entity_name", "topic_label"]
+        assert reader.fieldnames == ["slot", "entity", "topic", "kind", "status", "text", "notes", "entity_name",
+                                     "topic_label"]
     assert rows[TAMPERED]["text"] == "'" + TAMPERED_SHOWN
+    assert rows[TAMPERED]["status"] == "edited" and rows["headline"]["status"] == "approved"
+    assert rows["profile/north-quay"]["notes"].split("\n") == [NOTE] and rows[TAMPERED]["notes"] == ""
     assert rows[WRACKHAVEN]["entity_name"] == "Wrackhaven"
     assert rows[WRACKHAVEN]["topic_label"] == "Household recycling rate"
     assert rows["headline"]["entity"] == "" and rows["headline"]["entity_name"] == ""

@@ -8,6 +8,13 @@ from helpers import Cli
 
 
 def test_audit_names_every_untraced_number_of_the_demo(demo_cli: Cli) -> None:
+    # the audit reads what a publication would print: while their rechecks wait, the stale rewrite
+    # and note are not printed (the new drafts are), so their typed numbers are not audited
+    waiting = {a["slot"]: a for a in demo_cli.json("audit")}
+    assert waiting["change/gorse-point/recycling"]["untraced"] == []
+    assert waiting["profile/north-quay"]["untraced"] == []
+    for slot in ("change/gorse-point/recycling", "profile/north-quay"):
+        demo_cli("approve", slot, "--by", "reviewer")
     results = {a["slot"]: a for a in demo_cli.json("audit")}
     # a typed year no fact backs, in an editor's rewrite and in an expert's note
     assert "2020" in results["change/gorse-point/recycling"]["untraced"]

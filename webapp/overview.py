@@ -18,5 +18,5 @@ def index() -> str:
     return render_template(
         "overview.html", edition=summary.edition, editions=summary.editions, by_status=summary.by_status,
         reasons=summary.recheck_reasons, total=summary.total, waiting=summary.waiting, ready=summary.ready,
-        caution=CAUTION,
+        caution=CAUTION, counts_summary=summary.phrase(),
     )

@@ -14,6 +14,8 @@ from flask import Blueprint, Response, render_template, request
 from stetline import actions, publish, settings
 from stetline.errors import Forbidden, StetlineError
 from stetline.formats import FORMATS, MEDIA_TYPES
+from stetline.livefields import LiveFields
+from stetline.loading import house_style
 from stetline.publication import CAUTION
 from stetline.store import ops
 from stetline.web.common import acting_name
@@ -44,11 +46,13 @@ def _page(*, error: str | None = None, chosen: dict[str, Any] | None = None, sta
     s = session()
     edition = ops.current_edition(s)
     waiting = actions.views(s, ops.SlotFilter(status="recheck"), order="severity") if edition else []
+    live = LiveFields(house_style(s)[0])
+    shown = [(v.slot.id, v.printed(s, live)) for v in waiting[:SHOWN]]
     counts = ops.status_counts(s)
     untraced = publish.untraced_numbers(s) if edition else []
     mode = settings.with_defaults(ops.get_settings(s))["untraced_numbers"]
     return render_template(
-        "publish/page.html", edition=edition, waiting=waiting[:SHOWN], waiting_total=len(waiting),
+        "publish/page.html", edition=edition, waiting=shown, waiting_total=len(waiting),
         unapproved=counts.get("draft", 0) + counts.get("edited", 0), approved=counts.get("approved", 0),
         untraced=untraced[:SHOWN], untraced_total=len(untraced), untraced_mode=mode,
         caution=CAUTION, formats=[(f, *FORMAT_LABELS.get(f, (f, ""))) for f in FORMATS],

@@ -15,7 +15,7 @@ from flask import Blueprint, abort, flash, redirect, render_template, request, u
 from sqlalchemy.orm import Session
 from werkzeug.wrappers import Response
 
-from stetline import actions, comments, phrasing
+from stetline import actions, comments, phrasing, printing
 from stetline.errors import Conflict, Forbidden, NotFound, StetlineError
 from stetline.livefields import FILTER_HELP, LiveFields
 from stetline.loading import house_style
@@ -41,7 +41,7 @@ def review_texts(v: actions.SlotView, data: dict[str, Any]) -> tuple[str | None,
     elif v.approval is not None:
         current = v.approval.text
     else:
-        current = data["text"]
+        current = data["current"]
     return current, recheck.get("proposed")
 
 
@@ -65,13 +65,14 @@ def _page(slot_id: str, *, errors: dict[str, str] | None = None, values: dict[st
     values = values or {}
     rewrite_text = values.get("rewrite")
     if rewrite_text is None:
-        rewrite_text = current_rewrite or data["text"] or data["draft"]
+        rewrite_text = current_rewrite or data["current"] or data["draft"]
     thread = [{**c.to_json(), "html": markdown_html(c.text)} for c in comments.thread(s, slot_id)]
     sent_back = events[-1] if events and events[-1]["action"] == "send-back" else None
     html = render_template(
         "statement/show.html", s=data, approval=v.approval, events=events, errors=errors or {},
         rewrite_text=rewrite_text, note_text=values.get("annotate", ""), comment_text=values.get("comment", ""),
         published_html=markdown_html(data["text"]) if data["text"] else None,
+        print_record=printing.print_record(s, slot_id),
         review_current=current, review_diff=diff(current, proposed) if proposed else None,
         filter_help=FILTER_HELP, has_draft_beside=layer is not None or data["suppressed"],
         thread=thread, sent_back=sent_back, entity_row=ops.get_entity(s, v.slot.entity) if v.slot.entity else None,

@@ -174,6 +174,7 @@ def phrasing_copy(kind: str, force: bool, workspace: Path | None) -> None:
 def backup_(file: Path, force: bool, workspace: Path | None, by: str) -> None:
     """Write a consistent copy of the workspace database to FILE (safe while the app runs)."""
     from stetline import backup as backup_mod
+    from stetline.store import ops
 
     ws = backup_mod.attach(workspace or default_path())
     try:
@@ -182,7 +183,7 @@ def backup_(file: Path, force: bool, workspace: Path | None, by: str) -> None:
         ws.close()
     c = result.counts
     click.echo(f"backed up the workspace to {result.file} ({result.size:,} bytes: {c['edition']} edition(s), "
-               f"{c['slot']} statements, {c['layer']} layer(s), {c['event']} event(s))")
+               f"{ops.describe_totals(c)}, {c['layer']} layer(s), {c['event']} event(s))")
     if not result.recorded:
         click.echo("note: the workspace was busy, so the backup is not in its history", err=True)
 
@@ -197,6 +198,7 @@ def restore_(file: Path, workspace: Path | None, by: str) -> None:
     Stop `stetline serve` first, and start it again afterwards.
     """
     from stetline import backup as backup_mod
+    from stetline.store import ops
 
     ws = backup_mod.attach(workspace or default_path())
     try:
@@ -204,7 +206,7 @@ def restore_(file: Path, workspace: Path | None, by: str) -> None:
     finally:
         ws.close()
     c = result.counts
-    click.echo(f"restored the workspace from {result.file}: {c['edition']} edition(s), {c['slot']} statements, "
+    click.echo(f"restored the workspace from {result.file}: {c['edition']} edition(s), {ops.describe_totals(c)}, "
                f"{c['layer']} layer(s), {c['event']} event(s)")
     if not result.recorded:
         click.echo("note: the workspace was busy, so the restore is not in its history", err=True)

@@ -22,15 +22,18 @@ def status(as_json: bool, workspace: Path | None) -> None:
     from stetline.summary import status_summary
 
     with open_ws(workspace).reading() as session:
-        data = status_summary(session).to_json()
+        summary = status_summary(session)
+        data = summary.to_json()
     if as_json:
         echo_json(data)
         return
     click.echo(f"edition {data['edition'] or '(none loaded)'} · {data['editions']} edition(s) · "
-               f"{data['slots']} statements")
-    for name, n in data["by_status"].items():
+               f"{summary.phrase()}")
+    for name, n in summary.by_status.items():
         click.echo(f"  {name:<11} {n}")
-    for reason, n in data["recheck_reasons"].items():
+    if any(summary.recheck_reasons.values()):
+        click.echo("  recheck reasons (a statement may have several):")
+    for reason, n in summary.recheck_reasons.items():
         if n:
             click.echo(f"    {reason:<16} {n}")
 

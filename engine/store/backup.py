@@ -102,7 +102,7 @@ def file_counts(path: Path) -> dict[str, int]:
     engine = create_engine(db.sqlite_url(path))
     try:
         with Session(engine) as session:
-            return ops.table_counts(session)
+            return {**ops.table_counts(session), **ops.workspace_counts(session).totals()}
     finally:
         engine.dispose()
 

@@ -47,14 +47,17 @@ from stetline.store.ops.history import (
     events_after,
     events_by_action,
     events_for,
+    first_edition_of,
     gone_as_of,
     latest_event,
     layer_types_by_slot,
     recent_events,
 )
 from stetline.store.ops.listing import (
+    Counts,
     SlotFilter,
     count_slots,
+    describe_totals,
     list_slots,
     listed,
     recheck_options,
@@ -62,6 +65,7 @@ from stetline.store.ops.listing import (
     status_counts,
     status_counts_by,
     status_counts_of,
+    workspace_counts,
 )
 from stetline.store.ops.refresh import (
     Applied,
@@ -103,8 +107,9 @@ __all__ = [
     "add_layer", "drop", "add_approval", "layers_for", "approvals_for", "all_active_layers",
     "all_active_approvals", "slot_statuses", "listed", "SlotFilter", "list_slots", "count_slots",
     "status_counts", "status_counts_by", "status_counts_of", "recheck_options", "recheck_reason_counts",
+    "Counts", "describe_totals", "workspace_counts",
     "hold_writers", "slot_states", "current_drafts", "Applied", "apply_decisions", "table_counts",
-    "add_event", "events_for", "recent_events", "events_by_action", "latest_event", "events_after",
+    "add_event", "events_for", "recent_events", "events_by_action", "latest_event", "events_after", "first_edition_of",
     "COMMENT_KINDS", "add_comment", "comments_for", "drafts_as_of", "gone_as_of", "layer_types_by_slot",
     "SEARCH_LIMIT", "MAX_SEARCH_TERMS", "SearchHit", "SearchPage", "search_terms", "search",
 ]

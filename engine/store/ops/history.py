@@ -42,6 +42,12 @@ def latest_event(session: Session, actions: Sequence[str]) -> Event | None:
     return session.scalars(select(Event).where(Event.action.in_(actions)).order_by(Event.id.desc()).limit(1)).first()
 
 
+def first_edition_of(session: Session, slot_id: str) -> Edition | None:
+    """The edition in which a slot was first drafted (None for an unknown slot)."""
+    first = select(func.min(Draft.edition_id)).where(Draft.slot_id == slot_id).scalar_subquery()
+    return session.scalars(select(Edition).where(Edition.id == first)).first()
+
+
 def events_after(session: Session, action: str, after_id: int | None) -> list[Event]:
     """Events of one action recorded after an event id (all of them when None), oldest first."""
     q = select(Event).where(Event.action == action)

@@ -2,6 +2,11 @@
 
 A slot is listed when it still applies, or when it is gone but waits in recheck (so a reviewer
 sees what left the data); listed() is that rule, and every listing and count uses it.
+
+What is counted, defined once (workspace_counts; every message and page uses it):
+*statements* are the listed slots; *current* ones are those the current edition drafted; slots
+that *no longer apply* (gone) are kept with their human work; *slots* are all of them, gone ones
+included; recheck *reasons* are counted per statement, and one statement may carry several.
 """
 
 from __future__ import annotations
@@ -120,6 +125,58 @@ def recheck_options(session: Session, field: str) -> list[tuple[str, str]]:
     else:
         q = select(Topic.key, Topic.label).where(Topic.key.in_(waiting)).order_by(Topic.position)
     return [(str(k), str(n)) for k, n in session.execute(q)]
+
+
+@dataclass(frozen=True)
+class Counts:
+    """The workspace's statement counts (see the module docstring for what each one counts)."""
+
+    statements: int  # listed: the current ones, plus the gone ones that wait in recheck
+    current: int  # drafted by the current edition
+    gone: int  # no longer apply; kept with their human work
+    by_status: dict[str, int]  # statements per status
+    reasons: dict[str, int]  # statements in recheck per reason; one statement may carry several
+
+    @property
+    def slots(self) -> int:
+        """Every slot, gone ones included."""
+        return self.current + self.gone
+
+    def totals(self) -> dict[str, int]:
+        """The four totals by name, for JSON and messages."""
+        return {"statements": self.statements, "current": self.current, "gone": self.gone, "all_slots": self.slots}
+
+    def summary(self) -> str:
+        """The totals in one phrase for people."""
+        return describe_totals(self.totals())
+
+
+def describe_totals(totals: dict[str, int]) -> str:
+    """The totals of Counts.totals() in one phrase: every message about statement counts uses it."""
+    statements, current, gone = totals["statements"], totals["current"], totals["gone"]
+    out = f"{statements} statement{'' if statements == 1 else 's'}"
+    if statements != current:
+        out += f" ({current} current, {statements - current} that no longer apply wait in recheck)"
+    if gone:
+        out += f"; {current + gone} slots kept, {gone} of them no longer apply"
+    return out
+
+
+def workspace_counts(session: Session) -> Counts:
+    """Count the workspace's statements, slots and recheck reasons (one query per kind of count)."""
+    current = gone = statements = 0
+    by_status: dict[str, int] = {}
+    q = select(Slot.gone, Slot.status, func.count()).group_by(Slot.gone, Slot.status)
+    for is_gone, status, count in session.execute(q):
+        n = int(count)
+        if is_gone:
+            gone += n
+        else:
+            current += n
+        if not is_gone or status == "recheck":
+            statements += n
+            by_status[status] = by_status.get(status, 0) + n
+    return Counts(statements, current, gone, by_status, recheck_reason_counts(session))
 
 
 def recheck_reason_counts(session: Session) -> dict[str, int]:
