@@ -7,6 +7,7 @@ human work with the current draft (the same rule a refresh applies).
 
 from __future__ import annotations
 
+from collections.abc import Collection
 from dataclasses import dataclass
 from typing import Any
 
@@ -51,6 +52,57 @@ def _as_text(draft: Draft) -> DraftText:
 
 def _basis(draft: Draft) -> dict[str, Any]:
     return {"evidence": draft.evidence, "claims": draft.claims, "text": draft.text}
+
+
+class ClaimsNotConfirmed(StetlineError):
+    """Approving a statement whose claims the new data contradict, without confirming each claim."""
+
+
+def _word(value: Any) -> str:
+    if value is None:
+        return "none"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, list | tuple):
+        return ", ".join(str(x) for x in value) or "none"
+    return str(value)
+
+
+def claim_words(change: dict[str, Any]) -> str:
+    """One contradicted claim in words: ``direction: up → down``."""
+    return f"{str(change['fact']).replace('_', ' ')}: {_word(change['old'])} → {_word(change['new'])}"
+
+
+def contradicted_claims(slot: Slot, draft: Draft, layers: list[Layer],
+                        approval: Approval | None) -> list[dict[str, Any]]:
+    """The claims a person's work or sign-off was made against that the current draft contradicts.
+
+    Only a slot in recheck for ``claim-changed`` has any; each is ``{fact, old, new, words}``.
+    """
+    if "claim-changed" not in (slot.recheck or {}).get("reasons", []):
+        return []
+    found: dict[str, dict[str, Any]] = {}
+    bases = [x.basis for x in layers] + ([approval.basis] if approval is not None else [])
+    for basis in bases:
+        for change in reconcile.claim_changes(Basis.from_json(basis or {}).claims, draft.claims):
+            found.setdefault(change["fact"], {**change, "words": claim_words(change)})
+    return list(found.values())
+
+
+def _check_claims(slot_id: str, contradicted: list[dict[str, Any]], confirm: bool | Collection[str]) -> None:
+    """Refuse an approval unless every contradicted claim was confirmed (``True`` confirms them all)."""
+    if not contradicted or confirm is True:
+        return
+    confirmed = set() if confirm is False else {str(x) for x in confirm}
+    missing = [c for c in contradicted if c["fact"] not in confirmed]
+    if not missing:
+        return
+    listed = "; ".join(c["words"] for c in missing)
+    raise ClaimsNotConfirmed(
+        f"the new data contradict {len(missing)} claim(s) of {slot_id} that it was written or approved against "
+        f"({listed}); read the text again and confirm each claim to approve it as it reads "
+        "(stetline approve --confirm-claims, or tick each claim on the web page), or rewrite it"
+    )
 
 
 def published_text(session: Session, slot: Slot, draft: Draft, layers: list[Layer] | None = None,
@@ -208,33 +260,43 @@ def revert(session: Session, slot_id: str, *, by: str, version: int | None = Non
 
 
 def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = False,
-            version: int | None = None) -> Slot:
-    """Sign off a slot against the current edition, optionally taking the proposed text first."""
+            version: int | None = None, confirm_claims: bool | Collection[str] = False) -> Slot:
+    """Sign off a slot against the current edition, optionally taking the proposed text first.
+
+    A statement whose claims the new data contradict (``claim-changed``) is approved only when
+    ``confirm_claims`` names every contradicted claim (or is ``True``); otherwise
+    :class:`ClaimsNotConfirmed` lists them and nothing changes.
+    """
     authorize(session, by, "accept" if accept_proposed else "approve")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     layers = ops.active_layers(session, slot_id)
     if any(x.type == "suppress" for x in layers):
         raise StetlineError(f"{slot_id} is suppressed: there is no text to approve")
+    recheck = slot.recheck or {}
+    proposed = recheck.get("proposed")
+    if accept_proposed and not proposed:
+        raise StetlineError(f"{slot_id} has no proposed text to accept")
+    if accept_proposed and recheck.get("conflicts"):
+        raise StetlineError(
+            f"the proposed text of {slot_id} has a conflict; edit it (stetline rewrite) before approving"
+        )
+    contradicted = contradicted_claims(slot, draft, layers, ops.active_approval(session, slot_id))
+    _check_claims(slot_id, contradicted, confirm_claims)
     author = next((x.by for x in layers if x.type == "rewrite"), None)
     check_two_person_rule(session, by, author)
     before = published_text(session, slot, draft, layers)
-    reasons = list((slot.recheck or {}).get("reasons", []))
+    detail: dict[str, Any] = {"reasons": list(recheck.get("reasons", []))}
+    if contradicted:
+        detail["confirmed_claims"] = [c["words"] for c in contradicted]
     action = "approve"
     if accept_proposed:
-        recheck = slot.recheck or {}
-        proposed = recheck.get("proposed")
-        if not proposed:
-            raise StetlineError(f"{slot_id} has no proposed text to accept")
-        if recheck.get("conflicts"):
-            raise StetlineError(
-                f"the proposed text of {slot_id} has a conflict; edit it (stetline rewrite) before approving"
-            )
         text_layer = next((x for x in layers if x.type in reconcile.TEXT_LAYERS), None)
-        if text_layer is not None:
+        if text_layer is not None:  # the text stays its author's; the event and approval name the approver
             ops.drop(session, text_layer, by)
             new_type = "pin" if text_layer.type == "pin" else "rewrite"
-            ops.add_layer(session, slot_id, new_type, proposed, draft.text, _basis(draft), by)
+            ops.add_layer(session, slot_id, new_type, proposed, draft.text, _basis(draft), text_layer.by)
+            detail["author"] = text_layer.by
         action = "accept"
     for layer in layers:
         if layer.dropped_at is None:
@@ -246,8 +308,7 @@ def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = 
     slot.recheck, slot.severity = None, 0
     slot.status = Status.APPROVED
     _touch(slot)
-    ops.add_event(session, by, action, slot_id, before=before, after=after,
-                  detail={"reasons": reasons})
+    ops.add_event(session, by, action, slot_id, before=before, after=after, detail=detail)
     return slot
 
 
@@ -282,6 +343,7 @@ class SlotView:
                 "reasons": list(r.get("reasons", [])), "changes": list(r.get("changes", [])),
                 "proposed": r.get("proposed"), "clean": bool(r.get("clean")),
                 "conflicts": list(r.get("conflicts", [])), "severity": r.get("severity", 0),
+                "contradicted": contradicted_claims(self.slot, self.draft, self.layers, self.approval),
             }
         return {
             "slot": self.slot.id,

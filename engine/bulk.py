@@ -2,9 +2,12 @@
 
 A plan tells which statements of a selection the action applies to and why the others are left
 alone (an approved statement is not approved again, a suppressed one cannot be approved or
-suppressed again). Applying runs the ordinary action on each statement, each with the version the
-person confirmed and each recorded as its own event, in the caller's one transaction: when any
-statement changed since, nothing is done.
+suppressed again). Approval in bulk never signs off what needs a person's reading: a statement
+whose claims the new data contradict (``claim-changed``), one whose slot is gone (``slot-gone``)
+and one whose proposed text has a conflict are skipped, and applying refuses them even when a
+crafted form names them. Applying runs the ordinary action on each statement, each with the
+version the person confirmed and each recorded as its own event, in the caller's one transaction:
+when any statement changed since, nothing is done.
 """
 
 from __future__ import annotations
@@ -37,8 +40,22 @@ def _why_not(action: str, v: SlotView) -> str | None:
             return "suppressed: there is no text to approve"
         if v.slot.status == "approved":
             return "already approved"
+        return _needs_reading(v)
     if action == "suppress" and suppressed:
         return "already suppressed"
+    return None
+
+
+def _needs_reading(v: SlotView) -> str | None:
+    """Why a statement must be approved on its own, after a person read it (None when it need not)."""
+    recheck = v.slot.recheck or {}
+    reasons = recheck.get("reasons", [])
+    if "claim-changed" in reasons:
+        return "the new data contradict its claims: approve it on its own, confirming each claim"
+    if "slot-gone" in reasons or v.slot.gone:
+        return "it no longer applies to the current edition: approve or suppress it on its own"
+    if recheck.get("conflicts"):
+        return "its proposed text has a conflict: resolve it with a rewrite first"
     return None
 
 
@@ -70,6 +87,9 @@ def apply(session: Session, action: str, items: list[tuple[str, int]], *, by: st
     done = []
     for slot_id, version in items:
         if action == "approve":
+            why = _needs_reading(actions.view(session, slot_id))
+            if why is not None:
+                raise StetlineError(f"{slot_id} cannot be approved in bulk: {why}; nothing was approved")
             actions.approve(session, slot_id, by=by, version=version)
         elif action == "annotate":
             actions.annotate(session, slot_id, text or "", by=by, version=version)

@@ -122,7 +122,7 @@ def build(path: Path, echo: Callable[[str], None] = print) -> Workspace:
     second = loading.load_edition(ws, data_file("observations-2025.csv"), by=ADMIN)
     echo("\n".join(second.lines()))
     with ws.session() as s:
-        actions.approve(s, "headline", by=REVIEWER)
+        actions.approve(s, "headline", by=REVIEWER, confirm_claims=True)  # the reviewer read the new claims
         ops.put_setting(s, "serial_comma", True)
     echo("house style: serial comma on; redrafting")
     echo("\n".join(loading.redraft(ws, by=ADMIN).lines()))

@@ -43,11 +43,14 @@ class Cli:
 
 
 def resolve_every_recheck(cli: Cli) -> None:
-    """Resolve every recheck as a reviewer would: accept clean proposals, approve the rest as they are."""
+    """Resolve every recheck as a reviewer would: accept clean proposals, approve the rest as they are
+    (confirming the contradicted claims of claim-changed ones, as the reviewer who read them)."""
     for item in cli.json("list", "--status", "recheck"):
         recheck = item["recheck"]
         if recheck["clean"] and recheck["proposed"]:
             cli("approve", item["slot"], "--accept-proposed", "--by", "reviewer")
+        elif recheck["contradicted"]:
+            cli("approve", item["slot"], "--confirm-claims", "--by", "reviewer")
         else:
             cli("approve", item["slot"], "--by", "reviewer")
     assert cli.json("status")["by_status"]["recheck"] == 0

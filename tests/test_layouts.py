@@ -10,7 +10,7 @@ from helpers import Cli
 def _resolve_all(cli: Cli) -> None:
     cli("approve", "--all-clean", "--yes", "--by", "reviewer")
     for item in cli.json("list", "--status", "recheck"):
-        cli("approve", item["slot"], "--by", "reviewer")
+        cli("approve", item["slot"], "--confirm-claims", "--by", "reviewer")
 
 
 def test_a_copied_layout_changes_the_publication(demo_cli: Cli, tmp_path: Path) -> None:

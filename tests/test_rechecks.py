@@ -67,7 +67,7 @@ def test_changelog_between_the_two_demo_editions(demo_cli: Cli) -> None:
 def test_publish_warns_on_untraced_numbers_and_can_refuse_them(demo_cli: Cli, tmp_path) -> None:
     demo_cli("approve", "--all-clean", "--yes", "--by", "reviewer")
     for item in demo_cli.json("list", "--status", "recheck"):
-        demo_cli("approve", item["slot"], "--by", "reviewer")
+        demo_cli("approve", item["slot"], "--confirm-claims", "--by", "reviewer")
     out = demo_cli("publish", "-o", str(tmp_path / "r.md"), "--by", "admin")
     assert "change/gorse-point/recycling: untraced number(s) 1.4, 2020" in out.stderr
     demo_cli("settings", "untraced_numbers", "refuse", "--by", "admin")

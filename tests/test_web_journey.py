@@ -5,6 +5,8 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
+from werkzeug.datastructures import MultiDict
+
 from stetline import demo
 from stetline.web import create_app
 from stetline.workspace import open_workspace
@@ -25,11 +27,15 @@ def test_resolve_every_recheck_in_the_browser_and_publish(team_path: Path) -> No
     assert reviewer.post("/recheck/accept-clean", data={"count": str(count)}).status_code == 303
     for _ in range(30):
         queue = reviewer.get("/recheck").get_data(as_text=True)
-        forms = re.findall(r'action="(/statements/[^"]+/approve)"[^>]*>.*?name="version" value="(\d+)"', queue, re.S)
+        forms = re.findall(r'action="(/statements/[^"]+/approve)"[^>]*>(.*?)</form>', queue, re.S)
         if not forms:
             break
-        action, version = forms[0]
-        assert reviewer.post(action, data={"version": version}).status_code == 303
+        action, form = forms[0]
+        version = re.search(r'name="version" value="(\d+)"', form).group(1)  # type: ignore[union-attr]
+        ticked = [("confirm_claim", v) for v in re.findall(r'name="confirm_claim" value="([^"]+)"', form)]
+        if ticked:  # a claim the new data contradict: refused until each one is ticked
+            assert reviewer.post(action, data={"version": version}).status_code == 400
+        assert reviewer.post(action, data=MultiDict([("version", version), *ticked])).status_code == 303
     assert "Nothing waits in recheck" in reviewer.get("/recheck").get_data(as_text=True)
     # the admin publishes Markdown
     download = admin.post("/publish/download", data={"format": "md", "sections": "entity"})

@@ -522,7 +522,9 @@ def test_bulk_annotate_on_the_recheck_queue(client: FlaskClient, demo_ws: Worksp
 def test_bulk_approve_in_the_recheck_queue_says_proposals_are_not_taken(client: FlaskClient) -> None:
     html = client.post("/bulk/confirm", data={"action": "approve", "scope": "recheck", "reason": "numbers-changed"}
                        ).get_data(as_text=True)
-    assert "<h1>Approve 10 statements?</h1>" in html and "Proposed texts in recheck are <em>not</em> taken" in html
+    # of the 10 whose numbers changed, the 5 whose claims the new data also contradict are left alone
+    assert "<h1>Approve 5 statements?</h1>" in html and "Proposed texts in recheck are <em>not</em> taken" in html
+    assert "Left as they are (5)" in html and html.count("the new data contradict its claims") == 5
 
 
 def test_bulk_annotate_needs_a_note(client: FlaskClient) -> None:

@@ -66,6 +66,8 @@ def _page(slot_id: str, *, errors: dict[str, str] | None = None, values: dict[st
     rewrite_text = values.get("rewrite")
     if rewrite_text is None:
         rewrite_text = current_rewrite or data["current"] or data["draft"]
+    last_text = next((e for e in reversed(events) if e["action"] in ("rewrite", "pin", "revert", "accept")), None)
+    accepted_by = last_text["by"] if layer and last_text and last_text["action"] == "accept" else None
     thread = [{**c.to_json(), "html": markdown_html(c.text)} for c in comments.thread(s, slot_id)]
     sent_back = events[-1] if events and events[-1]["action"] == "send-back" else None
     html = render_template(
@@ -75,7 +77,8 @@ def _page(slot_id: str, *, errors: dict[str, str] | None = None, values: dict[st
         print_record=printing.print_record(s, slot_id),
         review_current=current, review_diff=diff(current, proposed) if proposed else None,
         filter_help=FILTER_HELP, has_draft_beside=layer is not None or data["suppressed"],
-        thread=thread, sent_back=sent_back, entity_row=ops.get_entity(s, v.slot.entity) if v.slot.entity else None,
+        thread=thread, sent_back=sent_back, accepted_by=accepted_by,
+        entity_row=ops.get_entity(s, v.slot.entity) if v.slot.entity else None,
         topic_row=ops.get_topic(s, v.slot.topic) if v.slot.topic else None, **_charts(s, v),
     )
     return html, status
@@ -222,8 +225,10 @@ def revert(slot: str) -> Response | tuple[str, int]:
 
 @bp.post("/statements/<path:slot>/approve")
 def approve(slot: str) -> Response | tuple[str, int]:
-    """Approve the statement as it reads now."""
-    return _act(slot, "approve", lambda s, by, ver: actions.approve(s, slot, by=by, version=ver), "Approved")
+    """Approve the statement as it reads now; each claim the new data contradict must be ticked."""
+    ticked = request.form.getlist("confirm_claim")
+    return _act(slot, "approve",
+                lambda s, by, ver: actions.approve(s, slot, by=by, version=ver, confirm_claims=ticked), "Approved")
 
 
 @bp.post("/statements/<path:slot>/accept")

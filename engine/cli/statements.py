@@ -91,7 +91,10 @@ def show(slot: str, as_json: bool, workspace: Path | None) -> None:
     if data["layer"] or data["suppressed"]:
         click.echo(f"draft: {data['draft']}")
     if data["layer"]:
-        click.echo(f"{data['layer']['type']} by {data['layer']['by']} at {data['layer']['at']}")
+        texts = [h for h in data["history"] if h["action"] in ("rewrite", "pin", "revert", "accept")]
+        last = texts[-1] if texts else None
+        accepted = f", proposal accepted by {last['by']}" if last and last["action"] == "accept" else ""
+        click.echo(f"{data['layer']['type']} by {data['layer']['by']}{accepted} at {data['layer']['at']}")
     for note in data["notes"]:
         click.echo(f"note by {note['by']}: {note['text']}")
     if data["recheck"]:
@@ -158,15 +161,19 @@ def pin_(slot: str, workspace: Path | None, by: str) -> None:
     _act(workspace, actions.pin, slot, by=by)
 
 
-def _selection_options(fn: Callable[..., Any]) -> Callable[..., Any]:
+def _selection_options(fn: Callable[..., Any], yes_help: str = "with a selection") -> Callable[..., Any]:
     for opt in reversed((
         click.option("--entity", metavar="KEY", help="Every statement of this entity (instead of SLOT)."),
         click.option("--topic", metavar="KEY", help="Every statement of this topic (instead of SLOT)."),
         click.option("--kind", type=KIND, metavar="KIND", help="Every statement of this kind (instead of SLOT)."),
-        click.option("--yes", is_flag=True, help="Do not ask for confirmation (with a selection)."),
+        click.option("--yes", is_flag=True, help=f"Do not ask for confirmation ({yes_help})."),
     )):
         fn = opt(fn)
     return fn
+
+
+def _approve_selection_options(fn: Callable[..., Any]) -> Callable[..., Any]:
+    return _selection_options(fn, "with a selection or --all-clean")
 
 
 def _selection(workspace: Path | None, action: str, entity: str | None, topic: str | None, kind: str | None,
@@ -179,17 +186,20 @@ def _selection(workspace: Path | None, action: str, entity: str | None, topic: s
     with ws.session() as session:
         chosen = bulk.plan(action, actions.views(session, ops.SlotFilter(kind=kind, entity=entity, topic=topic)))
         items = [(v.slot.id, v.slot.version) for v in chosen.todo]
+    skipped = f"{len(chosen.skipped)} skipped" if chosen.skipped else ""
     if not items:
-        skipped = f" ({len(chosen.skipped)} skipped)" if chosen.skipped else ""
-        click.echo(f"nothing to {action}: no statement matches{skipped}")
+        click.echo(f"nothing to {action}: no statement matches{f' ({skipped})' if skipped else ''}")
+        for view, why in chosen.skipped:
+            click.echo(f"skipped {view.slot.id}: {why}")
         return
     if not yes:
-        click.confirm(f"{action.capitalize()} {len(items)} statement(s)?", abort=True)
+        click.confirm(f"{action.capitalize()} {len(items)} statement(s)?{f' ({skipped})' if skipped else ''}",
+                      abort=True)
     with ws.session() as session:
         done = bulk.apply(session, action, items, by=by, text=text)
     for view, why in chosen.skipped:
         click.echo(f"skipped {view.slot.id}: {why}")
-    click.echo(f"{len(done)} statement(s): {action} done")
+    click.echo(f"{len(done)} statement(s): {action} done{f'; {skipped}' if skipped else ''}")
 
 
 @click.command(name="annotate")
@@ -249,22 +259,35 @@ def revert_(slot: str, workspace: Path | None, by: str) -> None:
 @click.command(name="approve")
 @click.argument("slot", required=False)
 @click.option("--accept-proposed", is_flag=True, help="Take the proposed text first, then approve.")
+@click.option("--confirm-claims", is_flag=True,
+              help="Approve a claim-changed statement as it reads, confirming every claim the new data contradict.")
 @click.option("--all-clean", is_flag=True, help="Accept every clean proposal of numbers-changed statements.")
-@click.option("--yes", is_flag=True, help="Do not ask for confirmation (with --all-clean).")
+@_approve_selection_options
 @workspace_option
 @by_option
-def approve_(slot: str | None, accept_proposed: bool, all_clean: bool, yes: bool,
-             workspace: Path | None, by: str) -> None:
-    """Approve a statement against the current edition (or, --all-clean, every clean proposal)."""
+def approve_(slot: str | None, accept_proposed: bool, confirm_claims: bool, all_clean: bool, entity: str | None,
+             topic: str | None, kind: str | None, yes: bool, workspace: Path | None, by: str) -> None:
+    """Approve a statement, a selection (--entity, --topic, --kind) or every clean proposal (--all-clean).
+
+    A claim-changed statement needs --confirm-claims; a selection skips claim-changed, slot-gone and
+    conflicting statements and says how many it skipped.
+    """
     from stetline import actions
 
-    if not all_clean:
-        if not slot:
-            raise StetlineError("name the statement to approve, or give --all-clean")
-        _act(workspace, actions.approve, slot, by=by, accept_proposed=accept_proposed)
-        return
+    selection = bool(entity or topic or kind)
+    if sum((bool(slot), selection, all_clean)) > 1:
+        raise StetlineError("give one of: a statement, a selection (--entity, --topic, --kind) or --all-clean")
+    if (accept_proposed or confirm_claims) and not slot:
+        raise StetlineError("--accept-proposed and --confirm-claims take one statement")
     if slot:
-        raise StetlineError("give either a statement or --all-clean, not both")
+        _act(workspace, actions.approve, slot, by=by, accept_proposed=accept_proposed, confirm_claims=confirm_claims)
+        return
+    if selection:
+        _selection(workspace, "approve", entity, topic, kind, yes, by)
+        return
+    if not all_clean:
+        raise StetlineError("name the statement to approve, select some with --entity, --topic or --kind, "
+                            "or give --all-clean")
     ws = open_ws(workspace)
     with ws.session() as session:
         pending = actions.clean_proposals(session)
