@@ -14,7 +14,7 @@ def test_audit_names_every_untraced_number_of_the_demo(demo_cli: Cli) -> None:
     assert waiting["change/gorse-point/recycling"]["untraced"] == []
     assert waiting["profile/north-quay"]["untraced"] == []
     for slot in ("change/gorse-point/recycling", "profile/north-quay"):
-        demo_cli("approve", slot, "--by", "reviewer")
+        demo_cli("approve", slot, "--confirm-claims", "--by", "reviewer")
     results = {a["slot"]: a for a in demo_cli.json("audit")}
     # a typed year no fact backs, in an editor's rewrite and in an expert's note
     assert "2020" in results["change/gorse-point/recycling"]["untraced"]
