@@ -13,8 +13,8 @@ from typing import Any
 import jinja2
 
 from stetline.errors import StetlineError
-from stetline.livefields import CappedSandbox
 from stetline.publication import CAUTION, Publication
+from stetline.sandbox import CappedSandbox
 
 BUILTIN = Path(__file__).parent / "layouts"
 LAYOUTS = ("md", "html")
@@ -45,6 +45,7 @@ def _environment(folder: Path, name: str) -> jinja2.Environment:
     return CappedSandbox(
         loader=jinja2.FileSystemLoader(str(folder)), autoescape=(name == "html"),
         undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True,
+        steps=None, printed=None, seconds=None,  # a layout prints every statement: capped in size only
     )
 
 
