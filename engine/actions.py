@@ -16,14 +16,23 @@ from stetline import reconcile
 from stetline.accounts import authorize, check_two_person_rule
 from stetline.drafting import Draft as DraftText
 from stetline.errors import Conflict, NotFound, StetlineError
-from stetline.livefields import LiveFieldError, LiveFields
+from stetline.livefields import MAX_TEXT, LiveFieldError, LiveFields, has_live_fields
 from stetline.loading import house_style
 from stetline.reconcile import Basis, HumanWork, SlotState
 from stetline.store import ops
 from stetline.store.models import Approval, Draft, Layer, Slot, utcnow
 
+MAX_REWRITE = MAX_TEXT  # characters a rewrite may hold as typed (live fields included)
+MAX_NOTE = 10_000  # characters of a note
 STATUSES = ("draft", "edited", "approved", "recheck", "suppressed")
 LAYER_TYPES = ("rewrite", "pin", "annotate", "suppress")
+
+
+def check_length(text: str, limit: int, what: str) -> None:
+    """Refuse a text longer than a limit, saying by how much."""
+    if len(text) > limit:
+        raise StetlineError(f"{what} may hold at most {limit:,} characters; this one has {len(text):,}. "
+                            "Shorten it (a statement is read in a few lines)")
 
 
 def _slot(session: Session, slot_id: str) -> tuple[Slot, Draft]:
@@ -96,8 +105,44 @@ def _touch(slot: Slot) -> None:
     slot.updated_at = utcnow()
 
 
+def layer_author(layer: Layer | None) -> str | None:
+    """Who wrote the words a text layer keeps (None: the machine's, or no layer)."""
+    if layer is None:
+        return None
+    if layer.author is None and layer.type == "rewrite":
+        return layer.by  # a rewrite's words are its writer's
+    return layer.author
+
+
 def _text_layer(session: Session, slot_id: str) -> Layer | None:
     return next((x for x in ops.active_layers(session, slot_id) if x.type in reconcile.TEXT_LAYERS), None)
+
+
+def _rendered(live: LiveFields, text: str, evidence: dict[str, Any]) -> str | None:
+    try:
+        return live.render(text, evidence)
+    except LiveFieldError:
+        return None
+
+
+def words_author(session: Session, slot_id: str, text: str, draft: Draft, by: str) -> str | None:
+    """Who wrote a text a person puts on a slot: whoever first wrote those words there, else ``by``.
+
+    A restored rewrite, a worksheet cell holding an earlier text, or a text copied from the
+    page keeps its author; the two-person rule asks this, not who clicked.
+    """
+    text = text.strip()
+    live: LiveFields | None = None
+    for layer in ops.text_layer_history(session, slot_id):
+        if layer.text is None:
+            continue
+        same = layer.text.strip() == text
+        if not same and layer.type == "rewrite" and has_live_fields(layer.text):
+            live = live or LiveFields(house_style(session)[0])
+            same = _rendered(live, layer.text, draft.evidence) == text
+        if same:
+            return layer_author(layer)
+    return by
 
 
 def _drop_approval(session: Session, slot_id: str, by: str) -> None:
@@ -111,15 +156,17 @@ def rewrite(session: Session, slot_id: str, text: str, *, by: str, version: int 
     text = text.strip()
     if not text:
         raise StetlineError("a rewrite cannot be empty; to leave the statement out, suppress it")
+    check_length(text, MAX_REWRITE, "a rewrite")
     authorize(session, by, "rewrite")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     LiveFields(house_style(session)[0]).render(text, draft.evidence)  # refuse template errors
     before = published_text(session, slot, draft)
+    author = words_author(session, slot_id, text, draft, by)
     old = _text_layer(session, slot_id)
     if old is not None:
         ops.drop(session, old, by)
-    ops.add_layer(session, slot_id, "rewrite", text, draft.text, _basis(draft), by)
+    ops.add_layer(session, slot_id, "rewrite", text, draft.text, _basis(draft), by).author = author
     _drop_approval(session, slot_id, by)
     session.flush()
     restatus(session, slot, draft)
@@ -139,7 +186,8 @@ def pin(session: Session, slot_id: str, *, by: str, version: int | None = None) 
     old = _text_layer(session, slot_id)
     if old is not None:
         ops.drop(session, old, by)
-    ops.add_layer(session, slot_id, "pin", before, draft.text, _basis(draft), by)
+    # a pin keeps the words of the text it is put on: the machine's, or the layer's author's
+    ops.add_layer(session, slot_id, "pin", before, draft.text, _basis(draft), by).author = layer_author(old)
     session.flush()
     restatus(session, slot, draft)
     _touch(slot)
@@ -152,6 +200,7 @@ def annotate(session: Session, slot_id: str, text: str, *, by: str, version: int
     text = text.strip()
     if not text:
         raise StetlineError("a note cannot be empty")
+    check_length(text, MAX_NOTE, "a note")
     authorize(session, by, "annotate")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
@@ -214,8 +263,7 @@ def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = 
     layers = ops.active_layers(session, slot_id)
     if any(x.type == "suppress" for x in layers):
         raise StetlineError(f"{slot_id} is suppressed: there is no text to approve")
-    author = next((x.by for x in layers if x.type == "rewrite"), None)
-    check_two_person_rule(session, by, author)
+    check_two_person_rule(session, by, layer_author(next((x for x in layers if x.type in reconcile.TEXT_LAYERS), None)))
     before = published_text(session, slot, draft, layers)
     reasons = list((slot.recheck or {}).get("reasons", []))
     action = "approve"
@@ -232,7 +280,9 @@ def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = 
         if text_layer is not None:
             ops.drop(session, text_layer, by)
             new_type = "pin" if text_layer.type == "pin" else "rewrite"
-            ops.add_layer(session, slot_id, new_type, proposed, draft.text, _basis(draft), by)
+            # the proposal merges the layer's words with the new draft's: they stay the author's
+            ops.add_layer(session, slot_id, new_type, proposed, draft.text, _basis(draft), by).author = \
+                layer_author(text_layer)
         action = "accept"
     for layer in layers:
         if layer.dropped_at is None:

@@ -15,7 +15,7 @@ import functools
 import operator
 import threading
 import time
-from collections.abc import Callable, Sized
+from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
@@ -92,7 +92,7 @@ def _width_args(name: str, args: tuple[Any, ...], kwargs: dict[str, Any]) -> Non
 
 
 def _joined_size(items: Any, sep: str) -> int:
-    if not isinstance(items, Sized):
+    if not isinstance(items, (list, tuple, str, dict, range)):
         return 0
     return sum(len(str(x)) for x in items) + len(sep) * len(items)
 
@@ -109,8 +109,8 @@ def guard(name: str, f: Callable[..., Any]) -> Callable[..., Any]:
         _budget().spend()
         if name in WIDTH_FILTERS:
             _width_args(name, args[1:], kwargs)
-        if name == "join" and args and _joined_size(args[-1] if len(args) == 1 else args[1],
-                                                     str(args[2] if len(args) > 2 else kwargs.get("d", ""))) > MAX_STRING:
+        sep = str(args[2] if len(args) > 2 else kwargs.get("d", ""))
+        if name == "join" and len(args) > 1 and _joined_size(args[1], sep) > MAX_STRING:
             raise TemplateTooCostly(f"the template builds a text longer than {MAX_STRING:,}")
         texts = [a for a in args if isinstance(a, str)]
         if name == "replace" and len(texts) >= 3 and _replaced_size(*texts[:3]) > MAX_STRING:

@@ -6,8 +6,9 @@ A role the permission table allows sees the action take effect; any other role g
 naming its role and the roles the action needs, and the workspace is exactly as it was. The
 rewrite preview renders a person's template, so it needs the rewrite permission. Routes that
 read or only concern the signer themselves (signing in and out, the acting name, the bulk
-confirmation page) are open to every role and change nothing in the workspace. The matrix is checked against the app's URL map, so a new POST route fails here
-until it is added. Also here: CSRF tokens with accounts, and the session cookie's flags.
+confirmation page) are open to every role and change nothing in the workspace. The matrix is
+checked against the app's URL map, so a new POST route fails here until it is added. Also
+here: CSRF tokens with accounts, and the session cookie's flags.
 """
 
 from __future__ import annotations
@@ -350,7 +351,8 @@ ROUTES: tuple[Route, ...] = (
     Route("logout", "auth.logout", "/logout", None, lambda _ws, _a, _r: {}, signed_out),
     Route("name", "statement.name", "/name", None, lambda _ws, _a, _r: {"by": "someone else", "next": "/"}, unchanged),
     Route("bulk-confirm", "bulk.confirm", "/bulk/confirm", None,
-          lambda ws, _a, _r: {"action": "approve", "scope": "entity", "key": BULK_ENTITY, "status": "draft"}, confirmed),
+          lambda ws, _a, _r: {"action": "approve", "scope": "entity", "key": BULK_ENTITY, "status": "draft"},
+          confirmed),
 )
 CASES = [pytest.param(route, role, id=f"{route.label}-{role}") for route in ROUTES for role in ROLES]
 
