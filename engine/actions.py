@@ -14,11 +14,9 @@ from sqlalchemy.orm import Session
 
 from stetline import reconcile
 from stetline.accounts import authorize, check_two_person_rule
-from stetline.drafting import Draft as DraftText
 from stetline.errors import Conflict, NotFound, StetlineError
 from stetline.livefields import MAX_TEXT, LiveFieldError, LiveFields, has_live_fields
-from stetline.loading import house_style
-from stetline.reconcile import Basis, HumanWork, SlotState
+from stetline.slotstatus import house_style, marked_unrenderable, render_error, restatus
 from stetline.store import ops
 from stetline.store.models import Approval, Draft, Layer, Slot, utcnow
 
@@ -52,52 +50,54 @@ def _check_version(slot: Slot, version: int | None) -> None:
         )
 
 
-def _as_text(draft: Draft) -> DraftText:
-    return DraftText(draft.slot_id, "", None, None, draft.text, draft.evidence, draft.claims, draft.interest, draft.phrasing)
-
-
 def _basis(draft: Draft) -> dict[str, Any]:
     return {"evidence": draft.evidence, "claims": draft.claims, "text": draft.text}
 
 
 def published_text(session: Session, slot: Slot, draft: Draft, layers: list[Layer] | None = None,
                    live: LiveFields | None = None) -> str | None:
-    """The text that would be published now: the text layer (live fields rendered), else the draft."""
+    """The text that would be published now: the text layer (live fields rendered), else the draft.
+
+    A rewrite that cannot be rendered gives its text as written (see ``published``).
+    """
+    return published(session, slot, draft, layers, live)[0]
+
+
+def published(session: Session, slot: Slot, draft: Draft, layers: list[Layer] | None = None,
+              live: LiveFields | None = None) -> tuple[str | None, str | None]:
+    """The text that would be published now and, when its rewrite cannot be rendered, why."""
     if layers is None:
         layers = ops.active_layers(session, slot.id)
     if any(layer.type == "suppress" for layer in layers):
-        return None
+        return None, None
     text_layer = next((layer for layer in layers if layer.type in reconcile.TEXT_LAYERS), None)
     if text_layer is None or text_layer.text is None:
-        return draft.text
-    if text_layer.type == "rewrite":
-        live = live or LiveFields(house_style(session)[0])
-        try:
-            return live.render(text_layer.text, draft.evidence)
-        except LiveFieldError:
-            return text_layer.text
-    return text_layer.text
+        return draft.text, None
+    if text_layer.type != "rewrite":
+        return text_layer.text, None
+    known = marked_unrenderable(slot)
+    if known is not None:  # a known failure is not tried again on every page
+        return text_layer.text, known
+    live = live or LiveFields(house_style(session)[0])
+    try:
+        return live.render(text_layer.text, draft.evidence), None
+    except LiveFieldError as exc:
+        return text_layer.text, str(exc)
 
 
-def restatus(session: Session, slot: Slot, draft: Draft) -> None:
-    """Re-derive a slot's status and recheck from its human work and current draft."""
-    layers = ops.active_layers(session, slot.id)
-    approval = ops.active_approval(session, slot.id)
-    work = [HumanWork(x.id, x.type, x.text, x.base_text, Basis.from_json(x.basis)) for x in layers]
-    if approval is not None:
-        work.append(HumanWork(approval.id, "approval", approval.text, None, Basis.from_json(approval.basis)))
-    state = SlotState(slot.id, slot.digest, False, "", work)
-    if slot.gone:
-        if not work:
-            slot.status, slot.recheck, slot.severity = "draft", None, 0
-        return
-    decision = reconcile.decide(state, _as_text(draft))
-    if decision is None:
-        slot.status = "draft" if not work else slot.status
-        return
-    slot.status = decision.status
-    slot.recheck = decision.recheck
-    slot.severity = decision.severity
+def stored_text(layers: list[Layer], draft: Draft) -> str | None:
+    """What the slot holds as written (no live field rendered): None when suppressed."""
+    if any(layer.type == "suppress" for layer in layers):
+        return None
+    text_layer = next((layer for layer in layers if layer.type in reconcile.TEXT_LAYERS), None)
+    return draft.text if text_layer is None or text_layer.text is None else text_layer.text
+
+
+def _refuse_unrenderable(session: Session, slot: Slot, draft: Draft, layers: list[Layer], what: str) -> None:
+    error = marked_unrenderable(slot) or render_error(LiveFields(house_style(session)[0]), layers, draft)
+    if error is not None:
+        raise StetlineError(f"the rewrite of {slot.id} cannot be rendered ({error}); edit or revert it before "
+                            f"you {what}")
 
 
 def _touch(slot: Slot) -> None:
@@ -180,6 +180,7 @@ def pin(session: Session, slot_id: str, *, by: str, version: int | None = None) 
     authorize(session, by, "pin")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
+    _refuse_unrenderable(session, slot, draft, ops.active_layers(session, slot_id), "pin it")
     before = published_text(session, slot, draft)
     if before is None:
         raise StetlineError(f"{slot_id} is suppressed; lift the suppression before pinning")
@@ -206,7 +207,7 @@ def annotate(session: Session, slot_id: str, text: str, *, by: str, version: int
     _check_version(slot, version)
     ops.add_layer(session, slot_id, "annotate", text, draft.text, _basis(draft), by)
     session.flush()
-    restatus(session, slot, draft)
+    restatus(session, slot, draft, LiveFields(house_style(session)[0]), by)
     _touch(slot)
     ops.add_event(session, by, "annotate", slot_id, after=text)
     return slot
@@ -217,8 +218,9 @@ def suppress(session: Session, slot_id: str, *, by: str, lift: bool = False, ver
     authorize(session, by, "suppress")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
-    current = [x for x in ops.active_layers(session, slot_id) if x.type == "suppress"]
-    before = published_text(session, slot, draft)
+    layers = ops.active_layers(session, slot_id)
+    current = [x for x in layers if x.type == "suppress"]
+    before = stored_text(layers, draft)  # never rendered: a broken rewrite can always be suppressed
     if lift:
         if not current:
             raise StetlineError(f"{slot_id} is not suppressed")
@@ -232,7 +234,7 @@ def suppress(session: Session, slot_id: str, *, by: str, lift: bool = False, ver
     restatus(session, slot, draft)
     _touch(slot)
     ops.add_event(session, by, "unsuppress" if lift else "suppress", slot_id, before=before,
-                  after=published_text(session, slot, draft))
+                  after=stored_text(ops.active_layers(session, slot_id), draft))
     return slot
 
 
@@ -244,7 +246,7 @@ def revert(session: Session, slot_id: str, *, by: str, version: int | None = Non
     layer = _text_layer(session, slot_id)
     if layer is None:
         raise StetlineError(f"{slot_id} has no rewrite or pin to revert")
-    before = published_text(session, slot, draft)
+    before = layer.text  # as written, never rendered: a broken rewrite can always be reverted
     ops.drop(session, layer, by)
     _drop_approval(session, slot_id, by)
     session.flush()
@@ -263,6 +265,8 @@ def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = 
     layers = ops.active_layers(session, slot_id)
     if any(x.type == "suppress" for x in layers):
         raise StetlineError(f"{slot_id} is suppressed: there is no text to approve")
+    if not accept_proposed:
+        _refuse_unrenderable(session, slot, draft, layers, "approve it")
     check_two_person_rule(session, by, layer_author(next((x for x in layers if x.type in reconcile.TEXT_LAYERS), None)))
     before = published_text(session, slot, draft, layers)
     reasons = list((slot.recheck or {}).get("reasons", []))
@@ -314,6 +318,7 @@ class SlotView:
         """The slot as DESIGN's JSON contract gives it."""
         text_layer = next((x for x in self.layers if x.type in reconcile.TEXT_LAYERS), None)
         suppressed = any(x.type == "suppress" for x in self.layers)
+        text, render_problem = published(session, self.slot, self.draft, self.layers, live)
         recheck = None
         if self.slot.recheck:
             r = self.slot.recheck
@@ -328,7 +333,8 @@ class SlotView:
             "entity": self.slot.entity,
             "topic": self.slot.topic,
             "status": self.slot.status,
-            "text": published_text(session, self.slot, self.draft, self.layers, live),
+            "text": text,
+            "render_error": render_problem,
             "draft": self.draft.text,
             "layer": None if text_layer is None else {
                 "type": text_layer.type, "text": text_layer.text, "by": text_layer.by, "at": iso_time(text_layer.at),

@@ -500,6 +500,10 @@ def settings_(key: str | None, value: str | None, workspace: Path | None, by: st
         parsed = spec.parse(value)
         ops.put_setting(session, key, parsed)
         ops.add_event(session, by, "setting", detail={"key": key, "old": values[key], "new": parsed})
+        from stetline.slotstatus import recheck_unrenderable
+
+        session.flush()
+        recheck_unrenderable(session, by=by)  # a rewrite whose live fields now fail waits in recheck
     click.echo(f"{key} = {json.dumps(parsed)}")
     if key in settings_mod.STYLE_KEYS:
         click.echo("this setting changes the wording of drafts: run `stetline redraft` to apply it")

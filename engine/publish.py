@@ -22,6 +22,7 @@ from stetline.livefields import LiveFields
 from stetline.loading import house_style
 from stetline.publication import Publication, Statement
 from stetline.reconcile import TEXT_LAYERS
+from stetline.slotstatus import recheck_unrenderable
 from stetline.store import ops
 
 
@@ -119,6 +120,7 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
     from stetline.accounts import authorize
 
     authorize(session, by, "publish")
+    recheck_unrenderable(session, by=by)  # a rewrite that no longer renders waits in recheck
     pub = gather(session, sections=sections, allow_recheck=allow_recheck, require_approval=require_approval)
     untraced = untraced_numbers(session)
     if untraced and settings_mod.with_defaults(ops.get_settings(session))["untraced_numbers"] == "refuse":

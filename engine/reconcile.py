@@ -20,9 +20,10 @@ CLAIM_CHANGED = "claim-changed"
 NUMBERS_CHANGED = "numbers-changed"
 SLOT_GONE = "slot-gone"
 WORDING_CHANGED = "wording-changed"
-REASONS = (CLAIM_CHANGED, SLOT_GONE, NUMBERS_CHANGED, WORDING_CHANGED)
+RENDER_FAILED = "render-failed"  # a rewrite's live fields no longer render (set by stetline.slotstatus)
+REASONS = (CLAIM_CHANGED, SLOT_GONE, RENDER_FAILED, NUMBERS_CHANGED, WORDING_CHANGED)
 #: higher is more urgent; the recheck queue sorts by it
-SEVERITY = {CLAIM_CHANGED: 3, SLOT_GONE: 3, NUMBERS_CHANGED: 2, WORDING_CHANGED: 1}
+SEVERITY = {CLAIM_CHANGED: 3, SLOT_GONE: 3, RENDER_FAILED: 3, NUMBERS_CHANGED: 2, WORDING_CHANGED: 1}
 TEXT_LAYERS = ("rewrite", "pin")
 
 

@@ -148,7 +148,7 @@ def _finalize(value: Any) -> Any:
 class _Generator(CodeGenerator):
     """Compiles ``~`` so that the joined text is checked against the size cap."""
 
-    def visit_Concat(self, node: nodes.Concat, frame: Frame) -> None:  # noqa: N802 (Jinja's name)
+    def visit_Concat(self, node: nodes.Concat, frame: Frame) -> None:
         self.write("environment.checked_text(")
         super().visit_Concat(node, frame)
         self.write(")")
@@ -237,7 +237,7 @@ class CappedSandbox(ImmutableSandboxedEnvironment):
             raise SecurityError("the product is too large")
         return result
 
-    def call(__self, __context: Context, __obj: Any, *args: Any, **kwargs: Any) -> Any:  # noqa: N805 (Jinja's)
+    def call(__self, __context: Context, __obj: Any, *args: Any, **kwargs: Any) -> Any:
         """Spend a step per call; refuse string methods that can build huge texts."""
         _budget().spend()
         owner = getattr(__obj, "__self__", None)
