@@ -23,7 +23,7 @@ from stetline.phrasing import HouseStyle
 from stetline.sandbox import CappedSandbox
 
 MAX_OUTPUT = 5_000
-MAX_TEXT = 20_000  # characters of a rewrite as typed (live fields included)
+MAX_TEXT = 10_000  # characters of a rewrite as typed (live fields included)
 
 
 class LiveFieldError(StetlineError):
