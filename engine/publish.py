@@ -67,11 +67,13 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
             if last is not None:
                 text, approval = last.text, last
                 evidence = (last.basis or {}).get("evidence") or evidence
-            warning = f"{v.slot.id} is in recheck; published with its " + ("last approved text" if last else "current text")
+            warning = f"{v.slot.id} is in recheck; published with its " + (
+                "last approved text" if last else "current text")
             warnings.append(warning)
         text_layer = next((x for x in v.layers if x.type in TEXT_LAYERS), None)
         status = v.draft.evidence.get("status", {}).get("value") or ""
-        caveat = f"The {v.draft.evidence.get('period', {}).get('shown', '')} figure is {status}." if status in ("provisional", "estimated") else None
+        period = v.draft.evidence.get("period", {}).get("shown", "")
+        caveat = f"The {period} figure is {status}." if status in ("provisional", "estimated") else None
         st = Statement(v.slot.id, v.slot.kind, v.slot.entity, v.slot.topic, v.slot.status, text,
                        [x.text or "" for x in v.layers if x.type == "annotate"], caveat, v.slot.interest, warning,
                        evidence, text_layer.by if text_layer is not None else None,
