@@ -15,17 +15,26 @@ from sqlalchemy.orm import Session
 
 from stetline import reconcile
 from stetline.accounts import authorize, check_two_person_rule
-from stetline.drafting import Draft as DraftText
 from stetline.errors import Conflict, NotFound, StetlineError
-from stetline.livefields import LiveFieldError, LiveFields
-from stetline.loading import house_style
+from stetline.livefields import MAX_TEXT, LiveFieldError, LiveFields, has_live_fields
 from stetline.printing import Printed, printed
-from stetline.reconcile import Basis, HumanWork, SlotState
+from stetline.reconcile import Basis
+from stetline.slotstatus import house_style, marked_unrenderable, render_error, restatus
 from stetline.status import STATUSES as STATUSES  # re-exported: the CLI and the web app list them from here
 from stetline.status import Reason, Status
 from stetline.store import ops
 from stetline.store.models import Approval, Draft, Layer, Slot, utcnow
 from stetline.timestamps import iso_time as iso_time  # re-exported: pages show times with it
+
+MAX_REWRITE = MAX_TEXT  # characters a rewrite may hold as typed (live fields included)
+MAX_NOTE = 10_000  # characters of a note
+
+
+def check_length(text: str, limit: int, what: str) -> None:
+    """Refuse a text longer than a limit, saying by how much."""
+    if len(text) > limit:
+        raise StetlineError(f"{what} may hold at most {limit:,} characters; this one has {len(text):,}. "
+                            "Shorten it (a statement is read in a few lines)")
 
 
 def _slot(session: Session, slot_id: str) -> tuple[Slot, Draft]:
@@ -43,11 +52,6 @@ def _check_version(slot: Slot, version: int | None) -> None:
             f"{slot.id} changed since you opened it (your version {version}, now {slot.version}); "
             "reload it and apply your change again"
         )
-
-
-def _as_text(draft: Draft) -> DraftText:
-    return DraftText(draft.slot_id, "", None, None, draft.text, draft.evidence, draft.claims, draft.interest,
-                     draft.phrasing)
 
 
 def _basis(draft: Draft) -> dict[str, Any]:
@@ -107,42 +111,48 @@ def _check_claims(slot_id: str, contradicted: list[dict[str, Any]], confirm: boo
 
 def published_text(session: Session, slot: Slot, draft: Draft, layers: list[Layer] | None = None,
                    live: LiveFields | None = None) -> str | None:
-    """The text that would be published now: the text layer (live fields rendered), else the draft."""
+    """The text that would be published now: the text layer (live fields rendered), else the draft.
+
+    A rewrite that cannot be rendered gives its text as written (see ``published``).
+    """
+    return published(session, slot, draft, layers, live)[0]
+
+
+def published(session: Session, slot: Slot, draft: Draft, layers: list[Layer] | None = None,
+              live: LiveFields | None = None) -> tuple[str | None, str | None]:
+    """The text that would be published now and, when its rewrite cannot be rendered, why."""
     if layers is None:
         layers = ops.active_layers(session, slot.id)
     if any(layer.type == "suppress" for layer in layers):
-        return None
+        return None, None
     text_layer = next((layer for layer in layers if layer.type in reconcile.TEXT_LAYERS), None)
     if text_layer is None or text_layer.text is None:
-        return draft.text
-    if text_layer.type == "rewrite":
-        live = live or LiveFields(house_style(session)[0])
-        try:
-            return live.render(text_layer.text, draft.evidence)
-        except LiveFieldError:
-            return text_layer.text
-    return text_layer.text
+        return draft.text, None
+    if text_layer.type != "rewrite":
+        return text_layer.text, None
+    known = marked_unrenderable(slot)
+    if known is not None:  # a known failure is not tried again on every page
+        return text_layer.text, known
+    live = live or LiveFields(house_style(session)[0])
+    try:
+        return live.render(text_layer.text, draft.evidence), None
+    except LiveFieldError as exc:
+        return text_layer.text, str(exc)
 
 
-def restatus(session: Session, slot: Slot, draft: Draft) -> None:
-    """Re-derive a slot's status and recheck from its human work and current draft."""
-    layers = ops.active_layers(session, slot.id)
-    approval = ops.active_approval(session, slot.id)
-    work = [HumanWork(x.id, x.type, x.text, x.base_text, Basis.from_json(x.basis)) for x in layers]
-    if approval is not None:
-        work.append(HumanWork(approval.id, "approval", approval.text, None, Basis.from_json(approval.basis)))
-    state = SlotState(slot.id, slot.digest, False, "", work)
-    if slot.gone:
-        if not work:
-            slot.status, slot.recheck, slot.severity = Status.DRAFT, None, 0
-        return
-    decision = reconcile.decide(state, _as_text(draft))
-    if decision is None:
-        slot.status = Status.DRAFT if not work else slot.status
-        return
-    slot.status = decision.status
-    slot.recheck = decision.recheck
-    slot.severity = decision.severity
+def stored_text(layers: list[Layer], draft: Draft) -> str | None:
+    """What the slot holds as written (no live field rendered): None when suppressed."""
+    if any(layer.type == "suppress" for layer in layers):
+        return None
+    text_layer = next((layer for layer in layers if layer.type in reconcile.TEXT_LAYERS), None)
+    return draft.text if text_layer is None or text_layer.text is None else text_layer.text
+
+
+def _refuse_unrenderable(session: Session, slot: Slot, draft: Draft, layers: list[Layer], what: str) -> None:
+    error = marked_unrenderable(slot) or render_error(LiveFields(house_style(session)[0]), layers, draft)
+    if error is not None:
+        raise StetlineError(f"the rewrite of {slot.id} cannot be rendered ({error}); edit or revert it before "
+                            f"you {what}")
 
 
 def _touch(slot: Slot) -> None:
@@ -150,8 +160,44 @@ def _touch(slot: Slot) -> None:
     slot.updated_at = utcnow()
 
 
+def layer_author(layer: Layer | None) -> str | None:
+    """Who wrote the words a text layer keeps (None: the machine's, or no layer)."""
+    if layer is None:
+        return None
+    if layer.author is None and layer.type == "rewrite":
+        return layer.by  # a rewrite's words are its writer's
+    return layer.author
+
+
 def _text_layer(session: Session, slot_id: str) -> Layer | None:
     return next((x for x in ops.active_layers(session, slot_id) if x.type in reconcile.TEXT_LAYERS), None)
+
+
+def _rendered(live: LiveFields, text: str, evidence: dict[str, Any]) -> str | None:
+    try:
+        return live.render(text, evidence)
+    except LiveFieldError:
+        return None
+
+
+def words_author(session: Session, slot_id: str, text: str, draft: Draft, by: str) -> str | None:
+    """Who wrote a text a person puts on a slot: whoever first wrote those words there, else ``by``.
+
+    A restored rewrite, a worksheet cell holding an earlier text, or a text copied from the
+    page keeps its author; the two-person rule asks this, not who clicked.
+    """
+    text = text.strip()
+    live: LiveFields | None = None
+    for layer in ops.text_layer_history(session, slot_id):
+        if layer.text is None:
+            continue
+        same = layer.text.strip() == text
+        if not same and layer.type == "rewrite" and has_live_fields(layer.text):
+            live = live or LiveFields(house_style(session)[0])
+            same = _rendered(live, layer.text, draft.evidence) == text
+        if same:
+            return layer_author(layer)
+    return by
 
 
 def _drop_approval(session: Session, slot_id: str, by: str) -> None:
@@ -165,15 +211,17 @@ def rewrite(session: Session, slot_id: str, text: str, *, by: str, version: int 
     text = text.strip()
     if not text:
         raise StetlineError("a rewrite cannot be empty; to leave the statement out, suppress it")
+    check_length(text, MAX_REWRITE, "a rewrite")
     authorize(session, by, "rewrite")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     LiveFields(house_style(session)[0]).render(text, draft.evidence)  # refuse template errors
     before = published_text(session, slot, draft)
+    author = words_author(session, slot_id, text, draft, by)
     old = _text_layer(session, slot_id)
     if old is not None:
         ops.drop(session, old, by)
-    ops.add_layer(session, slot_id, "rewrite", text, draft.text, _basis(draft), by)
+    ops.add_layer(session, slot_id, "rewrite", text, draft.text, _basis(draft), by).author = author
     _drop_approval(session, slot_id, by)
     session.flush()
     restatus(session, slot, draft)
@@ -187,13 +235,15 @@ def pin(session: Session, slot_id: str, *, by: str, version: int | None = None) 
     authorize(session, by, "pin")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
+    _refuse_unrenderable(session, slot, draft, ops.active_layers(session, slot_id), "pin it")
     before = published_text(session, slot, draft)
     if before is None:
         raise StetlineError(f"{slot_id} is suppressed; lift the suppression before pinning")
     old = _text_layer(session, slot_id)
     if old is not None:
         ops.drop(session, old, by)
-    ops.add_layer(session, slot_id, "pin", before, draft.text, _basis(draft), by)
+    # a pin keeps the words of the text it is put on: the machine's, or the layer's author's
+    ops.add_layer(session, slot_id, "pin", before, draft.text, _basis(draft), by).author = layer_author(old)
     session.flush()
     restatus(session, slot, draft)
     _touch(slot)
@@ -206,12 +256,13 @@ def annotate(session: Session, slot_id: str, text: str, *, by: str, version: int
     text = text.strip()
     if not text:
         raise StetlineError("a note cannot be empty")
+    check_length(text, MAX_NOTE, "a note")
     authorize(session, by, "annotate")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     ops.add_layer(session, slot_id, "annotate", text, draft.text, _basis(draft), by)
     session.flush()
-    restatus(session, slot, draft)
+    restatus(session, slot, draft, LiveFields(house_style(session)[0]), by)
     _touch(slot)
     ops.add_event(session, by, "annotate", slot_id, after=text)
     return slot
@@ -222,8 +273,9 @@ def suppress(session: Session, slot_id: str, *, by: str, lift: bool = False, ver
     authorize(session, by, "suppress")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
-    current = [x for x in ops.active_layers(session, slot_id) if x.type == "suppress"]
-    before = published_text(session, slot, draft)
+    layers = ops.active_layers(session, slot_id)
+    current = [x for x in layers if x.type == "suppress"]
+    before = stored_text(layers, draft)  # never rendered: a broken rewrite can always be suppressed
     if lift:
         if not current:
             raise StetlineError(f"{slot_id} is not suppressed")
@@ -237,7 +289,7 @@ def suppress(session: Session, slot_id: str, *, by: str, lift: bool = False, ver
     restatus(session, slot, draft)
     _touch(slot)
     ops.add_event(session, by, "unsuppress" if lift else "suppress", slot_id, before=before,
-                  after=published_text(session, slot, draft))
+                  after=stored_text(ops.active_layers(session, slot_id), draft))
     return slot
 
 
@@ -249,7 +301,7 @@ def revert(session: Session, slot_id: str, *, by: str, version: int | None = Non
     layer = _text_layer(session, slot_id)
     if layer is None:
         raise StetlineError(f"{slot_id} has no rewrite or pin to revert")
-    before = published_text(session, slot, draft)
+    before = layer.text  # as written, never rendered: a broken rewrite can always be reverted
     ops.drop(session, layer, by)
     _drop_approval(session, slot_id, by)
     session.flush()
@@ -281,10 +333,11 @@ def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = 
         raise StetlineError(
             f"the proposed text of {slot_id} has a conflict; edit it (stetline rewrite) before approving"
         )
+    if not accept_proposed:
+        _refuse_unrenderable(session, slot, draft, layers, "approve it")
     contradicted = contradicted_claims(slot, draft, layers, ops.active_approval(session, slot_id))
     _check_claims(slot_id, contradicted, confirm_claims)
-    author = next((x.by for x in layers if x.type == "rewrite"), None)
-    check_two_person_rule(session, by, author)
+    check_two_person_rule(session, by, layer_author(next((x for x in layers if x.type in reconcile.TEXT_LAYERS), None)))
     before = published_text(session, slot, draft, layers)
     detail: dict[str, Any] = {"reasons": list(recheck.get("reasons", []))}
     if contradicted:
@@ -295,8 +348,11 @@ def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = 
         if text_layer is not None:  # the text stays its author's; the event and approval name the approver
             ops.drop(session, text_layer, by)
             new_type = "pin" if text_layer.type == "pin" else "rewrite"
-            ops.add_layer(session, slot_id, new_type, proposed, draft.text, _basis(draft), text_layer.by)
-            detail["author"] = text_layer.by
+            # the proposal merges the layer's words with the new draft's: they stay the author's
+            author = layer_author(text_layer)
+            ops.add_layer(session, slot_id, new_type, proposed, draft.text, _basis(draft), text_layer.by).author = \
+                author
+            detail["author"] = author
         action = "accept"
     for layer in layers:
         if layer.dropped_at is None:
@@ -332,7 +388,7 @@ class SlotView:
     def to_json(self, session: Session, live: LiveFields | None = None) -> dict[str, Any]:
         """The slot as DESIGN's JSON contract gives it (``text``: what the next publication prints)."""
         live = live or LiveFields(house_style(session)[0])
-        current = published_text(session, self.slot, self.draft, self.layers, live)
+        current, render_problem = published(session, self.slot, self.draft, self.layers, live)
         shown = printed(self.slot, self.draft, self.layers, self.approval, current, live)
         text_layer = next((x for x in self.layers if x.type in reconcile.TEXT_LAYERS), None)
         suppressed = any(x.type == "suppress" for x in self.layers)
@@ -354,6 +410,7 @@ class SlotView:
             "text": shown.text,
             "printed": {"source": shown.source, "reason": shown.reason, "notes": shown.notes},
             "current": current,
+            "render_error": render_problem,
             "draft": self.draft.text,
             "layer": None if text_layer is None else {
                 "type": text_layer.type, "text": text_layer.text, "by": text_layer.by, "at": iso_time(text_layer.at),

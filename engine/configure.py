@@ -14,6 +14,7 @@ from sqlalchemy.orm import Session
 from stetline import settings as settings_mod
 from stetline.accounts import authorize
 from stetline.errors import StetlineError
+from stetline.slotstatus import recheck_unrenderable
 from stetline.store import ops
 
 MAX_TEXT = 300
@@ -65,6 +66,9 @@ def save(session: Session, submitted: dict[str, str], *, by: str) -> list[Settin
     for c in changes:
         ops.put_setting(session, c.key, c.new)
         ops.add_event(session, by, "setting", detail={"key": c.key, "old": c.old, "new": c.new})
+    if changes:
+        session.flush()
+        recheck_unrenderable(session, by=by)  # a style change can send a rewrite's live fields down a failing branch
     return changes
 
 

@@ -3,23 +3,22 @@
 Everything is checked before anything is written: the caller gets a :class:`Dataset` or a
 :class:`~stetline.errors.ValidationError` listing every problem with its file, row and column.
 Rows are numbered as a spreadsheet shows them: the header is row 1, the first data row is row 2.
-This module reads files and returns frames; it never touches the database.
+Reading the files (CSV, XLSX, with their size checks) is ``stetline.inputfiles``; this module
+checks what was read and returns frames; it never touches the database.
 """
 
 from __future__ import annotations
 
 import difflib
-import io
-import zipfile
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import IO
 
 import pandas as pd
 
 from stetline import periods
 from stetline.errors import Problem, ValidationError
+from stetline.inputfiles import Source, Table, read_tables
 
 OBSERVATION_COLUMNS = ("entity", "topic", "period", "value")
 OBSERVATION_OPTIONAL = ("margin", "status")
@@ -35,7 +34,6 @@ MAX_DECIMALS = 6
 MAX_SHOWN = 20  # how many bad values of one kind a message lists
 FORMULA_PREFIXES = ("=", "+", "@")
 
-Source = str | Path | IO[bytes]
 
 
 @dataclass
@@ -61,97 +59,7 @@ class Dataset:
         return str(self.observations.at[idx, "period"])
 
 
-@dataclass
-class _Table:
-    """One input table as read: every cell a string, with its display name for messages."""
-
-    name: str
-    frame: pd.DataFrame
-
-
-def _display_name(source: Source, sheet: str | None = None) -> str:
-    base = Path(source).name if isinstance(source, (str, Path)) else getattr(source, "name", "upload")
-    base = Path(str(base)).name
-    return f"{base} [{sheet}]" if sheet else base
-
-
-def _read_bytes(source: Source) -> bytes:
-    if isinstance(source, (str, Path)):
-        return Path(source).read_bytes()
-    data = source.read()
-    return data if isinstance(data, bytes) else str(data).encode("utf-8")
-
-
-def _is_xlsx(source: Source, data: bytes) -> bool:
-    if isinstance(source, (str, Path)) and str(source).lower().endswith((".xlsx", ".xlsm")):
-        return True
-    return data[:4] == b"PK\x03\x04"
-
-
-def _read_csv(name: str, data: bytes) -> _Table:
-    if not data.strip(b"\xef\xbb\xbf \t\r\n"):
-        raise ValidationError([Problem(name, None, None, "the file is empty")])
-    try:
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = data[: exc.start].count(b"\n") + 1
-        raise ValidationError([Problem(
-            name, line, None,
-            f"the file is not UTF-8 text (byte 0x{data[exc.start]:02x}); save it as UTF-8 CSV",
-        )]) from None
-    if "\x00" in text:
-        raise ValidationError([Problem(name, None, None, "the file holds NUL bytes: it is not a CSV file")])
-    try:
-        frame = pd.read_csv(
-            io.StringIO(text), dtype="str", keep_default_na=False, na_values=[],
-            skip_blank_lines=False, skipinitialspace=False,
-        )
-    except pd.errors.EmptyDataError:
-        raise ValidationError([Problem(name, None, None, "the file is empty")]) from None
-    except (pd.errors.ParserError, ValueError, OverflowError) as exc:
-        raise ValidationError([Problem(name, None, None, f"the file is not valid CSV: {_short(exc)}")]) from None
-    if not isinstance(frame.index, pd.RangeIndex):
-        # pandas takes the first column as an index when the first data row has one field too many
-        raise ValidationError([Problem(
-            name, 2, None,
-            f"the row has {len(frame.columns) + 1} fields but the header has {len(frame.columns)} "
-            "(an unquoted comma in a value?)",
-        )])
-    # drop blank lines but keep the index, so reported rows match the file's lines
-    frame = frame.loc[~(frame.fillna("").astype("str") == "").all(axis=1)]
-    return _Table(name, frame)
-
-
-def _short(exc: Exception) -> str:
-    text = " ".join(str(exc).split())
-    text = text.replace("Error tokenizing data. C error: ", "")
-    return text[:200]
-
-
-def _read_xlsx_sheets(name: str, data: bytes) -> dict[str, pd.DataFrame]:
-    try:
-        sheets = pd.read_excel(
-            io.BytesIO(data), sheet_name=None, dtype="str", keep_default_na=False,
-            na_values=[], engine="openpyxl",
-        )
-    except (zipfile.BadZipFile, KeyError, OSError, ValueError, TypeError) as exc:
-        raise ValidationError([Problem(name, None, None, f"the workbook cannot be read: {_short(exc)}")]) from None
-    except Exception as exc:  # openpyxl raises many kinds on damaged files
-        raise ValidationError([Problem(name, None, None, f"the workbook cannot be read: {_short(exc)}")]) from None
-    return {str(k): v.fillna("").astype("str") for k, v in sheets.items()}
-
-
-def _pick_sheet(name: str, sheets: dict[str, pd.DataFrame], wanted: str, first: bool) -> _Table | None:
-    for sheet, frame in sheets.items():
-        if sheet.strip().lower() == wanted:
-            return _Table(f"{name} [{sheet}]", frame)
-    if first and sheets:
-        sheet, frame = next(iter(sheets.items()))
-        return _Table(f"{name} [{sheet}]", frame)
-    return None
-
-
-def _check_columns(table: _Table, required: Iterable[str], optional: Iterable[str]) -> list[Problem]:
+def _check_columns(table: Table, required: Iterable[str], optional: Iterable[str]) -> list[Problem]:
     required, optional = tuple(required), tuple(optional)
     frame = table.frame
     frame.columns = [str(c).strip().lstrip("\ufeff") for c in frame.columns]
@@ -183,7 +91,7 @@ def _rows(frame: pd.DataFrame, mask: pd.Series) -> list[int]:
     return [int(i) + 2 for i in frame.index[mask.to_numpy()][:MAX_SHOWN]]
 
 
-def _bad_cells(table: _Table, column: str, mask: pd.Series, what: str) -> list[Problem]:
+def _bad_cells(table: Table, column: str, mask: pd.Series, what: str) -> list[Problem]:
     frame = table.frame
     hits = frame.index[mask.to_numpy()]
     problems = [
@@ -200,7 +108,7 @@ def _quote(value: object) -> str:
     return repr(text if len(text) <= 40 else text[:40] + "…")
 
 
-def _numeric(table: _Table, column: str, allow_empty: bool, what: str) -> tuple[pd.Series, list[Problem]]:
+def _numeric(table: Table, column: str, allow_empty: bool, what: str) -> tuple[pd.Series, list[Problem]]:
     raw = table.frame[column].astype("str").str.strip()
     empty = raw == ""
     values = pd.to_numeric(raw.where(~empty, None), errors="coerce").astype("float64")
@@ -211,7 +119,7 @@ def _numeric(table: _Table, column: str, allow_empty: bool, what: str) -> tuple[
     return values.where(~bad), problems
 
 
-def _keys(table: _Table, column: str) -> list[Problem]:
+def _keys(table: Table, column: str) -> list[Problem]:
     keys = table.frame[column].astype("str")
     problems = _bad_cells(table, column, keys.str.strip() == "", "the key is empty")
     problems += _bad_cells(table, column, keys.str.contains("/", regex=False), "a key may not contain '/'")
@@ -223,20 +131,21 @@ def _keys(table: _Table, column: str) -> list[Problem]:
     return problems
 
 
-def _duplicates(table: _Table, columns: list[str], what: str) -> list[Problem]:
+def _duplicates(table: Table, columns: list[str], what: str) -> list[Problem]:
     frame = table.frame
     dup = frame.duplicated(subset=columns, keep="first")
     problems = []
     for i in frame.index[dup.to_numpy()][:MAX_SHOWN]:
         key = ", ".join(f"{c}={frame.at[i, c]!r}" for c in columns)
         first = frame.index[(frame[columns] == frame.loc[i, columns]).all(axis=1).to_numpy()][0]
-        problems.append(Problem(table.name, int(i) + 2, None, f"duplicate {what} ({key}); first at row {int(first) + 2}"))
+        problems.append(Problem(table.name, int(i) + 2, None,
+                                f"duplicate {what} ({key}); first at row {int(first) + 2}"))
     if int(dup.sum()) > MAX_SHOWN:
         problems.append(Problem(table.name, None, None, f"… and {int(dup.sum()) - MAX_SHOWN} more duplicate rows"))
     return problems
 
 
-def _parse_observations(table: _Table) -> tuple[pd.DataFrame | None, str, list[Problem]]:
+def _parse_observations(table: Table) -> tuple[pd.DataFrame | None, str, list[Problem]]:
     problems = _check_columns(table, OBSERVATION_COLUMNS, OBSERVATION_OPTIONAL)
     if problems:
         return None, "", problems
@@ -292,7 +201,7 @@ def _parse_observations(table: _Table) -> tuple[pd.DataFrame | None, str, list[P
     return out, chosen, []
 
 
-def _parse_topics(table: _Table) -> tuple[pd.DataFrame | None, list[Problem]]:
+def _parse_topics(table: Table) -> tuple[pd.DataFrame | None, list[Problem]]:
     problems = _check_columns(table, TOPIC_COLUMNS, TOPIC_OPTIONAL)
     if problems:
         return None, problems
@@ -336,7 +245,7 @@ def _parse_topics(table: _Table) -> tuple[pd.DataFrame | None, list[Problem]]:
     return out, []
 
 
-def _parse_entities(table: _Table) -> tuple[pd.DataFrame | None, list[Problem]]:
+def _parse_entities(table: Table) -> tuple[pd.DataFrame | None, list[Problem]]:
     problems = _check_columns(table, ENTITY_COLUMNS, ENTITY_OPTIONAL)
     if problems:
         return None, problems
@@ -380,40 +289,10 @@ def _percent_range(obs: pd.DataFrame, topics: pd.DataFrame, file: str) -> list[P
     pct = set(topics.loc[topics["unit"] == PERCENT, "topic"])
     bad = obs["topic"].isin(pct) & ((obs["value"] < 0) | (obs["value"] > 100))
     return [
-        Problem(file, int(r.row), "value", f"topic {r.topic!r} is in percent, so its values lie from 0 to 100: {r.value:g}")
+        Problem(file, int(r.row), "value",
+                f"topic {r.topic!r} is in percent, so its values lie from 0 to 100: {r.value:g}")
         for r in obs.loc[bad].head(MAX_SHOWN).itertuples()
     ]
-
-
-def _read_tables(
-    observations: Source, topics: Source | None, entities: Source | None,
-) -> tuple[_Table, _Table | None, _Table | None, list[str]]:
-    data = _read_bytes(observations)
-    name = _display_name(observations)
-    files = [name]
-    if _is_xlsx(observations, data):
-        sheets = _read_xlsx_sheets(name, data)
-        obs_t = _pick_sheet(name, sheets, "observations", first=True)
-        assert obs_t is not None
-        topics_t = _pick_sheet(name, sheets, "topics", first=False) if topics is None else None
-        entities_t = _pick_sheet(name, sheets, "entities", first=False) if entities is None else None
-    else:
-        obs_t, topics_t, entities_t = _read_csv(name, data), None, None
-    for source, slot in ((topics, "topics"), (entities, "entities")):
-        if source is None:
-            continue
-        raw = _read_bytes(source)
-        sub = _display_name(source)
-        files.append(sub)
-        if _is_xlsx(source, raw):
-            table = _pick_sheet(sub, _read_xlsx_sheets(sub, raw), slot, first=True)
-        else:
-            table = _read_csv(sub, raw)
-        if slot == "topics":
-            topics_t = table
-        else:
-            entities_t = table
-    return obs_t, topics_t, entities_t, files
 
 
 def load_dataset(
@@ -433,7 +312,7 @@ def load_dataset(
     """
     problems: list[Problem] = []
     try:
-        obs_t, topics_t, entities_t, files = _read_tables(observations, topics, entities)
+        obs_t, topics_t, entities_t, files = read_tables(observations, topics, entities)
     except ValidationError:
         raise
     except FileNotFoundError as exc:
@@ -453,12 +332,14 @@ def load_dataset(
     merged_entities = _merge(known_entities, entity_frame, "entity")
     if obs is not None and not problems:
         if merged_topics is None:
-            problems.append(Problem(obs_t.name, None, "topic", "no topic metadata: give a topics file on the first load"))
+            problems.append(Problem(obs_t.name, None, "topic",
+                                    "no topic metadata: give a topics file on the first load"))
         else:
             problems += _unknown_keys(obs, "topic", merged_topics["topic"], obs_t.name, "topic")
             problems += _percent_range(obs, merged_topics, obs_t.name)
         if merged_entities is None:
-            problems.append(Problem(obs_t.name, None, "entity", "no entity metadata: give an entities file on the first load"))
+            problems.append(Problem(obs_t.name, None, "entity",
+                                    "no entity metadata: give an entities file on the first load"))
         else:
             problems += _unknown_keys(obs, "entity", merged_entities["entity"], obs_t.name, "entity")
     if problems or obs is None:

@@ -220,13 +220,13 @@ class Renderer:
         self._sandbox: jinja2.Environment | None = None
         self._workspace_dir = workspace_dir
         if workspace_dir is not None and workspace_dir.is_dir():
-            from stetline.livefields import CappedSandbox  # caps * and ** as live fields do
+            from stetline.sandbox import CappedSandbox  # caps the work of each render
 
             self._sandbox = CappedSandbox(
                 loader=jinja2.FileSystemLoader(str(workspace_dir)), autoescape=False,
                 undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True,
             )
-            self._sandbox.filters.update(filters)
+            self._sandbox.add_filters(filters)
         self._cache: dict[str, jinja2.Template] = {}
 
     def template(self, kind: str) -> jinja2.Template:

@@ -2,19 +2,24 @@
 
 The built-in layouts live in ``engine/layouts``; ``stetline layout copy NAME`` puts one in the
 workspace's ``layouts/`` folder, where it takes precedence. Layouts render in the capped
-sandbox; the HTML layout escapes every value.
+sandbox; the HTML layout escapes every value. The Markdown layout keeps Markdown (emphasis,
+links to web addresses) but turns raw HTML in any value (names, labels, units, edition labels,
+rewrites, notes) into visible text, and breaks links to anything but http, https and mailto, so
+a static site that renders the file shows no markup that came from the data or a rewrite.
 """
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 from typing import Any
 
 import jinja2
+from markupsafe import Markup
 
 from stetline.errors import StetlineError
-from stetline.livefields import CappedSandbox
 from stetline.publication import CAUTION, RECHECK_MARK, WAITING_HEADING, WAITING_INTRO, Publication
+from stetline.sandbox import CappedSandbox
 
 BUILTIN = Path(__file__).parent / "layouts"
 LAYOUTS = ("md", "html")
@@ -44,10 +49,28 @@ def context(pub: Publication) -> dict[str, Any]:
             "waiting_heading": WAITING_HEADING, "waiting_intro": WAITING_INTRO}
 
 
+# a Markdown link or image target: ](target   — allowed when it is a web or mail address
+LINK_TARGET = re.compile(r"\]\(\s*<?(?!https?://|mailto:|#)(?=[a-z][a-z0-9+.-]*:)", re.IGNORECASE)
+
+
+def markdown_safe(text: str) -> str:
+    """A value as Markdown a static site may render: raw HTML shown as text, odd link schemes broken."""
+    text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+    return LINK_TARGET.sub("]\\(", text)
+
+
+def _markdown_value(value: Any) -> Any:
+    if value is None or isinstance(value, Markup):  # the layout's own text stays as written
+        return value
+    return markdown_safe(str(value))
+
+
 def _environment(folder: Path, name: str) -> jinja2.Environment:
+    extra: dict[str, Any] = {"finalize": _markdown_value} if name == "md" else {}
     return CappedSandbox(
-        loader=jinja2.FileSystemLoader(str(folder)), autoescape=(name == "html"),
+        loader=jinja2.FileSystemLoader(str(folder)), autoescape=(name == "html"), **extra,
         undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True,
+        steps=None, printed=None, seconds=None,  # a layout prints every statement: capped in size only
     )
 
 

@@ -3,25 +3,27 @@
 A rewrite may embed any fact of its slot's evidence by name; it shows as the fact is shown
 (``{{ value }}`` → "45.2%"). Filters reformat the raw value: ``number(d)``, ``percent(d)``,
 ``points(d)``, ``relative``, ``ordinal``, ``count``. The text renders in Jinja2's immutable
-sandbox with strict undefined names, no ``*`` on strings, no ``**``, and a cap on output length.
+sandbox with strict undefined names (``stetline.sandbox``: no ``*`` on strings, no ``**``, and
+every render capped in steps, size and time) and a cap on output length. Rendering never raises
+anything but ``LiveFieldError``: whatever goes wrong becomes its message.
 """
 
 from __future__ import annotations
 
-import operator
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
 import jinja2
-from jinja2.sandbox import ImmutableSandboxedEnvironment, SecurityError
+from jinja2.sandbox import SecurityError
 
 from stetline import phrasing
 from stetline.errors import StetlineError
 from stetline.phrasing import HouseStyle
+from stetline.sandbox import CappedSandbox
 
 MAX_OUTPUT = 5_000
-MAX_PRODUCT = 10**9
+MAX_TEXT = 10_000  # characters of a rewrite as typed (live fields included)
 
 
 class LiveFieldError(StetlineError):
@@ -50,22 +52,6 @@ def _number_arg(x: Any) -> float:
     return float(raw)
 
 
-class CappedSandbox(ImmutableSandboxedEnvironment):
-    """Jinja2's immutable sandbox with ``**`` refused and ``*`` limited to modest numbers."""
-
-    intercepted_binops = frozenset(["*", "**"])
-
-    def call_binop(self, context: Any, operator_name: str, left: Any, right: Any) -> Any:
-        if operator_name == "**":
-            raise SecurityError("the ** operator is not allowed in live fields")
-        if isinstance(left, (str, list, tuple)) or isinstance(right, (str, list, tuple)):
-            raise SecurityError("repeating text with * is not allowed in live fields")
-        result = operator.mul(_raw(left), _raw(right))
-        if isinstance(result, (int, float)) and abs(result) > MAX_PRODUCT:
-            raise SecurityError("the product is too large for a live field")
-        return result
-
-
 def _filters(style: HouseStyle) -> dict[str, Callable[..., Any]]:
     return {
         "number": lambda x, d=0: phrasing.number(_number_arg(x), int(d), style),
@@ -92,7 +78,8 @@ class LiveFields:
 
     def __init__(self, style: HouseStyle) -> None:
         self.env = CappedSandbox(undefined=jinja2.StrictUndefined, autoescape=False)
-        self.env.filters = dict(_filters(style))
+        self.env.filters = {k: v for k, v in self.env.filters.items() if k.startswith("stetline ")}
+        self.env.add_filters(_filters(style))
         self._cache: dict[str, jinja2.Template] = {}
 
     def render(self, text: str, evidence: dict[str, dict[str, Any]]) -> str:
@@ -111,8 +98,16 @@ class LiveFields:
             raise LiveFieldError(f"live field syntax error on line {exc.lineno}: {exc.message}") from None
         except SecurityError as exc:
             raise LiveFieldError(f"refused in a live field: {exc}") from None
-        except (TypeError, ValueError, ZeroDivisionError, OverflowError) as exc:
+        except LiveFieldError:
+            raise
+        except (TypeError, ValueError, ZeroDivisionError, OverflowError, jinja2.TemplateError) as exc:
             raise LiveFieldError(f"live field error: {exc}") from None
+        except RecursionError:
+            raise LiveFieldError("refused in a live field: it calls itself too deeply") from None
+        except MemoryError:
+            raise LiveFieldError("refused in a live field: it needs too much memory") from None
+        except Exception as exc:  # a rendering must never take a page or a command down
+            raise LiveFieldError(f"live field error: {type(exc).__name__}: {exc}") from None
         if len(out) > MAX_OUTPUT:
             raise LiveFieldError(f"the rendered text is longer than {MAX_OUTPUT} characters")
         return out

@@ -23,15 +23,15 @@ from typing import Any
 import pandas as pd
 from sqlalchemy.orm import Session
 
-from stetline import settings as settings_mod
 from stetline.accounts import authorize
 from stetline.dataset import Dataset, Source, load_dataset
 from stetline.drafting import Context, Draft, Renderer, draft_all
 from stetline.errors import StetlineError
 from stetline.facts import compute_facts
 from stetline.kinds import KINDS
-from stetline.phrasing import HouseStyle
 from stetline.reconcile import REASONS, Decision, SlotState, reconcile
+from stetline.slotstatus import house_style, recheck_unrenderable
+from stetline.status import Reason
 from stetline.store import ops
 from stetline.store.models import Edition
 from stetline.workspace import Workspace
@@ -114,16 +114,6 @@ def _gc_paused() -> Iterator[None]:
             _gc_pauses -= 1
             if _gc_pauses == 0 and _gc_was_enabled:
                 gc.enable()
-
-
-def house_style(session: Session) -> tuple[HouseStyle, dict[str, Any]]:
-    """The workspace's house style and all its settings."""
-    values = settings_mod.with_defaults(ops.get_settings(session))
-    style = HouseStyle(
-        locale=values["locale"], serial_comma=bool(values["serial_comma"]),
-        percent_word=values["percent_word"], small_numbers_in_words=bool(values["small_numbers_in_words"]),
-    )
-    return style, values
 
 
 def _label(session: Session, requested: str | None, dataset: Dataset) -> str:
@@ -300,6 +290,7 @@ def load_edition(
         ops.replace_metadata(session, dataset.topics, dataset.entities)
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
         del decisions, by_slot, states  # the drafts are written: free them before the observations
+        _count_unrenderable(summary, recheck_unrenderable(session, by=by))
         written = ops.store_observations(session, edition.id, dataset.observations, stored)
         summary.observations_written = written["inserted"]
         session.flush()
@@ -307,6 +298,12 @@ def load_edition(
         edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs}
         ops.add_event(session, by, "load", edition_id=edition.id, detail=summary.to_json())
     return summary
+
+
+def _count_unrenderable(summary: LoadSummary, slots: list[str]) -> None:
+    if slots:
+        summary.recheck[Reason.RENDER_FAILED] = summary.recheck.get(Reason.RENDER_FAILED, 0) + len(slots)
+        summary.sent_to_recheck += len(slots)
 
 
 def _reconcile_as_drafted(
@@ -371,6 +368,7 @@ def redraft(ws: Workspace, *, by: str) -> LoadSummary:
         summary = LoadSummary(edition.label)
         _summarise(summary, decisions, by_slot.keys(), states)
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
+        _count_unrenderable(summary, recheck_unrenderable(session, by=by))
         session.flush()
         summary.totals = ops.workspace_counts(session).totals()
         edition.summary = {**(edition.summary or {}), DRAFTED_FROM: inputs}

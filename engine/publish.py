@@ -20,8 +20,8 @@ from stetline import settings as settings_mod
 from stetline.actions import views
 from stetline.errors import StetlineError
 from stetline.livefields import LiveFields
-from stetline.loading import house_style
 from stetline.publication import Publication, Statement
+from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.store import ops
 
 
@@ -118,6 +118,7 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
     from stetline.accounts import authorize
 
     authorize(session, by, "publish")
+    recheck_unrenderable(session, by=by)  # a rewrite that no longer renders waits in recheck
     pub = gather(session, sections=sections, allow_recheck=allow_recheck, require_approval=require_approval)
     untraced = untraced_numbers(session)
     if untraced and settings_mod.with_defaults(ops.get_settings(session))["untraced_numbers"] == "refuse":

@@ -4,6 +4,11 @@ base = the draft the editor started from, theirs = the new draft, mine = the edi
 Edits from base to theirs are applied where the editor left the text untouched; where both
 changed the same region differently, the result marks a conflict showing both sides and is not
 clean. Nothing is resolved silently.
+
+Matching is roughly quadratic in the number of words, so both are bounded: past
+``MAX_DIFF_WORK`` (tokens of one text times tokens of the other) a diff compares whole lines,
+and past that again it shows the old text removed and the new one added; a merge that large
+takes the one side that changed, or marks the whole text as one conflict.
 """
 
 from __future__ import annotations
@@ -17,6 +22,7 @@ TOKEN = re.compile(r"\s+|[£$€]?(?:\d{1,3}(?:,\d{3})+|\d+)(?:\.\d+)?%?|[\w'’
 CONFLICT_OPEN = "[[conflict: yours «"
 CONFLICT_MID = "» / new draft «"
 CONFLICT_CLOSE = "»]]"
+MAX_DIFF_WORK = 400_000  # tokens x tokens: some 300 words each way, a few hundredths of a second
 
 
 @dataclass
@@ -45,6 +51,13 @@ def _matches(a: list[str], b: list[str]) -> dict[int, int]:
 def merge3(base: str, mine: str, theirs: str) -> Merge:
     """Merge the editor's changes (base → mine) with the new draft's (base → theirs)."""
     b, m, t = tokens(base), tokens(mine), tokens(theirs)
+    if len(b) * max(len(m), len(t)) > MAX_DIFF_WORK:  # too long to match word by word
+        if mine == base or mine == theirs:
+            return Merge(theirs, True)
+        if theirs == base:
+            return Merge(mine, True)
+        yours, new = mine.strip(), theirs.strip()
+        return Merge(f"{CONFLICT_OPEN}{yours}{CONFLICT_MID}{new}{CONFLICT_CLOSE}", False, [(yours, new)])
     to_mine, to_theirs = _matches(b, m), _matches(b, t)
     out: list[str] = []
     conflicts: list[tuple[str, str]] = []
@@ -82,6 +95,10 @@ def merge3(base: str, mine: str, theirs: str) -> Merge:
 def word_diff(old: str, new: str) -> list[tuple[str, str]]:
     """A word-level diff as (op, text) pairs, op one of 'same', 'del', 'add'."""
     a, b = tokens(old), tokens(new)
+    if len(a) * len(b) > MAX_DIFF_WORK:  # too long to match word by word: whole lines, else none
+        a, b = old.splitlines(keepends=True), new.splitlines(keepends=True)
+        if len(a) * len(b) > MAX_DIFF_WORK or len(a) < 2 and len(b) < 2:
+            return [(op, text) for op, text in (("del", old), ("add", new)) if text] if old != new else [("same", old)]
     ops: list[tuple[str, str]] = []
     for tag, i1, i2, j1, j2 in difflib.SequenceMatcher(None, a, b, autojunk=False).get_opcodes():
         if tag == "equal":

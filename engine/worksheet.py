@@ -7,6 +7,7 @@ cell is written as text, so nothing a spreadsheet would read as a formula is eve
 
 from __future__ import annotations
 
+import io
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -16,6 +17,7 @@ from sqlalchemy.orm import Session
 
 from stetline import actions
 from stetline.errors import Conflict, Problem, StetlineError, ValidationError
+from stetline.inputfiles import check_workbook
 from stetline.store import ops
 
 COLUMNS = ("slot", "entity", "topic", "kind", "status", "current text", "draft", "new text", "version")
@@ -69,7 +71,12 @@ def _unquote(text: str) -> str:
 def apply_worksheet(session: Session, path: Path, *, by: str) -> Applied:
     """Turn every filled "new text" into a rewrite; refuse rows whose slot changed since."""
     try:
-        wb = load_workbook(path, read_only=True, data_only=True)
+        data = path.read_bytes()
+    except OSError as exc:
+        raise ValidationError([Problem(path.name, None, None, f"the workbook cannot be read: {exc}")]) from None
+    check_workbook(path.name, data)  # refuse a decompression bomb before openpyxl expands it
+    try:
+        wb = load_workbook(io.BytesIO(data), read_only=True, data_only=True)
     except Exception as exc:  # openpyxl raises many kinds on damaged files
         raise ValidationError([Problem(path.name, None, None, f"the workbook cannot be read: {exc}")]) from None
     sheet = wb["statements"] if "statements" in wb.sheetnames else wb.worksheets[0]

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import csv
 import hashlib
+import html as html_mod
 import json
 import re
 import shutil
@@ -50,8 +51,9 @@ def published(demo_template: Path, tmp_path_factory: pytest.TempPathFactory) -> 
 # -- independent readers ---------------------------------------------------------------------
 
 def read_md(path: Path) -> dict[str, Any]:
+    """The Markdown file's texts as a reader sees them once rendered (character references read)."""
     statements, notes, footnotes, refs = [], [], [], []
-    for line in path.read_text(encoding="utf-8").splitlines():
+    for line in html_mod.unescape(path.read_text(encoding="utf-8")).splitlines():
         if not line or line.startswith(("#", "Edition ", "Sources: ")):
             continue
         if line.startswith("> **Note:** "):

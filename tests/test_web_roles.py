@@ -3,11 +3,12 @@ well-formed request sent straight to the route (no form rendered first, as a cra
 would be).
 
 A role the permission table allows sees the action take effect; any other role gets a 403 page
-naming its role and the roles the action needs, and the workspace is exactly as it was. Routes
-that read or only concern the signer themselves (signing in and out, the acting name, the
-rewrite preview, the bulk confirmation page) are open to every role and change nothing in the
-workspace. The matrix is checked against the app's URL map, so a new POST route fails here
-until it is added. Also here: CSRF tokens with accounts, and the session cookie's flags.
+naming its role and the roles the action needs, and the workspace is exactly as it was. The
+rewrite preview renders a person's template, so it needs the rewrite permission. Routes that
+read or only concern the signer themselves (signing in and out, the acting name, the bulk
+confirmation page) are open to every role and change nothing in the workspace. The matrix is
+checked against the app's URL map, so a new POST route fails here until it is added. Also
+here: CSRF tokens with accounts, and the session cookie's flags.
 """
 
 from __future__ import annotations
@@ -346,16 +347,17 @@ ROUTES: tuple[Route, ...] = (
     Route("settings", "settings.save", "/settings", "settings",
           lambda ws, _a, _r: settings_form(ws, title="Kestrel Sound scorecard, second edition"), settings_saved),
     Route("redraft", "settings.redraft", "/settings/redraft", "redraft", lambda _ws, _a, _r: {}, event_on("redraft")),
+    Route("preview", "statement.preview", f"/statements/{PLAIN}/preview", "rewrite",
+          lambda _ws, _a, _r: {"text": "Cairnbrook recycles {{ value }}."}, previewed),
     # open to every role: they read, or concern only the signer's own session
     Route("login", "auth.login", "/login", None,
           lambda ws, _a, role: {"name": role, "password": demo.demo_passwords(ws.path)[role]}, unchanged,
           signed_in=False),
     Route("logout", "auth.logout", "/logout", None, lambda _ws, _a, _r: {}, signed_out),
     Route("name", "statement.name", "/name", None, lambda _ws, _a, _r: {"by": "someone else", "next": "/"}, unchanged),
-    Route("preview", "statement.preview", f"/statements/{PLAIN}/preview", None,
-          lambda _ws, _a, _r: {"text": "Cairnbrook recycles {{ value }}."}, previewed),
     Route("bulk-confirm", "bulk.confirm", "/bulk/confirm", None,
-          lambda ws, _a, _r: {"action": "approve", "scope": "entity", "key": BULK_ENTITY, "status": "draft"}, confirmed),
+          lambda ws, _a, _r: {"action": "approve", "scope": "entity", "key": BULK_ENTITY, "status": "draft"},
+          confirmed),
 )
 CASES = [pytest.param(route, role, id=f"{route.label}-{role}") for route in ROUTES for role in ROLES]
 

@@ -16,6 +16,7 @@ from sqlalchemy.orm import Session
 from werkzeug.wrappers import Response
 
 from stetline import actions, comments, phrasing, printing
+from stetline.accounts import authorize
 from stetline.errors import Conflict, Forbidden, NotFound, StetlineError
 from stetline.livefields import FILTER_HELP, LiveFields
 from stetline.loading import house_style
@@ -265,13 +266,17 @@ def send_back(slot: str) -> Response | tuple[str, int]:
 
 @bp.post("/statements/<path:slot>/preview")
 def preview(slot: str) -> tuple[str, int, dict[str, str]]:
-    """The rewrite text as it would read (HTML fragment), or the live-field error."""
+    """The rewrite text as it would read (HTML fragment), or the live-field error; needs the rewrite right."""
     s = session()
+    headers = {"Content-Type": "text/html; charset=utf-8"}
+    try:
+        authorize(s, acting_name(), "rewrite")
+    except Forbidden as exc:
+        return render_template("statement/preview_error.html", message=str(exc)), 403, headers
     try:
         v = actions.view(s, slot)
     except NotFound as exc:
         abort(404, description=str(exc))
-    headers = {"Content-Type": "text/html; charset=utf-8"}
     try:
         html = preview_html(_live(s), request.form.get("text", ""), v.draft.evidence)
     except StetlineError as exc:

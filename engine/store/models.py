@@ -161,6 +161,9 @@ class Layer(Base):
     at: Mapped[datetime] = mapped_column(default=utcnow)
     dropped_at: Mapped[datetime | None]
     dropped_by: Mapped[str | None] = mapped_column(String(100))
+    # who wrote the words a text layer keeps (a pin or an accepted proposal keeps someone else's);
+    # null for the machine's words; the two-person rule asks this, not ``by``
+    author: Mapped[str | None] = mapped_column(String(100))
 
 
 class Approval(Base):

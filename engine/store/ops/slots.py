@@ -35,6 +35,13 @@ def active_layers(session: Session, slot_id: str) -> list[Layer]:
     ))
 
 
+def text_layer_history(session: Session, slot_id: str) -> list[Layer]:
+    """Every rewrite and pin a slot ever had, dropped ones included, oldest first."""
+    return list(session.scalars(
+        select(Layer).where(Layer.slot_id == slot_id, Layer.type.in_(("rewrite", "pin"))).order_by(Layer.id)
+    ))
+
+
 def active_approval(session: Session, slot_id: str) -> Approval | None:
     """A slot's approval that is not dropped."""
     return session.scalars(
