@@ -15,10 +15,11 @@ from sqlalchemy.orm import Session
 
 from stetline import reconcile
 from stetline.accounts import authorize, check_two_person_rule
+from stetline.claimcheck import ClaimsNotConfirmed as ClaimsNotConfirmed  # re-exported
+from stetline.claimcheck import check_claims, contradicted_claims
 from stetline.errors import Conflict, NotFound, StetlineError
 from stetline.livefields import MAX_TEXT, LiveFieldError, LiveFields, has_live_fields
 from stetline.printing import Printed, printed
-from stetline.reconcile import Basis
 from stetline.slotstatus import house_style, marked_unrenderable, render_error, restatus
 from stetline.status import STATUSES as STATUSES  # re-exported: the CLI and the web app list them from here
 from stetline.status import Reason, Status
@@ -56,57 +57,6 @@ def _check_version(slot: Slot, version: int | None) -> None:
 
 def _basis(draft: Draft) -> dict[str, Any]:
     return {"evidence": draft.evidence, "claims": draft.claims, "text": draft.text}
-
-
-class ClaimsNotConfirmed(StetlineError):
-    """Approving a statement whose claims the new data contradict, without confirming each claim."""
-
-
-def _word(value: Any) -> str:
-    if value is None:
-        return "none"
-    if isinstance(value, bool):
-        return "yes" if value else "no"
-    if isinstance(value, list | tuple):
-        return ", ".join(str(x) for x in value) or "none"
-    return str(value)
-
-
-def claim_words(change: dict[str, Any]) -> str:
-    """One contradicted claim in words: ``direction: up → down``."""
-    return f"{str(change['fact']).replace('_', ' ')}: {_word(change['old'])} → {_word(change['new'])}"
-
-
-def contradicted_claims(slot: Slot, draft: Draft, layers: list[Layer],
-                        approval: Approval | None) -> list[dict[str, Any]]:
-    """The claims a person's work or sign-off was made against that the current draft contradicts.
-
-    Only a slot in recheck for ``claim-changed`` has any; each is ``{fact, old, new, words}``.
-    """
-    if "claim-changed" not in (slot.recheck or {}).get("reasons", []):
-        return []
-    found: dict[str, dict[str, Any]] = {}
-    bases = [x.basis for x in layers] + ([approval.basis] if approval is not None else [])
-    for basis in bases:
-        for change in reconcile.claim_changes(Basis.from_json(basis or {}).claims, draft.claims):
-            found.setdefault(change["fact"], {**change, "words": claim_words(change)})
-    return list(found.values())
-
-
-def _check_claims(slot_id: str, contradicted: list[dict[str, Any]], confirm: bool | Collection[str]) -> None:
-    """Refuse an approval unless every contradicted claim was confirmed (``True`` confirms them all)."""
-    if not contradicted or confirm is True:
-        return
-    confirmed = set() if confirm is False else {str(x) for x in confirm}
-    missing = [c for c in contradicted if c["fact"] not in confirmed]
-    if not missing:
-        return
-    listed = "; ".join(c["words"] for c in missing)
-    raise ClaimsNotConfirmed(
-        f"the new data contradict {len(missing)} claim(s) of {slot_id} that it was written or approved against "
-        f"({listed}); read the text again and confirm each claim to approve it as it reads "
-        "(stetline approve --confirm-claims, or tick each claim on the web page), or rewrite it"
-    )
 
 
 def published_text(session: Session, slot: Slot, draft: Draft, layers: list[Layer] | None = None,
@@ -336,7 +286,7 @@ def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = 
     if not accept_proposed:
         _refuse_unrenderable(session, slot, draft, layers, "approve it")
     contradicted = contradicted_claims(slot, draft, layers, ops.active_approval(session, slot_id))
-    _check_claims(slot_id, contradicted, confirm_claims)
+    check_claims(slot_id, contradicted, confirm_claims)
     check_two_person_rule(session, by, layer_author(next((x for x in layers if x.type in reconcile.TEXT_LAYERS), None)))
     before = published_text(session, slot, draft, layers)
     detail: dict[str, Any] = {"reasons": list(recheck.get("reasons", []))}

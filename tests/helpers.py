@@ -9,6 +9,7 @@ from __future__ import annotations
 import gc
 import json
 import os
+import time
 from pathlib import Path
 from typing import Any
 
@@ -54,3 +55,22 @@ def resolve_every_recheck(cli: Cli) -> None:
         else:
             cli("approve", item["slot"], "--by", "reviewer")
     assert cli.json("status")["by_status"]["recheck"] == 0
+
+
+def signed_in(app: Any, name: str) -> Any:
+    """A test client signed in as the account ``name``, as the sign-in form leaves the cookie.
+
+    The account goes into the session cookie directly rather than through the form (checking a
+    password hash is slow by design); the sign-in form has its own tests.
+    """
+    from stetline import accounts
+
+    client = app.test_client()
+    ws = app.extensions["stetline_workspace"]
+    with ws.reading() as s:
+        account = accounts.get_account(s, name)
+        generation = account.session_generation if account is not None else 0
+    now = int(time.time())
+    with client.session_transaction() as cookie:
+        cookie.update({"account": name, "gen": generation, "since": now, "seen": now})
+    return client

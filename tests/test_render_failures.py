@@ -53,7 +53,8 @@ def test_the_statement_waits_in_recheck_with_the_reason(trapped: Path) -> None:
     assert shown.returncode == 0 and "Traceback" not in shown.stderr, shown.stderr
     data = json.loads(shown.stdout)
     assert data["status"] == "recheck" and "render-failed" in data["recheck"]["reasons"]
-    assert data["text"] == TRAP  # the stored text as written
+    assert data["current"] == TRAP  # the stored text as written
+    assert data["text"] == data["draft"]  # a publication would print the new draft, never the broken text
     assert "calls itself too deeply" in data["render_error"]
     status = json.loads(stetline(trapped, "status", "--json").stdout)
     assert status["recheck_reasons"].get("render-failed") == 1

@@ -19,6 +19,7 @@ from pathlib import Path
 import pytest
 from flask import Flask
 from flask.testing import FlaskClient
+from helpers import signed_in
 from werkzeug.serving import make_server
 
 from stetline import actions
@@ -137,9 +138,7 @@ def test_preview_needs_the_rewrite_permission(team_path: Path) -> None:
     try:
         app = create_app(team, {"TESTING": True, "WTF_CSRF_ENABLED": False})
         for role in ("expert", "editor", "reviewer", "admin"):
-            client = app.test_client()
-            with client.session_transaction() as cookie:
-                cookie["account"] = role
+            client = signed_in(app, role)
             response = client.post(f"/statements/{SLOT}/preview", data={"text": "Cairnbrook {{ value }}"})
             body = response.get_data(as_text=True)
             if role == "expert":

@@ -18,6 +18,7 @@ from pathlib import Path
 import pytest
 from flask import Flask
 from flask.testing import FlaskClient
+from helpers import signed_in
 from openpyxl import load_workbook
 
 from stetline import actions
@@ -40,11 +41,6 @@ def app(team: Workspace) -> Flask:
     return create_app(team, {"TESTING": True, "WTF_CSRF_ENABLED": False})
 
 
-def signed_in(app: Flask, name: str) -> FlaskClient:
-    client = app.test_client()
-    with client.session_transaction() as cookie:
-        cookie["account"] = name
-    return client
 
 
 def state(ws: Workspace, slot: str = SLOT) -> tuple[str, int, str | None, int]:
