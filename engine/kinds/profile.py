@@ -57,6 +57,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     placings = _placings(ctx)
     position = {t: int(m.get("position", 0)) for t, m in ctx.topics.items()}
     composite_ties = ctx.facts.entities["composite_rank"].value_counts().to_dict()
+    moves = ctx.facts.cells.set_index(["entity", "topic"])[["change", "prev_value"]]
     for entity, e in ctx.facts.entities.iterrows():
         key = str(entity)
         rows = placings.get(key)
@@ -93,6 +94,14 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "topics_used": phrasing.plural(int(e["composite_topics"]), "indicator", style),
             "improvement": "" if missing(e["improvement"]) else ctx.the_label(str(e["improvement"])),
             "setback": "" if missing(e["setback"]) else ctx.the_label(str(e["setback"])),
+            "improvement_up": False, "setback_down": False,
         }
+        for which in ("improvement", "setback"):
+            if not missing(e[which]):
+                move = moves.loc[(key, str(e[which]))]
+                size = ctx.change_size(str(e[which]), float(move["change"]), float(move["prev_value"]))
+                evidence[f"{which}_change"] = ev(float(move["change"]), size)
+                variables["improvement_up" if which == "improvement" else "setback_down"] = (
+                    float(move["change"]) > 0 if which == "improvement" else float(move["change"]) < 0)
         interest = 0.7 + (0.2 if claims["composite_band"] in ("top", "bottom") else 0.0)
         yield Candidate(slot_id(KIND, key, None), KIND, key, None, evidence, claims, interest, variables)
