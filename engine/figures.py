@@ -13,11 +13,11 @@ Rules chosen here:
   sets only the decimal sign, the group separator and the percent sign's placement.
 * ``relative``: whole per cent when the exact size is 9.95% or more (that is, when its
   one-decimal rounding is 10.0% or more), otherwise one decimal.
-* ``value``: a count of a million or more is scaled with the locale's CLDR long compact
+* ``value``: a count (a topic shown with no decimals) of a million or more is scaled with the locale's CLDR long compact
   words and one decimal ("2.4 billion persons", "42,698 persons" below a million); a unit that
   is an ISO 4217 currency code ("USD", "GBP") is written as the locale places that currency
   ("$1,250", "US$1,250", "£2.4 billion"). The decimals stay fixed (one for every scaled number),
-  so numbers of one statement read alike.
+  so numbers of one statement read alike; a topic shown with decimals keeps its full figures.
 * ``change``: a topic's ``change`` setting picks the size of a change: ``relative`` (per cent)
   or ``absolute`` (percentage points for percentages, else the topic's own unit: "0.6 years");
   with none, percentages change in points and everything else in per cent.
@@ -227,7 +227,7 @@ def money(x: float | Decimal, code: str, decimals: int, style: HouseStyle = DEFA
     check_decimals(decimals)
     nums = _locale_numbers(style.locale)
     d = to_decimal(x)
-    size = _compact(d, style) or number(d.copy_abs(), decimals, style)
+    size = (_compact(d, style) if decimals == 0 else None) or number(d.copy_abs(), decimals, style)
     negative = d < 0 and size.strip("0.,\u00a0 ") != ""
     prefix, suffix = nums.currency_negative if negative else nums.currency_positive
     symbol = str(get_currency_symbol(code, nums.locale))
@@ -242,7 +242,7 @@ def value(
         return percent(x, decimals, style)
     if is_currency_unit(unit):
         return money(x, unit, decimals, style)
-    shown = scaled(x, decimals, style)
+    shown = scaled(x, 0, style) if decimals == 0 else number(x, decimals, style)  # counts are scaled
     return f"{shown} {unit}" if unit else shown
 
 

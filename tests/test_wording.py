@@ -57,6 +57,12 @@ def test_scaled_numbers_keep_one_decimal_so_a_statement_reads_alike() -> None:
     assert value(2_400_000_000, "people", 0, GB) == "2.4 billion people"
 
 
+def test_a_topic_shown_with_decimals_keeps_its_full_figures() -> None:
+    # scaling would hide the digits the topic's decimals ask for (and a change between them)
+    assert value(5_000_000.02, "tonnes", 2, GB) == "5,000,000.02 tonnes"
+    assert value(2_400_000_000, "USD", 2, GB) == "US$2,400,000,000.00"
+
+
 def test_counts_below_a_million_are_written_in_full() -> None:
     # Babel format_decimal: CLDR digit grouping
     expected = format_decimal(42698, locale="en_GB")
