@@ -255,6 +255,16 @@ affordable overall per gender female male women men girls boys working work work
 physical mental teenage teen under over domestic foreign exports imports trade tax taxes spending
 budget debt cost costs price prices rent rents house average fixed mobile paper demand bathing library
 dwelling dwellings vacant vacancy vacancies empty fuel child's people's borrowing loans loan
+recorded reported registered estimated expected planned completed delayed missed cancelled employed
+unemployed qualified insured vaccinated immunised immunized enrolled eligible active inactive fly-tipping
+fly tipping litter noise anti-social antisocial violent serious minor fatal road-traffic accidents
+casualties injuries admissions discharges referrals appointments patients beds staff teachers nurses
+doctors police fire ambulance calls complaints claims benefit benefits pension pensions universal free
+school-age working-age pupil-teacher teacher-pupil class classes exam exams exclusions absence absences
+persistent overall gross median mean modal typical proportion proportions rates shares numbers counts
+electric renewable solar wind cycling walking journeys journey trips passengers visits visitor users
+customer customers tenants tenancies arrears evictions homeless homelessness temporary rough sleeping
+births deaths marriages migration migrants net-migration households' library's council's total
 """.split())
 _ORDINARY_ENDINGS: Final = ("tion", "sion", "ment", "ness", "ity", "ance", "ence", "ship")
 
@@ -264,7 +274,8 @@ def opens_with_ordinary_word(label: str) -> bool:
     text = str(label).strip()
     first = text.split(None, 1)[0] if text else ""
     core = first.rstrip(",;:")
-    if not core or not core[0].isupper() or not core[1:].islower() or not core.replace("'", "").isalpha():
+    letters = core.replace("'", "").replace("-", "")
+    if not core or not core[0].isupper() or not core[1:].islower() or not letters.isalpha():
         return False  # "GDP", "No.", "A1", "iPhone", "Redwing's"… are written as they are
     low = core.lower()
     return low in _ORDINARY_OPENERS or (len(low) > 6 and low.endswith(_ORDINARY_ENDINGS))

@@ -118,6 +118,8 @@ def test_quarter_bands_only_where_they_mean_something() -> None:
     ("No. 12 bus punctuality", "No. 12 bus punctuality", False),
     ("Redwing ferry crossing time", "Redwing ferry crossing time", True),
     ("A1 road delays", "A1 road delays", False),
+    ("Fly-tipping incidents", "fly-tipping incidents", False),
+    ("Reading ferry times", "Reading ferry times", True),
     ("Share of residents satisfied with parks", "share of residents satisfied with parks", True),
     ("Median emergency response time", "median emergency response time", True),
 ])
