@@ -23,7 +23,7 @@ from stetline.inputfiles import Source, Table, read_tables
 OBSERVATION_COLUMNS = ("entity", "topic", "period", "value")
 OBSERVATION_OPTIONAL = ("margin", "status")
 TOPIC_COLUMNS = ("topic", "label", "unit", "better", "decimals", "category", "target")
-TOPIC_OPTIONAL = ("weight", "source")
+TOPIC_OPTIONAL = ("weight", "source", "change", "label_in_sentence", "article")
 ENTITY_COLUMNS = ("entity", "name", "group")
 ENTITY_OPTIONAL: tuple[str, ...] = ()
 
@@ -226,6 +226,12 @@ def _parse_topics(table: Table) -> tuple[pd.DataFrame | None, list[Problem]]:
     problems += _bad_cells(table, "weight", weight <= 0, "a weight must be greater than zero")
     label = frame["label"].astype("str").str.strip()
     problems += _bad_cells(table, "label", label == "", "the label is empty")
+    change = frame["change"].astype("str").str.strip().str.lower()
+    problems += _bad_cells(table, "change", ~change.isin(("", "relative", "absolute")),
+                           "'change' must be relative, absolute or empty")
+    article = frame["article"].astype("str").str.strip().str.lower()
+    problems += _bad_cells(table, "article", ~article.isin(("", "the", "none")), "'article' must be the, none or empty")
+    in_sentence = frame["label_in_sentence"].astype("str").str.strip()
     if not problems:
         problems += _duplicates(table, ["topic"], "topic")
     if problems:
@@ -241,6 +247,9 @@ def _parse_topics(table: Table) -> tuple[pd.DataFrame | None, list[Problem]]:
         "weight": weight.fillna(1.0),
         "source": frame["source"].astype("str").str.strip(),
         "position": range(len(frame)),
+        "change": change,
+        "label_in_sentence": in_sentence,
+        "article": article,
     })
     return out, []
 

@@ -159,19 +159,45 @@ class Context:
         return str(self.entities.get(entity, {}).get("name", entity))
 
     def names(self, keys: Iterable[str]) -> str:
-        """'A, B and C' of entity names."""
-        return phrasing.join([self.name(k) for k in keys], self.style)
+        """'A, B and C' of entity names (semicolons when a name holds a comma; long lists capped)."""
+        return phrasing.join_names([self.name(k) for k in keys], self.style)
 
-    def label(self, topic: str) -> str:
-        """A topic's label as written, for the start of a sentence."""
-        return str(self.topics[topic]["label"])
+    @property
+    def preposition(self) -> str:
+        """The preposition before an entity's name: "in" a town, "at" a school."""
+        return phrasing.preposition_for(self.entity_noun)
 
     def lower_label(self, topic: str) -> str:
-        """A topic's label for the middle of a sentence (acronyms kept)."""
+        """A topic's label mid-sentence, bare ("household recycling rate", "GDP per person")."""
         shown = self._lower_labels.get(topic)
         if shown is None:
-            shown = self._lower_labels[topic] = lower_first(self.label(topic))
+            meta = self.topics[topic]
+            written = str(meta.get("label_in_sentence") or "").strip()
+            shown = self._lower_labels[topic] = written or phrasing.in_sentence(str(meta["label"]))
         return shown
+
+    def the_label(self, topic: str) -> str:
+        """A topic's label mid-sentence as a noun phrase: "the vacancy rate", "life expectancy"."""
+        meta = self.topics[topic]
+        chosen = str(meta.get("article") or "").strip().lower()
+        bare = self.lower_label(topic)
+        wants_the = chosen == "the" if chosen else phrasing.needs_the(bare)
+        return f"the {bare}" if wants_the else bare
+
+    def label(self, topic: str) -> str:
+        """A topic's label for the start of a sentence: "The vacancy rate", "Life expectancy"."""
+        return phrasing.capitalise(self.the_label(topic))
+
+    def change_size(self, topic: str, x: float, previous: float | None) -> str:
+        """The size of a change in the unit the topic's `change` column asks for (see figures.change_size)."""
+        meta = self.topics[topic]
+        return phrasing.change_size(abs(float(x)), previous, str(meta["unit"]), int(meta["decimals"]),
+                                    str(meta.get("change") or ""), self.style)
+
+    def change_in(self, topic: str) -> str:
+        """How a topic's changes are sized: "points", "relative" or "unit"."""
+        meta = self.topics[topic]
+        return phrasing.change_in(str(meta["unit"]), str(meta.get("change") or ""))
 
     def value(self, topic: str, x: float) -> str:
         """A value of a topic as shown: its decimals and unit."""
@@ -192,16 +218,9 @@ class Context:
         return phrasing.value(abs(float(x)), str(meta["unit"]), int(meta["decimals"]), self.style)
 
 
-def possessive(name: str) -> str:
-    """'North Quay's', 'Shellby Sands'' (common practice for names ending in s)."""
-    return f"{name}'" if name.endswith("s") else f"{name}'s"
-
-
 def lower_first(text: str) -> str:
-    """Lower-case the first letter unless the first word looks like an acronym (GP, NHS)."""
-    if len(text) > 1 and text[0].isupper() and not text[1].isupper():
-        return text[0].lower() + text[1:]
-    return text
+    """Lower-case the first letter only when the first word is plainly an ordinary word (names, GP, No. 12 kept)."""
+    return phrasing.in_sentence(text)
 
 
 class Renderer:
@@ -211,7 +230,6 @@ class Renderer:
         filters = phrasing.make_filters(style)
         filters["and_list"] = filters.pop("join")  # keep Jinja's own join filter
         filters["lower_first"] = lower_first
-        filters["possessive"] = possessive
         self._builtin = jinja2.Environment(
             loader=jinja2.FileSystemLoader(str(TEMPLATES)), autoescape=False,
             undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True,

@@ -13,6 +13,14 @@ Rules chosen here:
   sets only the decimal sign, the group separator and the percent sign's placement.
 * ``relative``: whole per cent when the exact size is 9.95% or more (that is, when its
   one-decimal rounding is 10.0% or more), otherwise one decimal.
+* ``value``: a count (a topic shown with no decimals) of a million or more is scaled with the locale's CLDR long compact
+  words and one decimal ("2.4 billion persons", "42,698 persons" below a million); a unit that
+  is an ISO 4217 currency code ("USD", "GBP") is written as the locale places that currency
+  ("$1,250", "US$1,250", "£2.4 billion"). The decimals stay fixed (one for every scaled number),
+  so numbers of one statement read alike; a topic shown with decimals keeps its full figures.
+* ``change``: a topic's ``change`` setting picks the size of a change: ``relative`` (per cent)
+  or ``absolute`` (percentage points for percentages, else the topic's own unit: "0.6 years");
+  with none, percentages change in points and everything else in per cent.
 * ``ratio``: 2 or more reads "about N times"; below 10 it shows one decimal unless that
   decimal is 0 (2.5 -> "about 2.5 times", 3.02 -> "about 3 times"); 10 or more is whole.
   From 1 up to 2 it reads "N% higher" and below 1 "N% lower", both through ``relative``
@@ -21,17 +29,19 @@ Rules chosen here:
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from decimal import Decimal, localcontext
 from functools import lru_cache
 from typing import Final
 
 from babel import Locale, UnknownLocaleError
-from babel.numbers import format_decimal, get_decimal_symbol, get_group_symbol
+from babel.numbers import format_decimal, get_currency_symbol, get_decimal_symbol, get_group_symbol, is_currency
 
 from stetline.rounding import CONTEXT, as_whole, check_decimals, quantize, to_decimal
 
 PERCENT_WORDS: Final[tuple[str, ...]] = ("%", "per cent", "percent")
+POSSESSIVES: Final[tuple[str, ...]] = ("'", "'s")
 _HUNDRED: Final = Decimal(100)
 _WHOLE_PER_CENT_FROM: Final = Decimal("9.95")
 _RATIO_WHOLE_FROM: Final = Decimal(10)
@@ -52,6 +62,11 @@ class _LocaleNumbers:
     # (prefix, suffix) around a positive and around a negative percentage.
     percent_positive: tuple[str, str]
     percent_negative: tuple[str, str]
+    # (prefix, suffix) around a positive and a negative amount of money, "¤" for the symbol.
+    currency_positive: tuple[str, str]
+    currency_negative: tuple[str, str]
+    # CLDR long compact patterns by magnitude (1000000 -> "0 million"), largest first, per plural form.
+    compact: tuple[tuple[int, dict[str, str]], ...]
 
 
 @lru_cache(maxsize=64)
@@ -74,25 +89,37 @@ def _locale_numbers(name: str) -> _LocaleNumbers:
         else:
             fallback = "#," + "#" * secondary + "," + "#" * (primary - 1) + "0"
     pct = loc.percent_formats[None]
+    cur = loc.currency_formats["standard"]
+    long_forms = loc.compact_decimal_formats.get("long", {})
+    magnitudes: dict[int, dict[str, str]] = {}
+    for form, patterns in long_forms.items():
+        for size, pattern in patterns.items():
+            magnitudes.setdefault(int(size), {})[form] = pattern.pattern
     return _LocaleNumbers(
         locale=loc,
         table=table,
         fallback_pattern=fallback,
         percent_positive=(pct.prefix[0], pct.suffix[0]),
         percent_negative=(pct.prefix[1], pct.suffix[1]),
+        currency_positive=(cur.prefix[0], cur.suffix[0]),
+        currency_negative=(cur.prefix[1], cur.suffix[1]),
+        compact=tuple(sorted(magnitudes.items(), reverse=True)),
     )
 
 
 @dataclass(frozen=True)
 class HouseStyle:
-    """How figures are written: locale, serial comma, percent word, small numbers in words."""
+    """How figures and names are written: locale, serial comma, percent word, small numbers in words, possessives."""
 
     locale: str = "en_GB"
     serial_comma: bool = False
     percent_word: str = "%"
     small_numbers_in_words: bool = True
+    possessive_after_s: str = "'"
 
     def __post_init__(self) -> None:
+        if self.possessive_after_s not in POSSESSIVES:
+            raise ValueError(f"possessive_after_s must be \"'\" or \"'s\"; got {self.possessive_after_s!r}")
         if self.percent_word not in PERCENT_WORDS:
             raise ValueError(
                 f"percent_word must be one of {', '.join(repr(w) for w in PERCENT_WORDS)}; "
@@ -148,14 +175,103 @@ def percent(x: float | Decimal, decimals: int, style: HouseStyle = DEFAULT) -> s
     return _percent_rounded(quantize(to_decimal(x), decimals), decimals, style)
 
 
+SCALE_FROM: Final = Decimal(1_000_000)
+_ZEROS: Final = re.compile(r"0+(?:\.0+)?")
+
+
+def _compact(q: Decimal, style: HouseStyle) -> str | None:
+    """The unsigned size of q in the locale's long compact words with one decimal, or None below a million."""
+    size = q.copy_abs()
+    if size < SCALE_FROM:
+        return None
+    nums = _locale_numbers(style.locale)
+    for magnitude, forms in reversed(nums.compact):  # smallest first: the last that fits wins
+        if magnitude > size:
+            break
+        chosen = (magnitude, forms)
+    else:
+        chosen = nums.compact[0] if nums.compact else (0, {})
+    magnitude, forms = chosen
+    pattern = forms.get("other") or next(iter(forms.values()), "")
+    zeros = _ZEROS.search(pattern)
+    if zeros is None:
+        return None
+    divisor = Decimal(magnitude) / Decimal(10) ** (len(zeros.group(0)) - 1)
+    mantissa = quantize(CONTEXT.divide(size, divisor), 1)
+    if mantissa >= 1000 and magnitude < nums.compact[0][0]:
+        return _compact(Decimal(1000) * divisor, style)  # 999.96 million reads "1.0 billion"
+    pattern = forms.get(nums.locale.plural_form(float(mantissa)), pattern)
+    zeros = _ZEROS.search(pattern)
+    if zeros is None:
+        return None
+    return pattern[: zeros.start()] + _format_rounded(mantissa, 1, style.locale) + pattern[zeros.end():]
+
+
+def scaled(x: float | Decimal, decimals: int, style: HouseStyle = DEFAULT) -> str:
+    """Write x plainly below a million, else scaled in CLDR words: "42,698", "2.4 billion"."""
+    check_decimals(decimals)
+    d = to_decimal(x)
+    big = _compact(d, style)
+    if big is None:
+        return number(d, decimals, style)
+    return f"-{big}" if d < 0 and quantize(d, 1) != 0 else big
+
+
+def is_currency_unit(unit: str) -> bool:
+    """Tell whether a unit names a currency by its ISO 4217 code (CLDR knows it): "USD", "GBP"."""
+    return len(unit) == 3 and unit.isalpha() and unit.isupper() and is_currency(unit)
+
+
+def money(x: float | Decimal, code: str, decimals: int, style: HouseStyle = DEFAULT) -> str:
+    """Write an amount of money as the locale places the currency: "$1,250", "£2.4 billion"."""
+    check_decimals(decimals)
+    nums = _locale_numbers(style.locale)
+    d = to_decimal(x)
+    size = (_compact(d, style) if decimals == 0 else None) or number(d.copy_abs(), decimals, style)
+    negative = d < 0 and size.strip("0.,\u00a0 ") != ""
+    prefix, suffix = nums.currency_negative if negative else nums.currency_positive
+    symbol = str(get_currency_symbol(code, nums.locale))
+    return (prefix + size + suffix).replace("\u00a4", symbol)
+
+
 def value(
     x: float | Decimal, unit: str, decimals: int, style: HouseStyle = DEFAULT
 ) -> str:
-    """Write x with its unit: "percent" (or "%") as a percentage, "" bare, else "12.5 tonnes"."""
+    """Write x with its unit: a percentage, money ("$1,250"), bare, or "12.5 tonnes", scaled when large."""
     if unit in ("percent", "%"):
         return percent(x, decimals, style)
-    shown = number(x, decimals, style)
+    if is_currency_unit(unit):
+        return money(x, unit, decimals, style)
+    shown = scaled(x, 0, style) if decimals == 0 else number(x, decimals, style)  # counts are scaled
     return f"{shown} {unit}" if unit else shown
+
+
+CHANGE_MODES: Final[tuple[str, ...]] = ("relative", "absolute")
+
+
+def change_in(unit: str, mode: str = "") -> str:
+    """How a topic's changes are measured: "points", "relative" or "unit" (its `change` setting or the default)."""
+    if mode not in ("",) + CHANGE_MODES:
+        raise ValueError(f"a change is 'relative' or 'absolute', not {mode!r}")
+    percent_unit = unit in ("percent", "%")
+    if mode == "relative":
+        return "relative"
+    if mode == "absolute" or percent_unit:
+        return "points" if percent_unit else "unit"
+    return "relative"
+
+
+def change_size(
+    d: float | Decimal, previous: float | Decimal | None, unit: str, decimals: int,
+    mode: str = "", style: HouseStyle = DEFAULT,
+) -> str:
+    """Write the unsigned size of a change as the topic wants it: "2.1 percentage points", "12%", "0.6 years"."""
+    how = change_in(unit, mode)
+    if how == "points":
+        return points(d, decimals, style)
+    if how == "relative" and previous is not None and to_decimal(previous) != 0:
+        return relative(CONTEXT.divide(to_decimal(d), to_decimal(previous).copy_abs()), style)
+    return value(to_decimal(d).copy_abs(), unit, decimals, style)
 
 
 def points(d: float | Decimal, decimals: int, style: HouseStyle = DEFAULT) -> str:

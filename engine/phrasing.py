@@ -19,22 +19,31 @@ from stetline.figures import (
     DEFAULT,
     PERCENT_WORDS,
     HouseStyle,
+    change_in,
+    change_size,
     count,
     number,
     percent,
     points,
     ratio,
     relative,
+    scaled,
     value,
 )
 from stetline.rounding import round_half_up
 from stetline.words import (
     article,
     capitalise,
+    in_sentence,
     join,
+    join_names,
+    needs_the,
     noun_plural,
     ordinal,
+    ordinal_word,
     plural,
+    possessive,
+    preposition_for,
     sentences,
     starts_with_figure,
     tidy,
@@ -46,18 +55,27 @@ __all__ = [
     "HouseStyle",
     "article",
     "capitalise",
+    "change_in",
+    "change_size",
     "count",
+    "in_sentence",
     "join",
+    "join_names",
+    "needs_the",
     "make_filters",
     "noun_plural",
     "number",
     "ordinal",
+    "ordinal_word",
     "percent",
     "plural",
+    "possessive",
+    "preposition_for",
     "points",
     "ratio",
     "relative",
     "round_half_up",
+    "scaled",
     "sentences",
     "starts_with_figure",
     "tidy",
@@ -95,6 +113,12 @@ def make_filters(style: HouseStyle) -> dict[str, Callable[..., Any]]:
     def join_filter(items: Iterable[str], conj: str = "and") -> str:
         return join(items, style, conj)
 
+    def possessive_filter(name: str) -> str:
+        return possessive(name, style)
+
+    def ordinal_word_filter(n: int) -> str:
+        return ordinal_word(n, style)
+
     return {
         "number": number_filter,
         "count": count_filter,
@@ -108,4 +132,6 @@ def make_filters(style: HouseStyle) -> dict[str, Callable[..., Any]]:
         "join": join_filter,
         "article": article,
         "capitalise": capitalise,
+        "possessive": possessive_filter,
+        "ordinal_word": ordinal_word_filter,
     }

@@ -56,6 +56,9 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 ("%", "per cent", "percent")),
     SettingSpec("small_numbers_in_words", "Small numbers in words", True,
                 "Write counts from one to nine as words (house style of many statistical offices)."),
+    SettingSpec("possessive_after_s", "Possessive of a name ending in s", "'",
+                "How a name ending in s takes the possessive: ' (Harris' score) or 's (Harris's score).",
+                ("'", "'s")),
     SettingSpec("untraced_numbers", "Untraced numbers when publishing", "warn",
                 "What publishing does with typed numbers that match no fact.", ("warn", "refuse")),
     SettingSpec("self_approval", "Reviewers may approve their own rewrites", False,
@@ -71,7 +74,7 @@ SETTINGS: tuple[SettingSpec, ...] = (
 BY_KEY = {spec.key: spec for spec in SETTINGS}
 
 #: settings that change the wording of drafts (a redraft follows a change)
-STYLE_KEYS = ("entity_noun", "locale", "serial_comma", "percent_word", "small_numbers_in_words")
+STYLE_KEYS = ("entity_noun", "locale", "serial_comma", "percent_word", "small_numbers_in_words", "possessive_after_s")
 
 
 def spec(key: str) -> SettingSpec:

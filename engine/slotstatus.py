@@ -30,6 +30,7 @@ def house_style(session: Session) -> tuple[HouseStyle, dict[str, Any]]:
     style = HouseStyle(
         locale=values["locale"], serial_comma=bool(values["serial_comma"]),
         percent_word=values["percent_word"], small_numbers_in_words=bool(values["small_numbers_in_words"]),
+        possessive_after_s=str(values["possessive_after_s"]),
     )
     return style, values
 

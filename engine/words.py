@@ -184,3 +184,132 @@ def tidy(text: str) -> str:
     out = _SPACE_BEFORE_PUNCT.sub("", out)
     out = _SPACE_AFTER_OPEN.sub("", out)
     return out.strip(" ")
+
+
+_ORDINAL_WORDS: Final[tuple[str, ...]] = (
+    "zeroth", "first", "second", "third", "fourth", "fifth", "sixth", "seventh", "eighth", "ninth",
+)
+
+
+def ordinal_word(n: int, style: HouseStyle = DEFAULT) -> str:
+    """Write an ordinal: "second" to "ninth" in words when the style says so, else "12th"."""
+    k = as_whole(n, "ordinal_word()")
+    if style.small_numbers_in_words and 1 <= k <= 9:
+        return _ORDINAL_WORDS[k]
+    return ordinal(k)
+
+
+def possessive(name: str, style: HouseStyle = DEFAULT) -> str:
+    """The possessive of a name: "North Quay's"; after a final s as the style says ("Harris's" or "Harris'")."""
+    name = str(name)
+    if name.endswith(("s", "S")) and style.possessive_after_s == "'":
+        return f"{name}'"
+    return f"{name}'s"
+
+
+def join_names(
+    names: Iterable[str], style: HouseStyle = DEFAULT, conj: str = "and", limit: int = 6,
+) -> str:
+    """List names: with semicolons when a name holds a comma, and capped ("A, B and 28 others")."""
+    parts = [str(n) for n in names]
+    if limit >= 2 and len(parts) > limit:
+        parts = parts[: limit - 1] + [f"{len(parts) - limit + 1} others"]
+    if any("," in p for p in parts) and len(parts) > 1:
+        last_sep = "; " if style.serial_comma or len(parts) > 2 else " "
+        return f"{'; '.join(parts[:-1])}{last_sep}{conj} {parts[-1]}"
+    return join(parts, style, conj)
+
+
+# Nouns for places one is "at" rather than "in" (common practice; any other noun takes "in").
+_AT_NOUNS: Final = frozenset({
+    "school", "academy", "college", "university", "campus", "firm", "company", "business", "employer",
+    "hospital", "clinic", "practice", "surgery", "pharmacy", "station", "airport", "port", "site", "plant",
+    "factory", "office", "branch", "store", "shop", "library", "prison", "club", "court", "centre", "center",
+    "depot", "hotel", "museum", "theatre", "venue", "stadium", "farm", "mine", "trust",
+})
+
+
+def preposition_for(noun: str) -> str:
+    """The preposition before an entity of this kind: "in" a town or a district, "at" a school or a firm."""
+    words = str(noun).strip().lower().split()
+    return "at" if words and words[-1] in _AT_NOUNS else "in"
+
+
+# Words that plainly open an ordinary label ("Household recycling rate"): their capital is only
+# the sentence's, so mid-sentence they are lowered. Any other first word (a name, an abbreviation,
+# an acronym, a word with digits) keeps its capitals. Common practice; a topic's `label_in_sentence`
+# column overrides the guess.
+_ORDINARY_OPENERS: Final = frozenset("""
+a an the all any each every no one some total average mean median annual monthly weekly daily yearly
+new old net gross adult adults child children people persons person resident residents household households
+home homes house housing local public private national regional rural urban young older elderly
+share proportion percentage percent rate ratio number count level levels index score time times speed
+length distance age life birth births death deaths mortality infant maternal population pupils pupil
+student students school schools primary secondary higher further early late long short full part
+employment unemployment economic income earnings wages wage pay poverty crime crimes road roads traffic
+bus buses rail train trains waste water air energy electricity gas fuel carbon emissions recycling
+household library libraries park parks green open planning council social health healthy hospital
+emergency waiting wait response median broadband internet digital demand supply access attendance
+satisfaction satisfied visits visitors tourism jobs job business businesses firms companies new gdp
+affordable overall per gender female male women men girls boys working work workers self smoking obesity
+physical mental teenage teen under over domestic foreign exports imports trade tax taxes spending
+budget debt cost costs price prices rent rents house average fixed mobile paper demand bathing library
+dwelling dwellings vacant vacancy vacancies empty fuel child's people's borrowing loans loan
+recorded reported registered estimated expected planned completed delayed missed cancelled employed
+unemployed qualified insured vaccinated immunised immunized enrolled eligible active inactive fly-tipping
+fly tipping litter noise anti-social antisocial violent serious minor fatal road-traffic accidents
+casualties injuries admissions discharges referrals appointments patients beds staff teachers nurses
+doctors police fire ambulance calls complaints claims benefit benefits pension pensions universal free
+school-age working-age pupil-teacher teacher-pupil class classes exam exams exclusions absence absences
+persistent overall gross median mean modal typical proportion proportions rates shares numbers counts
+electric renewable solar wind cycling walking journeys journey trips passengers visits visitor users
+customer customers tenants tenancies arrears evictions homeless homelessness temporary rough sleeping
+births deaths marriages migration migrants net-migration households' library's council's total
+""".split())
+_ORDINARY_ENDINGS: Final = ("tion", "sion", "ment", "ness", "ity", "ance", "ence", "ship")
+
+
+def opens_with_ordinary_word(label: str) -> bool:
+    """Tell whether a label's first word is plainly an ordinary word, capitalised only for the sentence."""
+    text = str(label).strip()
+    first = text.split(None, 1)[0] if text else ""
+    core = first.rstrip(",;:")
+    letters = core.replace("'", "").replace("-", "")
+    if not core or not core[0].isupper() or not core[1:].islower() or not letters.isalpha():
+        return False  # "GDP", "No.", "A1", "iPhone", "Redwing's"… are written as they are
+    low = core.lower()
+    return low in _ORDINARY_OPENERS or (len(low) > 6 and low.endswith(_ORDINARY_ENDINGS))
+
+
+def in_sentence(label: str) -> str:
+    """A label for the middle of a sentence: its first letter lowered only when the word is ordinary."""
+    text = str(label).strip()
+    return text[0].lower() + text[1:] if opens_with_ordinary_word(text) else text
+
+
+# Count-noun heads that take "the" before them ("the vacancy rate"); mass nouns such as life
+# expectancy or punctuality do not. Common practice.
+_COUNT_HEADS: Final = frozenset("""
+rate rates share proportion percentage number count speed time times ratio level score index gap
+average mean median total length distance age price cost value amount density size volume
+period duration wait delay figure income wage budget balance margin frequency
+""".split())
+_PHRASE_BREAKS: Final = re.compile(
+    r"\s(?:of|per|in|for|with|at|by|on|to|from|among|between|across|under|over|who|that|which)\s|\s?\(|,"
+)
+
+
+def head_noun(label: str) -> str:
+    """The head noun of a label: the last word before "of", "per", "in" … ("rate" of "Vacancy rate")."""
+    first_part = _PHRASE_BREAKS.split(str(label).strip(), maxsplit=1)[0]
+    words = first_part.split()
+    return words[-1].lower().strip(".,;:") if words else ""
+
+
+def needs_the(label: str) -> bool:
+    """Tell whether a label reads with "the" before it: a count-noun head, unless it opens with a determiner."""
+    text = str(label).strip()
+    first = text.split(None, 1)[0].lower() if text else ""
+    if first in ("the", "a", "an", "its", "their", "each", "every", "all", "no", "any"):
+        return False
+    return head_noun(text) in _COUNT_HEADS

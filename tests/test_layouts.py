@@ -65,7 +65,7 @@ def test_copied_phrasing_rewords_the_sentences_about_averages(demo_cli: Cli) -> 
     assert [d for d in after if "the average did not change" in d] == []
     assert sum("the average held steady" in d for d in after) == sum("the average did not change" in d for d in before)
     (top,) = [i["draft"] for i in demo_cli.json("list", "--kind", "headline")]
-    assert "The largest movement was in median broadband download speed" in top
+    assert "The largest movement was in the median broadband download speed" in top
     assert "of 10 measures" in top
 
 

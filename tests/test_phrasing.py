@@ -777,7 +777,7 @@ def test_house_style_refuses_bad_settings(kwargs: dict[str, Any], match: str) ->
 
 
 FILTER_NAMES = {"number", "count", "percent", "value", "points", "relative", "ratio", "ordinal",
-                "plural", "join", "article", "capitalise"}
+                "plural", "join", "article", "capitalise", "possessive", "ordinal_word"}
 
 
 def test_make_filters_table() -> None:

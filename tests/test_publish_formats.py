@@ -29,7 +29,7 @@ TAMPERED_TEXT = '=1+2 <script>alert("x")</script> & North Quay recycled {{ value
 TAMPERED_SHOWN = '=1+2 <script>alert("x")</script> & North Quay recycled 46.5%; 999 bins.'
 NOTE = "The harbour regeneration opened two business parks in North Quay in 2023."
 WRACKHAVEN = "standing/wrackhaven/recycling"
-WRACKHAVEN_TEXT = "Household recycling rate in Wrackhaven was 45.7% (provisional) in 2025"
+WRACKHAVEN_TEXT = "The household recycling rate in Wrackhaven was 45.7% (provisional) in 2025"
 
 
 @pytest.fixture(scope="module")
@@ -180,7 +180,7 @@ def test_notes_appear_in_every_format(published: dict[str, Any]) -> None:
     assert notes == md_notes
     at = next(i for i, p in enumerate(paragraphs) if p.style.name == "Note" and NOTE in p.text)
     assert paragraphs[at - 1].style.name == "Statement"  # the note follows its statement
-    assert paragraphs[at - 1].text.startswith("North Quay")
+    assert "North Quay" in paragraphs[at - 1].text
 
 
 def test_provisional_caveats_are_numbered_footnotes(published: dict[str, Any]) -> None:

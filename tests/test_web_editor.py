@@ -97,7 +97,7 @@ def test_statement_page_shows_texts_evidence_claims_recheck_and_history(client: 
     html = page(client, f"/statements/{HERONSFORD}")
     assert '<span class="badge badge-recheck">recheck</span>' in html
     assert "What the next publication prints</h2>" in html and "<h2>Draft</h2>" in html
-    assert "Household recycling rate in Heronsford improved from 59.0% in 2024 to 59.3% in 2025" in html
+    assert "The household recycling rate in Heronsford improved from 59.0% in 2024 to 59.3% in 2025" in html
     assert "<td><code>value</code></td><td>59.3</td><td>59.3%</td>" in html  # evidence: fact, value, shown
     assert "<td><code>direction</code></td><td>up</td>" in html  # claims
     assert "numbers-changed" in html and "<td>59.0%</td><td>→ 59.3%</td>" in html  # facts old → new

@@ -1,6 +1,7 @@
 """``change`` (entity × topic): the change since the previous period of the series.
 
-Percentages change in percentage points, other units in per cent. When both values carry
+Percentages change in percentage points, other units in per cent, unless the topic's ``change``
+column says relative or absolute (figures.change_in). When both values carry
 margins (95% half-widths) a change counts only if its size exceeds sqrt(m1² + m2²); otherwise the
 statement says the value was broadly unchanged. A break in series, a missing or withheld value
 stops the change from being stated and the statement says why.
@@ -33,14 +34,14 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     for c in ctx.facts.cells.itertuples(index=False):
         meta = ctx.topics[c.topic]
         slot = slot_id(KIND, c.entity, c.topic)
-        percent = meta["unit"] == "percent"
         evidence = {"period": ev(c.period, str(c.period)), "status": ev(c.status, status_shown(c.status))}
         prev_period = None if missing(c.prev_period) else str(c.prev_period)
         significant = None if missing(c.significant) else bool(c.significant)
         claims: dict[str, object] = {"direction": c.direction, "better": c.better_change, "significant": significant}
         variables: dict[str, object] = {
             "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
-            "period": c.period, "prev_period": prev_period, "caveat": caveat(c.status),
+            "the_label": ctx.the_label(c.topic), "period": c.period, "prev_period": prev_period,
+            "caveat": caveat(c.status),
             "state": "", "revised": "", "neutral": c.better == "neutral", "nouns": nouns,
         }
         interest = 0.1
@@ -72,7 +73,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             continue
         change = float(c.change)
         d = int(meta["decimals"])
-        if percent or missing(c.change_rel):
+        if ctx.change_in(c.topic) != "relative" or missing(c.change_rel):  # the topic's `change` column
             evidence["change"] = ev(change, ctx.amount(c.topic, change))
         else:
             evidence["change"] = ev(float(c.change_rel), phrasing.relative(abs(float(c.change_rel)), style))

@@ -9,6 +9,10 @@ from stetline import phrasing
 
 #: fewer entities than this reporting a topic: no ranking is stated (a rank of 2 says little)
 MIN_RANKED = 3
+#: fewer entities ranked than this: no quarter of the ranking is stated (three a quarter at least)
+MIN_QUARTERS = 12
+#: a place this near an end says where it stands by itself: no quarter beside it (common practice)
+BAND_FROM_PLACE = 5
 BANDS = ("top", "upper", "lower", "bottom")
 
 
@@ -23,7 +27,7 @@ def missing(x: Any) -> bool:
 
 
 def band(rank: float, of: int) -> str | None:
-    """The quarter of the ranking a rank falls in: top, upper, lower or bottom."""
+    """The quarter of the ranking a rank falls in: top, upper, lower or bottom (a claim; text says it from 12)."""
     if missing(rank) or of < MIN_RANKED:
         return None
     return BANDS[min(3, int(4 * (rank - 1) // of))]
@@ -36,14 +40,37 @@ def best_word(better: str, top: bool) -> str:
     return "best" if top else "worst"
 
 
-def rank_phrase(rank: int, of: int, tied: bool, better: str, noun_phrase: str) -> str:
-    """'the best of 14 towns', 'joint 3rd best of 14 towns', 'the worst of 14 towns'."""
-    joint = "joint " if tied else ""
-    if rank == 1:
-        return f"{joint or 'the '}{best_word(better, True)} of {noun_phrase}"
-    if rank == of and not tied:
-        return f"the {best_word(better, False)} of {noun_phrase}"
-    return f"{joint}{phrasing.ordinal(rank)} {best_word(better, True)} of {noun_phrase}"
+def place(rank: int, of: int, tied: int = 1) -> tuple[bool, int]:
+    """Where a rank stands counted from the nearer end: (from the top?, place), ties taking their best place.
+
+    Rank 47 of 50 is the fourth from the bottom: (False, 4). ``tied`` is how many share the rank.
+    """
+    from_bottom = of - (rank + tied - 1) + 1
+    if rank - 1 <= from_bottom - 1:
+        return True, rank
+    return False, from_bottom
+
+
+def rank_phrase(rank: int, of: int, tied: bool | int, better: str, noun_phrase: str,
+                style: phrasing.HouseStyle = phrasing.DEFAULT) -> str:
+    """'the best of 14 towns', 'joint third best of 14 towns', 'fourth worst of 50 countries'."""
+    shared = int(tied) if not isinstance(tied, bool) else (2 if tied else 1)
+    top, where = place(rank, of, shared)
+    word = best_word(better, top)
+    joint = "joint " if shared > 1 else ""
+    of_text = f" of {noun_phrase}" if noun_phrase else ""  # "" when the sentence has said it already
+    if where == 1:
+        return f"{joint or 'the '}{word}{of_text}"
+    return f"{joint}{phrasing.ordinal_word(where, style)} {word}{of_text}"
+
+
+def band_note(rank: int, of: int, tied: int = 1) -> str:
+    """' (in the top quarter)' beside a rank, only where quarters mean something and the rank does not say it."""
+    quarter = band(rank, of)
+    if of < MIN_QUARTERS or quarter not in ("top", "bottom"):
+        return ""
+    _top, where = place(rank, of, tied)
+    return f" (in the {quarter} quarter)" if where >= BAND_FROM_PLACE else ""
 
 
 def caveat(status: str) -> str:

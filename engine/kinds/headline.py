@@ -52,13 +52,13 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         mean = float(t.at[topic, "mean_change"])
         evidence["biggest_shift"] = ev(mean, ctx.amount(topic, mean))
         if evidence["biggest_shift"]["shown"] and not evidence["biggest_shift"]["shown"].startswith(("0 ", "0.0 ")):
-            shift_move, shift_label = ("up" if mean > 0 else "down"), ctx.lower_label(topic)
+            shift_move, shift_label = ("up" if mean > 0 else "down"), ctx.the_label(topic)
             claims["biggest_shift"] = topic
     variables = {
         "period": period, "nouns": ctx.entity_nouns, "shift_move": shift_move, "shift_label": shift_label,
         "n_topics": len(directed),
         "leaders": ctx.names(leaders), "n_leaders": len(leaders),
-        "improving_labels": phrasing.join([ctx.lower_label(k) for k in improving][:3], style),
+        "improving_labels": phrasing.join([ctx.the_label(k) for k in improving][:3], style),
         "n_improving": len(improving), "n_worsening": len(worsening),
     }
     yield Candidate(slot_id(KIND), KIND, None, None, evidence, claims, 1.0, variables)

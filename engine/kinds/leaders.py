@@ -4,7 +4,8 @@ The spread is said in the topic's own terms: points apart for percentages, other
 ("about 4 times", "27% higher") when both values are positive, else the difference in the unit.
 A topic with fewer than three entities reporting gets no leaders statement.
 
-Claims: ``leader`` and ``laggard``: the entity key, or a sorted list of keys when tied.
+Names are listed with semicolons when one holds a comma, and a long tie is capped ("A, B and 28
+others"). Claims: ``leader`` and ``laggard``: the entity key, or a sorted list of keys when tied.
 """
 
 from __future__ import annotations
@@ -16,7 +17,7 @@ from stetline.drafting import Candidate, Context, ev, slot_id
 from stetline.kinds.common import MIN_RANKED, best_word
 
 KIND = "leaders"
-PHRASINGS = 2
+PHRASINGS = 3
 
 
 def _claim(keys: list[str]) -> str | list[str]:
@@ -53,7 +54,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             spread = f"{ctx.amount(topic, gap)} apart"
         claims = {"leader": _claim(list(t["leaders"])), "laggard": _claim(list(t["laggards"]))}
         variables = {
-            "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "period": t["period"],
+            "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "the_label": ctx.the_label(topic),
+            "prep": ctx.preposition, "period": t["period"],
             "leaders": ctx.names(t["leaders"]), "laggards": ctx.names(t["laggards"]),
             "shared_top": len(t["leaders"]) > 1, "shared_bottom": len(t["laggards"]) > 1,
             "top": best_word(meta["better"], True), "bottom": best_word(meta["better"], False),

@@ -63,7 +63,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         top_up = frame.loc[signed.idxmax()] if n_up else None
         top_down = frame.loc[signed.idxmin()] if n_down else None
         variables = {
-            "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "period": t["period"],
+            "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "the_label": ctx.the_label(topic),
+            "period": t["period"],
             "prev_period": prev_period, "neutral": neutral, "words": words,
             "n_up": n_up, "n_down": n_down, "steady": steady, "nouns": ctx.of_n(len(frame)),
             "exceptions": ctx.names(exceptions), "n_exceptions": len(exceptions),

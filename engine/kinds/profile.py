@@ -1,45 +1,87 @@
-"""``profile`` (entity): strongest and weakest topics, composite score and rank, biggest moves.
+"""``profile`` (entity): composite score and rank, the best and worst placings, biggest moves.
 
-Strongest and weakest are judged by a direction-aware percentile of the entity's rank in each
-non-neutral topic. The composite score follows the OECD/JRC Handbook on Constructing Composite
-Indicators (2008): min-max normalisation over the entities' latest values (lower-is-better
-topics inverted), the topics' weights (1 unless given), arithmetic mean, 0 to 100.
+The placings are said as ranks, counted from the nearer end ("second best of 14 towns", "fourth
+worst of 50 countries"), over the entity's ranked topics with a direction; topics sharing the best
+(or worst) placing are all named, or counted when there are more than three ("the worst of 14
+towns on 8 of its 10 ranked indicators"). The composite score follows the OECD/JRC Handbook on
+Constructing Composite Indicators (2008): min-max normalisation over the entities' latest values
+(lower-is-better topics inverted), the topics' weights (1 unless given), arithmetic mean, 0 to 100.
 
-Claims: ``strongest`` and ``weakest`` (topic keys), ``composite_band`` (the quarter of the
-composite ranking: top | upper | lower | bottom).
+Claims: ``strongest`` and ``weakest`` (topic keys: the first in file order of the best and of the
+worst placing), ``composite_band`` (the quarter of the composite ranking: top | upper | lower |
+bottom).
 """
 
 from __future__ import annotations
 
 from collections.abc import Iterator
 
+import pandas as pd
+
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
-from stetline.kinds.common import MIN_RANKED, band, missing
+from stetline.kinds.common import MIN_RANKED, band, missing, rank_phrase
 
 KIND = "profile"
-PHRASINGS = 2
+PHRASINGS = 3
+#: at most this many topics are named for one placing; more are counted
+NAMED_TOPICS = 3
+
+
+def _placings(ctx: Context) -> dict[str, pd.DataFrame]:
+    """Each entity's ranked, directed topics with their rank, how many share it and the percentile."""
+    cells = ctx.facts.cells
+    ranked = cells.loc[(cells["better"] != "neutral") & cells["rank"].notna() & (cells["rank_of"] >= MIN_RANKED)]
+    ranked = ranked.assign(tied=ranked.groupby(["topic", "rank"])["entity"].transform("size"))
+    return {str(k): g for k, g in ranked.groupby("entity", sort=False)}
+
+
+def _placing(ctx: Context, rows: pd.DataFrame, total: int, said_of: int = 0) -> tuple[str, str, str]:
+    """(rank text, topics text, first topic) of topics sharing one placing ("of 14 towns" once a sentence)."""
+    first = rows.iloc[0]
+    of = int(first["rank_of"])
+    text = rank_phrase(int(first["rank"]), of, int(first["tied"]), str(first["better"]),
+                       "" if of == said_of else ctx.of_n(of), ctx.style)
+    topics = [str(t) for t in rows["topic"]]
+    if len(topics) <= NAMED_TOPICS:
+        named = phrasing.join([ctx.the_label(t) for t in topics], ctx.style)
+    else:
+        named = f"{phrasing.count(len(topics), ctx.style)} of its {phrasing.count(total, ctx.style)} ranked indicators"
+    return text, named, topics[0]
 
 
 def candidates(ctx: Context) -> Iterator[Candidate]:
     """One profile statement per entity that reports at least one ranked topic."""
     style = ctx.style
-    cells = ctx.facts.cells.set_index(["entity", "topic"])
     period = ctx.facts.latest_period
+    placings = _placings(ctx)
+    position = {t: int(m.get("position", 0)) for t, m in ctx.topics.items()}
+    composite_ties = ctx.facts.entities["composite_rank"].value_counts().to_dict()
+    moves = ctx.facts.cells.set_index(["entity", "topic"])[["change", "prev_value"]]
     for entity, e in ctx.facts.entities.iterrows():
-        if missing(e["strongest"]) or missing(e["composite"]):
+        key = str(entity)
+        rows = placings.get(key)
+        if rows is None or rows.empty or missing(e["composite"]):
             continue
-        strongest, weakest = str(e["strongest"]), str(e["weakest"])
+        rows = rows.assign(order=rows["topic"].map(position)).sort_values(["percentile", "order"],
+                                                                          ascending=[False, True])
+        top_p, bottom_p = rows["percentile"].max(), rows["percentile"].min()
+        best_rows = rows.loc[rows["percentile"] == top_p]
+        worst_rows = rows.loc[rows["percentile"] == bottom_p]
+        total = len(rows)
+        best_text, best_topics, strongest = _placing(ctx, best_rows, total)
+        worst_text, worst_topics, weakest = _placing(ctx, worst_rows, total, int(best_rows.iloc[0]["rank_of"]))
         rank, of = int(e["composite_rank"]), int(e["composite_of"])
-        s_cell, w_cell = cells.loc[(entity, strongest)], cells.loc[(entity, weakest)]
+        composite_text = rank_phrase(rank, of, int(composite_ties.get(e["composite_rank"], 1)), "neutral",
+                                     ctx.of_n(of), style)
         evidence = {
             "period": ev(period, period),
             "composite": ev(float(e["composite"]), phrasing.number(float(e["composite"]), 0, style)),
-            "composite_rank": ev(rank, phrasing.ordinal(rank)),
+            "composite_rank": ev(rank, composite_text),
             "composite_of": ev(of, phrasing.count(of, style)),
             "composite_topics": ev(int(e["composite_topics"]), phrasing.count(int(e["composite_topics"]), style)),
-            "strongest_rank": ev(int(s_cell["rank"]), phrasing.ordinal(int(s_cell["rank"]))),
-            "weakest_rank": ev(int(w_cell["rank"]), phrasing.ordinal(int(w_cell["rank"]))),
+            "strongest_rank": ev(int(best_rows.iloc[0]["rank"]), best_text),
+            "weakest_rank": ev(int(worst_rows.iloc[0]["rank"]), worst_text),
         }
         claims = {
             "strongest": strongest, "weakest": weakest,
@@ -47,14 +89,19 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         }
         variables = {
             "name": e["name"], "period": period, "nouns": ctx.of_n(of),
-            "strongest": ctx.lower_label(strongest), "weakest": ctx.lower_label(weakest),
-            "same": strongest == weakest,
-            "strongest_of": int(s_cell["rank_of"]), "weakest_of": int(w_cell["rank_of"]),
+            "same": top_p == bottom_p, "ranked_count": total, "ranked_topics": phrasing.count(total, style),
+            "best_topics": best_topics, "worst_topics": worst_topics,
             "topics_used": phrasing.plural(int(e["composite_topics"]), "indicator", style),
-            "all_topics": int(e["composite_topics"]) == int(e["rated_topics"] if not missing(e["rated_topics"]) else 0),
-            "improvement": "" if missing(e["improvement"]) else ctx.lower_label(str(e["improvement"])),
-            "setback": "" if missing(e["setback"]) else ctx.lower_label(str(e["setback"])),
+            "improvement": "" if missing(e["improvement"]) else ctx.the_label(str(e["improvement"])),
+            "setback": "" if missing(e["setback"]) else ctx.the_label(str(e["setback"])),
+            "improvement_up": False, "setback_down": False,
         }
+        for which in ("improvement", "setback"):
+            if not missing(e[which]):
+                move = moves.loc[(key, str(e[which]))]
+                size = ctx.change_size(str(e[which]), float(move["change"]), float(move["prev_value"]))
+                evidence[f"{which}_change"] = ev(float(move["change"]), size)
+                variables["improvement_up" if which == "improvement" else "setback_down"] = (
+                    float(move["change"]) > 0 if which == "improvement" else float(move["change"]) < 0)
         interest = 0.7 + (0.2 if claims["composite_band"] in ("top", "bottom") else 0.0)
-        key = str(entity)
         yield Candidate(slot_id(KIND, key, None), KIND, key, None, evidence, claims, interest, variables)

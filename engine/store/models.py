@@ -82,6 +82,9 @@ class Topic(Base):
     weight: Mapped[float] = mapped_column(default=1.0)
     source: Mapped[str] = mapped_column(String(500), default="")
     position: Mapped[int] = mapped_column(default=0)
+    change: Mapped[str] = mapped_column(String(20), default="", server_default="")
+    label_in_sentence: Mapped[str] = mapped_column(String(300), default="", server_default="")
+    article: Mapped[str] = mapped_column(String(10), default="", server_default="")
 
 
 class Observation(Base):

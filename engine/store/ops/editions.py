@@ -77,6 +77,7 @@ def topics_frame(session: Session) -> pd.DataFrame | None:
         "decimals": r.decimals, "category": r.category,
         "target": float("nan") if r.target is None else r.target,
         "weight": r.weight, "source": r.source, "position": r.position,
+        "change": r.change, "label_in_sentence": r.label_in_sentence, "article": r.article,
     } for r in rows]).astype({"target": "float64", "weight": "float64", "decimals": "int64"})
 
 
@@ -95,7 +96,8 @@ def replace_metadata(session: Session, topics: pd.DataFrame, entities: pd.DataFr
         values = dict(
             label=r.label, unit=r.unit, better=r.better, decimals=int(r.decimals), category=r.category,
             target=None if pd.isna(r.target) else float(r.target), weight=float(r.weight),
-            source=r.source, position=int(r.position),
+            source=r.source, position=int(r.position), change=getattr(r, "change", ""),
+            label_in_sentence=getattr(r, "label_in_sentence", ""), article=getattr(r, "article", ""),
         )
         topic = existing_t.get(r.topic)
         if topic is None:
