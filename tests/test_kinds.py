@@ -120,8 +120,8 @@ def test_ties_share_a_rank_and_are_named_together() -> None:
     assert "joint best of four towns" in out["standing/a/recycling"][0]
     assert out["leaders/recycling"][2]["leader"] == ["a", "b"]
     assert out["leaders/recycling"][0] == (
-        "Recycling rate in 2025 ranged from 50.0% in Ashby and Brill, the best, to 30.0% in Dunmere, the worst: "
-        "20.0 percentage points apart.")
+        "In 2025, Ashby and Brill shared the best recycling rate of four towns at 50.0%, and Dunmere the worst "
+        "at 30.0%, 20.0 percentage points apart.")
 
 
 def test_fewer_than_three_reporting_gets_no_ranking() -> None:
