@@ -19,6 +19,7 @@ from sqlalchemy.orm import Session
 from stetline import actions
 from stetline.actions import SlotView
 from stetline.errors import StetlineError
+from stetline.status import Reason, Status
 
 ACTIONS = ("approve", "annotate", "suppress")
 MAX_ITEMS = 5_000
@@ -38,7 +39,7 @@ def _why_not(action: str, v: SlotView) -> str | None:
     if action == "approve":
         if suppressed:
             return "suppressed: there is no text to approve"
-        if v.slot.status == "approved":
+        if v.slot.status == Status.APPROVED:
             return "already approved"
         return _needs_reading(v)
     if action == "suppress" and suppressed:
@@ -50,9 +51,9 @@ def _needs_reading(v: SlotView) -> str | None:
     """Why a statement must be approved on its own, after a person read it (None when it need not)."""
     recheck = v.slot.recheck or {}
     reasons = recheck.get("reasons", [])
-    if "claim-changed" in reasons:
+    if Reason.CLAIM_CHANGED in reasons:
         return "the new data contradict its claims: approve it on its own, confirming each claim"
-    if "slot-gone" in reasons or v.slot.gone:
+    if Reason.SLOT_GONE in reasons or v.slot.gone:
         return "it no longer applies to the current edition: approve or suppress it on its own"
     if recheck.get("conflicts"):
         return "its proposed text has a conflict: resolve it with a rewrite first"

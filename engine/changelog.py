@@ -15,6 +15,7 @@ from sqlalchemy.orm import Session
 
 from stetline.errors import StetlineError
 from stetline.reconcile import claim_changes
+from stetline.status import Status
 from stetline.store import ops
 
 TOP_NUMBERS = 20
@@ -45,9 +46,11 @@ class Changelog:
             lines += ["## Claims that flipped", ""]
             for f in self.flipped:
                 claims = "; ".join(f"{c['fact']}: {c['old']} → {c['new']}" for c in f["claims"])
-                lines += [f"### {f['slot']}", "", f"{claims}", "", f"- before: {f['old_text']}", f"- after: {f['new_text']}", ""]
+                lines += [f"### {f['slot']}", "", f"{claims}", "", f"- before: {f['old_text']}",
+                          f"- after: {f['new_text']}", ""]
         if self.numbers:
-            lines += ["## Largest changes in values", "", "| statement | before | after | change |", "| --- | --- | --- | --- |"]
+            lines += ["## Largest changes in values", "",
+                      "| statement | before | after | change |", "| --- | --- | --- | --- |"]
             for n in self.numbers:
                 lines.append(f"| {n['slot']} | {n['old']} | {n['new']} | {n['relative']:+.1%} |")
             lines.append("")
@@ -98,6 +101,6 @@ def changes(session: Session, from_label: str | None = None, to_label: str | Non
     statuses = ops.slot_statuses(session, list(layered))
     for slot, types in sorted(layered.items()):
         status, recheck = statuses.get(slot, ("", None))
-        outcome = "recheck: " + ", ".join((recheck or {}).get("reasons", [])) if status == "recheck" else status
+        outcome = "recheck: " + ", ".join((recheck or {}).get("reasons", [])) if status == Status.RECHECK else status
         log.carried.append({"slot": slot, "layers": types, "outcome": outcome})
     return log

@@ -118,12 +118,3 @@ def has_live_fields(text: str) -> bool:
     return "{{" in text or "{%" in text
 
 
-def field_names(text: str) -> set[str]:
-    """The fact names a rewrite's live fields refer to."""
-    env = jinja2.Environment()
-    try:
-        from jinja2 import meta
-
-        return set(meta.find_undeclared_variables(env.parse(text)))
-    except jinja2.TemplateSyntaxError:
-        return set()

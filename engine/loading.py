@@ -31,7 +31,7 @@ from stetline.facts import compute_facts
 from stetline.kinds import KINDS
 from stetline.reconcile import REASONS, Decision, SlotState, reconcile
 from stetline.slotstatus import house_style, recheck_unrenderable
-from stetline.status import Reason
+from stetline.status import Reason, Status
 from stetline.store import ops
 from stetline.store.models import Edition
 from stetline.workspace import Workspace
@@ -233,7 +233,7 @@ def _summarise(summary: LoadSummary, decisions: list[Decision], drafts: Collecti
             summary.gone_waiting += d.recheck is not None
         if state is None:
             summary.drafted += 1
-        elif d.recheck and state.status == "recheck":
+        elif d.recheck and state.status == Status.RECHECK:
             summary.still_in_recheck += 1
             touched += d.slot in drafts
         elif d.recheck:

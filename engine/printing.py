@@ -23,7 +23,7 @@ from sqlalchemy.orm import Session
 from stetline import reconcile
 from stetline.livefields import LiveFieldError, LiveFields
 from stetline.numbers import shown_changes
-from stetline.status import Reason
+from stetline.status import Reason, Status
 from stetline.store import ops
 from stetline.store.models import Approval, Draft, Layer, Slot
 
@@ -47,7 +47,7 @@ class Printed:
     @property
     def waiting(self) -> bool:
         """True when the slot waits in recheck: printed only if the publisher allows it, and marked."""
-        return self.status == "recheck"
+        return self.status == Status.RECHECK
 
 
 def _note_holds(layer: Layer, draft: Draft) -> bool:
@@ -76,13 +76,13 @@ def printed(slot: Slot, draft: Draft, layers: list[Layer], approval: Approval | 
     """What the next publication prints for a slot; ``current`` is its current text (None if suppressed)."""
     notes = [x.text or "" for x in layers if x.type == "annotate"]
     text_layer = next((x for x in layers if x.type in reconcile.TEXT_LAYERS), None)
-    if slot.status != "recheck":
+    if slot.status != Status.RECHECK:
         if slot.gone:
             return Printed(None, "none", "Left out: it no longer applies to the current data.", slot.status)
         if current is None or any(x.type == "suppress" for x in layers):
             who = next((x.by for x in layers if x.type == "suppress"), None)
             return Printed(None, "none", "Left out: suppressed" + (f" by {who}." if who else "."), slot.status)
-        holds = approval if slot.status == "approved" else None
+        holds = approval if slot.status == Status.APPROVED else None
         if text_layer is None:
             source, reason = "draft", "Prints the draft of the current edition"
         else:

@@ -12,7 +12,6 @@ from __future__ import annotations
 import hashlib
 from datetime import date, datetime
 from pathlib import Path
-from typing import Any
 
 from sqlalchemy.orm import Session
 
@@ -22,6 +21,7 @@ from stetline.errors import StetlineError
 from stetline.livefields import LiveFields
 from stetline.publication import Publication, Statement
 from stetline.slotstatus import house_style, recheck_unrenderable
+from stetline.status import Status
 from stetline.store import ops
 
 
@@ -36,8 +36,8 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
     if edition is None:
         raise StetlineError("nothing to publish: load an edition first")
     every = views(session, ops.SlotFilter(include_gone=False), order="interest")
-    blocked = [v.slot.id for v in every if v.slot.status == "recheck"]
-    unapproved = [v.slot.id for v in every if v.slot.status in ("draft", "edited")]
+    blocked = [v.slot.id for v in every if v.slot.status == Status.RECHECK]
+    unapproved = [v.slot.id for v in every if v.slot.status in (Status.DRAFT, Status.EDITED)]
     problems = []
     if blocked and not allow_recheck:
         problems.append(f"{len(blocked)} statement(s) wait in recheck: " + ", ".join(blocked[:20])
@@ -133,11 +133,6 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
     ops.add_event(session, by, "publish", edition_id=edition.id if edition else None,
                   detail={"format": fmt, "sha256": checksum(data), "warnings": pub.warnings})
     return data, pub
-
-
-def describe(values: dict[str, Any]) -> str:
-    """A line naming the title setting (for messages)."""
-    return str(settings_mod.with_defaults(values)["title"])
 
 
 def untraced_numbers(session: Session) -> list[tuple[str, list[str]]]:

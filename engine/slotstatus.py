@@ -19,7 +19,7 @@ from stetline.drafting import Draft as DraftText
 from stetline.livefields import LiveFieldError, LiveFields, has_live_fields
 from stetline.phrasing import HouseStyle
 from stetline.reconcile import Basis, HumanWork, SlotState
-from stetline.status import Reason
+from stetline.status import Reason, Status
 from stetline.store import ops
 from stetline.store.models import Draft, Layer, Slot, utcnow
 
@@ -64,7 +64,7 @@ def render_error(live: LiveFields, layers: list[Layer], draft: Draft) -> str | N
 def _mark(session: Session, slot: Slot, error: str, by: str) -> bool:
     """Put a slot in recheck for a render failure; True when it was not in recheck before."""
     recheck = dict(slot.recheck or {"changes": [], "proposed": None, "clean": False, "conflicts": []})
-    was_waiting = slot.status == "recheck"
+    was_waiting = slot.status == Status.RECHECK
     if Reason.RENDER_FAILED in recheck.get("reasons", []) and recheck.get("error") == error:
         return False
     reasons = set(recheck.get("reasons", [])) | {Reason.RENDER_FAILED}
@@ -72,7 +72,7 @@ def _mark(session: Session, slot: Slot, error: str, by: str) -> bool:
     recheck["error"] = error
     recheck["clean"] = False
     recheck["severity"] = max(reconcile.SEVERITY[r] for r in recheck["reasons"])
-    slot.recheck, slot.severity, slot.status = recheck, recheck["severity"], "recheck"
+    slot.recheck, slot.severity, slot.status = recheck, recheck["severity"], Status.RECHECK
     slot.version += 1
     slot.updated_at = utcnow()
     ops.add_event(session, by, "recheck", slot.id, detail={"reasons": [Reason.RENDER_FAILED], "error": error})
@@ -97,13 +97,13 @@ def restatus(session: Session, slot: Slot, draft: Draft, live: LiveFields | None
     state = SlotState(slot.id, slot.digest, False, "", work)
     if slot.gone:
         if not work:
-            slot.status, slot.recheck, slot.severity = "draft", None, 0
+            slot.status, slot.recheck, slot.severity = Status.DRAFT, None, 0
         return
     decision = reconcile.decide(state, _as_text(draft))
     if decision is None:
-        slot.status = "draft" if not work else slot.status
+        slot.status = Status.DRAFT if not work else slot.status
         if marked_unrenderable(slot):  # nothing else holds it in recheck
-            slot.status = "draft" if not work else "approved" if approval is not None else "edited"
+            slot.status = Status.DRAFT if not work else Status.APPROVED if approval is not None else Status.EDITED
             slot.recheck, slot.severity = None, 0
     else:
         slot.status = decision.status

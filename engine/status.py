@@ -39,5 +39,6 @@ STATUSES: Final[tuple[str, ...]] = tuple(s.value for s in Status)
 REASONS: Final[tuple[str, ...]] = tuple(r.value for r in Reason)
 #: higher is more urgent; the recheck queue sorts by it
 SEVERITY: Final[dict[str, int]] = {
-    Reason.CLAIM_CHANGED: 3, Reason.SLOT_GONE: 3, Reason.RENDER_FAILED: 3, Reason.NUMBERS_CHANGED: 2, Reason.WORDING_CHANGED: 1,
+    Reason.CLAIM_CHANGED: 3, Reason.SLOT_GONE: 3, Reason.RENDER_FAILED: 3,
+    Reason.NUMBERS_CHANGED: 2, Reason.WORDING_CHANGED: 1,
 }

@@ -11,8 +11,8 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from stetline.actions import STATUSES
 from stetline.reconcile import REASONS
+from stetline.status import STATUSES, Status
 from stetline.store import ops
 from stetline.store.models import Edition
 
@@ -39,12 +39,12 @@ class StatusSummary:
     @property
     def waiting(self) -> int:
         """How many statements wait in recheck."""
-        return self.by_status["recheck"]
+        return self.by_status[Status.RECHECK]
 
     @property
     def ready(self) -> int:
         """How many statements could be published now (neither in recheck nor suppressed)."""
-        return self.by_status["approved"] + self.by_status["draft"] + self.by_status["edited"]
+        return self.by_status[Status.APPROVED] + self.by_status[Status.DRAFT] + self.by_status[Status.EDITED]
 
     def to_json(self) -> dict[str, Any]:
         """The summary as plain JSON data."""

@@ -23,7 +23,8 @@ def test_resolve_every_recheck_in_the_browser_and_publish(team_path: Path) -> No
     blocked = admin.get("/publish").get_data(as_text=True)
     assert "change/heronsford/recycling" in blocked
     # the reviewer accepts every clean proposal, then approves the rest one by one from the queue
-    count = int(re.search(r"(\d+) statements? waits? in recheck only because", reviewer.get("/recheck/accept-clean").get_data(as_text=True)).group(1))
+    page = reviewer.get("/recheck/accept-clean").get_data(as_text=True)
+    count = int(re.search(r"(\d+) statements? waits? in recheck only because", page).group(1))  # type: ignore[union-attr]
     assert reviewer.post("/recheck/accept-clean", data={"count": str(count)}).status_code == 303
     for _ in range(30):
         queue = reviewer.get("/recheck").get_data(as_text=True)

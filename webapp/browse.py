@@ -11,6 +11,7 @@ from sqlalchemy.orm import Session
 from stetline import actions
 from stetline.livefields import LiveFields
 from stetline.loading import house_style
+from stetline.status import Status
 from stetline.store import ops
 from stetline.web.db import session
 from stetline.web.paging import current_page
@@ -32,7 +33,8 @@ def _sorted_filtered(rows: list[Any], counts: dict[str, dict[str, int]], fields:
     if q:
         rows = [r for r in rows if all(any(w in str(getattr(r, f) or "").lower() for f in fields) for w in q.split())]
     if sort == "recheck":
-        rows = sorted(rows, key=lambda r: (-counts.get(r.key, {}).get("recheck", 0), str(getattr(r, fields[0])).lower()))
+        rows = sorted(rows, key=lambda r: (-counts.get(r.key, {}).get(Status.RECHECK, 0),
+                                           str(getattr(r, fields[0])).lower()))
     else:
         rows = sorted(rows, key=lambda r: (str(getattr(r, sort) or "").lower(), str(getattr(r, fields[0])).lower()))
     return rows, q, sort
@@ -53,7 +55,8 @@ def topics() -> str:
     """Every topic with how many of its statements are in each status; sortable and filterable."""
     s = session()
     counts = ops.status_counts_by(s, "topic")
-    rows, q, sort = _sorted_filtered(ops.topic_rows(s), counts, ("label", "category", "key", "unit"), TOPIC_SORTS, "label")
+    rows, q, sort = _sorted_filtered(ops.topic_rows(s), counts, ("label", "category", "key", "unit"), TOPIC_SORTS,
+                                     "label")
     return render_template("browse/topics.html", topics=rows, counts=counts, statuses=actions.STATUSES,
                            q=q, sort=sort)
 

@@ -14,6 +14,8 @@ from typing import Any
 from sqlalchemy import JSON, ForeignKey, Index, MetaData, String, Text, UniqueConstraint
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column
 
+from stetline.status import Status
+
 NAMING = {
     "ix": "ix_%(column_0_label)s",
     "uq": "uq_%(table_name)s_%(column_0_name)s",
@@ -115,7 +117,7 @@ class Slot(Base):
     kind: Mapped[str] = mapped_column(String(40))
     entity: Mapped[str | None] = mapped_column(String(200))
     topic: Mapped[str | None] = mapped_column(String(200))
-    status: Mapped[str] = mapped_column(String(20), default="draft")
+    status: Mapped[str] = mapped_column(String(20), default=Status.DRAFT.value)
     version: Mapped[int] = mapped_column(default=1)
     interest: Mapped[float] = mapped_column(default=0.0)
     draft_id: Mapped[int | None]  # the current draft (no foreign key: drafts point at slots)

@@ -104,7 +104,8 @@ def run(clients: int, requests: int) -> dict[str, float]:
                         raise RuntimeError(f"no form on {slot}")
                     note = f"load-test note {n}-{i}"
                     status = c.post(f"/statements/{slot}/annotate",
-                                    {"csrf_token": token.group(1), "version": version.group(1), "text": note, "by": f"client{n}"})
+                                    {"csrf_token": token.group(1), "version": version.group(1), "text": note,
+                                     "by": f"client{n}"})
                     with lock:
                         if status in (200, 303, 302):
                             acknowledged.append(note)

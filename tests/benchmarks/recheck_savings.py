@@ -98,7 +98,8 @@ def main(argv: list[str] | None = None) -> int:
             source = (files["observations"], files["topics"], files["entities"])
             name = f"synthetic {args.entities} x {args.topics} x {args.periods}"
         else:
-            source = (demo.data_file("observations-2025.csv"), demo.data_file("topics.csv"), demo.data_file("entities.csv"))
+            source = (demo.data_file("observations-2025.csv"), demo.data_file("topics.csv"),
+                      demo.data_file("entities.csv"))
             name = "demo"
         result = replay(work, *source)
     print(f"recheck savings on {name}: {result['statements']} statements, all approved")

@@ -18,12 +18,13 @@ from sqlalchemy import ColumnElement, String, cast, false, func, select
 from sqlalchemy.orm import Session
 
 from stetline.reconcile import REASONS
+from stetline.status import Status
 from stetline.store.models import Draft, Entity, Slot, Topic
 
 
 def listed() -> ColumnElement[bool]:
     """The slots a listing shows: not gone, or in recheck."""
-    return (Slot.gone.is_(False)) | (Slot.status == "recheck")
+    return (Slot.gone.is_(False)) | (Slot.status == Status.RECHECK)
 
 
 @dataclass
@@ -117,7 +118,7 @@ def recheck_options(session: Session, field: str) -> list[tuple[str, str]]:
     """The kinds, entities or topics (``field``) of the slots waiting in recheck, each with the
     name to show: kinds sorted, entities and topics in file order."""
     column = {"kind": Slot.kind, "entity": Slot.entity, "topic": Slot.topic}[field]
-    waiting = select(column).where(Slot.status == "recheck", column.is_not(None)).distinct()
+    waiting = select(column).where(Slot.status == Status.RECHECK, column.is_not(None)).distinct()
     if field == "kind":
         return sorted((str(k), str(k)) for (k,) in session.execute(waiting))
     if field == "entity":
@@ -173,7 +174,7 @@ def workspace_counts(session: Session) -> Counts:
             gone += n
         else:
             current += n
-        if not is_gone or status == "recheck":
+        if not is_gone or status == Status.RECHECK:
             statements += n
             by_status[status] = by_status.get(status, 0) + n
     return Counts(statements, current, gone, by_status, recheck_reason_counts(session))
@@ -182,7 +183,7 @@ def workspace_counts(session: Session) -> Counts:
 def recheck_reason_counts(session: Session) -> dict[str, int]:
     """How many slots in recheck carry each reason."""
     counts: dict[str, int] = {}
-    for (recheck,) in session.execute(select(Slot.recheck).where(Slot.status == "recheck")):
+    for (recheck,) in session.execute(select(Slot.recheck).where(Slot.status == Status.RECHECK)):
         for reason in (recheck or {}).get("reasons", []):
             counts[reason] = counts.get(reason, 0) + 1
     return counts
