@@ -9,6 +9,7 @@ fails here: imports point down (no cycle, counting imports inside functions and 
 from __future__ import annotations
 
 import ast
+import re
 from pathlib import Path
 
 import pytest
@@ -166,3 +167,15 @@ def test_only_the_store_speaks_sql() -> None:
                 if extra:
                     offenders.append(f"{name} takes {', '.join(extra)} from {module}")
     assert offenders == []
+
+
+def test_developers_md_lists_every_engine_and_web_module() -> None:
+    # the contributors' guide's layout block names each module; a new or removed module fails here
+    guide = (ROOT / "DEVELOPERS.md").read_text(encoding="utf-8")
+    block = guide.split("## Layout", 1)[1].split("```", 2)[1]
+    named = set(re.findall(r"\b([a-z_]+)\.py\b", block))
+    modules = {p.stem for folder in ("engine", "webapp") for p in (ROOT / folder).glob("*.py")}
+    modules -= {"__init__"}
+    assert sorted(modules - named) == [], "modules DEVELOPERS.md does not name"
+    assert sorted(named - modules - {"models", "db", "listing", "bulk", "accounts", "backup"}) == [], \
+        "DEVELOPERS.md names modules that do not exist"
