@@ -50,6 +50,20 @@ def test_the_wheel_installs_one_top_level_package(wheel: Path) -> None:
         assert inside in names, inside
 
 
+def test_the_wheel_holds_every_module_of_the_tree(wheel: Path) -> None:
+    # pyproject.toml lists the packages by hand: a new subpackage left out would install without
+    # its modules, and only a non-editable install (CI's) would notice
+    rooms = {"engine": "stetline", "webapp": "stetline/web", "migrations": "stetline/migrations",
+             "seed_data": "stetline/seed_data"}
+    with zipfile.ZipFile(wheel) as archive:
+        names = set(archive.namelist())
+    expected = {f"{inside}/{path.relative_to(ROOT / folder).as_posix()}"
+                for folder, inside in rooms.items() for path in (ROOT / folder).rglob("*.py")
+                if "__pycache__" not in path.parts}
+    assert len(expected) > 80
+    assert sorted(expected - names) == []
+
+
 def test_the_top_level_check_would_see_a_second_package() -> None:
     # the check above must be able to fail: a stray module beside the package is reported
     assert _top_level(["stetline/__init__.py", "engine/__init__.py", "six.py",
