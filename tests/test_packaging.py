@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import shutil
 import subprocess
 import sys
 import zipfile
@@ -28,9 +29,14 @@ def _top_level(names: list[str]) -> set[str]:
 def wheel(tmp_path_factory: pytest.TempPathFactory) -> Path:
     """A wheel built from this checkout, as `pip install .` would build it."""
     out = tmp_path_factory.mktemp("wheel")
+    # built from a clean copy: setuptools reuses a checkout's build/ folder, which can hold
+    # modules the package list no longer (or never) names
+    source = tmp_path_factory.mktemp("source") / "stetline"
+    shutil.copytree(ROOT, source, ignore=shutil.ignore_patterns(
+        ".git", ".venv", "build", "dist", "*.egg-info", "__pycache__", ".*_cache", ".hypothesis"))
     subprocess.run(
         [sys.executable, "-m", "pip", "wheel", "--no-deps", "--no-build-isolation", "-q",
-         "-w", str(out), str(ROOT)],
+         "-w", str(out), str(source)],
         check=True, capture_output=True,
     )
     (found,) = out.glob("stetline-*.whl")
