@@ -68,3 +68,17 @@ def test_a_statement_nobody_approved_says_so(client: FlaskClient) -> None:
     assert "Never approved: nobody has signed it off yet." in str(c["box"])
     assert c["reason"] == "Prints the draft of the current edition, not approved."
     assert "Publishing is refused" not in str(c["box"])
+
+
+def test_every_statement_in_the_queue_prints_what_its_page_says(client: FlaskClient) -> None:
+    # web only: the reviewer reads the queue's links, then each statement's card, then the file
+    queue = client.get("/recheck").get_data(as_text=True)
+    slots = sorted(set(re.findall(r'href="/statements/([^"?#]+)"', queue)))
+    assert len(slots) >= 10  # the demo's second edition leaves more than ten waiting
+    cards = {slot: card(client, slot) for slot in slots}
+    md = client.post("/publish/download", data={"format": "md", "sections": "entity", "allow_recheck": "1"}
+                     ).get_data(as_text=True)
+    for slot, c in cards.items():
+        assert f"- `{slot}`: {c['reason']}" in md, slot
+        if c["text"] is not None:
+            assert f"\n**{RECHECK_MARK}** {c['text']}\n" in md, slot
