@@ -2,7 +2,8 @@
 
 A number is traced when it sits inside a fact's displayed text ("45.2%", "4.7 per 1,000
 residents"), or inside a label (the topic label, its unit, the entity name: "per 1,000 residents"
-is a label, not a figure), or else when it matches a fact by value within display rounding.
+is a label, not a figure), or inside the product's own fixed wording (the "out of 100" of a
+composite score), or else when it matches a fact by value within display rounding.
 Anything else is *untraced*: a number a person typed that no fact backs.
 """
 
@@ -20,6 +21,9 @@ from stetline.numbers import find_numbers, trace
 from stetline.store import ops
 
 LABEL = "(label)"
+#: the product's own fixed wording that holds a number: the scale of the composite score
+SCALE = "(scale)"
+FIXED_WORDING = ("out of 100",)
 
 
 @dataclass(frozen=True)
@@ -53,11 +57,14 @@ class SlotAudit:
                 "untraced": [u.text for u in self.untraced]}
 
 
-def audit_text(text: str, evidence: dict[str, dict[str, Any]], labels: list[str], where: str = "text") -> list[NumberUse]:
+def audit_text(
+    text: str, evidence: dict[str, dict[str, Any]], labels: list[str], where: str = "text",
+) -> list[NumberUse]:
     """Trace every number of a text to the evidence, a label, or nothing."""
     covered: dict[int, str] = {}
     spans = sorted(
-        [(str(e.get("shown", "")), name) for name, e in evidence.items()] + [(lab, LABEL) for lab in labels],
+        [(str(e.get("shown", "")), name) for name, e in evidence.items()] + [(lab, LABEL) for lab in labels]
+        + [(words, SCALE) for words in FIXED_WORDING],
         key=lambda pair: -len(pair[0]),
     )
     for shown, source in spans:
@@ -70,11 +77,11 @@ def audit_text(text: str, evidence: dict[str, dict[str, Any]], labels: list[str]
             start = text.find(shown, start + len(shown))
     uses = []
     for number in find_numbers(text):
-        source = covered.get(number.start)
-        if source is None:
+        found: str | None = covered.get(number.start)
+        if found is None:
             facts = trace(number, evidence)
-            source = facts[0] if facts else None
-        uses.append(NumberUse(number.text, source, where))
+            found = facts[0] if facts else None
+        uses.append(NumberUse(number.text, found, where))
     return uses
 
 

@@ -44,8 +44,13 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "state": "", "revised": "", "neutral": c.better == "neutral", "nouns": nouns,
         }
         interest = 0.1
+        variables["now_revised"] = ""
         if c.usable:
             evidence["value"] = ev(float(c.value), ctx.value(c.topic, float(c.value)))
+            if not missing(c.value_revised_from):
+                held = ctx.value(c.topic, float(c.value_revised_from))
+                evidence["value_revised_from"] = ev(float(c.value_revised_from), held)
+                variables["now_revised"] = f" (revised from {held})"
         else:
             evidence["value"] = ev(None, "withheld" if c.status == "confidential" else "missing")
         evidence["previous_period"] = ev(prev_period, prev_period or "none")
