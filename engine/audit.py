@@ -67,14 +67,19 @@ def audit_text(
         + [(words, SCALE) for words in FIXED_WORDING],
         key=lambda pair: -len(pair[0]),
     )
+    folded = text.casefold()  # a label starts lower case mid-sentence ("topic 2 rate")
     for shown, source in spans:
         if not shown or not any(ch.isdigit() for ch in shown):
             continue
-        start = text.find(shown)
+        if source == LABEL:
+            shown, haystack = shown.casefold(), folded
+        else:
+            haystack = text
+        start = haystack.find(shown)
         while start >= 0:
             for pos in range(start, start + len(shown)):
                 covered.setdefault(pos, source)
-            start = text.find(shown, start + len(shown))
+            start = haystack.find(shown, start + len(shown))
     uses = []
     for number in find_numbers(text):
         found: str | None = covered.get(number.start)

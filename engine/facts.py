@@ -147,7 +147,8 @@ def printed_change_is_zero(change: pd.Series, change_rel: pd.Series, unit: pd.Se
     """
     points = (unit == "percent") | change_rel.isna()
     absolute = round_half_up_array(change.abs(), decimals)
-    relative = round_half_up_array((change_rel.abs() * 100).fillna(0.0), 1)
+    # a relative change under 10% prints in per cent to one decimal: the fraction at three places
+    relative = round_half_up_array(change_rel.abs().fillna(0.0), 3)
     zero = np.where(points.to_numpy(), absolute == 0, relative == 0)
     return pd.Series(zero & change.notna().to_numpy(), index=change.index)
 
@@ -371,7 +372,7 @@ def trend_facts(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
     out["first_time"] = first["time"]
     out["points"] = seg.groupby(keys).size()
     # records: the latest earlier period at or above (below) the latest value, by shown value
-    joined = seg.merge(latest[["shown"]].rename(columns={"shown": "latest_shown"}), left_on=keys, right_index=True)
+    joined = seg.merge(latest[["shown"]].rename(columns={"shown": "latest_shown"}).reset_index(), on=keys)
     earlier = joined.loc[joined["time"] < joined["latest_time"]]
     above = earlier.loc[earlier["shown"] >= earlier["latest_shown"]].groupby(keys)["time"].max()
     below = earlier.loc[earlier["shown"] <= earlier["latest_shown"]].groupby(keys)["time"].max()

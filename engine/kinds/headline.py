@@ -57,6 +57,9 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         if phrasing.round_half_up(abs(mean), int(ctx.topics[topic]["decimals"])) != 0:
             shift_move, shift_label = ("up" if mean > 0 else "down"), ctx.lower_label(topic)
             claims["biggest_shift"] = topic
+    if not int(t["compared"].sum()):  # nothing to compare: the statement says what the edition covers
+        evidence["entities"] = ev(len(e), phrasing.count(len(e), style))
+        evidence["all_topics"] = ev(len(t), phrasing.count(len(t), style))
     variables = {
         "period": period, "nouns": ctx.entity_nouns, "shift_move": shift_move, "shift_label": shift_label,
         "n_topics": len(directed),
@@ -64,6 +67,6 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         "improving_labels": phrasing.join([ctx.lower_label(k) for k in improving][:3], style),
         "n_improving": len(improving), "n_worsening": len(worsening),
         "compared": int(t["compared"].sum()), "n_entities": len(e),
-        "entities_counted": ctx.of_n(len(e)), "topics_counted": phrasing.plural(len(directed), "indicator", style),
+        "entities_counted": ctx.of_n(len(e)), "topics_counted": phrasing.plural(len(t), "indicator", style),
     }
     yield Candidate(slot_id(KIND), KIND, None, None, evidence, claims, 1.0, variables)

@@ -59,9 +59,15 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "worsened" if not neutral else "fell": ev(n_down, phrasing.count(n_down, style)),
             "steady": ev(steady, phrasing.count(steady, style)),
         }
+        # the biggest movers among those counted as moving, named with a figure only when it shows
         signed = frame["change"] * (1.0 if neutral else frame["sign"])
-        top_up = frame.loc[signed.idxmax()] if n_up else None
-        top_down = frame.loc[signed.idxmin()] if n_down else None
+        top_up = frame.loc[signed[ups.index].idxmax()] if n_up else None
+        top_down = frame.loc[signed[downs.index].idxmin()] if n_down else None
+        decimals = int(meta["decimals"])
+        if top_up is not None and phrasing.round_half_up(abs(float(top_up["change"])), decimals) == 0:
+            top_up = None
+        if top_down is not None and phrasing.round_half_up(abs(float(top_down["change"])), decimals) == 0:
+            top_down = None
         variables = {
             "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "period": t["period"],
             "prev_period": prev_period, "neutral": neutral, "words": words,

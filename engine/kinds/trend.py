@@ -91,12 +91,14 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                     f"grown at a compound rate of {shown} a year" if cagr > 0
                     else f"fallen at a compound rate of {shown} a year"
                 )
-                if shown.startswith("0.0"):
+                if phrasing.round_half_up(abs(cagr), 3) == 0:  # prints as 0.0%
                     rate_text = "changed little on average"
         natural = bool(t.streak_natural) if not missing(t.streak_natural) else False
         run_since = "" if missing(t.streak_since) else labels.get(float(t.streak_since), "")
         # a run of readings further apart than the calendar's own step is counted in readings
         streak_claim = f"{word}:{streak}" if natural else f"{word}:{streak}:readings"
+        if streak >= 2 and not natural and run_since:
+            evidence["streak_since"] = ev(run_since, run_since)
         claims = {
             "streak": streak_claim if streak >= 2 else "none",
             "record": record,
