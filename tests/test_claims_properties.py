@@ -21,6 +21,7 @@ References for the rules checked:
 from __future__ import annotations
 
 import math
+import random
 import re
 from collections import Counter
 from decimal import ROUND_HALF_UP, Decimal
@@ -43,7 +44,7 @@ ZERO_MOVE = re.compile(
     r"\b(rise|fall|rose|fell|risen|fallen|up|down|improvement|deterioration)( of| by)? 0(\.0+)?"
     r"( ?%| percentage points?| [a-z]+)?(?![\d.,]*\d)"
 )
-ZERO_COUNT = re.compile(r"\b(in|on|of) 0\b")
+ZERO_COUNT = re.compile(r"\b(in|on|of) 0(?![.,]?\d)")
 
 
 def labels_for(spacing: str, n: int) -> tuple[list[str], str]:
@@ -59,14 +60,15 @@ def labels_for(spacing: str, n: int) -> tuple[list[str], str]:
 @st.composite
 def panels(draw: st.DrawFn) -> dict:
     """A small dataset: observations, topics and entities, with the format of its periods."""
-    rnd = draw(st.randoms(use_true_random=False))
+    # the values come from a seeded generator: hypothesis picks the seed and the panel's shape
+    rnd = random.Random(draw(st.integers(0, 2**32 - 1)))
     n_entities = draw(st.one_of(st.integers(2, 12), st.integers(13, 200)))
     n_periods = draw(st.integers(2, 6))
-    spacing = draw(st.sampled_from(SPACINGS))
+    spacing = rnd.choice(SPACINGS)
     labels, fmt = labels_for(spacing, n_periods)
     n_topics = draw(st.integers(1, 3))
-    with_margins = draw(st.booleans())
-    holes = draw(st.sampled_from([0.0, 0.04, 0.15]))  # how often a reading is absent or missing
+    with_margins = rnd.random() < 0.3
+    holes = rnd.choice([0.0, 0.04, 0.15])  # how often a reading is absent or missing
     topics, rows = [], []
     for k in range(n_topics):
         unit = rnd.choice(["percent", "tonnes"])
