@@ -318,3 +318,102 @@ def test_every_number_of_every_draft_is_traced(panel: dict) -> None:
     untraced = {slot: [u.text for u in audit_text(text, evidence, labels) if u.fact is None]
                 for slot, (text, evidence, _claims) in drafts.items()}
     assert {slot: found for slot, found in untraced.items() if found} == {}
+    # in every kind: no zero change said as a rise or a fall, no count of zero said as a figure
+    wrong = {slot: text for slot, (text, _e, _c) in drafts.items() if ZERO_MOVE.search(text) or ZERO_COUNT.search(text)}
+    assert wrong == {}
+
+
+# ---- the cases the issue names ------------------------------------------------------------------
+
+def yearly(rows: list[tuple], topics: list[dict], n: int = 3, earlier: pd.DataFrame | None = None,
+           fmt: str = "year") -> dict[str, tuple[str, dict, dict]]:
+    """Draft rows (entity, topic, period, value) of n entities through the engine's real path."""
+    obs = pd.DataFrame([(*r, float("nan"), "") for r in rows],
+                       columns=["entity", "topic", "period", "value", "margin", "status"])
+    obs["period"] = obs["period"].astype("str")
+    obs["value"] = obs["value"].astype("float64")
+    obs["time"] = periods.times(obs["period"], fmt)
+    obs["row"] = range(2, len(obs) + 2)
+    entities = pd.DataFrame({"entity": [f"e{i}" for i in range(n)], "name": [f"Place {i}" for i in range(n)],
+                             "group": [""] * n, "position": range(n)})
+    t = pd.DataFrame([{"category": "", "target": float("nan"), "weight": 1.0, "source": "", "position": i, **x}
+                      for i, x in enumerate(topics)])
+    facts = compute_facts(obs, t, entities, earlier)
+    style = HouseStyle()
+    ctx = Context(facts, t.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
+                  style, "town")
+    return {d.slot: (d.text, d.evidence, d.claims) for d in draft_all(ctx, Renderer(style), KINDS)}
+
+
+LIFE = {"topic": "life", "label": "Life expectancy", "unit": "years", "better": "higher", "decimals": 2}
+
+
+def test_a_change_that_prints_as_zero_is_steady_everywhere() -> None:
+    # -0.03 on 71.84 is -0.04%: it prints as 0.0%, so the change is steady (DESIGN, "Numbers and words")
+    rows = [("e0", "life", 2024, 71.84), ("e0", "life", 2025, 71.81), ("e1", "life", 2024, 70.0),
+            ("e1", "life", 2025, 71.0), ("e2", "life", 2024, 60.0), ("e2", "life", 2025, 61.0)]
+    out = yearly(rows, [LIFE])
+    text, _e, claims = out["change/e0/life"]
+    assert claims == {"direction": "flat", "better": "steady", "significant": None}
+    assert "worsened" not in text and "0.0%" not in text
+    assert "little changed in 2025: 71.81 years against 71.84 years in 2024" in text
+    movement, _e, m = out["movement/life"]
+    assert m == {"majority": "improved", "exceptions": []}  # not named as an exception
+    assert "improved in two and held steady in one of three towns" in movement
+
+
+def test_five_yearly_runs_are_counted_in_readings_with_the_year_they_start() -> None:
+    rows = [(f"e{i}", "life", y, 50.0 + i + k) for i in range(3) for k, y in enumerate(range(1990, 2011, 5))]
+    text, _e, claims = yearly(rows, [LIFE])["trend/e0/life"]
+    assert claims["streak"] == "improved:4:readings"
+    assert "each of the last four readings" in text and "since 1990" in text
+    assert "years in a row" not in text and "last four years" not in text
+
+
+def test_a_gap_in_the_series_ends_a_run() -> None:
+    rows = [(f"e{i}", "life", y, 50.0 + i + y - 2018) for i in range(3) for y in range(2018, 2025)
+            if not (i == 0 and y == 2021)]
+    out = yearly(rows, [LIFE])
+    assert out["trend/e0/life"][2]["streak"] == "improved:2"  # 2023 and 2024 only: 2021 is absent
+    assert out["trend/e1/life"][2]["streak"] == "improved:6"
+
+
+def test_quarters_and_months_are_named_as_such() -> None:
+    quarters = ["2024-Q2", "2024-Q3", "2024-Q4", "2025-Q1"]
+    rows = [(f"e{i}", "life", q, 50.0 + i + k) for i in range(3) for k, q in enumerate(quarters)]
+    out = yearly(rows, [LIFE], fmt="quarter")["trend/e0/life"][0]
+    assert "three quarters in a row" in out or "each of the last three quarters" in out
+    months = ["2025-01", "2025-02", "2025-03", "2025-04"]
+    rows = [(f"e{i}", "life", m, 50.0 + i + k) for i in range(3) for k, m in enumerate(months)]
+    out = yearly(rows, [LIFE], fmt="month")["trend/e0/life"][0]
+    assert "three months in a row" in out or "each of the last three months" in out
+
+
+def test_a_revised_current_value_is_said_to_be_revised() -> None:
+    rows = [(f"e{i}", "life", y, 60.0 + i + y - 2024) for i in range(3) for y in (2024, 2025)]
+    earlier = pd.DataFrame({"entity": ["e0"], "topic": ["life"], "period": ["2025"], "value": [61.2]})
+    text, evidence, _c = yearly(rows, [LIFE], earlier=earlier)["change/e0/life"]
+    assert "61.00 years (revised from 61.20 years)" in text
+    assert evidence["value_revised_from"]["value"] == 61.2
+
+
+def test_the_headline_says_none_both_and_what_its_biggest_shift_measures() -> None:
+    topics = [{**LIFE, "topic": "a", "label": "Alpha"}, {**LIFE, "topic": "b", "label": "Beta"}]
+    rows = [(f"e{i}", t, y, 60.0 + i + (y - 2024) * (1 if t == "a" else 2)) for i in range(3) for t in "ab"
+            for y in (2024, 2025)]
+    text = yearly(rows, topics)["headline"][0]
+    assert "most towns improved on both indicators." in text
+    assert "They include" not in text and " 0 " not in text
+    assert "Measured against the gap between the best and the worst of the towns" in text
+    rows = [(f"e{i}", t, y, 60.0 + i + (y - 2024) * (1 if t == "a" else 0)) for i in range(3) for t in "ab"
+            for y in (2024, 2025)]
+    text = yearly(rows, topics)["headline"][0]
+    assert "improved on one of two indicators and worsened on none." in text
+    assert "The indicator where most improved is alpha." in text
+
+
+def test_a_first_edition_with_one_period_says_what_it_covers() -> None:
+    rows = [(f"e{i}", "life", 2025, 60.0 + i) for i in range(3)]
+    text = yearly(rows, [LIFE])["headline"][0]
+    assert text.startswith("The 2025 figures cover one indicator for three towns; there is no earlier period")
+    assert "no indicator moved" not in text
