@@ -3,7 +3,10 @@
 Percentages change in percentage points, other units in per cent. When both values carry
 margins (95% half-widths) a change counts only if its size exceeds sqrt(m1² + m2²); otherwise the
 statement says the value was broadly unchanged. A break in series, a missing or withheld value
-stops the change from being stated and the statement says why.
+stops the change from being stated and the statement says why. A change is steady when the
+change itself, rounded as it prints (points at the topic's decimals, or per cent), is zero; the
+statement then says "unchanged", or "little changed" when the two figures show differently. A
+current value revised since the last edition is said as such ("revised from 61.2%").
 
 Claims: ``direction`` (up | down | flat | unknown), ``better`` (improved | worsened | steady |
 n/a: neutral topics and unknown changes), ``significant`` (true | false | null without margins).

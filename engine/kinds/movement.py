@@ -1,8 +1,10 @@
 """``movement`` (topic): how many entities improved, worsened or held steady, and the exceptions.
 
-Held steady: the change rounds to zero at display precision, or is not significant when margins
-are known. When at least three quarters of the entities that moved went the same way, the others
-are named as exceptions. Neutral topics count rises and falls instead.
+Held steady: the change itself, rounded as a change statement prints it, is zero (never two
+rounded values compared), or it is not significant when margins are known. A count of zero is
+never printed; the biggest movers are named among those counted as moving. When at least
+three quarters of the entities that moved went the same way, the others are named as exceptions.
+Neutral topics count rises and falls instead.
 
 Claims: ``majority`` (improved | worsened for directed topics, rose | fell for neutral ones, or
 mixed when neither side has more than half of those that moved), ``exceptions`` (sorted keys).
