@@ -2,7 +2,8 @@
 
 A number is traced when it sits inside a fact's displayed text ("45.2%", "4.7 per 1,000
 residents"), or inside a label (the topic label, its unit, the entity name: "per 1,000 residents"
-is a label, not a figure), or else when it matches a fact by value within display rounding.
+is a label, not a figure), or inside the product's own fixed wording (the "out of 100" of a
+composite score), or else when it matches a fact by value within display rounding.
 Anything else is *untraced*: a number a person typed that no fact backs.
 """
 
@@ -20,6 +21,9 @@ from stetline.numbers import find_numbers, trace
 from stetline.store import ops
 
 LABEL = "(label)"
+#: the product's own fixed wording that holds a number: the scale of the composite score
+SCALE = "(scale)"
+FIXED_WORDING = ("out of 100",)
 
 
 @dataclass(frozen=True)
@@ -53,25 +57,32 @@ class SlotAudit:
                 "untraced": [u.text for u in self.untraced]}
 
 
-def audit_text(text: str, evidence: dict[str, dict[str, Any]], labels: list[str],
-               where: str = "text") -> list[NumberUse]:
+def audit_text(
+    text: str, evidence: dict[str, dict[str, Any]], labels: list[str], where: str = "text",
+) -> list[NumberUse]:
     """Trace every number of a text to the evidence, a label, or nothing."""
     covered: dict[int, str] = {}
     spans = sorted(
-        [(str(e.get("shown", "")), name) for name, e in evidence.items()] + [(lab, LABEL) for lab in labels],
+        [(str(e.get("shown", "")), name) for name, e in evidence.items()] + [(lab, LABEL) for lab in labels]
+        + [(words, SCALE) for words in FIXED_WORDING],
         key=lambda pair: -len(pair[0]),
     )
-    for shown, fact in spans:
+    folded = text.casefold()  # a label starts lower case mid-sentence ("topic 2 rate")
+    for shown, source in spans:
         if not shown or not any(ch.isdigit() for ch in shown):
             continue
-        start = text.find(shown)
+        if source == LABEL:
+            shown, haystack = shown.casefold(), folded
+        else:
+            haystack = text
+        start = haystack.find(shown)
         while start >= 0:
             for pos in range(start, start + len(shown)):
-                covered.setdefault(pos, fact)
-            start = text.find(shown, start + len(shown))
+                covered.setdefault(pos, source)
+            start = haystack.find(shown, start + len(shown))
     uses = []
     for number in find_numbers(text):
-        found = covered.get(number.start)
+        found: str | None = covered.get(number.start)
         if found is None:
             facts = trace(number, evidence)
             found = facts[0] if facts else None

@@ -137,6 +137,22 @@ def _ranks(cells: pd.DataFrame) -> None:
     cells["worst"] = (cells["worst_rank"] == 1) & (cells["rank_of"] > 1)
 
 
+def printed_change_is_zero(change: pd.Series, change_rel: pd.Series, unit: pd.Series, decimals: pd.Series) -> pd.Series:
+    """True where a change, rounded as the statement prints it, is zero (DESIGN "Numbers and words").
+
+    Percent topics print the change in percentage points at the topic's decimals; other topics
+    print the relative change in whole per cent from 10% and to one decimal below (the absolute
+    change at the topic's decimals when there is no base to compare with). The change itself is
+    rounded, never the two values it comes from.
+    """
+    points = (unit == "percent") | change_rel.isna()
+    absolute = round_half_up_array(change.abs(), decimals)
+    # a relative change under 10% prints in per cent to one decimal: the fraction at three places
+    relative = round_half_up_array(change_rel.abs().fillna(0.0), 3)
+    zero = np.where(points.to_numpy(), absolute == 0, relative == 0)
+    return pd.Series(zero & change.notna().to_numpy(), index=change.index)
+
+
 def _changes(cells: pd.DataFrame) -> None:
     """Change since the previous period of the series, and whether it counts as a change."""
     has_prev = cells["prev_value"].notna() & cells["value"].notna() & cells["usable"]
@@ -151,9 +167,10 @@ def _changes(cells: pd.DataFrame) -> None:
     significant = pd.Series(pd.NA, index=cells.index, dtype="boolean")
     significant[both & cells["change_known"]] = (cells["change"].abs() > threshold)[both & cells["change_known"]]
     cells["significant"] = significant
-    shown_now = round_half_up_array(cells["value"], cells["decimals"])
-    shown_before = round_half_up_array(cells["prev_value"], cells["decimals"])
-    flat = (shown_now == shown_before) | (significant.fillna(True) == False)  # noqa: E712
+    cells["change_zero"] = printed_change_is_zero(
+        cells["change"], cells["change_rel"], cells["unit"], cells["decimals"],
+    )
+    flat = cells["change_zero"] | (significant.fillna(True) == False)  # noqa: E712
     step = np.where(flat, 0.0, np.sign(cells["change"]))
     direction = pd.Series(np.select([step > 0, step < 0], ["up", "down"], "flat"), index=cells.index)
     cells["direction"] = direction.where(cells["change_known"], "unknown")
@@ -167,10 +184,20 @@ def _changes(cells: pd.DataFrame) -> None:
 
 
 def _revisions(cells: pd.DataFrame, earlier: pd.DataFrame | None) -> None:
-    """Mark previous-period values that differ from the value the last edition held."""
+    """Mark previous-period and current-period values that differ from the value the last edition held."""
     cells["revised_from"] = np.nan
+    cells["value_revised_from"] = np.nan
     if earlier is None or earlier.empty:
         return
+    # the current period's own value, when an earlier edition already held that period
+    now = cells[["entity", "topic", "period", "value", "decimals"]].merge(
+        earlier[["entity", "topic", "period", "value"]].rename(columns={"value": "held_value"}),
+        on=["entity", "topic", "period"], how="left",
+    )
+    now_differs = now["held_value"].notna() & now["value"].notna() & (
+        round_half_up_array(now["held_value"], now["decimals"]) != round_half_up_array(now["value"], now["decimals"])
+    )
+    cells["value_revised_from"] = now["held_value"].where(now_differs).to_numpy()
     held = earlier.rename(columns={"period": "prev_period", "value": "held_value"})
     held = held[["entity", "topic", "prev_period", "held_value"]]
     merged = cells[["entity", "topic", "prev_period", "prev_value", "decimals"]].merge(
@@ -267,40 +294,85 @@ def _entity_facts(cells: pd.DataFrame, meta: pd.DataFrame, entities: pd.DataFram
     return out
 
 
+#: two times closer than this (in years) are the same distance apart (months are 1/12 of a year)
+TIME_EPS = 1e-6
+
+
+def natural_step(periods: pd.Series) -> pd.Series:
+    """The step of a period label's own calendar, in years: 1 for years, 0.25 for quarters, 1/12 for months."""
+    text = periods.astype("str")
+    return pd.Series(np.select([text.str.contains("-Q"), text.str.contains("-")], [0.25, 1 / 12], 1.0),
+                     index=periods.index)
+
+
+def series_spacing(series: pd.DataFrame) -> pd.Series:
+    """Per topic, the most common distance between consecutive readings (the smaller one on a tie)."""
+    s = series.sort_values(["entity", "topic", "time"], kind="stable")
+    step = s.groupby(["entity", "topic"], sort=False)["time"].diff().round(6)
+    counts = pd.DataFrame({"topic": s["topic"], "step": step}).dropna().value_counts().reset_index(name="n")
+    counts = counts.sort_values(["topic", "n", "step"], ascending=[True, False, True], kind="stable")
+    return counts.drop_duplicates("topic").set_index("topic")["step"]
+
+
 def trend_facts(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
     """Per cell: the run of improvements or declines ending at the latest period, the record the
     latest value sets ("highest since 2021"), and the yearly rate since the series' last break.
 
-    Steps count only when the displayed values differ; a break in series or a missing value
-    ends a run. Returns one row per entity × topic, indexed like ``cells``.
+    A step counts when its change, rounded as a change statement would print it, is not zero
+    (and exceeds sqrt(m1² + m2²) when both readings carry margins). A break in series, a missing
+    or withheld reading, or a step wider than the topic's usual spacing (a gap) ends a run.
+    ``streak_natural`` is true when every step of the run is one period of the calendar (a year, a
+    quarter, a month), so that the run may be said in years, quarters or months; ``streak_since``
+    is the time of the reading the run starts from. Returns one row per entity × topic, indexed
+    like ``cells``.
     """
     keys = ["entity", "topic"]
-    s = series.merge(cells[keys + ["decimals", "sign", "time"]].rename(columns={"time": "latest_time"}), on=keys)
-    s = s.loc[s["usable"] | (s["status"] == BREAK)].sort_values(keys + ["time"], kind="stable")
+    extra = cells[keys + ["decimals", "sign", "time", "unit"]].rename(columns={"time": "latest_time"})
+    s = series.merge(extra, on=keys).sort_values(keys + ["time"], kind="stable")
+    s["spacing"] = s["topic"].map(series_spacing(series)).fillna(np.inf)
+    s["prev_any_time"] = s.groupby(keys, sort=False)["time"].shift(1)
+    s = s.loc[s["usable"] | (s["status"] == BREAK)].copy()
     # a break starts a new segment: nothing is compared across it
     s["segment"] = (s["status"] == BREAK).astype("int64").groupby([s["entity"], s["topic"]]).cumsum()
-    s = s.loc[s["value"].notna()]
+    s = s.loc[s["value"].notna()].copy()
     g = s.groupby(keys + ["segment"], sort=False)
-    shown = round_half_up_array(s["value"], s["decimals"])
-    s["shown"] = shown
-    step = np.sign(s["shown"] - g["shown"].shift(1)).fillna(0.0)
+    prev_value, prev_time, prev_margin = g["value"].shift(1), g["time"].shift(1), g["margin"].shift(1)
+    distance = s["time"] - prev_time
+    gap = prev_time.notna() & ((prev_time != s["prev_any_time"]) | (distance > s["spacing"] + TIME_EPS))
+    change = s["value"] - prev_value
+    rel = (change / prev_value.abs()).where(prev_value.abs() > 0)
+    zero = printed_change_is_zero(change, rel, s["unit"], s["decimals"])
+    within = change.abs() <= np.sqrt(s["margin"] ** 2 + prev_margin ** 2)
+    moved = prev_value.notna() & ~gap & ~zero & ~within
     direction = np.where(s["sign"] == 0, 1.0, s["sign"])
-    s["step"] = step * direction
+    s["step"] = np.where(moved, np.sign(change) * direction, 0.0)
+    s["distance"] = distance.where(moved)
+    s["from_time"] = prev_time
+    s["shown"] = round_half_up_array(s["value"], s["decimals"])
     run_id = (s["step"] != s.groupby(keys + ["segment"], sort=False)["step"].shift(1)).cumsum()
-    s["run"] = s.groupby(run_id).cumcount() + 1
+    runs = s.groupby(run_id)
+    s["run"] = runs.cumcount() + 1
+    s["run_since"] = runs["from_time"].transform("first")
+    unit = natural_step(s["period"])
+    s["run_natural"] = (
+        ((runs["distance"].transform("max") - unit).abs() < TIME_EPS)
+        & ((runs["distance"].transform("min") - unit).abs() < TIME_EPS)
+    )
     last_segment = s.groupby(keys)["segment"].transform("max")
     seg = s.loc[s["segment"] == last_segment]
     latest = seg.loc[seg["time"] == seg["latest_time"]].set_index(keys)
     out = pd.DataFrame(index=pd.MultiIndex.from_frame(cells[keys]))
     out["streak"] = (latest["run"] * latest["step"].abs()).where(latest["step"] != 0, 0)
     out["streak_sign"] = latest["step"]
+    out["streak_since"] = latest["run_since"].where(latest["step"] != 0)
+    out["streak_natural"] = latest["run_natural"] & (latest["step"] != 0)
     first = seg.groupby(keys).first()
     out["first_period"] = first["period"]
     out["first_value"] = first["value"]
     out["first_time"] = first["time"]
     out["points"] = seg.groupby(keys).size()
     # records: the latest earlier period at or above (below) the latest value, by shown value
-    joined = seg.merge(latest[["shown"]].rename(columns={"shown": "latest_shown"}), left_on=keys, right_index=True)
+    joined = seg.merge(latest[["shown"]].rename(columns={"shown": "latest_shown"}).reset_index(), on=keys)
     earlier = joined.loc[joined["time"] < joined["latest_time"]]
     above = earlier.loc[earlier["shown"] >= earlier["latest_shown"]].groupby(keys)["time"].max()
     below = earlier.loc[earlier["shown"] <= earlier["latest_shown"]].groupby(keys)["time"].max()

@@ -207,13 +207,23 @@ def possessive(name: str, style: HouseStyle = DEFAULT) -> str:
     return f"{name}'s"
 
 
+#: how many names a list shows before it ends "… and N others"
+NAMES_SHOWN: Final = 6
+
+
+def others_count(n: int, limit: int = NAMES_SHOWN) -> int:
+    """How many names a capped list of ``n`` folds into "and N others" (0 when it shows them all)."""
+    return n - limit + 1 if limit >= 2 and n > limit else 0
+
+
 def join_names(
-    names: Iterable[str], style: HouseStyle = DEFAULT, conj: str = "and", limit: int = 6,
+    names: Iterable[str], style: HouseStyle = DEFAULT, conj: str = "and", limit: int = NAMES_SHOWN,
 ) -> str:
     """List names: with semicolons when a name holds a comma, and capped ("A, B and 28 others")."""
     parts = [str(n) for n in names]
-    if limit >= 2 and len(parts) > limit:
-        parts = parts[: limit - 1] + [f"{len(parts) - limit + 1} others"]
+    folded = others_count(len(parts), limit)
+    if folded:
+        parts = parts[: limit - 1] + [f"{folded} others"]
     if any("," in p for p in parts) and len(parts) > 1:
         last_sep = "; " if style.serial_comma or len(parts) > 2 else " "
         return f"{'; '.join(parts[:-1])}{last_sep}{conj} {parts[-1]}"

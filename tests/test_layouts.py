@@ -56,7 +56,7 @@ def test_copied_phrasing_rewords_the_sentences_about_averages(demo_cli: Cli) -> 
     change = demo_cli.path / "phrasing" / "change.j2"
     change.write_text(change.read_text().replace("the average did not change", "the average held steady"))
     headline = demo_cli.path / "phrasing" / "headline.j2"
-    headline.write_text(headline.read_text().replace("The biggest shift was in", "The largest movement was in")
+    headline.write_text(headline.read_text().replace("the biggest average change was in", "the largest movement was in")
                         .replace('plural("indicator")', 'plural("measure")'))
     before = [i["draft"] for i in demo_cli.json("list", "--kind", "change") if not i["gone"]]
     assert sum("the average did not change" in d for d in before) > 0
@@ -65,7 +65,7 @@ def test_copied_phrasing_rewords_the_sentences_about_averages(demo_cli: Cli) -> 
     assert [d for d in after if "the average did not change" in d] == []
     assert sum("the average held steady" in d for d in after) == sum("the average did not change" in d for d in before)
     (top,) = [i["draft"] for i in demo_cli.json("list", "--kind", "headline")]
-    assert "The largest movement was in the median broadband download speed" in top
+    assert "the largest movement was in the median broadband download speed" in top
     assert "of 10 measures" in top
 
 

@@ -4,7 +4,10 @@ Percentages change in percentage points, other units in per cent, unless the top
 column says relative or absolute (figures.change_in). When both values carry
 margins (95% half-widths) a change counts only if its size exceeds sqrt(m1² + m2²); otherwise the
 statement says the value was broadly unchanged. A break in series, a missing or withheld value
-stops the change from being stated and the statement says why.
+stops the change from being stated and the statement says why. A change is steady when the
+change itself, rounded as it prints (points at the topic's decimals, or per cent), is zero; the
+statement then says "unchanged", or "little changed" when the two figures show differently. A
+current value revised since the last edition is said as such ("revised from 61.2%").
 
 Claims: ``direction`` (up | down | flat | unknown), ``better`` (improved | worsened | steady |
 n/a: neutral topics and unknown changes), ``significant`` (true | false | null without margins).
@@ -45,8 +48,13 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "state": "", "revised": "", "neutral": c.better == "neutral", "nouns": nouns,
         }
         interest = 0.1
+        variables["now_revised"] = ""
         if c.usable:
             evidence["value"] = ev(float(c.value), ctx.value(c.topic, float(c.value)))
+            if not missing(c.value_revised_from):
+                held = ctx.value(c.topic, float(c.value_revised_from))
+                evidence["value_revised_from"] = ev(float(c.value_revised_from), held)
+                variables["now_revised"] = f" (revised from {held})"
         else:
             evidence["value"] = ev(None, "withheld" if c.status == "confidential" else "missing")
         evidence["previous_period"] = ev(prev_period, prev_period or "none")

@@ -1,8 +1,10 @@
 """``headline`` (dataset): the edition at a glance.
 
-Says on how many topics most entities improved or worsened, and which entity leads the
-composite score, and the biggest shift (the topic whose average change is largest against its
-spread). Claims: ``composite_leader`` (entity key or sorted keys), ``improving`` (topics where
+Says on how many topics most entities improved or worsened (a count of zero is said "none"),
+which entity leads the composite score, and the biggest shift: the topic whose average change
+is largest measured against the gap between its best and worst entity, said in those words.
+When no change can be compared (a first edition of data with a single period), it says what
+the edition covers instead. Claims: ``composite_leader`` (entity key or sorted keys), ``improving`` (topics where
 the majority improved, sorted), ``worsening`` (likewise), ``biggest_shift`` (a topic key, when
 the shift shows).
 """
@@ -51,14 +53,20 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         topic = str(sized.idxmax())
         mean = float(t.at[topic, "mean_change"])
         evidence["biggest_shift"] = ev(mean, ctx.amount(topic, mean))
-        if evidence["biggest_shift"]["shown"] and not evidence["biggest_shift"]["shown"].startswith(("0 ", "0.0 ")):
+        # the average change prints in the topic's own terms at its decimals: a zero is no shift
+        if phrasing.round_half_up(abs(mean), int(ctx.topics[topic]["decimals"])) != 0:
             shift_move, shift_label = ("up" if mean > 0 else "down"), ctx.the_label(topic)
             claims["biggest_shift"] = topic
+    if not int(t["compared"].sum()):  # nothing to compare: the statement says what the edition covers
+        evidence["entities"] = ev(len(e), phrasing.count(len(e), style))
+        evidence["all_topics"] = ev(len(t), phrasing.count(len(t), style))
     variables = {
         "period": period, "nouns": ctx.entity_nouns, "shift_move": shift_move, "shift_label": shift_label,
         "n_topics": len(directed),
         "leaders": ctx.names(leaders), "n_leaders": len(leaders),
         "improving_labels": phrasing.join([ctx.the_label(k) for k in improving][:3], style),
         "n_improving": len(improving), "n_worsening": len(worsening),
+        "compared": int(t["compared"].sum()), "n_entities": len(e),
+        "entities_counted": ctx.of_n(len(e)), "topics_counted": phrasing.plural(len(t), "indicator", style),
     }
     yield Candidate(slot_id(KIND), KIND, None, None, evidence, claims, 1.0, variables)

@@ -1,8 +1,10 @@
 """``movement`` (topic): how many entities improved, worsened or held steady, and the exceptions.
 
-Held steady: the change rounds to zero at display precision, or is not significant when margins
-are known. When at least three quarters of the entities that moved went the same way, the others
-are named as exceptions. Neutral topics count rises and falls instead.
+Held steady: the change itself, rounded as a change statement prints it, is zero (never two
+rounded values compared), or it is not significant when margins are known. A count of zero is
+never printed; the biggest movers are named among those counted as moving. When at least
+three quarters of the entities that moved went the same way, the others are named as exceptions.
+Neutral topics count rises and falls instead.
 
 Claims: ``majority`` (improved | worsened for directed topics, rose | fell for neutral ones, or
 mixed when neither side has more than half of those that moved), ``exceptions`` (sorted keys).
@@ -15,6 +17,7 @@ from collections.abc import Iterator
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
 from stetline.kinds.common import MIN_RANKED, missing
+from stetline.words import others_count
 
 KIND = "movement"
 PHRASINGS = 2
@@ -59,9 +62,15 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "worsened" if not neutral else "fell": ev(n_down, phrasing.count(n_down, style)),
             "steady": ev(steady, phrasing.count(steady, style)),
         }
+        # the biggest movers among those counted as moving, named with a figure only when it shows
         signed = frame["change"] * (1.0 if neutral else frame["sign"])
-        top_up = frame.loc[signed.idxmax()] if n_up else None
-        top_down = frame.loc[signed.idxmin()] if n_down else None
+        top_up = frame.loc[signed[ups.index].idxmax()] if n_up else None
+        top_down = frame.loc[signed[downs.index].idxmin()] if n_down else None
+        decimals = int(meta["decimals"])
+        if top_up is not None and phrasing.round_half_up(abs(float(top_up["change"])), decimals) == 0:
+            top_up = None
+        if top_down is not None and phrasing.round_half_up(abs(float(top_down["change"])), decimals) == 0:
+            top_down = None
         variables = {
             "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "the_label": ctx.the_label(topic),
             "period": t["period"],
@@ -70,6 +79,9 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "exceptions": ctx.names(exceptions), "n_exceptions": len(exceptions),
             "best_mover": "", "worst_mover": "",
         }
+        folded = others_count(len(exceptions))
+        if folded:  # "… and 5 others": the count the list folds away is a fact like the rest
+            evidence["other_exceptions"] = ev(folded, str(folded))
         if top_up is not None:
             evidence["biggest_up"] = ev(float(top_up["change"]), ctx.amount(topic, float(top_up["change"])))
             variables["best_mover"] = ctx.name(str(top_up["entity"]))

@@ -13,7 +13,7 @@ from collections.abc import Iterator
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, phrasing_index, slot_id
-from stetline.kinds.common import MIN_RANKED, band, band_note, caveat, missing, rank_phrase, status_shown
+from stetline.kinds.common import MIN_RANKED, band, band_note, caveat, missing, place, rank_phrase, status_shown
 
 KIND = "standing"
 PHRASINGS = 4
@@ -74,6 +74,9 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             shared = tied.get((c.topic, float(rank)), 1)
             variables["rank_text"] = rank_phrase(rank, of, shared, c.better, ctx.of_n(of), style) + band_note(
                 rank, of, shared)
+            _top, counted = place(rank, of, shared)
+            if counted not in (1, rank):  # counted from the nearer end: "28th worst" is a fact too
+                evidence["place"] = ev(counted, phrasing.ordinal_word(counted, style))
             if rank == 1 or bool(c.worst):
                 interest += 0.4
             elif claims["rank_band"] in ("top", "bottom"):

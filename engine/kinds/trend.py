@@ -1,14 +1,17 @@
 """``trend`` (entity × topic): the run of the series up to the latest period.
 
-Says how many periods in a row the value improved or worsened (rose or fell for neutral topics),
+Says how many periods in a row the value improved or worsened (rose or fell for neutral topics):
+in years, quarters or months when every step of the run is one such period, else in readings
+with the period the run started from ("at each of the last three readings, since 1992"). Says
 whether the latest value is the highest or lowest since some earlier period, and the yearly rate
-since the start of the series (or its last break): the compound annual growth rate for counts
-and amounts, the average yearly change in percentage points for percentages. Steps are judged
-on displayed values; a break in series or a missing value ends a run.
+since the start of the series (or its last break), over the real time between the periods: the
+compound annual growth rate for counts and amounts, the average yearly change in percentage
+points for percentages. A step is judged on its change as it would print; a break in series, a
+missing value or a gap wider than the topic's usual spacing ends a run.
 
 Claims: ``streak`` ("improved:3", "worsened:2", "rose:4", "fell:2" for runs of two or more
-periods, else "none"), ``record`` ("highest-on-record", "lowest-on-record", "highest-since:2021",
-"lowest-since:2021" or "none").
+periods; "improved:3:readings" when counted in readings; else "none"), ``record``
+("highest-on-record", "lowest-on-record", "highest-since:2021", "lowest-since:2021" or "none").
 """
 
 from __future__ import annotations
@@ -25,9 +28,10 @@ PHRASINGS = 2
 MIN_POINTS = 3  # a trend needs at least three values
 
 
-def _period_word(period: str, n: int) -> str:
+def _period_word(period: str, n: int, natural: bool) -> str:
+    """'years', 'quarters' or 'months' when the run steps one calendar period at a time, else 'readings'."""
     word = "quarter" if "-Q" in period else ("month" if "-" in period else "year")
-    return phrasing.noun_plural(word, n)
+    return phrasing.noun_plural(word if natural else "reading", n)
 
 
 def candidates(ctx: Context) -> Iterator[Candidate]:
@@ -87,16 +91,23 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                     f"grown at a compound rate of {shown} a year" if cagr > 0
                     else f"fallen at a compound rate of {shown} a year"
                 )
-                if shown.startswith("0.0"):
+                if phrasing.round_half_up(abs(cagr), 3) == 0:  # prints as 0.0%
                     rate_text = "changed little on average"
+        natural = bool(t.streak_natural) if not missing(t.streak_natural) else False
+        run_since = "" if missing(t.streak_since) else labels.get(float(t.streak_since), "")
+        # a run of readings further apart than the calendar's own step is counted in readings
+        streak_claim = f"{word}:{streak}" if natural else f"{word}:{streak}:readings"
+        if streak >= 2 and not natural and run_since:
+            evidence["streak_since"] = ev(run_since, run_since)
         claims = {
-            "streak": f"{word}:{streak}" if streak >= 2 else "none",
+            "streak": streak_claim if streak >= 2 else "none",
             "record": record,
         }
         variables = {
             "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
             "period": c.period, "caveat": caveat(c.status), "streak": streak, "streak_word": word,
-            "periods_word": _period_word(str(c.period), streak),
+            "periods_word": _period_word(str(c.period), streak, natural), "natural": natural,
+            "run_since": run_since,
             "participle": {"rose": "risen", "fell": "fallen"}.get(word, word),
             "record": record.split(":")[0], "since": since, "rate_text": rate_text,
             "first_period": t.first_period,

@@ -1,0 +1,419 @@
+"""Every claim of every kind against a recomputation written here in plain Python (hypothesis).
+
+The panels vary: readings one, two or five years apart, quarters and months; ties; missing and
+withheld values, breaks in series and gaps; changes that round to zero at display precision;
+percent and other units; 2 to 200 entities. Each claim is recomputed from the rows with Python's
+``decimal`` module (never with the engine's own functions) and compared with the draft.
+
+References for the rules checked:
+- steady is decided on the change as it prints, never on two rounded values: DESIGN, "Numbers and
+  words" (the project's own rule); the printed change is in percentage points for percentages
+  (ONS Service Manual, "Percentages") and in per cent otherwise, whole from 10%, one decimal below
+  (DESIGN); rounding half-up at the last step (Eurostat Statistics Explained, "Tutorial: Rounding
+  of numbers");
+- a change is significant when it exceeds sqrt(m1² + m2²) of the 95% half-widths: the usual rule
+  for two independent estimates (common practice);
+- compound annual growth (end / start) ** (1 / years) - 1 over the real time between periods
+  (common practice, as in any finance handbook);
+- counts, streaks and "N years in a row" in the series' own spacing: the project's own rule.
+"""
+
+from __future__ import annotations
+
+import math
+import random
+import re
+from collections import Counter
+from decimal import ROUND_HALF_UP, Decimal
+
+import pandas as pd
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from stetline import periods
+from stetline.audit import audit_text
+from stetline.drafting import Context, Renderer, draft_all
+from stetline.facts import compute_facts
+from stetline.kinds import KINDS
+from stetline.phrasing import HouseStyle
+
+SPACINGS = ("year1", "year2", "year5", "quarter", "month")
+SETTINGS = settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+# a zero change said as a rise or a fall: "a fall of 0.0%", "rose by 0", "down 0.0", "(0 tonnes)"
+ZERO_MOVE = re.compile(
+    r"\b(rise|fall|rose|fell|risen|fallen|up|down|improvement|deterioration)( of| by)? 0(\.0+)?"
+    r"( ?%| percentage points?| [a-z]+)?(?![\d.,]*\d)"
+)
+ZERO_COUNT = re.compile(r"\b(in|on|of) 0(?![.,]?\d)(?! out of)")  # a composite "score of 0 out of 100" is a score
+
+
+def labels_for(spacing: str, n: int) -> tuple[list[str], str]:
+    """n period labels of a spacing, oldest first, and their format name."""
+    if spacing.startswith("year"):
+        step = int(spacing[4:])
+        return [str(1990 + step * i) for i in range(n)], "year"
+    if spacing == "quarter":
+        return [f"{2019 + (i // 4)}-Q{i % 4 + 1}" for i in range(n)], "quarter"
+    return [f"{2019 + (i // 12)}-{i % 12 + 1:02d}" for i in range(n)], "month"
+
+
+@st.composite
+def panels(draw: st.DrawFn) -> dict:
+    """A small dataset: observations, topics and entities, with the format of its periods."""
+    # the values come from a seeded generator: hypothesis picks the seed and the panel's shape
+    rnd = random.Random(draw(st.integers(0, 2**32 - 1)))
+    n_entities = draw(st.one_of(st.integers(2, 12), st.integers(13, 200)))
+    n_periods = draw(st.integers(2, 6))
+    spacing = rnd.choice(SPACINGS)
+    labels, fmt = labels_for(spacing, n_periods)
+    n_topics = draw(st.integers(1, 3))
+    with_margins = rnd.random() < 0.3
+    holes = rnd.choice([0.0, 0.04, 0.15])  # how often a reading is absent or missing
+    topics, rows = [], []
+    for k in range(n_topics):
+        unit = rnd.choice(["percent", "tonnes"])
+        decimals = rnd.choice([0, 1, 2])
+        unit_step = 10.0 ** -decimals
+        key = f"t{k}"
+        better = rnd.choice(["higher", "lower", "neutral"])
+        topics.append({"topic": key, "label": f"Topic {k}", "unit": unit, "better": better, "decimals": decimals,
+                       "category": "", "target": float("nan"), "weight": 1.0, "source": "",
+                       "position": k})
+        for e in range(n_entities):
+            value = round(rnd.uniform(20, 80) if unit == "percent" else rnd.uniform(1, 900), decimals + 2)
+            if rnd.random() < 0.2:
+                value = 50.0  # ties
+            for i, label in enumerate(labels):
+                if i:
+                    kind = rnd.random()
+                    if kind < 0.25:
+                        pass  # no change at all
+                    elif kind < 0.45:  # below half a display step: rounds to zero in points
+                        value += rnd.choice([-1, 1]) * 0.4 * unit_step
+                    elif kind < 0.6:  # a relative change that prints as 0.0% or 0.1%
+                        value += rnd.choice([-1, 1]) * value * rnd.choice([0.0004, 0.0006])
+                    elif kind < 0.75:
+                        value += rnd.choice([-1, 1]) * unit_step
+                    else:
+                        value += rnd.uniform(-8, 8)
+                    value = min(100.0, max(0.0, value)) if unit == "percent" else max(0.5, value)
+                if i and rnd.random() < holes:
+                    continue  # a gap: no row for this period
+                status = rnd.choices(["", "provisional", "break", "confidential"], [90, 4, 3, 3])[0]
+                shown = float("nan") if rnd.random() < holes else value
+                margin = rnd.uniform(0.1, 3.0) if with_margins and unit == "percent" else float("nan")
+                rows.append((f"e{e:03d}", key, label, shown, margin, status))
+    obs = pd.DataFrame(rows, columns=["entity", "topic", "period", "value", "margin", "status"])
+    obs["period"] = obs["period"].astype("str")
+    obs["value"] = obs["value"].astype("float64")
+    obs["margin"] = obs["margin"].astype("float64")
+    obs["time"] = periods.times(obs["period"], fmt)
+    obs["row"] = range(2, len(obs) + 2)
+    entities = pd.DataFrame({"entity": [f"e{e:03d}" for e in range(n_entities)],
+                             "name": [f"Place {e}" for e in range(n_entities)],
+                             "group": ["North" if e % 2 else "South" for e in range(n_entities)],
+                             "position": range(n_entities)})
+    return {"obs": obs, "topics": pd.DataFrame(topics), "entities": entities, "fmt": fmt, "rows": rows,
+            "labels": labels}
+
+
+def drafts_of(panel: dict) -> dict[str, tuple[str, dict, dict]]:
+    """Draft every slot of a panel through the engine's real path (facts, kinds, templates)."""
+    t, entities = panel["topics"], panel["entities"]
+    facts = compute_facts(panel["obs"], t, entities)
+    style = HouseStyle()
+    ctx = Context(facts, t.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
+                  style, "town")
+    return {d.slot: (d.text, d.evidence, d.claims) for d in draft_all(ctx, Renderer(style), KINDS)}
+
+
+# ---- the recomputation: plain Python over the rows ----------------------------------------------
+
+def half_up(x: float, places: int) -> Decimal:
+    """x as written (its repr), rounded half-up (Eurostat rounding tutorial: at the last step)."""
+    return Decimal(repr(x)).quantize(Decimal(1).scaleb(-places), rounding=ROUND_HALF_UP)
+
+
+def prints_as_zero(change: float, before: float, unit: str, decimals: int) -> bool:
+    """Whether a change prints as zero: points at the topic's decimals, else per cent to one decimal."""
+    if unit == "percent" or before == 0:
+        return half_up(abs(change), decimals) == 0
+    return half_up(abs(change) / abs(before) * 100, 1) == 0 if abs(change) / abs(before) < 0.1 else False
+
+
+def series_of(panel: dict) -> dict[tuple[str, str], list[tuple]]:
+    """Each entity × topic's rows, oldest first: (period, time, value, margin, status)."""
+    out: dict[tuple[str, str], list[tuple]] = {}
+    for e, t, period, value, margin, status in panel["rows"]:
+        out.setdefault((e, t), []).append((period, periods.period_time(period), value, margin, status))
+    return out
+
+
+def usable(row: tuple) -> bool:
+    return not math.isnan(row[2]) and row[4] != "confidential"
+
+
+def expected_change(rows: list[tuple], latest: float, meta: dict) -> tuple[str, str] | None:
+    """(direction, better) of the change to the latest period, or None when no change is stated."""
+    at = [i for i, r in enumerate(rows) if r[1] == latest]
+    if not at or at[0] == 0:
+        return None
+    now, before = rows[at[0]], rows[at[0] - 1]
+    if not usable(now) or not usable(before) or now[4] == "break":
+        return None
+    change = now[2] - before[2]
+    flat = prints_as_zero(change, before[2], meta["unit"], meta["decimals"])
+    if not math.isnan(now[3]) and not math.isnan(before[3]):
+        flat = flat or abs(change) <= math.sqrt(now[3] ** 2 + before[3] ** 2)
+    direction = "flat" if flat else ("up" if change > 0 else "down")
+    if meta["better"] == "neutral":
+        return direction, "n/a"
+    if flat:
+        return direction, "steady"
+    good = (change > 0) == (meta["better"] == "higher")
+    return direction, "improved" if good else "worsened"
+
+
+def usual_spacing(series: dict, topic: str) -> float:
+    """The most common distance between consecutive rows of a topic (the smaller on a tie)."""
+    counts: Counter = Counter()
+    for (_e, t), rows in series.items():
+        if t == topic:
+            counts.update(round(b[1] - a[1], 6) for a, b in zip(rows, rows[1:]))
+    best = max(counts.values())
+    return min(d for d, n in counts.items() if n == best)
+
+
+def expected_streak(rows: list[tuple], meta: dict, spacing: float, natural: float) -> str:
+    """The streak claim: steps judged as printed, ended by a break, a missing reading or a gap."""
+    rows = rows[max([i for i, r in enumerate(rows) if r[4] == "break"], default=0):]
+    direction = -1 if meta["better"] == "lower" else 1
+    steps: list[tuple[int, float]] = []  # (step sign, distance) from the latest backwards
+    for i in range(len(rows) - 1, 0, -1):
+        now, before = rows[i], rows[i - 1]
+        if not usable(now) or not usable(before) or now[1] - before[1] > spacing + 1e-6:
+            break
+        change = now[2] - before[2]
+        zero = prints_as_zero(change, before[2], meta["unit"], meta["decimals"])
+        if not math.isnan(now[3]) and not math.isnan(before[3]):
+            zero = zero or abs(change) <= math.sqrt(now[3] ** 2 + before[3] ** 2)
+        sign = 0 if zero else (1 if change > 0 else -1) * direction
+        if sign == 0 or (steps and sign != steps[0][0]):
+            break
+        steps.append((sign, now[1] - before[1]))
+    if len(steps) < 2:
+        return "none"
+    if meta["better"] == "neutral":
+        word = "rose" if steps[0][0] > 0 else "fell"
+    else:
+        word = "improved" if steps[0][0] > 0 else "worsened"
+    in_calendar = all(abs(d - natural) < 1e-6 for _s, d in steps)
+    return f"{word}:{len(steps)}" if in_calendar else f"{word}:{len(steps)}:readings"
+
+
+# ---- the properties ---------------------------------------------------------------------------
+
+@SETTINGS
+@given(panels())
+def test_change_and_movement_claims_match_a_recomputation(panel: dict) -> None:
+    drafts = drafts_of(panel)
+    series = series_of(panel)
+    metas = panel["topics"].set_index("topic").to_dict("index")
+    for topic, meta in metas.items():
+        latest = max(r[1] for (_e, t), rows in series.items() if t == topic for r in rows)
+        moves = {}
+        for (e, t), rows in series.items():
+            if t != topic:
+                continue
+            expected = expected_change(rows, latest, meta)
+            text, _ev, claims = drafts[f"change/{e}/{t}"]
+            if expected is None:
+                assert claims["direction"] == "unknown", (text, rows)
+                continue
+            moves[e] = expected
+            assert (claims["direction"], claims["better"]) == expected, (text, rows)
+            # a change that prints as zero is never said as a rise or a fall
+            assert not ZERO_MOVE.search(text), text
+            if expected[0] == "flat":
+                first = text.split(". ")[0]
+                assert not re.search(r"\b(rose|fell|improved|worsened) (from|by)\b", first), text
+        slot = f"movement/{topic}"
+        if len(moves) < 3:
+            assert slot not in drafts
+            continue
+        text, evidence, claims = drafts[slot]
+        column = 0 if meta["better"] == "neutral" else 1
+        up_word, down_word = ("up", "down") if column == 0 else ("improved", "worsened")
+        n_up = sum(1 for m in moves.values() if m[column] == up_word)
+        n_down = sum(1 for m in moves.values() if m[column] == down_word)
+        names = ("rose", "fell") if column == 0 else ("improved", "worsened")
+        assert evidence[names[0]]["value"] == n_up and evidence[names[1]]["value"] == n_down, text
+        assert evidence["steady"]["value"] == len(moves) - n_up - n_down, text
+        moved = n_up + n_down
+        majority = names[0] if moved and 2 * n_up > moved else (names[1] if moved and 2 * n_down > moved else "mixed")
+        assert claims["majority"] == majority, text
+        exceptions: list[str] = []
+        if moved and max(n_up, n_down) >= 0.75 * moved and min(n_up, n_down) > 0:
+            odd = down_word if n_up > n_down else up_word
+            exceptions = sorted(e for e, m in moves.items() if m[column] == odd)
+        assert claims["exceptions"] == exceptions, text
+        # no count of zero printed as a figure, no zero move
+        assert not ZERO_COUNT.search(text) and not ZERO_MOVE.search(text), text
+
+
+@SETTINGS
+@given(panels())
+def test_trend_streaks_are_counted_in_the_series_own_spacing(panel: dict) -> None:
+    drafts = drafts_of(panel)
+    series = series_of(panel)
+    metas = panel["topics"].set_index("topic").to_dict("index")
+    natural = {"year": 1.0, "quarter": 0.25, "month": 1 / 12}[panel["fmt"]]
+    unit_word = {"year": "years", "quarter": "quarters", "month": "months"}[panel["fmt"]]
+    for (e, t), rows in series.items():
+        slot = f"trend/{e}/{t}"
+        if slot not in drafts:
+            continue
+        text, _ev, claims = drafts[slot]
+        expected = expected_streak(rows, metas[t], usual_spacing(series, t), natural)
+        assert claims["streak"] == expected, (text, rows)
+        if expected == "none":
+            assert "in a row" not in text and "each of the last" not in text, text
+        elif expected.endswith(":readings"):
+            # readings further apart than the calendar's own step are never counted as years
+            assert "readings" in text and "in a row" not in text and unit_word not in text, text
+        else:
+            assert unit_word in text, text
+        assert not ZERO_MOVE.search(text), text
+
+
+@SETTINGS
+@given(panels())
+def test_headline_majorities_and_wording_match_a_recomputation(panel: dict) -> None:
+    drafts = drafts_of(panel)
+    series = series_of(panel)
+    metas = panel["topics"].set_index("topic").to_dict("index")
+    improving, worsening = [], []
+    for topic, meta in metas.items():
+        if meta["better"] == "neutral":
+            continue
+        latest = max(r[1] for (_e, t), rows in series.items() if t == topic for r in rows)
+        moves = [expected_change(rows, latest, meta) for (_e, t), rows in series.items() if t == topic]
+        better = [m[1] for m in moves if m is not None]
+        n_up, n_down = better.count("improved"), better.count("worsened")
+        if n_up + n_down and 2 * n_up > n_up + n_down:
+            improving.append(topic)
+        if n_up + n_down and 2 * n_down > n_up + n_down:
+            worsening.append(topic)
+    text, _ev, claims = drafts["headline"]
+    assert claims["improving"] == sorted(improving) and claims["worsening"] == sorted(worsening), text
+    assert not ZERO_COUNT.search(text) and "They include" not in text, text
+    assert not ZERO_MOVE.search(text), text
+
+
+@SETTINGS
+@given(panels())
+def test_every_number_of_every_draft_is_traced(panel: dict) -> None:
+    drafts = drafts_of(panel)
+    labels = list(panel["topics"]["label"]) + list(panel["topics"]["unit"]) + list(panel["entities"]["name"])
+    untraced = {slot: [u.text for u in audit_text(text, evidence, labels) if u.fact is None]
+                for slot, (text, evidence, _claims) in drafts.items()}
+    assert {slot: found for slot, found in untraced.items() if found} == {}
+    # in every kind: no zero change said as a rise or a fall, no count of zero said as a figure
+    wrong = {slot: text for slot, (text, _e, _c) in drafts.items() if ZERO_MOVE.search(text) or ZERO_COUNT.search(text)}
+    assert wrong == {}
+
+
+# ---- the cases the issue names ------------------------------------------------------------------
+
+def yearly(rows: list[tuple], topics: list[dict], n: int = 3, earlier: pd.DataFrame | None = None,
+           fmt: str = "year") -> dict[str, tuple[str, dict, dict]]:
+    """Draft rows (entity, topic, period, value) of n entities through the engine's real path."""
+    obs = pd.DataFrame([(*r, float("nan"), "") for r in rows],
+                       columns=["entity", "topic", "period", "value", "margin", "status"])
+    obs["period"] = obs["period"].astype("str")
+    obs["value"] = obs["value"].astype("float64")
+    obs["time"] = periods.times(obs["period"], fmt)
+    obs["row"] = range(2, len(obs) + 2)
+    entities = pd.DataFrame({"entity": [f"e{i}" for i in range(n)], "name": [f"Place {i}" for i in range(n)],
+                             "group": [""] * n, "position": range(n)})
+    t = pd.DataFrame([{"category": "", "target": float("nan"), "weight": 1.0, "source": "", "position": i, **x}
+                      for i, x in enumerate(topics)])
+    facts = compute_facts(obs, t, entities, earlier)
+    style = HouseStyle()
+    ctx = Context(facts, t.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
+                  style, "town")
+    return {d.slot: (d.text, d.evidence, d.claims) for d in draft_all(ctx, Renderer(style), KINDS)}
+
+
+LIFE = {"topic": "life", "label": "Life expectancy", "unit": "years", "better": "higher", "decimals": 2}
+
+
+def test_a_change_that_prints_as_zero_is_steady_everywhere() -> None:
+    # -0.03 on 71.84 is -0.04%: it prints as 0.0%, so the change is steady (DESIGN, "Numbers and words")
+    rows = [("e0", "life", 2024, 71.84), ("e0", "life", 2025, 71.81), ("e1", "life", 2024, 70.0),
+            ("e1", "life", 2025, 71.0), ("e2", "life", 2024, 60.0), ("e2", "life", 2025, 61.0)]
+    out = yearly(rows, [LIFE])
+    text, _e, claims = out["change/e0/life"]
+    assert claims == {"direction": "flat", "better": "steady", "significant": None}
+    assert "worsened" not in text and "0.0%" not in text
+    assert "little changed in 2025: 71.81 years against 71.84 years in 2024" in text
+    movement, _e, m = out["movement/life"]
+    assert m == {"majority": "improved", "exceptions": []}  # not named as an exception
+    assert "improved in two and held steady in one of three towns" in movement
+
+
+def test_five_yearly_runs_are_counted_in_readings_with_the_year_they_start() -> None:
+    rows = [(f"e{i}", "life", y, 50.0 + i + k) for i in range(3) for k, y in enumerate(range(1990, 2011, 5))]
+    text, _e, claims = yearly(rows, [LIFE])["trend/e0/life"]
+    assert claims["streak"] == "improved:4:readings"
+    assert "each of the last four readings" in text and "since 1990" in text
+    assert "years in a row" not in text and "last four years" not in text
+
+
+def test_a_gap_in_the_series_ends_a_run() -> None:
+    rows = [(f"e{i}", "life", y, 50.0 + i + y - 2018) for i in range(3) for y in range(2018, 2025)
+            if not (i == 0 and y == 2021)]
+    out = yearly(rows, [LIFE])
+    assert out["trend/e0/life"][2]["streak"] == "improved:2"  # 2023 and 2024 only: 2021 is absent
+    assert out["trend/e1/life"][2]["streak"] == "improved:6"
+
+
+def test_quarters_and_months_are_named_as_such() -> None:
+    quarters = ["2024-Q2", "2024-Q3", "2024-Q4", "2025-Q1"]
+    rows = [(f"e{i}", "life", q, 50.0 + i + k) for i in range(3) for k, q in enumerate(quarters)]
+    out = yearly(rows, [LIFE], fmt="quarter")["trend/e0/life"][0]
+    assert "three quarters in a row" in out or "each of the last three quarters" in out
+    months = ["2025-01", "2025-02", "2025-03", "2025-04"]
+    rows = [(f"e{i}", "life", m, 50.0 + i + k) for i in range(3) for k, m in enumerate(months)]
+    out = yearly(rows, [LIFE], fmt="month")["trend/e0/life"][0]
+    assert "three months in a row" in out or "each of the last three months" in out
+
+
+def test_a_revised_current_value_is_said_to_be_revised() -> None:
+    rows = [(f"e{i}", "life", y, 60.0 + i + y - 2024) for i in range(3) for y in (2024, 2025)]
+    earlier = pd.DataFrame({"entity": ["e0"], "topic": ["life"], "period": ["2025"], "value": [61.2]})
+    text, evidence, _c = yearly(rows, [LIFE], earlier=earlier)["change/e0/life"]
+    assert "61.00 years (revised from 61.20 years)" in text
+    assert evidence["value_revised_from"]["value"] == 61.2
+
+
+def test_the_headline_says_none_both_and_what_its_biggest_shift_measures() -> None:
+    topics = [{**LIFE, "topic": "a", "label": "Alpha"}, {**LIFE, "topic": "b", "label": "Beta"}]
+    rows = [(f"e{i}", t, y, 60.0 + i + (y - 2024) * (1 if t == "a" else 2)) for i in range(3) for t in "ab"
+            for y in (2024, 2025)]
+    text = yearly(rows, topics)["headline"][0]
+    assert "most towns improved on both indicators." in text
+    assert "They include" not in text and " 0 " not in text
+    assert "Measured against the gap between the best and the worst of the towns" in text
+    rows = [(f"e{i}", t, y, 60.0 + i + (y - 2024) * (1 if t == "a" else 0)) for i in range(3) for t in "ab"
+            for y in (2024, 2025)]
+    text = yearly(rows, topics)["headline"][0]
+    assert "improved on one of two indicators and worsened on none." in text
+    assert "The indicator where most improved is Alpha." in text
+
+
+def test_a_first_edition_with_one_period_says_what_it_covers() -> None:
+    rows = [(f"e{i}", "life", 2025, 60.0 + i) for i in range(3)]
+    text = yearly(rows, [LIFE])["headline"][0]
+    assert text.startswith("The 2025 figures cover one indicator for three towns; there is no earlier period")
+    assert "no indicator moved" not in text
