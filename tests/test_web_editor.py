@@ -44,7 +44,9 @@ def page(client: FlaskClient, url: str, status: int = 200) -> str:
 
 def test_nav_links_every_page_group(client: FlaskClient) -> None:
     html = page(client, "/")
-    for href, label in (("/", "Overview"), ("/entities", "Entities"), ("/topics", "Topics"),
+    # the entity noun setting (the demo's "town") names the list, in the plural
+    assert ">Entities</a>" not in html
+    for href, label in (("/", "Overview"), ("/entities", "Towns"), ("/topics", "Topics"),
                         ("/recheck", "Recheck queue")):
         assert f'<a href="{href}"' in html and f">{label}</a>" in html
 
@@ -98,8 +100,10 @@ def test_statement_page_shows_texts_evidence_claims_recheck_and_history(client: 
     assert '<span class="badge badge-recheck">recheck</span>' in html
     assert "What the next publication prints</h2>" in html and "<h2>Draft</h2>" in html
     assert "The household recycling rate in Heronsford improved from 59.0% in 2024 to 59.3% in 2025" in html
-    assert "<td><code>value</code></td><td>59.3</td><td>59.3%</td>" in html  # evidence: fact, value, shown
-    assert "<td><code>direction</code></td><td>up</td>" in html  # claims
+    # evidence: the fact in words (its live-field key beside it) and the value as shown, never the raw float
+    assert '<td>value this period <code class="slot-id">value</code></td><td>59.3%</td>' in html
+    assert "<td>direction of the change</td><td>up</td>" in html  # claims in words
+    assert "<h1>Household recycling rate in Heronsford — change" in html  # names, not the slot id, in the title
     assert "numbers-changed" in html and "<td>59.0%</td><td>→ 59.3%</td>" in html  # facts old → new
     assert 'class="merge merge-clean">clean<' in html
     assert "<del>2.4</del><ins>0.3</ins>" in html  # proposed vs the rewrite, word by word
@@ -314,7 +318,8 @@ def test_accept_every_clean_proposal_after_confirming_the_count(client, demo_ws)
 def test_the_changelog_page(client) -> None:
     page = client.get("/changes").get_data(as_text=True)
     assert "From edition <strong>2024</strong> to <strong>2025</strong>" in page
-    assert "change/gorse-point/recycling" in page and "direction: up → down" in page
+    assert "change/gorse-point/recycling" in page and "direction of the change: up → down" in page
+    assert "Household recycling rate in Gorse Point — change</a>" in page
     assert "leaders/paper-timetables" in page
 
 

@@ -27,6 +27,7 @@ from stetline.reconcile import REASONS
 from stetline.store import ops
 from stetline.web.common import acting_name
 from stetline.web.db import session, workspace
+from stetline.web.wording import web_message
 
 bp = Blueprint("data", __name__)
 
@@ -107,7 +108,7 @@ def _refused() -> tuple[str, int] | None:
     try:
         accounts.authorize(session(), acting_name(), "load")
     except Forbidden as exc:
-        return _page(status=403, form_error=str(exc))
+        return _page(status=403, form_error=web_message(exc))
     return None
 
 
@@ -147,7 +148,7 @@ def check() -> tuple[str, int]:
         return _page(status=400, problems=exc.problems, label=label)
     except StetlineError as exc:
         shutil.rmtree(folder, ignore_errors=True)
-        return _page(status=400, form_error=str(exc), label=label)
+        return _page(status=400, form_error=web_message(exc), label=label)
     names = {role: Path(p).name for role, p in files.items()}
     return _page(preview=summary.to_json(), token=token, names=names, label=label)
 
@@ -176,7 +177,7 @@ def load() -> Response | tuple[str, int]:
     except ValidationError as exc:
         return _page(status=400, problems=exc.problems)
     except StetlineError as exc:
-        return _page(status=403 if isinstance(exc, Forbidden) else 400, form_error=str(exc))
+        return _page(status=403 if isinstance(exc, Forbidden) else 400, form_error=web_message(exc))
     finally:
         shutil.rmtree(folder, ignore_errors=True)
     return redirect(url_for("data.page", loaded=summary.edition), code=303)
