@@ -51,7 +51,7 @@ FACT_WORDS: dict[str, str] = {
     "biggest_up": "biggest rise",
     "biggest_down": "biggest fall",
     "biggest_shift": "biggest shift",
-    "mean_change": "average change",
+    "mean_change": "average change of all",
     "streak": "periods in a row",
     "composite": "overall score",
     "composite_of": "number given an overall score",

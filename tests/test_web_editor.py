@@ -89,6 +89,8 @@ def test_unknown_keys_and_slots_are_404_pages(client: FlaskClient) -> None:
     assert "There is no topic" in page(client, "/topics/nothing", 404)
     html = page(client, "/statements/change/atlantis/recycling", 404)
     assert "Not found" in html and "no statement" in html
+    # the web names its own ways to find a statement, not a command to type
+    assert "stetline list" not in html and "find it from the overview" in html
     assert client.post("/statements/change/atlantis/recycling/approve", data={"version": "1"}).status_code == 404
     assert client.post("/statements/nope/preview", data={"text": "x"}).status_code == 404
 
@@ -350,3 +352,14 @@ def test_two_people_saving_the_same_statement_the_second_sees_the_conflict(app, 
     assert kept.status_code == 303
     with demo_ws.session() as s:
         assert actions.view(s, slot).layers[-1].text == "Tidemere's population rose in 2025."
+
+
+def test_every_page_writes_times_in_one_form(client: FlaskClient) -> None:
+    import re
+
+    for url in ("/", "/data", "/publish", f"/statements/{HERONSFORD}", "/recheck"):
+        main = page(client, url).split("<main", 1)[1]
+        assert not re.search(r"\d{4}-\d\d-\d\d[T ]\d\d:\d\d", main), url  # no ISO or numeric stamps
+    history = page(client, f"/statements/{HERONSFORD}")
+    assert re.search(r"<td>\d{1,2} (January|February|March|April|May|June|July|August|September|October|November"
+                     r"|December) \d{4}, \d\d:\d\d UTC</td><td>editor</td><td>rewrite</td>", history)

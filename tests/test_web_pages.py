@@ -236,6 +236,9 @@ def test_publishing_is_refused_while_statements_wait_in_recheck(client: FlaskCli
     assert response.status_code == 409
     html = response.get_data(as_text=True)
     assert "Nothing was published" in html and "wait in recheck" in html
+    # the refusal names the page's tick box, not the command-line option (the CLI keeps its wording)
+    assert "--allow-recheck" not in html
+    assert "Resolve them, or tick “Publish even though statements wait in recheck” on the publish page." in html
     with demo_ws.session() as s:
         assert ops.events_by_action(s, "publish") == []
 

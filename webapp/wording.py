@@ -25,6 +25,7 @@ WEB_WORDS: tuple[tuple[str, str], ...] = (
     ("(--role admin)", "(role: admin)"),
     ("choose another label with --edition", "type another label in the “Edition label” box"),
     ("give --force to replace it", "choose another name"),
+    ("wait in recheck (--allow-recheck)", "wait in recheck"),
     ("--allow-recheck", "“Publish even though statements wait in recheck”"),
     ("`stetline suppress --lift`", "the “Lift suppression” button"),
 )
