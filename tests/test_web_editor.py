@@ -298,7 +298,8 @@ def test_entity_and_topic_lists_sort_and_filter(client) -> None:
     assert names == sorted(names) and "North Quay" in names and "Tidemere" not in names  # Coast towns only
     by_recheck = client.get("/entities?sort=recheck").get_data(as_text=True)
     first = re.findall(r'<td><a href="/entities/([^"]+)">', by_recheck)[0]
-    assert first in ("north-quay", "gorse-point", "heronsford", "tidemere", "high-ferrow", "samphire-reach", "wrackhaven")
+    assert first in ("north-quay", "gorse-point", "heronsford", "tidemere", "high-ferrow", "samphire-reach",
+                     "wrackhaven")
     topics = client.get("/topics?q=percent").get_data(as_text=True)
     assert "Household recycling rate" in topics and "Median broadband download speed" not in topics
     assert "No topics match" in client.get("/topics?q=zzz").get_data(as_text=True)

@@ -153,6 +153,10 @@ def test_an_upload_identical_to_the_current_edition_says_so(client: FlaskClient,
     assert same in html
     assert html.index(same) < html.index("Check before loading: edition 2025-r2")  # before the new label
     assert "Load it anyway as edition 2025-r2" in html
+    with_metadata = {"observations": (demo_bytes("observations-2025.csv"), "again.csv"),
+                     "topics": (demo_bytes("topics.csv"), "topics.csv"),
+                     "entities": (demo_bytes("entities.csv"), "entities.csv")}
+    assert same in upload(client, with_metadata).get_data(as_text=True)  # the same metadata too
     changed = upload(client, {"observations": (revised_2025(), "revised.csv")}).get_data(as_text=True)
     assert "holds the same data" not in changed and "Load this edition" in changed
     assert edition_labels(demo_ws) == ["2024", "2025"]

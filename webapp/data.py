@@ -181,8 +181,12 @@ def _same_as_current(preview: dict[str, Any], sources: tuple[Path, Path | None, 
         return False
     metadata = ((sources[1], dataset.topics, known_topics), (sources[2], dataset.entities, known_entities))
     for given, new, known in metadata:
+        if given is None:
+            continue  # no file: the stored metadata stays as it is
+        if known is None:
+            return False  # a file where none was stored adds metadata
         shared = [c for c in new.columns if c in known.columns and c != "position"]
-        if given is not None and _rows(new, shared) != _rows(known, shared):
+        if _rows(new, shared) != _rows(known, shared):
             return False
     return True
 
