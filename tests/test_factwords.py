@@ -27,3 +27,31 @@ def test_claim_values_name_entities_and_topics_and_join_lists() -> None:
 def test_a_shown_change_is_kept_as_shown() -> None:
     assert factwords.change_value("2025-Q1", {}) == "2025-Q1"  # a period keeps its hyphen
     assert factwords.change_value("59.3%", {}) == "59.3%"
+
+
+def test_web_messages_name_the_pages_buttons_and_boxes_not_command_line_options() -> None:
+    from stetline.web.wording import web_message
+
+    said = {
+        "no statement 'x/y'; list them with: stetline list": "find it from the overview",
+        "3 statement(s) wait in recheck. Resolve them, or publish with --allow-recheck.":
+            "tick “Publish even though statements wait in recheck” on the publish page",
+        "confirm each claim to approve it as it reads (stetline approve --confirm-claims, or tick each claim on "
+        "the web page), or rewrite it": "(tick each claim above the button)",
+        "edition '2025' already exists; choose another label with --edition": "“Edition label” box",
+        "the proposed text of x has a conflict; edit it (stetline rewrite) before approving": "“Rewrite” box",
+        "--from must name an edition older than --to": "“From” must name an edition older than “To”",
+    }
+    for engine_words, web_words in said.items():
+        shown = web_message(engine_words)
+        assert web_words in shown and "stetline " not in shown and "--" not in shown, shown
+
+
+def test_times_read_the_same_whether_stored_as_text_or_as_a_time() -> None:
+    from datetime import datetime
+
+    from stetline.web.wording import when
+
+    assert when("2026-12-02T10:31:05Z") == "2 December 2026, 10:31 UTC"
+    assert when(datetime(2026, 12, 2, 10, 31, 5)) == "2 December 2026, 10:31 UTC"
+    assert when(None) == "" and when("not a time") == "not a time"

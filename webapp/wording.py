@@ -27,6 +27,9 @@ WEB_WORDS: tuple[tuple[str, str], ...] = (
     ("give --force to replace it", "choose another name"),
     ("wait in recheck (--allow-recheck)", "wait in recheck"),
     ("--allow-recheck", "“Publish even though statements wait in recheck”"),
+    ("edit it (stetline rewrite) before approving", "edit it in the “Rewrite” box before approving"),
+    ("load an edition first (stetline load)", "load an edition first on the Data page"),
+    ("--from must name an edition older than --to", "“From” must name an edition older than “To”"),
     ("`stetline suppress --lift`", "the “Lift suppression” button"),
 )
 
