@@ -119,6 +119,13 @@ def _numeric(table: Table, column: str, allow_empty: bool, what: str) -> tuple[p
     return values.where(~bad), problems
 
 
+def _key_malformed(keys: pd.Series) -> pd.Series:
+    """Which keys break a rule of their own (empty, a '/', a formula opener, too long)."""
+    keys = keys.astype("str")
+    return ((keys.str.strip() == "") | keys.str.contains("/", regex=False) | keys.str.startswith(FORMULA_PREFIXES)
+            | (keys.str.len() > 200))
+
+
 def _keys(table: Table, column: str) -> list[Problem]:
     keys = table.frame[column].astype("str")
     problems = _bad_cells(table, column, keys.str.strip() == "", "the key is empty")
@@ -145,11 +152,19 @@ def _duplicates(table: Table, columns: list[str], what: str) -> list[Problem]:
     return problems
 
 
-def _parse_observations(table: Table) -> tuple[pd.DataFrame | None, str, list[Problem]]:
+def _parse_observations(table: Table) -> tuple[pd.DataFrame | None, str, list[Problem], pd.DataFrame | None]:
+    """The observations (None when any cell is wrong), the period format, the problems, and the
+    entity and topic keys with their rows (None when the columns are wrong) for the name checks."""
     problems = _check_columns(table, OBSERVATION_COLUMNS, OBSERVATION_OPTIONAL)
     if problems:
-        return None, "", problems
+        return None, "", problems, None
     frame = table.frame
+    keys = pd.DataFrame({
+        "entity": frame["entity"].astype("str"), "topic": frame["topic"].astype("str"),
+        "row": frame.index.to_numpy() + 2,
+    })
+    for col in ("entity", "topic"):  # a malformed key is told once, as malformed, not also as unknown
+        keys.loc[_key_malformed(keys[col]).to_numpy(), col] = ""
     for col in OBSERVATION_OPTIONAL:
         if col not in frame.columns:
             frame[col] = ""
@@ -187,7 +202,7 @@ def _parse_observations(table: Table) -> tuple[pd.DataFrame | None, str, list[Pr
     if not problems:
         problems += _duplicates(table, ["entity", "topic", "period"], "observation")
     if problems:
-        return None, chosen, problems
+        return None, chosen, problems, keys
     out = pd.DataFrame({
         "entity": frame["entity"].astype("str"),
         "topic": frame["topic"].astype("str"),
@@ -198,7 +213,7 @@ def _parse_observations(table: Table) -> tuple[pd.DataFrame | None, str, list[Pr
         "time": periods.times(period, chosen),
         "row": frame.index.to_numpy() + 2,
     })
-    return out, chosen, []
+    return out, chosen, [], keys
 
 
 def _parse_topics(table: Table) -> tuple[pd.DataFrame | None, list[Problem]]:
@@ -280,7 +295,7 @@ def _unknown_keys(
 ) -> list[Problem]:
     known = list(known)
     known_set = set(known)
-    unknown = obs.loc[~obs[column].isin(known_set)]
+    unknown = obs.loc[~obs[column].isin(known_set) & (obs[column].str.strip() != "")]  # an empty key is told apart
     problems = []
     for key, rows in unknown.groupby(column, sort=True)["row"]:
         hint = difflib.get_close_matches(str(key), known, n=1, cutoff=0.5)
@@ -328,7 +343,7 @@ def load_dataset(
         raise ValidationError([Problem(Path(str(exc.filename)).name, None, None, "the file does not exist")]) from None
     except IsADirectoryError as exc:
         raise ValidationError([Problem(str(exc.filename), None, None, "this is a folder, not a file")]) from None
-    obs, fmt, p = _parse_observations(obs_t)
+    obs, fmt, p, keys = _parse_observations(obs_t)
     problems += p
     topic_frame = entity_frame = None
     if topics_t is not None:
@@ -339,22 +354,28 @@ def load_dataset(
         problems += p
     merged_topics = _merge(known_topics, topic_frame, "topic")
     merged_entities = _merge(known_entities, entity_frame, "entity")
-    if obs is not None and not problems:
-        if merged_topics is None:
-            problems.append(Problem(obs_t.name, None, "topic",
-                                    "no topic metadata: give a topics file on the first load"))
-        else:
-            problems += _unknown_keys(obs, "topic", merged_topics["topic"], obs_t.name, "topic")
-            problems += _percent_range(obs, merged_topics, obs_t.name)
-        if merged_entities is None:
-            problems.append(Problem(obs_t.name, None, "entity",
-                                    "no entity metadata: give an entities file on the first load"))
-        else:
-            problems += _unknown_keys(obs, "entity", merged_entities["entity"], obs_t.name, "entity")
+    if keys is not None:  # the names are checked in the same round as the cells, so one pass lists all
+        problems += _names_known(keys, obs_t.name, "topic", merged_topics, broken=topics_t is not None
+                                 and topic_frame is None)
+        problems += _names_known(keys, obs_t.name, "entity", merged_entities, broken=entities_t is not None
+                                 and entity_frame is None)
+    if obs is not None and merged_topics is not None and not problems:
+        problems += _percent_range(obs, merged_topics, obs_t.name)
     if problems or obs is None:
         raise ValidationError(problems)
     assert merged_topics is not None and merged_entities is not None
     return Dataset(obs, merged_topics, merged_entities, fmt, files)
+
+
+def _names_known(keys: pd.DataFrame, file: str, what: str, meta: pd.DataFrame | None, *,
+                 broken: bool) -> list[Problem]:
+    """Problems for the observations' keys that the metadata does not name (none when its file is itself wrong)."""
+    if broken:
+        return []  # the metadata file's own problems are listed; its names cannot be trusted yet
+    if meta is None:
+        return [Problem(file, None, what, f"no {what} metadata: give {'an' if what == 'entity' else 'a'} "
+                        f"{what}s file on the first load")]
+    return _unknown_keys(keys, what, meta[what], file, what)
 
 
 def _merge(known: pd.DataFrame | None, new: pd.DataFrame | None, key: str) -> pd.DataFrame | None:

@@ -83,8 +83,11 @@ def test_a_suppressed_statement_says_so(demo_cli: Cli) -> None:
 
 def test_evidence_shows_a_status_as_a_word(demo_cli: Cli) -> None:
     out = demo_cli("show", "change/heronsford/recycling").stdout
-    assert "    status: final\n" in out and "()" not in out
-    assert "    value: 59.3%  (59.3)\n" in out  # a number keeps its raw value beside the shown one
+    assert "    status of the figure (status): final\n" in out and "()" not in out
+    # a fact in words with its live-field name, and its value as shown, never the raw float
+    assert "    value this period (value): 59.3%\n" in out
+    assert "    average change of all (mean_change): 0.1 percentage points\n" in out
+    assert "    direction of the change: up\n" in out  # claims in words too
 
 
 def test_settings_are_checked_like_the_web_app(demo_cli: Cli) -> None:

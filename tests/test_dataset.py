@@ -534,3 +534,60 @@ def test_the_2025_demo_file_loads_with_paper_timetables_discontinued() -> None:
     assert "paper-timetables" in set(data.topics["topic"])
     assert "paper-timetables" not in set(data.observations["topic"])
     assert data.latest_period == "2025"
+
+
+# --------------------------------------------------------------------------- one round of checks
+
+# One file with four kinds of problem: a value that is not a number (row 2), a period that is not
+# a period (row 3), an entity (row 4) and a topic (row 5) that the metadata does not name.
+FOUR_KINDS = (
+    f"{OBS_HEADER}\n"
+    "north-quay,recycling,2024,lots\n"
+    "tidemere,recycling,last year,41\n"
+    "atlantis,recycling,2024,40\n"
+    "tidemere,fly-tipping,2024,3\n"
+)
+
+
+def test_one_file_reports_bad_values_periods_and_unknown_names_together(tmp_path: Path) -> None:
+    problems = problems_of(tmp_path, FOUR_KINDS)
+    where = {(p.file, p.row, p.column) for p in problems}
+    assert where == {
+        ("observations.csv", 2, "value"), ("observations.csv", 3, "period"),
+        ("observations.csv", 4, "entity"), ("observations.csv", 5, "topic"),
+    }, problems
+    messages = " | ".join(p.message for p in problems)
+    assert "'atlantis' is not in the entity metadata" in messages
+    assert "'fly-tipping' is not in the topic metadata" in messages
+
+
+def test_unknown_names_are_not_checked_against_a_broken_metadata_file(tmp_path: Path) -> None:
+    broken_topics = TOPICS_CSV.replace("percent,higher,1", "percent,upwards,1")
+    problems = problems_of(tmp_path, f"{OBS_HEADER}\ntidemere,recycling,2024,40\n", topics=broken_topics)
+    assert [(p.file, p.row, p.column) for p in problems] == [("topics.csv", 2, "better")]
+
+
+def test_the_cli_reports_all_four_kinds_at_once_and_writes_nothing(demo_path: Path, tmp_path: Path) -> None:
+    import subprocess
+    import sys
+
+    from stetline.store import ops
+    from stetline.workspace import open_workspace
+
+    demo_rows = FOUR_KINDS.replace("north-quay", "heronsford").replace("tidemere", "gorse-point")
+    bad = write(tmp_path / "four.csv", demo_rows)
+    command = str(Path(sys.executable).parent / "stetline")  # the installed command, run as a subprocess
+    done = subprocess.run([command, "load", str(bad), "--by", "admin", "-w", str(demo_path)],
+                          capture_output=True, text=True, timeout=300)
+    assert done.returncode != 0 and "Traceback" not in done.stderr
+    for line in ("four.csv, row 2, column 'value': the value is not a number: 'lots'",
+                 "four.csv, row 3, column 'period': not a period",
+                 "four.csv, row 4, column 'entity': entity 'atlantis' is not in the entity metadata",
+                 "four.csv, row 5, column 'topic': topic 'fly-tipping' is not in the topic metadata"):
+        assert line in done.stderr, done.stderr
+    ws = open_workspace(demo_path)
+    try:
+        with ws.session() as s:
+            assert [e.label for e in ops.editions(s)] == ["2024", "2025"]  # a failed load writes nothing
+    finally:
+        ws.close()

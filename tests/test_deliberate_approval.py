@@ -206,8 +206,9 @@ def test_approve_all_shown_skips_claim_changed_gone_and_conflicting_statements(c
     todo = re.search(r'<section aria-labelledby="todo-h">(.*?)</section>', html, re.S).group(1)  # type: ignore[union-attr]
     skipped = re.search(r'<section aria-labelledby="skip-h">(.*?)</section>', html, re.S).group(1)  # type: ignore[union-attr]
     for slot in (SAMPHIRE, GORSE, HIGH_FERROW, GONE):
-        assert f"<code>{slot}</code>" in skipped and f"<code>{slot}</code>" not in todo
-    assert f"<code>{HERONSFORD}</code>" in todo
+        shown = f'<code class="slot-id">{slot}</code>'  # beside the statement's title
+        assert shown in skipped and shown not in todo
+    assert f'<code class="slot-id">{HERONSFORD}</code>' in todo
     n_skipped = int(re.search(r"Left as they are \((\d+)\)", html).group(1))  # type: ignore[union-attr]
     assert f"and {n_skipped} left as they are" in html and "never approved in bulk" in html
 

@@ -44,7 +44,9 @@ def page(client: FlaskClient, url: str, status: int = 200) -> str:
 
 def test_nav_links_every_page_group(client: FlaskClient) -> None:
     html = page(client, "/")
-    for href, label in (("/", "Overview"), ("/entities", "Entities"), ("/topics", "Topics"),
+    # the entity noun setting (the demo's "town") names the list, in the plural
+    assert ">Entities</a>" not in html
+    for href, label in (("/", "Overview"), ("/entities", "Towns"), ("/topics", "Topics"),
                         ("/recheck", "Recheck queue")):
         assert f'<a href="{href}"' in html and f">{label}</a>" in html
 
@@ -87,6 +89,8 @@ def test_unknown_keys_and_slots_are_404_pages(client: FlaskClient) -> None:
     assert "There is no topic" in page(client, "/topics/nothing", 404)
     html = page(client, "/statements/change/atlantis/recycling", 404)
     assert "Not found" in html and "no statement" in html
+    # the web names its own ways to find a statement, not a command to type
+    assert "stetline list" not in html and "find it from the overview" in html
     assert client.post("/statements/change/atlantis/recycling/approve", data={"version": "1"}).status_code == 404
     assert client.post("/statements/nope/preview", data={"text": "x"}).status_code == 404
 
@@ -98,8 +102,10 @@ def test_statement_page_shows_texts_evidence_claims_recheck_and_history(client: 
     assert '<span class="badge badge-recheck">recheck</span>' in html
     assert "What the next publication prints</h2>" in html and "<h2>Draft</h2>" in html
     assert "The household recycling rate in Heronsford improved from 59.0% in 2024 to 59.3% in 2025" in html
-    assert "<td><code>value</code></td><td>59.3</td><td>59.3%</td>" in html  # evidence: fact, value, shown
-    assert "<td><code>direction</code></td><td>up</td>" in html  # claims
+    # evidence: the fact in words (its live-field key beside it) and the value as shown, never the raw float
+    assert '<td>value this period <code class="slot-id">value</code></td><td>59.3%</td>' in html
+    assert "<td>direction of the change</td><td>up</td>" in html  # claims in words
+    assert "<h1>Household recycling rate in Heronsford — change" in html  # names, not the slot id, in the title
     assert "numbers-changed" in html and "<td>59.0%</td><td>→ 59.3%</td>" in html  # facts old → new
     assert 'class="merge merge-clean">clean<' in html
     assert "<del>2.4</del><ins>0.3</ins>" in html  # proposed vs the rewrite, word by word
@@ -315,7 +321,8 @@ def test_accept_every_clean_proposal_after_confirming_the_count(client, demo_ws)
 def test_the_changelog_page(client) -> None:
     page = client.get("/changes").get_data(as_text=True)
     assert "From edition <strong>2024</strong> to <strong>2025</strong>" in page
-    assert "change/gorse-point/recycling" in page and "direction: up → down" in page
+    assert "change/gorse-point/recycling" in page and "direction of the change: up → down" in page
+    assert "Household recycling rate in Gorse Point — change</a>" in page
     assert "leaders/paper-timetables" in page
 
 
@@ -346,3 +353,14 @@ def test_two_people_saving_the_same_statement_the_second_sees_the_conflict(app, 
     assert kept.status_code == 303
     with demo_ws.session() as s:
         assert actions.view(s, slot).layers[-1].text == "Tidemere's population rose in 2025."
+
+
+def test_every_page_writes_times_in_one_form(client: FlaskClient) -> None:
+    import re
+
+    for url in ("/", "/data", "/publish", f"/statements/{HERONSFORD}", "/recheck"):
+        main = page(client, url).split("<main", 1)[1]
+        assert not re.search(r"\d{4}-\d\d-\d\d[T ]\d\d:\d\d", main), url  # no ISO or numeric stamps
+    history = page(client, f"/statements/{HERONSFORD}")
+    assert re.search(r"<td>\d{1,2} (January|February|March|April|May|June|July|August|September|October|November"
+                     r"|December) \d{4}, \d\d:\d\d UTC</td><td>editor</td><td>rewrite</td>", history)

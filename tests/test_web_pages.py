@@ -133,6 +133,35 @@ def test_a_bad_file_shows_every_problem_in_a_table_and_writes_nothing(client: Fl
     assert not any((demo_ws.path / "uploads").iterdir())
 
 
+def test_one_upload_lists_bad_values_periods_and_unknown_names_together(client: FlaskClient,
+                                                                         demo_ws: Workspace) -> None:
+    bad = (b"entity,topic,period,value\nheronsford,recycling,2025,lots\ngorse-point,recycling,last year,41\n"
+           b"atlantis,recycling,2025,40\ngorse-point,fly-tipping,2025,3\n")
+    response = upload(client, {"observations": (bad, "four.csv")})
+    assert response.status_code == 400
+    html = response.get_data(as_text=True)
+    assert "4 problems in the files: nothing was loaded" in html
+    for row, column in ((2, "value"), (3, "period"), (4, "entity"), (5, "topic")):
+        assert f"<td>four.csv</td><td>{row}</td><td>{column}</td>" in html, (row, column)
+    assert "&#39;atlantis&#39; is not in the entity metadata" in html
+    assert edition_labels(demo_ws) == ["2024", "2025"]
+
+
+def test_an_upload_identical_to_the_current_edition_says_so(client: FlaskClient, demo_ws: Workspace) -> None:
+    same = "This file holds the same data as the current edition (2025); loading it would change nothing."
+    html = upload(client, {"observations": (demo_bytes("observations-2025.csv"), "again.csv")}).get_data(as_text=True)
+    assert same in html
+    assert html.index(same) < html.index("Check before loading: edition 2025-r2")  # before the new label
+    assert "Load it anyway as edition 2025-r2" in html
+    with_metadata = {"observations": (demo_bytes("observations-2025.csv"), "again.csv"),
+                     "topics": (demo_bytes("topics.csv"), "topics.csv"),
+                     "entities": (demo_bytes("entities.csv"), "entities.csv")}
+    assert same in upload(client, with_metadata).get_data(as_text=True)  # the same metadata too
+    changed = upload(client, {"observations": (revised_2025(), "revised.csv")}).get_data(as_text=True)
+    assert "holds the same data" not in changed and "Load this edition" in changed
+    assert edition_labels(demo_ws) == ["2024", "2025"]
+
+
 def test_only_csv_and_xlsx_are_taken_and_names_are_cleaned(client: FlaskClient, demo_ws: Workspace) -> None:
     response = upload(client, {"observations": (b"\x89PNG\r\n", "chart.png")})
     assert response.status_code == 400 and "Stetline reads CSV files" in response.get_data(as_text=True)
@@ -236,6 +265,9 @@ def test_publishing_is_refused_while_statements_wait_in_recheck(client: FlaskCli
     assert response.status_code == 409
     html = response.get_data(as_text=True)
     assert "Nothing was published" in html and "wait in recheck" in html
+    # the refusal names the page's tick box, not the command-line option (the CLI keeps its wording)
+    assert "--allow-recheck" not in html
+    assert "Resolve them, or tick “Publish even though statements wait in recheck” on the publish page." in html
     with demo_ws.session() as s:
         assert ops.events_by_action(s, "publish") == []
 

@@ -15,7 +15,8 @@ from stetline.store import ops
 from stetline.web import create_app, paging
 from stetline.workspace import Workspace
 
-SLOT_LINK = re.compile(r'<a href="/statements/([^"]+)"><code>')
+# a statement in a list (its id as the link) or the heading of a recheck queue entry (its title as the link)
+SLOT_LINK = re.compile(r'<a href="/statements/([^"]+)"><code>|<h2 id="item-\d+"><a href="/statements/([^"]+)">')
 
 
 @pytest.fixture
@@ -29,7 +30,7 @@ def listed(client: FlaskClient, url: str) -> tuple[list[str], str]:
     response = client.get(url)
     assert response.status_code == 200, url
     html = response.get_data(as_text=True)
-    return SLOT_LINK.findall(html), html
+    return [listed or queued for listed, queued in SLOT_LINK.findall(html)], html
 
 
 def in_order(ws: Workspace, f: ops.SlotFilter, order: str) -> list[str]:

@@ -33,7 +33,7 @@ def get(client: FlaskClient, url: str) -> str:
 
 def item(html: str, slot: str) -> str:
     """The queue's entry for one statement."""
-    start = html.index(f'<a href="/statements/{slot}"><code>')
+    start = html.index(f'<code class="slot-id">{slot}</code>')
     return html[start: html.index("</article>", start)]
 
 

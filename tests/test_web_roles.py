@@ -533,4 +533,8 @@ def test_the_data_settings_and_publish_pages_offer_their_forms_to_an_admin_only(
         assert ('action="/data"' in data) == admin, role
         assert ("Loading data is for an admin" in data) == (not admin), role
         assert ("Save settings</button>" in settings_page) == admin, role
+        # no field the account cannot save: the others read the settings as text
+        main = settings_page.split("<main", 1)[1]
+        assert ('name="title"' in main) == admin and ("<input" in main) == admin, role
+        assert ("<dt>Publication title</dt>" in settings_page) == (not admin), role
         assert ('action="/publish/download"' in publish) == admin, role

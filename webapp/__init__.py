@@ -49,6 +49,9 @@ def create_app(ws: Workspace, test_config: dict[str, Any] | None = None,
 
     for module in (auth, overview, browse, statement, recheck, bulk, search, data, publishing, settings, mine):
         app.register_blueprint(module.bp)
+    from stetline.web import wording
+
+    wording.install(app)
     _error_pages(app)
 
     @app.teardown_appcontext
@@ -80,7 +83,10 @@ def _error_pages(app: Flask) -> None:
     from flask_wtf.csrf import CSRFError
 
     def page(exc: HTTPException, heading: str) -> tuple[str, int]:
-        return render_template("error.html", heading=heading, message=exc.description), exc.code or 500
+        from stetline.web.wording import web_message
+
+        message = web_message(exc.description)
+        return render_template("error.html", heading=heading, message=message), exc.code or 500
 
     @app.errorhandler(404)
     def _not_found(exc: HTTPException) -> tuple[str, int]:

@@ -27,6 +27,7 @@ from stetline.store import ops
 from stetline.web.db import session, workspace
 from stetline.web.guard import site_path
 from stetline.web.throttle import Throttle
+from stetline.web.wording import web_message
 
 bp = Blueprint("auth", __name__)
 
@@ -124,7 +125,7 @@ def login() -> Response | tuple[str, int]:
             account = accounts.login(s, name, password)
             name, generation = account.name, account.session_generation
         except StetlineError as exc:
-            error = str(exc)
+            error = web_message(exc)
     if error is not None:
         throttle.failed(name, client)
         return _page(error=f"Not signed in: {error}.", name=name, status=401)

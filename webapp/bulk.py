@@ -17,6 +17,7 @@ from stetline.store import ops
 from stetline.web.common import acting_name, safe_next
 from stetline.web.db import session, workspace
 from stetline.web.selection import SCOPES, Selection
+from stetline.web.wording import web_message
 
 bp = Blueprint("bulk", __name__)
 
@@ -73,15 +74,15 @@ def apply() -> Response | tuple[str, int]:
     except ValueError:
         abort(400, description="The form carried a statement version that is not a number.")
     except StetlineError as exc:
-        abort(400, description=str(exc))
+        abort(400, description=web_message(exc))
     by = acting_name()
     try:
         with workspace().session() as s:
             done = bulk_mod.apply(s, action, items, by=by, text=request.form.get("text"))
     except NotFound as exc:
-        abort(404, description=str(exc))
+        abort(404, description=web_message(exc))
     except (Conflict, StetlineError) as exc:
-        return render_template("bulk/refused.html", verb=VERBS[action], message=str(exc), selection=sel,
+        return render_template("bulk/refused.html", verb=VERBS[action], message=web_message(exc), selection=sel,
                                conflict=isinstance(exc, Conflict)), _status(exc)
     n = len(done)
     flash(f"{VERBS[action][1].capitalize()} {n} statement{'' if n == 1 else 's'}.")

@@ -16,17 +16,20 @@ import time
 from pathlib import Path
 from typing import Any
 
+import pandas as pd
 from flask import Blueprint, redirect, render_template, request, url_for
 from werkzeug.datastructures import FileStorage
 from werkzeug.utils import secure_filename
 from werkzeug.wrappers import Response
 
 from stetline import accounts, loading
+from stetline.dataset import load_dataset
 from stetline.errors import Forbidden, Problem, StetlineError, ValidationError
 from stetline.reconcile import REASONS
 from stetline.store import ops
 from stetline.web.common import acting_name
 from stetline.web.db import session, workspace
+from stetline.web.wording import web_message
 
 bp = Blueprint("data", __name__)
 
@@ -107,7 +110,7 @@ def _refused() -> tuple[str, int] | None:
     try:
         accounts.authorize(session(), acting_name(), "load")
     except Forbidden as exc:
-        return _page(status=403, form_error=str(exc))
+        return _page(status=403, form_error=web_message(exc))
     return None
 
 
@@ -147,9 +150,45 @@ def check() -> tuple[str, int]:
         return _page(status=400, problems=exc.problems, label=label)
     except StetlineError as exc:
         shutil.rmtree(folder, ignore_errors=True)
-        return _page(status=400, form_error=str(exc), label=label)
+        return _page(status=400, form_error=web_message(exc), label=label)
     names = {role: Path(p).name for role, p in files.items()}
-    return _page(preview=summary.to_json(), token=token, names=names, label=label)
+    preview = summary.to_json()
+    current = ops.current_edition(session())
+    same = current.label if current is not None and _same_as_current(preview, sources) else None
+    return _page(preview=preview, token=token, names=names, label=label, same_as=same)
+
+
+def _rows(frame: pd.DataFrame, columns: list[str]) -> list[tuple[str, ...]]:
+    """A frame's rows as sorted tuples of text, so that two frames compare whatever their order and types."""
+    return sorted(tuple("" if pd.isna(v) else str(v) for v in row) for row in frame[columns].itertuples(index=False))
+
+
+def _same_as_current(preview: dict[str, Any], sources: tuple[Path, Path | None, Path | None]) -> bool:
+    """True when the uploaded files hold the data the current edition holds (loading them changes nothing).
+
+    Checked only when the dry run changes no statement, so an ordinary upload costs nothing more.
+    """
+    if preview["drafted"] or preview["updated"] or preview["sent_to_recheck"] or preview["gone"]:
+        return False
+    s = session()
+    known_topics, known_entities = ops.topics_frame(s), ops.entities_frame(s)
+    try:
+        dataset = load_dataset(*sources, known_topics=known_topics, known_entities=known_entities)
+    except StetlineError:
+        return False
+    columns = ["entity", "topic", "period", "value", "margin", "status"]
+    if _rows(dataset.observations, columns) != _rows(ops.observations_frame(s), columns):
+        return False
+    metadata = ((sources[1], dataset.topics, known_topics), (sources[2], dataset.entities, known_entities))
+    for given, new, known in metadata:
+        if given is None:
+            continue  # no file: the stored metadata stays as it is
+        if known is None:
+            return False  # a file where none was stored adds metadata
+        shared = [c for c in new.columns if c in known.columns and c != "position"]
+        if _rows(new, shared) != _rows(known, shared):
+            return False
+    return True
 
 
 @bp.post("/data/load")
@@ -176,7 +215,7 @@ def load() -> Response | tuple[str, int]:
     except ValidationError as exc:
         return _page(status=400, problems=exc.problems)
     except StetlineError as exc:
-        return _page(status=403 if isinstance(exc, Forbidden) else 400, form_error=str(exc))
+        return _page(status=403 if isinstance(exc, Forbidden) else 400, form_error=web_message(exc))
     finally:
         shutil.rmtree(folder, ignore_errors=True)
     return redirect(url_for("data.page", loaded=summary.edition), code=303)

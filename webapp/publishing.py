@@ -20,6 +20,7 @@ from stetline.publication import CAUTION
 from stetline.store import ops
 from stetline.web.common import acting_name
 from stetline.web.db import session, workspace
+from stetline.web.wording import web_message
 
 bp = Blueprint("publishing", __name__)
 
@@ -86,9 +87,9 @@ def download() -> Response | tuple[str, int]:
                                         require_approval=chosen["require_approval"],
                                         layouts_dir=workspace().layouts_dir)
     except publish.GateClosed as exc:
-        return _page(error=str(exc), chosen=chosen, status=409)
+        return _page(error=web_message(exc), chosen=chosen, status=409)
     except StetlineError as exc:
-        return _page(error=str(exc), chosen=chosen, status=403 if isinstance(exc, Forbidden) else 400)
+        return _page(error=web_message(exc), chosen=chosen, status=403 if isinstance(exc, Forbidden) else 400)
     name = _filename(pub.title, pub.edition, chosen["format"])
     return Response(data, headers={
         "Content-Type": MEDIA_TYPES[chosen["format"]],

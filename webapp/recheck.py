@@ -18,6 +18,7 @@ from stetline.web.db import session
 from stetline.web.paging import current_page
 from stetline.web.selection import Selection
 from stetline.web.statement import review_texts
+from stetline.web.wording import web_message
 
 bp = Blueprint("recheck", __name__)
 
@@ -108,7 +109,7 @@ def accept_clean() -> Any:
     try:
         authorize(s, by, "accept")  # first, so that a refused account is told why, whatever the count
     except Forbidden as exc:
-        return render_template("recheck/accept_clean.html", slots=pending, error=str(exc)), 403
+        return render_template("recheck/accept_clean.html", slots=pending, error=web_message(exc)), 403
     if expected != len(pending):
         return render_template("recheck/accept_clean.html", slots=pending,
                                error="The queue changed since you confirmed: check the count again."), 409
@@ -117,7 +118,7 @@ def accept_clean() -> Any:
             done = actions.accept_all_clean(ws_session, by=by)
     except StetlineError as exc:
         status = 403 if isinstance(exc, Forbidden) else 400
-        return render_template("recheck/accept_clean.html", slots=pending, error=str(exc)), status
+        return render_template("recheck/accept_clean.html", slots=pending, error=web_message(exc)), status
     flash(f"Accepted the proposed text of {len(done)} statement(s) and approved them")
     return redirect(url_for("recheck.queue"), code=303)
 
@@ -133,5 +134,5 @@ def changes() -> Any:
     try:
         log = changelog(s, request.args.get("from") or None, request.args.get("to") or None)
     except StetlineError as exc:
-        return render_template("recheck/changes.html", log=None, error=str(exc), labels=labels), 200
+        return render_template("recheck/changes.html", log=None, error=web_message(exc), labels=labels), 200
     return render_template("recheck/changes.html", log=log, error=None, labels=labels)

@@ -14,6 +14,7 @@ from stetline.errors import Forbidden, StetlineError
 from stetline.store import ops
 from stetline.web.common import acting_name
 from stetline.web.db import session, workspace
+from stetline.web.wording import web_message
 
 bp = Blueprint("settings", __name__)
 
@@ -79,7 +80,7 @@ def save() -> Response | tuple[str, int]:
     except configure.SettingsInvalid as exc:
         return _page(errors=exc.errors, submitted=submitted, status=400)
     except StetlineError as exc:  # the account may not change settings
-        return _page(refused=str(exc), submitted=submitted, status=403)
+        return _page(refused=web_message(exc), submitted=submitted, status=403)
     if not changes:
         flash("Nothing changed.")
     for c in changes:
@@ -93,9 +94,9 @@ def redraft() -> Response | tuple[str, int]:
     try:
         summary = loading.redraft(workspace(), by=acting_name())
     except Forbidden as exc:  # the account may not redraft: a refusal, not a message after the fact
-        return _page(refused=str(exc), status=403)
+        return _page(refused=web_message(exc), status=403)
     except StetlineError as exc:
-        flash(f"Nothing was redrafted: {exc}")
+        flash(f"Nothing was redrafted: {web_message(exc)}")
         return redirect(url_for("settings.page"), code=303)
     flash(f"Redrafted edition {summary.edition}: {summary.updated} updated silently, "
           f"{summary.sent_to_recheck} sent to recheck, {summary.unchanged} unchanged.")

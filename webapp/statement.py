@@ -24,6 +24,7 @@ from stetline.store import ops
 from stetline.web import charts
 from stetline.web.common import acting_name, current_name, diff, markdown_html, preview_html, safe_next
 from stetline.web.db import session, workspace
+from stetline.web.wording import slot_title, web_message
 
 bp = Blueprint("statement", __name__)
 
@@ -52,7 +53,7 @@ def _page(slot_id: str, *, errors: dict[str, str] | None = None, values: dict[st
     try:
         v = actions.view(s, slot_id)
     except NotFound as exc:
-        abort(404, description=str(exc))
+        abort(404, description=web_message(exc))
     data = v.to_json(s, _live(s))
     events = actions.history(s, slot_id)
     for e in events:
@@ -132,14 +133,14 @@ def _act(slot_id: str, form: str, run: Callable[[Session, str, int], object], do
         with workspace().session() as s:
             run(s, by, version)
     except NotFound as exc:
-        abort(404, description=str(exc))
+        abort(404, description=web_message(exc))
     except Conflict as exc:
-        return _page(slot_id, errors={form: str(exc)}, values=values, status=409)
+        return _page(slot_id, errors={form: web_message(exc)}, values=values, status=409)
     except Forbidden as exc:
-        return _page(slot_id, errors={form: str(exc)}, values=values, status=403)
+        return _page(slot_id, errors={form: web_message(exc)}, values=values, status=403)
     except StetlineError as exc:
-        return _page(slot_id, errors={form: str(exc)}, values=values, status=400)
-    flash(f"{done}: {slot_id}")
+        return _page(slot_id, errors={form: web_message(exc)}, values=values, status=400)
+    flash(f"{done}: {slot_title(slot_id)}")
     return redirect(safe_next(url_for("statement.show", slot=slot_id)), code=303)
 
 
@@ -153,14 +154,14 @@ def rewrite(slot: str) -> Response | tuple[str, int]:
         with workspace().session() as s:
             actions.rewrite(s, slot, text, by=by, version=version)
     except NotFound as exc:
-        abort(404, description=str(exc))
+        abort(404, description=web_message(exc))
     except Conflict:
         return _conflict(slot, text, request.form.get("started_from", ""), by)
     except Forbidden as exc:
-        return _page(slot, errors={"rewrite": str(exc)}, values={"rewrite": text}, status=403)
+        return _page(slot, errors={"rewrite": web_message(exc)}, values={"rewrite": text}, status=403)
     except StetlineError as exc:
-        return _page(slot, errors={"rewrite": str(exc)}, values={"rewrite": text}, status=400)
-    flash(f"Rewrite saved: {slot}")
+        return _page(slot, errors={"rewrite": web_message(exc)}, values={"rewrite": text}, status=400)
+    flash(f"Rewrite saved: {slot_title(slot)}")
     return redirect(safe_next(url_for("statement.show", slot=slot)), code=303)
 
 
@@ -272,15 +273,15 @@ def preview(slot: str) -> tuple[str, int, dict[str, str]]:
     try:
         authorize(s, acting_name(), "rewrite")
     except Forbidden as exc:
-        return render_template("statement/preview_error.html", message=str(exc)), 403, headers
+        return render_template("statement/preview_error.html", message=web_message(exc)), 403, headers
     try:
         v = actions.view(s, slot)
     except NotFound as exc:
-        abort(404, description=str(exc))
+        abort(404, description=web_message(exc))
     try:
         html = preview_html(_live(s), request.form.get("text", ""), v.draft.evidence)
     except StetlineError as exc:
-        return render_template("statement/preview_error.html", message=str(exc)), 400, headers
+        return render_template("statement/preview_error.html", message=web_message(exc)), 400, headers
     return html, 200, headers
 
 

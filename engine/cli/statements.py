@@ -3,7 +3,6 @@ one statement or a confirmed selection (rewrite, pin, annotate, suppress, revert
 
 from __future__ import annotations
 
-import json
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
@@ -63,10 +62,10 @@ def list_(kind: str | None, entity: str | None, topic: str | None, status_: str 
 
 
 def _evidence_line(name: str, fact: dict[str, Any]) -> str:
-    """A fact as shown, with its raw value when that says more (``59.3%  (59.3)``)."""
-    raw = fact["value"]
-    extra = "" if raw in ("", None) or str(raw) == fact["shown"] else f"  ({raw})"
-    return f"    {name}: {fact['shown']}{extra}"
+    """A fact in words, its live-field name beside it, and its value as shown (``value this period (value): 59.3%``)."""
+    from stetline.factwords import fact_words
+
+    return f"    {fact_words(name)} ({name}): {fact['shown']}"
 
 
 @click.command()
@@ -75,11 +74,14 @@ def _evidence_line(name: str, fact: dict[str, Any]) -> str:
 @workspace_option
 def show(slot: str, as_json: bool, workspace: Path | None) -> None:
     """Show one statement: text, draft, layers, evidence, claims, recheck and history."""
-    from stetline import actions
+    from stetline import actions, factwords
+    from stetline.store import ops
 
     with open_ws(workspace).reading() as session:
         data = actions.view(session, slot).to_json(session)
         data["history"] = actions.history(session, slot)
+        names = {t.key: t.label for t in ops.topic_rows(session)}
+        names.update({e.key: e.name for e in ops.entity_rows(session)})
     if as_json:
         echo_json(data)
         return
@@ -101,13 +103,16 @@ def show(slot: str, as_json: bool, workspace: Path | None) -> None:
         r = data["recheck"]
         click.echo(f"recheck: {', '.join(r['reasons'])}")
         for c in r["changes"]:
-            click.echo(f"    {c['fact']}: {c['old']} → {c['new']}")
+            old, new = factwords.change_value(c["old"], names), factwords.change_value(c["new"], names)
+            click.echo(f"    {factwords.change_words(c['fact'])}: {old} → {new}")
         if r["proposed"]:
             click.echo(f"proposed ({'clean' if r['clean'] else 'needs a person'}): {r['proposed']}")
     click.echo("evidence:")
     for name, fact in data["evidence"].items():
         click.echo(_evidence_line(name, fact))
-    click.echo("claims: " + json.dumps(data["claims"], ensure_ascii=False))
+    click.echo("claims:")
+    for name, value in data["claims"].items():
+        click.echo(f"    {factwords.claim_words(name)}: {factwords.claim_value(value, names)}")
     for h in data["history"]:
         click.echo(f"  {h['at']}  {h['by']}  {h['action']}")
 

@@ -121,7 +121,7 @@ def test_each_role_sees_the_queue_and_a_statement_fit_a_phone(browser: Any, live
         page = browser.new_page(viewport=PHONE)
         sign_in(page, live, role)
         for name, path in (("recheck-queue", "/recheck"), ("statement", f"/statements/{HERONSFORD}"),
-                           ("mine", "/mine")):
+                           ("mine", "/mine"), ("settings", "/settings")):
             page.goto(live(path))
             wide += too_wide(page, f"{name}-{role}", "390", screens)
         page.close()
