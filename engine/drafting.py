@@ -42,6 +42,8 @@ class Candidate:
     claims: dict[str, Any]
     interest: float
     variables: dict[str, Any] = field(default_factory=dict)
+    #: a composed kind's facts, stated or not ({"claims", "evidence"}); rechecks read them, never stored
+    facts: dict[str, Any] | None = None
 
 
 @dataclass
@@ -57,6 +59,8 @@ class Draft:
     claims: dict[str, Any]
     interest: float
     phrasing: int
+    #: a composed kind's facts, stated or not (see Candidate.facts); not stored, not in the digest
+    facts: dict[str, Any] | None = None
 
     @property
     def evidence_json(self) -> str:
@@ -136,6 +140,8 @@ class Context:
     style: HouseStyle
     entity_noun: str
     edition: str = ""
+    #: the kinds a workspace drafts (its `kinds` setting); empty: every kind
+    kinds: tuple[str, ...] = ()
     # wording already worked out (the same counts, labels and means recur across thousands of cells)
     _values_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
@@ -281,7 +287,8 @@ def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterato
             except jinja2.TemplateError as exc:
                 where = template.filename or f"{kind.KIND}.j2"
                 raise template_error(kind.KIND, where, _line_in(exc, where), exc, c.slot) from None
-            yield Draft(c.slot, c.kind, c.entity, c.topic, text, c.evidence, c.claims, round(c.interest, 4), choice)
+            yield Draft(c.slot, c.kind, c.entity, c.topic, text, c.evidence, c.claims, round(c.interest, 4), choice,
+                        c.facts)
 
 
 def template_error(kind: str, where: str, line: int | None, exc: jinja2.TemplateError,

@@ -23,12 +23,13 @@ from typing import Any
 import pandas as pd
 from sqlalchemy.orm import Session
 
+from stetline import settings as settings_mod
 from stetline.accounts import authorize
 from stetline.dataset import Dataset, Source, load_dataset
 from stetline.drafting import Context, Draft, Renderer, draft_all
 from stetline.errors import StetlineError
 from stetline.facts import compute_facts
-from stetline.kinds import KINDS
+from stetline.kinds import KINDS, chosen
 from stetline.reconcile import REASONS, Decision, SlotState, reconcile
 from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.status import Reason
@@ -203,14 +204,14 @@ def edition_context(
     facts = compute_facts(observations, topics, entities, earlier)
     return Context(
         facts, topics.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
-        style, str(values["entity_noun"]), edition,
+        style, str(values["entity_noun"]), edition, settings_mod.kinds_of(values),
     )
 
 
 def draft_context(ws: Workspace, ctx: Context) -> list[Draft]:
     """Draft every statement of a context."""
     renderer = Renderer(ctx.style, ws.phrasing_dir)
-    return list(draft_all(ctx, renderer, KINDS))
+    return list(draft_all(ctx, renderer, chosen(ctx.kinds)))
 
 
 def draft_edition(

@@ -42,7 +42,7 @@ def test_every_demo_draft_reads_cleanly(demo_drafts: list[dict]) -> None:
 
 def test_every_kind_appears_in_the_demo(demo_drafts: list[dict]) -> None:
     assert {i["kind"] for i in demo_drafts} == {
-        "standing", "change", "profile", "leaders", "movement", "headline", "trend"}
+        "standing", "change", "profile", "leaders", "movement", "headline", "trend", "blurb", "roundup"}
 
 
 def test_shown_evidence_appears_in_the_text(demo_drafts: list[dict]) -> None:
@@ -84,6 +84,9 @@ def test_every_draft_of_an_open_dataset_reads_cleanly(tmp_path) -> None:
     ws.close()
     items = Cli(tmp_path / "ws").json("list")
     assert len(items) > 1000
+    # the composed kinds are swept too: one blurb per country and indicator, one roundup per indicator
+    composed = {kind: sum(1 for i in items if i["kind"] == kind) for kind in ("blurb", "roundup")}
+    assert composed == {"blurb": 142 * 3, "roundup": 3}
     problems = []
     for item in items:
         text = item["draft"]

@@ -11,12 +11,21 @@ from types import ModuleType
 
 from stetline.drafting import TEMPLATES
 from stetline.errors import StetlineError
-from stetline.kinds import change, headline, leaders, movement, profile, standing, trend
+from stetline.kinds import blurb, change, headline, leaders, movement, profile, roundup, standing, trend
 from stetline.workspace import copy_builtin
 
 #: every kind, in the order statements are listed within an entity or topic
-KINDS: tuple[ModuleType, ...] = (headline, profile, standing, change, trend, leaders, movement)
+KINDS: tuple[ModuleType, ...] = (headline, profile, standing, change, trend, blurb, leaders, movement, roundup)
 BY_NAME = {k.KIND: k for k in KINDS}
+#: the kinds composed from others' facts: a recheck judges only the facts their text states
+COMPOSED = ("blurb", "roundup")
+
+
+def chosen(names: tuple[str, ...] | list[str]) -> tuple[ModuleType, ...]:
+    """The kind modules a workspace drafts, in listing order (every kind when none are named)."""
+    if not names:
+        return KINDS
+    return tuple(k for k in KINDS if k.KIND in names)
 
 
 def copy_template(folder: Path, kind: str, *, force: bool = False) -> Path:
