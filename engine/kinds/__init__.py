@@ -8,8 +8,9 @@ from __future__ import annotations
 
 from pathlib import Path
 from types import ModuleType
+from typing import Any
 
-from stetline.drafting import TEMPLATES
+from stetline.drafting import TEMPLATES, Context
 from stetline.errors import StetlineError
 from stetline.kinds import blurb, change, headline, leaders, movement, profile, roundup, standing, trend
 from stetline.workspace import copy_builtin
@@ -19,6 +20,12 @@ KINDS: tuple[ModuleType, ...] = (headline, profile, standing, change, trend, blu
 BY_NAME = {k.KIND: k for k in KINDS}
 #: the kinds composed from others' facts: a recheck judges only the facts their text states
 COMPOSED = ("blurb", "roundup")
+
+
+def composed_facts(ctx: Context, kinds: set[str]) -> dict[str, dict[str, Any]]:
+    """Every fact, stated or not, of the composed statements of some kinds, by slot (no text rendered)."""
+    return {c.slot: c.facts for name in sorted(kinds & set(COMPOSED)) for c in BY_NAME[name].candidates(ctx)
+            if c.facts is not None}
 
 
 def chosen(names: tuple[str, ...] | list[str]) -> tuple[ModuleType, ...]:
