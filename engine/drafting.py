@@ -146,6 +146,15 @@ class Context:
     _values_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _lower_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    # the candidates of part kinds that composed kinds read, kept while one drafting pass runs
+    _kept: dict[str, list[Candidate]] = field(default_factory=dict, init=False, repr=False, compare=False)
+
+    def kept(self, kind: Any) -> list[Candidate]:
+        """A kind's candidates, computed once per drafting pass (composed kinds read their parts')."""
+        got = self._kept.get(kind.KIND)
+        if got is None:
+            got = self._kept[kind.KIND] = list(kind.candidates(self))
+        return got
 
     @property
     def entity_nouns(self) -> str:
@@ -277,10 +286,19 @@ class Renderer:
 
 
 def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterator[Draft]:
-    """Draft every slot of every kind, in kind order."""
+    """Draft every slot of every kind, in kind order; the parts of composed kinds are worked out once."""
+    kinds = list(kinds)
+    shared = {part for kind in kinds for part in getattr(kind, "PARTS", ())}
+    try:
+        yield from _draft_kinds(ctx, renderer, kinds, shared)
+    finally:
+        ctx._kept.clear()
+
+
+def _draft_kinds(ctx: Context, renderer: Renderer, kinds: list[Any], shared: set[str]) -> Iterator[Draft]:
     for kind in kinds:
         template = renderer.template(kind.KIND)
-        for c in kind.candidates(ctx):
+        for c in (ctx.kept(kind) if kind.KIND in shared else kind.candidates(ctx)):
             choice = phrasing_index(c.slot, kind.PHRASINGS)
             try:
                 text = phrasing.tidy(template.render(c.variables, p=choice, ev=_shown(c.evidence), c=c.claims))

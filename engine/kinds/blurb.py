@@ -17,10 +17,11 @@ from stetline.drafting import Candidate, Context, slot_id
 from stetline.kinds import change, parts, standing, trend
 
 KIND = "blurb"
+#: the kinds whose facts it states
+PARTS = ("standing", "change", "trend")
 PHRASINGS = 3
 #: change states that say a change (the others say why none can be given)
 STATED_CHANGES = ("up", "down", "flat", "not_significant")
-ORDER = ("standing", "change", "trend")
 #: the evidence of each part a blurb can print (its claims are all stated)
 PRINTED = {
     "standing": ("period", "status", "value", "rank", "rank_of", "group_mean", "group_gap", "target", "target_gap"),
@@ -54,7 +55,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             chosen = [s]
         else:
             chosen = [p for p in known if stated(p)]
-            chosen.sort(key=lambda p: (-p.interest, ORDER.index(p.kind)))
+            chosen.sort(key=lambda p: (-p.interest, PARTS.index(p.kind)))
         printed = PRINTED if "group_mean" in s.evidence else {**PRINTED, "standing": PRINTED["standing"] + _ALL_MEAN}
         evidence, claims, facts = parts.compose(chosen, known, printed)
         variables = {

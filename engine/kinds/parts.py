@@ -1,7 +1,7 @@
 """The part facts a composed kind (blurb, roundup) states: the candidates of the part kinds, keyed by slot.
 
-Each part kind is asked once per context; the answers are kept on the context so a blurb and a
-roundup of the same edition share them. Nothing here renders text.
+Each part kind is asked once per drafting pass (``Context.kept``), so the part kinds, when a
+workspace drafts them too, and the composed kinds share the answers. Nothing here renders text.
 """
 
 from __future__ import annotations
@@ -12,15 +12,10 @@ from typing import Any
 
 from stetline.drafting import Candidate, Context
 
-_KEPT = "_composed_parts"
-
 
 def by_key(ctx: Context, kind: ModuleType) -> dict[tuple[str | None, str | None], Candidate]:
-    """A part kind's candidates by (entity, topic), computed once per context."""
-    kept: dict[str, dict[tuple[str | None, str | None], Candidate]] = vars(ctx).setdefault(_KEPT, {})
-    if kind.KIND not in kept:
-        kept[kind.KIND] = {(c.entity, c.topic): c for c in kind.candidates(ctx)}
-    return kept[kind.KIND]
+    """A part kind's candidates by (entity, topic), computed once per drafting pass."""
+    return {(c.entity, c.topic): c for c in ctx.kept(kind)}
 
 
 def compose(stated: list[Candidate], known: list[Candidate], printed: Mapping[str, tuple[str, ...]] | None = None,

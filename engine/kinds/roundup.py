@@ -14,8 +14,9 @@ from stetline.drafting import Candidate, Context, slot_id
 from stetline.kinds import leaders, movement, parts
 
 KIND = "roundup"
+#: the kinds whose facts it states
+PARTS = ("leaders", "movement")
 PHRASINGS = 2
-ORDER = ("leaders", "movement")
 #: the evidence of the leaders a roundup can print (the movement's is all printed)
 PRINTED = {"leaders": ("period", "reporting", "best_value", "worst_value", "spread")}
 
@@ -29,7 +30,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         chosen = [p for p in (tops.get(key), moves.get(key)) if p is not None]
         if not chosen:
             continue
-        chosen.sort(key=lambda p: (-p.interest, ORDER.index(p.kind)))
+        chosen.sort(key=lambda p: (-p.interest, PARTS.index(p.kind)))
         evidence, claims, facts = parts.compose(chosen, chosen, PRINTED)
         variables = {
             "label": ctx.label(topic), "the_label": ctx.the_label(topic), "lower_label": ctx.lower_label(topic),
