@@ -226,3 +226,23 @@ def test_turning_a_kind_off_keeps_its_work_and_on_again_brings_it_back(demo_path
     assert back["status"] == "edited" and back["text"] == "North Quay recycles well."
     refused = cli("settings", "kinds", "headline,blurbs", "--by", "admin", ok=False)
     assert "unknown kind 'blurbs'" in refused.output
+
+
+def test_a_workspace_made_before_the_setting_keeps_its_kinds(demo_path: Path) -> None:
+    # the demo as a workspace from before revision 0008: its database taken back to 0007 without the
+    # setting; opening it upgrades it, and it drafts what it drafted before: no blurb, no roundup
+    from alembic import command
+
+    from stetline.store import db, ops
+    from stetline.workspace import open_workspace
+
+    ws = open_workspace(demo_path)
+    with ws.session() as s:
+        assert "kinds" not in ops.get_settings(s)  # the demo was made new: it takes the default
+    command.downgrade(db.alembic_config(ws.url), "0007")
+    ws.close()
+    cli = Cli(demo_path)
+    assert cli("settings", "kinds").stdout.strip() == '"headline,profile,standing,change,trend,leaders,movement"'
+    cli("redraft", "--by", "admin")
+    kinds = {item["kind"] for item in cli.json("list")}
+    assert kinds == {"headline", "profile", "standing", "change", "trend", "leaders", "movement"}
