@@ -42,6 +42,8 @@ class Candidate:
     claims: dict[str, Any]
     interest: float
     variables: dict[str, Any] = field(default_factory=dict)
+    #: a composed kind's facts, stated or not ({"claims", "evidence"}); rechecks read them, never stored
+    facts: dict[str, Any] | None = None
 
 
 @dataclass
@@ -57,6 +59,8 @@ class Draft:
     claims: dict[str, Any]
     interest: float
     phrasing: int
+    #: a composed kind's facts, stated or not (see Candidate.facts); not stored, not in the digest
+    facts: dict[str, Any] | None = None
 
     @property
     def evidence_json(self) -> str:
@@ -136,10 +140,21 @@ class Context:
     style: HouseStyle
     entity_noun: str
     edition: str = ""
+    #: the kinds a workspace drafts (its `kinds` setting); empty: every kind
+    kinds: tuple[str, ...] = ()
     # wording already worked out (the same counts, labels and means recur across thousands of cells)
     _values_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _lower_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    # the candidates of part kinds that composed kinds read, kept while one drafting pass runs
+    _kept: dict[str, list[Candidate]] = field(default_factory=dict, init=False, repr=False, compare=False)
+
+    def kept(self, kind: Any) -> list[Candidate]:
+        """A kind's candidates, computed once per drafting pass (composed kinds read their parts')."""
+        got = self._kept.get(kind.KIND)
+        if got is None:
+            got = self._kept[kind.KIND] = list(kind.candidates(self))
+        return got
 
     @property
     def entity_nouns(self) -> str:
@@ -271,17 +286,27 @@ class Renderer:
 
 
 def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterator[Draft]:
-    """Draft every slot of every kind, in kind order."""
+    """Draft every slot of every kind, in kind order; the parts of composed kinds are worked out once."""
+    kinds = list(kinds)
+    shared = {part for kind in kinds for part in getattr(kind, "PARTS", ())}
+    try:
+        yield from _draft_kinds(ctx, renderer, kinds, shared)
+    finally:
+        ctx._kept.clear()
+
+
+def _draft_kinds(ctx: Context, renderer: Renderer, kinds: list[Any], shared: set[str]) -> Iterator[Draft]:
     for kind in kinds:
         template = renderer.template(kind.KIND)
-        for c in kind.candidates(ctx):
+        for c in (ctx.kept(kind) if kind.KIND in shared else kind.candidates(ctx)):
             choice = phrasing_index(c.slot, kind.PHRASINGS)
             try:
                 text = phrasing.tidy(template.render(c.variables, p=choice, ev=_shown(c.evidence), c=c.claims))
             except jinja2.TemplateError as exc:
                 where = template.filename or f"{kind.KIND}.j2"
                 raise template_error(kind.KIND, where, _line_in(exc, where), exc, c.slot) from None
-            yield Draft(c.slot, c.kind, c.entity, c.topic, text, c.evidence, c.claims, round(c.interest, 4), choice)
+            yield Draft(c.slot, c.kind, c.entity, c.topic, text, c.evidence, c.claims, round(c.interest, 4), choice,
+                        c.facts)
 
 
 def template_error(kind: str, where: str, line: int | None, exc: jinja2.TemplateError,

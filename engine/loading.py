@@ -23,12 +23,13 @@ from typing import Any
 import pandas as pd
 from sqlalchemy.orm import Session
 
+from stetline import settings as settings_mod
 from stetline.accounts import authorize
 from stetline.dataset import Dataset, Source, load_dataset
 from stetline.drafting import Context, Draft, Renderer, draft_all
 from stetline.errors import StetlineError
 from stetline.facts import compute_facts
-from stetline.kinds import KINDS
+from stetline.kinds import COMPOSED, KINDS, chosen, composed_facts
 from stetline.reconcile import REASONS, Decision, SlotState, reconcile
 from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.status import Reason, Status
@@ -203,14 +204,14 @@ def edition_context(
     facts = compute_facts(observations, topics, entities, earlier)
     return Context(
         facts, topics.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
-        style, str(values["entity_noun"]), edition,
+        style, str(values["entity_noun"]), edition, settings_mod.kinds_of(values),
     )
 
 
 def draft_context(ws: Workspace, ctx: Context) -> list[Draft]:
     """Draft every statement of a context."""
     renderer = Renderer(ctx.style, ws.phrasing_dir)
-    return list(draft_all(ctx, renderer, KINDS))
+    return list(draft_all(ctx, renderer, chosen(ctx.kinds)))
 
 
 def draft_edition(
@@ -271,7 +272,7 @@ def load_edition(
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
         if current is not None and (current.summary or {}).get(DRAFTED_FROM) == inputs:
-            decisions, by_slot, drafted = _reconcile_as_drafted(session, states, dataset.topics, dataset.entities)
+            decisions, by_slot, drafted = _reconcile_as_drafted(session, states, dataset.topics, dataset.entities, ctx)
         else:
             decisions, by_slot = reconcile(states, draft_context(ws, ctx))
             drafted = by_slot.keys()
@@ -307,18 +308,23 @@ def _count_unrenderable(summary: LoadSummary, slots: list[str]) -> None:
 
 
 def _reconcile_as_drafted(
-    session: Session, states: dict[str, SlotState], topics: pd.DataFrame, entities: pd.DataFrame,
+    session: Session, states: dict[str, SlotState], topics: pd.DataFrame, entities: pd.DataFrame, ctx: Context,
 ) -> tuple[list[Decision], dict[str, Draft], Collection[str]]:
     """Reconcile when drafting would give every slot the draft it already has.
 
     The slots not gone are exactly those the last load drafted, each with its draft unchanged:
     a slot without human work gets no decision (its digest is the same), a gone one none either,
     so only slots carrying human work are decided, against their stored drafts, in the order
-    drafting yields them.
+    drafting yields them (composed drafts given their unstated facts again, as drafting would).
     """
     drafted = {sid for sid, state in states.items() if not state.gone}
     human = {sid: state for sid, state in states.items() if sid in drafted and state.human}
     drafts = sorted(ops.current_drafts(session, human), key=_draft_position(topics, entities))
+    composed = {d.kind for d in drafts if d.kind in COMPOSED}
+    if composed:  # a composed draft is judged on facts it may not state: the stored draft lacks them
+        facts = composed_facts(ctx, composed)
+        for d in drafts:
+            d.facts = facts.get(d.slot) if d.kind in COMPOSED else None
     decisions, by_slot = reconcile(human, drafts)
     return decisions, by_slot, drafted
 

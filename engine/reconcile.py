@@ -122,17 +122,35 @@ def propose(work: HumanWork | None, draft: Draft) -> dict[str, Any]:
     if work is None or work.type == "pin" or work.text is None:
         return {"proposed": draft.text, "clean": True, "conflicts": []}
     old = work.basis.evidence
+    if draft.facts is not None:  # composed: keep the rewrite's own order of facts, with the new numbers
+        return {"proposed": numbers.substitute(work.text, old, draft.facts["evidence"]).text, "clean": True,
+                "conflicts": []}
     mine = numbers.substitute(work.text, old, draft.evidence).text
     base = numbers.substitute(work.base_text or work.basis.text, old, draft.evidence).text
     merged = textmerge.merge3(base, mine, draft.text)
     return {"proposed": merged.text, "clean": merged.clean, "conflicts": [list(c) for c in merged.conflicts]}
 
 
+def judged(basis: Basis, draft: Draft) -> tuple[dict[str, Any], dict[str, dict[str, Any]]]:
+    """The new claims and evidence a basis is compared with.
+
+    A composed draft (blurb, roundup) is judged on the facts its earlier text stated: the new
+    value of each of those claims and numbers, whether or not the new draft states them, and
+    nothing it did not state (a new lead is not a contradiction). Other drafts: all of theirs.
+    """
+    if draft.facts is None:
+        return draft.claims, draft.evidence
+    claims, evidence = draft.facts["claims"], draft.facts["evidence"]
+    return ({k: claims.get(k) for k in basis.claims},
+            {k: evidence.get(k, {"value": None, "shown": None}) for k in basis.evidence})
+
+
 def _compare(work: HumanWork, draft: Draft, has_text_layer: bool) -> tuple[set[Reason], list[dict[str, Any]]]:
     reasons: set[Reason] = set()
     changes: list[dict[str, Any]] = []
-    claims = claim_changes(work.basis.claims, draft.claims)
-    shown = numbers.shown_changes(work.basis.evidence, draft.evidence)
+    new_claims, new_evidence = judged(work.basis, draft)
+    claims = claim_changes(work.basis.claims, new_claims)
+    shown = numbers.shown_changes(work.basis.evidence, new_evidence)
     if claims:
         reasons.add(Reason.CLAIM_CHANGED)
         changes += claims

@@ -8,6 +8,11 @@ from typing import Any
 
 from stetline.errors import StetlineError
 
+#: every statement kind, in listing order (stetline.kinds.KINDS; tests/test_composed.py checks they agree)
+ALL_KINDS = ("headline", "profile", "standing", "change", "trend", "blurb", "leaders", "movement", "roundup")
+#: what a workspace made before the `kinds` setting drafted (migration 0008 stores it for them)
+EARLIER_KINDS = ("headline", "profile", "standing", "change", "trend", "leaders", "movement")
+
 
 @dataclass(frozen=True)
 class SettingSpec:
@@ -37,6 +42,8 @@ class SettingSpec:
             if self.minimum is not None and number < self.minimum:
                 raise StetlineError(f"setting {self.key} is at least {self.minimum}, not {number}")
             return number
+        if self.key == "kinds":
+            return kinds_text(text)
         if self.choices and text not in self.choices:
             raise StetlineError(f"setting {self.key} is one of {', '.join(map(str, self.choices))}, not {text!r}")
         return text
@@ -59,6 +66,9 @@ SETTINGS: tuple[SettingSpec, ...] = (
     SettingSpec("possessive_after_s", "Possessive of a name ending in s", "'",
                 "How a name ending in s takes the possessive: ' (Harris' score) or 's (Harris's score).",
                 ("'", "'s")),
+    SettingSpec("kinds", "Statement kinds drafted", ",".join(ALL_KINDS),
+                "Which statement kinds the workspace drafts, separated by commas; run `stetline redraft` after a "
+                "change. Turning a kind off keeps its human work: those statements wait in recheck as gone."),
     SettingSpec("untraced_numbers", "Untraced numbers when publishing", "warn",
                 "What publishing does with typed numbers that match no fact.", ("warn", "refuse")),
     SettingSpec("self_approval", "Reviewers may approve their own rewrites", False,
@@ -73,8 +83,9 @@ SETTINGS: tuple[SettingSpec, ...] = (
 
 BY_KEY = {spec.key: spec for spec in SETTINGS}
 
-#: settings that change the wording of drafts (a redraft follows a change)
-STYLE_KEYS = ("entity_noun", "locale", "serial_comma", "percent_word", "small_numbers_in_words", "possessive_after_s")
+#: settings that change the drafts (a redraft follows a change)
+STYLE_KEYS = ("kinds", "entity_noun", "locale", "serial_comma", "percent_word", "small_numbers_in_words",
+              "possessive_after_s")
 
 
 def spec(key: str) -> SettingSpec:
@@ -88,3 +99,21 @@ def spec(key: str) -> SettingSpec:
 def with_defaults(stored: dict[str, Any]) -> dict[str, Any]:
     """Every setting's value: the stored one where set, else its default."""
     return {s.key: stored.get(s.key, s.default) for s in SETTINGS}
+
+
+def kinds_text(text: str) -> str:
+    """A `kinds` value checked and tidied ("headline, blurb" → "headline,blurb"); unknown kinds refused."""
+    names = [n.strip() for n in text.split(",") if n.strip()]
+    if not names:
+        raise StetlineError(f"setting kinds names at least one kind of: {', '.join(ALL_KINDS)}")
+    unknown = [n for n in names if n not in ALL_KINDS]
+    if unknown:
+        raise StetlineError(
+            f"setting kinds: unknown kind {', '.join(map(repr, unknown))}; "
+            f"the kinds are: {', '.join(ALL_KINDS)}")
+    return ",".join(dict.fromkeys(names))
+
+
+def kinds_of(values: dict[str, Any]) -> tuple[str, ...]:
+    """The kinds a workspace drafts, from its settings (with defaults)."""
+    return tuple(n.strip() for n in str(values["kinds"]).split(",") if n.strip())

@@ -42,7 +42,7 @@ def test_every_demo_draft_reads_cleanly(demo_drafts: list[dict]) -> None:
 
 
 def test_every_kind_appears_in_the_demo(demo_drafts: list[dict]) -> None:
-    kinds = {"standing", "change", "profile", "leaders", "movement", "headline", "trend"}
+    kinds = {"standing", "change", "profile", "leaders", "movement", "headline", "trend", "blurb", "roundup"}
     assert {i["kind"] for i in demo_drafts} == kinds
 
 
@@ -122,6 +122,9 @@ def test_every_draft_of_an_open_dataset_reads_cleanly(tmp_path) -> None:
     ents = ents.assign(entity=ents["country"].map(keys)).rename(columns={"country": "name", "continent": "group"})
     items, untraced = load_open_dataset(tmp_path, obs, topics, ents)
     assert len(items) > 1000
+    # the composed kinds are swept too: one blurb per country and indicator, one roundup per indicator
+    composed = {kind: sum(1 for i in items if i["kind"] == kind) for kind in ("blurb", "roundup")}
+    assert composed == {"blurb": 142 * 3, "roundup": 3}
     runs = [i for i in items if i["kind"] == "trend" and i["claims"]["streak"] != "none"]
     assert runs and all(i["claims"]["streak"].endswith(":readings") for i in runs)
     assert any("readings" in i["draft"] for i in runs)

@@ -81,7 +81,9 @@ def test_entity_page_lists_its_statements_in_interest_order(client: FlaskClient,
 def test_topic_page_lists_its_statements(client: FlaskClient) -> None:
     html = page(client, "/topics/recycling")
     assert "<h1>Household recycling rate</h1>" in html
+    html += page(client, "/topics/recycling?page=2")  # 14 towns x 4 kinds and three topic statements: two pages
     assert f'href="/statements/{HERONSFORD}"' in html and 'href="/statements/leaders/recycling"' in html
+    assert 'href="/statements/blurb/heronsford/recycling"' in html and 'href="/statements/roundup/recycling"' in html
 
 
 def test_unknown_keys_and_slots_are_404_pages(client: FlaskClient) -> None:

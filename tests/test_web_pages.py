@@ -501,10 +501,11 @@ def test_restoring_from_a_stale_page_is_a_conflict(client: FlaskClient, demo_ws:
 
 def test_entity_page_filters_by_status_and_offers_bulk_work(client: FlaskClient) -> None:
     html = get(client, "/entities/heronsford")
-    assert "Approve all 34 shown" in html and "Suppress all 34 shown" in html and "Annotate all 34 shown" in html
-    assert '<label for="bulk-note">Note for all 34 shown</label>' in html and '<label for="f-status">' in html
+    assert "Approve all 45 shown" in html and "Suppress all 45 shown" in html and "Annotate all 45 shown" in html
+    # 11 topics x (standing, change, trend, blurb) and the profile
+    assert '<label for="bulk-note">Note for all 45 shown</label>' in html and '<label for="f-status">' in html
     html = get(client, "/entities/heronsford?status=recheck")
-    assert "1 of 34 statement" in html and "Approve all 1 shown" in html
+    assert "1 of 45 statement" in html and "Approve all 1 shown" in html
     assert re.findall(r'<a href="/statements/([^"]+)"><code>', html) == [HERONSFORD]
     assert "Approve all 1 shown" in get(client, "/topics/recycling?status=edited")
 
@@ -514,20 +515,20 @@ def test_bulk_approve_confirms_the_count_then_approves_exactly_those(client: Fla
                                                   "status": "draft"})
     assert response.status_code == 200
     html = response.get_data(as_text=True)
-    assert "<h1>Approve 33 statements?</h1>" in html and "Yes, approve all 33" in html
+    assert "<h1>Approve 44 statements?</h1>" in html and "Yes, approve all 44" in html
     assert "Proposed texts in recheck" not in html  # none of these is in recheck
     fields = form_fields(html, "/bulk/apply")
     slots = [v for n, v in fields if n == "slot"]
-    assert len(slots) == 33 and HERONSFORD not in slots
+    assert len(slots) == 44 and HERONSFORD not in slots
     with demo_ws.session() as s:
         assert all(v.slot.status == "draft"
                    for v in actions.views(s, ops.SlotFilter(entity="heronsford", status="draft")))
     response = client.post("/bulk/apply", data=_multi([(n, "reviewer" if n == "by" else v) for n, v in fields]))
     assert response.status_code == 303 and response.headers["Location"].endswith("/entities/heronsford?status=draft")
     html = get(client, "/entities/heronsford?status=draft")
-    assert "Approved 33 statements." in html and "No statements with this filter" in html
+    assert "Approved 44 statements." in html and "No statements with this filter" in html
     with demo_ws.session() as s:
-        assert ops.status_counts_by(s, "entity")["heronsford"] == {"approved": 33, "recheck": 1}
+        assert ops.status_counts_by(s, "entity")["heronsford"] == {"approved": 44, "recheck": 1}
         assert sorted(e.slot_id for e in ops.recent_events(s, 200) if e.action == "approve" and e.by == "reviewer"
                       and e.slot_id in slots) == sorted(slots)
 

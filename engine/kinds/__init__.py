@@ -8,15 +8,31 @@ from __future__ import annotations
 
 from pathlib import Path
 from types import ModuleType
+from typing import Any
 
-from stetline.drafting import TEMPLATES
+from stetline.drafting import TEMPLATES, Context
 from stetline.errors import StetlineError
-from stetline.kinds import change, headline, leaders, movement, profile, standing, trend
+from stetline.kinds import blurb, change, headline, leaders, movement, profile, roundup, standing, trend
 from stetline.workspace import copy_builtin
 
 #: every kind, in the order statements are listed within an entity or topic
-KINDS: tuple[ModuleType, ...] = (headline, profile, standing, change, trend, leaders, movement)
+KINDS: tuple[ModuleType, ...] = (headline, profile, standing, change, trend, blurb, leaders, movement, roundup)
 BY_NAME = {k.KIND: k for k in KINDS}
+#: the kinds composed from others' facts: a recheck judges only the facts their text states
+COMPOSED = ("blurb", "roundup")
+
+
+def composed_facts(ctx: Context, kinds: set[str]) -> dict[str, dict[str, Any]]:
+    """Every fact, stated or not, of the composed statements of some kinds, by slot (no text rendered)."""
+    return {c.slot: c.facts for name in sorted(kinds & set(COMPOSED)) for c in BY_NAME[name].candidates(ctx)
+            if c.facts is not None}
+
+
+def chosen(names: tuple[str, ...] | list[str]) -> tuple[ModuleType, ...]:
+    """The kind modules a workspace drafts, in listing order (every kind when none are named)."""
+    if not names:
+        return KINDS
+    return tuple(k for k in KINDS if k.KIND in names)
 
 
 def copy_template(folder: Path, kind: str, *, force: bool = False) -> Path:

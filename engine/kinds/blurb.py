@@ -1,0 +1,72 @@
+"""``blurb`` (entity × topic): one paragraph of one to three sentences composed from the standing,
+change and trend facts of a cell.
+
+The parts are ordered by the interest scores their kinds compute, the most newsworthy first: the
+lead sentence names the topic, the entity and the latest value; the others say "it" (or join the
+lead with a semicolon), so the subject is not repeated. A change is stated when one can be given
+(not across a break, nor without a previous value); a trend when the series has a run of two or
+more periods or a record. Claims: the claims of the parts the paragraph states, namespaced by their
+kind (``standing.rank_band``, ``change.direction``, ``trend.streak`` …); evidence: theirs, by name.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+
+from stetline.drafting import Candidate, Context, slot_id
+from stetline.kinds import change, parts, standing, trend
+
+KIND = "blurb"
+#: the kinds whose facts it states
+PARTS = ("standing", "change", "trend")
+PHRASINGS = 3
+#: change states that say a change (the others say why none can be given)
+STATED_CHANGES = ("up", "down", "flat", "not_significant")
+#: the evidence of each part a blurb can print (its claims are all stated)
+PRINTED = {
+    "standing": ("period", "status", "value", "rank", "rank_of", "place", "group_mean", "group_gap", "target",
+                 "target_gap"),
+    "change": ("period", "value", "previous_period", "previous", "revised_from", "change"),
+    "trend": ("period", "value", "streak", "streak_since", "record_since"),
+}
+#: the average of all is printed only when there is no group to compare with
+_ALL_MEAN = ("all_mean", "all_gap")
+#: what the template reads of a part that a cell lacks
+_NO_CHANGE = {"state": "", "improved": False, "worsened": False, "prev_period": "", "revised": ""}
+_NO_TREND = {"streak": 0, "record": "none", "since": "", "participle": "", "periods_word": "", "natural": True,
+             "run_since": ""}
+
+
+def stated(part: Candidate) -> bool:
+    """True when a part has something to say in a blurb."""
+    if part.kind == "change":
+        return part.variables.get("state") in STATED_CHANGES
+    if part.kind == "trend":
+        return int(part.variables.get("streak") or 0) >= 2 or part.claims.get("record", "none") != "none"
+    return True
+
+
+def candidates(ctx: Context) -> Iterator[Candidate]:
+    """One blurb per entity × topic cell, its parts led by the most newsworthy."""
+    standings = parts.by_key(ctx, standing)
+    changes = parts.by_key(ctx, change)
+    trends = parts.by_key(ctx, trend)
+    for key, s in standings.items():
+        known = [p for p in (s, changes.get(key), trends.get(key)) if p is not None]
+        if s.evidence["value"]["value"] is None:  # missing or withheld: the blurb says only that
+            chosen = [s]
+        else:
+            chosen = [p for p in known if stated(p)]
+            chosen.sort(key=lambda p: (-p.interest, PARTS.index(p.kind)))
+        printed = PRINTED if "group_mean" in s.evidence else {**PRINTED, "standing": PRINTED["standing"] + _ALL_MEAN}
+        evidence, claims, facts = parts.compose(chosen, known, printed)
+        variables = {
+            "name": s.variables["name"], "label": s.variables["label"], "the_label": s.variables["the_label"],
+            "lower_label": s.variables["lower_label"], "prep": s.variables["prep"], "period": s.variables["period"],
+            "caveat": s.variables["caveat"], "order": [p.kind for p in chosen],
+            "s": s.variables, "ch": {**_NO_CHANGE, **(changes[key].variables if key in changes else {})},
+            "tr": {**_NO_TREND, **(trends[key].variables if key in trends else {})},
+        }
+        entity, topic = key
+        yield Candidate(slot_id(KIND, entity, topic), KIND, entity, topic, evidence, claims,
+                        max(p.interest for p in chosen), variables, facts)
