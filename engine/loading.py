@@ -29,12 +29,13 @@ from stetline.drafting import Context, Draft
 from stetline.errors import StetlineError
 from stetline.facts import compute_facts
 from stetline.kinds import KINDS
+from stetline.progress import Progress, no_progress
 from stetline.reconcile import REASONS, Decision, SlotState, reconcile
 from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.status import Reason
 from stetline.store import ops
 from stetline.store.models import Edition
-from stetline.workers import Progress, draft_kinds, no_progress, worker_count
+from stetline.workers import draft_kinds, worker_count
 from stetline.workspace import Workspace
 
 

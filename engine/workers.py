@@ -1,4 +1,4 @@
-"""Drafting in several processes, and the progress a long piece of work reports.
+"""Drafting in several processes.
 
 A large edition drafts each statement kind in a worker process of its own (``concurrent.futures``
 over the kinds, the costliest first); the drafts are joined back in kind order, so the result is
@@ -18,7 +18,6 @@ import gc
 import multiprocessing
 import os
 import threading
-from collections.abc import Callable
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 from pathlib import Path
 from typing import Any
@@ -26,9 +25,7 @@ from typing import Any
 from stetline.drafting import Context, Draft, Renderer, draft_all
 from stetline.errors import StetlineError
 from stetline.kinds import KINDS
-
-#: a report of progress: the stage, how much of it is done, and its total when known
-Progress = Callable[[str, int, "int | None"], None]
+from stetline.progress import Progress, no_progress
 
 #: fewer entity × topic cells than this draft in one process unless STETLINE_WORKERS says otherwise
 PARALLEL_FROM = 5_000
@@ -39,10 +36,6 @@ _CELL_KINDS = ("standing", "change", "trend")
 _REPORT_EVERY = 2_000
 
 _worker: dict[str, Any] = {}
-
-
-def no_progress(stage: str, done: int, total: int | None) -> None:
-    """Report nothing (the default where no one watches)."""
 
 
 def worker_count(cells: int) -> int:
