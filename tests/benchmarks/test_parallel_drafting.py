@@ -80,3 +80,20 @@ def test_the_number_of_workers_follows_the_setting_and_the_size(monkeypatch: pyt
     monkeypatch.setenv(workers.WORKERS_ENV, "two")
     with pytest.raises(StetlineError, match="STETLINE_WORKERS must be a whole number"):
         workers.worker_count(10)
+
+
+def test_a_template_that_fails_in_a_worker_stops_drafting_with_the_same_message(tmp_path: Path, ws: Any) -> None:
+    data = _synthetic().write(tmp_path / "data", 12, 4, 3)
+    dataset = load_dataset(data["observations"], data["topics"], data["entities"])
+    with ws.session() as session:
+        ctx = loading.edition_context(session, dataset.observations, dataset.topics, dataset.entities, None, "x")
+    phrasing = tmp_path / "phrasing"
+    phrasing.mkdir()
+    (phrasing / "trend.j2").write_text("{{ name }} and {{ no_such_variable }}.\n")
+    messages = []
+    for count in (1, 2):
+        with pytest.raises(StetlineError) as caught:
+            workers.draft_kinds(ctx, phrasing, count)
+        messages.append(str(caught.value))
+    assert messages[0] == messages[1]
+    assert "the trend template cannot be used" in messages[0] and "no_such_variable" in messages[0]
