@@ -82,6 +82,16 @@ class Draft:
         """
         return self._serialised()[2]
 
+    def to_row(self) -> tuple[Any, ...]:
+        """The draft as plain values, its evidence and claims as their JSON: what a drafting process sends back."""
+        return (self.slot, self.kind, self.entity, self.topic, self.text, self.interest, self.phrasing,
+                self._serialised(), self.facts)
+
+    @classmethod
+    def from_row(cls, row: tuple[Any, ...]) -> Draft:
+        """A draft from :meth:`to_row`: its evidence and claims are read from their JSON when first used."""
+        return SentDraft(row)
+
     def _serialised(self) -> tuple[str, str, str]:
         key = (self.text, id(self.evidence), id(self.claims))
         cached = self.__dict__.get("_serialised_as")
@@ -90,6 +100,30 @@ class Draft:
             cached = (key, (evidence, claims, digest(self.text, evidence, claims)))
             self.__dict__["_serialised_as"] = cached
         return cached[1]
+
+
+class SentDraft(Draft):
+    """A draft made in another process, sent back as JSON: evidence and claims are parsed on first use.
+
+    Most drafts of a load are only compared by digest and written as the JSON they came with, so
+    their evidence is never rebuilt; what is rebuilt equals the original (a JSON round trip).
+    """
+
+    def __init__(self, row: tuple[Any, ...]) -> None:
+        slot, kind, entity, topic, text, interest, choice, serialised, facts = row
+        self.__dict__.update(slot=slot, kind=kind, entity=entity, topic=topic, text=text, interest=interest,
+                             phrasing=choice, _sent=serialised, facts=facts)
+
+    def __getattr__(self, name: str) -> Any:
+        if name in ("evidence", "claims"):
+            evidence, claims, _digest = self.__dict__["_sent"]
+            self.__dict__.update(evidence=orjson.loads(evidence), claims=orjson.loads(claims))
+            return self.__dict__[name]
+        raise AttributeError(name)
+
+    def _serialised(self) -> tuple[str, str, str]:
+        sent: tuple[str, str, str] = self.__dict__["_sent"]
+        return sent
 
 
 def to_json(value: Any) -> str:

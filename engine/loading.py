@@ -26,15 +26,17 @@ from sqlalchemy.orm import Session
 from stetline import settings as settings_mod
 from stetline.accounts import authorize
 from stetline.dataset import Dataset, Source, load_dataset
-from stetline.drafting import Context, Draft, Renderer, draft_all
+from stetline.drafting import Context, Draft
 from stetline.errors import StetlineError
 from stetline.facts import compute_facts
-from stetline.kinds import COMPOSED, KINDS, chosen, composed_facts
+from stetline.kinds import COMPOSED, KINDS, composed_facts
+from stetline.progress import Progress, no_progress
 from stetline.reconcile import REASONS, Decision, SlotState, reconcile
 from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.status import Reason, Status
 from stetline.store import ops
 from stetline.store.models import Edition
+from stetline.workers import draft_kinds, worker_count
 from stetline.workspace import Workspace
 
 
@@ -208,10 +210,9 @@ def edition_context(
     )
 
 
-def draft_context(ws: Workspace, ctx: Context) -> list[Draft]:
-    """Draft every statement of a context."""
-    renderer = Renderer(ctx.style, ws.phrasing_dir)
-    return list(draft_all(ctx, renderer, chosen(ctx.kinds)))
+def draft_context(ws: Workspace, ctx: Context, progress: Progress = no_progress) -> list[Draft]:
+    """Draft every statement of a context (in several processes for a large one; see workers)."""
+    return draft_kinds(ctx, ws.phrasing_dir, worker_count(len(ctx.facts.cells)), progress)
 
 
 def draft_edition(
@@ -253,13 +254,17 @@ def _summarise(summary: LoadSummary, decisions: list[Decision], drafts: Collecti
 
 def load_edition(
     ws: Workspace, observations: Source, topics: Source | None = None, entities: Source | None = None,
-    *, label: str | None = None, by: str, dry_run: bool = False,
+    *, label: str | None = None, by: str, dry_run: bool = False, progress: Progress = no_progress,
 ) -> LoadSummary:
-    """Load an edition's files into the workspace and reconcile every slot; one transaction."""
+    """Load an edition's files into the workspace and reconcile every slot; one transaction.
+
+    ``progress`` hears each stage as it starts (and the drafting count as it grows).
+    """
     with _gc_paused(), ws.session() as session:
         if not dry_run:
             authorize(session, by, "load")
             ops.hold_writers(session)  # before reading anything the load reconciles against
+        progress("reading files", 0, None)
         dataset = load_dataset(
             observations, topics, entities,
             known_topics=ops.topics_frame(session), known_entities=ops.entities_frame(session),
@@ -268,13 +273,18 @@ def load_edition(
         current = ops.current_edition(session)
         stored = ops.observations_frame(session)  # the current observations, read once
         earlier = _held(session, dataset.observations, stored) if current is not None else None
+        progress("computing facts", 0, None)
         ctx = edition_context(session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
         if current is not None and (current.summary or {}).get(DRAFTED_FROM) == inputs:
+            progress("reconciling", 0, None)
             decisions, by_slot, drafted = _reconcile_as_drafted(session, states, dataset.topics, dataset.entities, ctx)
         else:
-            decisions, by_slot = reconcile(states, draft_context(ws, ctx))
+            drafts = draft_context(ws, ctx, progress)
+            progress("reconciling", 0, len(drafts))
+            decisions, by_slot = reconcile(states, drafts)
+            del drafts
             drafted = by_slot.keys()
         del ctx
         summary = LoadSummary(edition_label, dry_run=dry_run)
@@ -289,9 +299,11 @@ def load_edition(
         session.add(edition)
         session.flush()
         ops.replace_metadata(session, dataset.topics, dataset.entities)
+        progress("writing statements", 0, len(decisions))
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
         del decisions, by_slot, states  # the drafts are written: free them before the observations
         _count_unrenderable(summary, recheck_unrenderable(session, by=by))
+        progress("writing observations", 0, len(dataset.observations))
         written = ops.store_observations(session, edition.id, dataset.observations, stored)
         summary.observations_written = written["inserted"]
         session.flush()
@@ -350,9 +362,10 @@ def _draft_position(topics_frame: pd.DataFrame, entities_frame: pd.DataFrame) ->
     return key
 
 
-def redraft(ws: Workspace, *, by: str) -> LoadSummary:
+def redraft(ws: Workspace, *, by: str, progress: Progress = no_progress) -> LoadSummary:
     """Redraft the current edition (after a phrasing or house-style change) and reconcile."""
     with _gc_paused(), ws.session() as session:
+        progress("computing facts", 0, None)
         authorize(session, by, "redraft")
         ops.hold_writers(session)
         edition = ops.current_edition(session)
@@ -369,10 +382,14 @@ def redraft(ws: Workspace, *, by: str) -> LoadSummary:
         ctx = edition_context(session, obs, topics, entities, earlier, edition.label)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
-        decisions, by_slot = reconcile(states, draft_context(ws, ctx))
+        drafts = draft_context(ws, ctx, progress)
         del ctx
+        progress("reconciling", 0, len(drafts))
+        decisions, by_slot = reconcile(states, drafts)
+        del drafts
         summary = LoadSummary(edition.label)
         _summarise(summary, decisions, by_slot.keys(), states)
+        progress("writing statements", 0, len(decisions))
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
         _count_unrenderable(summary, recheck_unrenderable(session, by=by))
         session.flush()

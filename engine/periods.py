@@ -8,8 +8,10 @@ periods of an unevenly spaced series.
 from __future__ import annotations
 
 import re
+from typing import TYPE_CHECKING
 
-import pandas as pd
+if TYPE_CHECKING:  # pandas is imported where a frame is read: `stetline status` never needs it
+    import pandas as pd
 
 FORMATS: dict[str, re.Pattern[str]] = {
     "year": re.compile(r"^(\d{4})$"),
@@ -42,6 +44,8 @@ def period_time(label: str) -> float:
 
 def classify(labels: pd.Series) -> pd.Series:
     """Return the format name of every label in a column (empty string where none matches)."""
+    import pandas as pd
+
     out = pd.Series("", index=labels.index, dtype="str")
     for name, pattern in FORMATS.items():
         out = out.mask(labels.str.match(pattern.pattern), name)

@@ -19,6 +19,7 @@ from stetline import settings as settings_mod
 from stetline.actions import views
 from stetline.errors import StetlineError
 from stetline.livefields import LiveFields
+from stetline.progress import Progress, no_progress
 from stetline.publication import Publication, Statement
 from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.status import Status
@@ -107,7 +108,8 @@ def checksum(data: bytes) -> str:
 
 
 def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", allow_recheck: bool = False,
-            require_approval: bool = False, layouts_dir: Path | None = None) -> tuple[bytes, Publication]:
+            require_approval: bool = False, layouts_dir: Path | None = None,
+            progress: Progress = no_progress) -> tuple[bytes, Publication]:
     """Produce a publication in a format and record it as an event with its checksum."""
     from stetline.formats import FORMATS, render  # formats imports this module
 
@@ -118,8 +120,11 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
     from stetline.accounts import authorize
 
     authorize(session, by, "publish")
+    progress("checking rewrites", 0, None)
     recheck_unrenderable(session, by=by)  # a rewrite that no longer renders waits in recheck
+    progress("gathering statements", 0, None)
     pub = gather(session, sections=sections, allow_recheck=allow_recheck, require_approval=require_approval)
+    progress("checking numbers", 0, sum(len(statements) for _key, _heading, statements in pub.sections))
     untraced = untraced_numbers(session)
     if untraced and settings_mod.with_defaults(ops.get_settings(session))["untraced_numbers"] == "refuse":
         raise GateClosed(
@@ -128,6 +133,7 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
             + ". Correct them, or set untraced_numbers to warn."
         )
     pub.warnings += [f"{slot}: untraced number(s) {', '.join(nums)}" for slot, nums in untraced]
+    progress(f"writing {fmt}", 0, None)
     data = render(pub, fmt, layouts_dir)
     edition = ops.current_edition(session)
     ops.add_event(session, by, "publish", edition_id=edition.id if edition else None,

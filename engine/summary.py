@@ -11,8 +11,7 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from stetline.reconcile import REASONS
-from stetline.status import STATUSES, Status
+from stetline.status import REASONS, STATUSES, Status  # not actions or reconcile: `stetline status` starts at once
 from stetline.store import ops
 from stetline.store.models import Edition
 

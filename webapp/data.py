@@ -22,7 +22,7 @@ from werkzeug.datastructures import FileStorage
 from werkzeug.utils import secure_filename
 from werkzeug.wrappers import Response
 
-from stetline import accounts, loading
+from stetline import accounts, loading, progress
 from stetline.dataset import load_dataset
 from stetline.errors import Forbidden, Problem, StetlineError, ValidationError
 from stetline.reconcile import REASONS
@@ -75,7 +75,8 @@ def _page(*, status: int = 200, **context: Any) -> tuple[str, int]:
         loaded = None if edition is None else {"edition": edition, "summary": edition.summary}
     return render_template(
         "data/page.html", editions=ops.editions(s), current=ops.current_edition(s), reasons=REASONS,
-        loaded=loaded, max_mb=(request.max_content_length or 0) // (1024 * 1024), **context,
+        loaded=loaded, max_mb=(request.max_content_length or 0) // (1024 * 1024),
+        running=progress.running(workspace().path), **context,
     ), status
 
 
@@ -211,7 +212,9 @@ def load() -> Response | tuple[str, int]:
     try:
         manifest = json.loads((folder / MANIFEST).read_text())
         sources = _sources(folder, manifest)
-        summary = loading.load_edition(workspace(), *sources, label=manifest.get("label"), by=acting_name())
+        ws = workspace()
+        with progress.ProgressFile(ws.path, "load", acting_name()) as record:  # the data page shows it
+            summary = loading.load_edition(ws, *sources, label=manifest.get("label"), by=acting_name(), progress=record)
     except ValidationError as exc:
         return _page(status=400, problems=exc.problems)
     except StetlineError as exc:

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import getpass
 import json
+import sys
+import time
 from collections.abc import Callable, Iterable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
@@ -18,6 +20,7 @@ import click
 from sqlalchemy.exc import SQLAlchemyError
 
 from stetline.errors import StetlineError
+from stetline.progress import Progress, describe, no_progress
 from stetline.workspace import Workspace, default_path, init_workspace, open_workspace
 
 MAX_MESSAGE = 300
@@ -144,3 +147,34 @@ def init_ws(path: Path | None) -> Workspace:
 def echo_json(data: Any) -> None:
     """Print data as indented JSON."""
     click.echo(json.dumps(data, indent=2, ensure_ascii=False))
+
+
+@contextmanager
+def shown_progress(command: str, as_json: bool = False) -> Iterator[Progress]:
+    """A progress callback showing the stage and count on one line of stderr, rewritten in place.
+
+    Only on a terminal: nothing when stdout or stderr is a pipe or a file, nor with ``--json``.
+    The line is cleared when the work ends, before the command prints its result.
+    """
+    out, err = sys.stdout, sys.stderr
+    if as_json or not (out.isatty() and err.isatty()):
+        yield no_progress
+        return
+    width, last_stage, last_at = 0, "", 0.0
+
+    def show(stage: str, done: int, total: int | None) -> None:
+        nonlocal width, last_stage, last_at
+        now = time.monotonic()
+        if stage == last_stage and now - last_at < 0.2:
+            return  # at most five redraws a second within a stage
+        line = f"{command}: {describe(stage, done, total)}"
+        err.write("\r" + line.ljust(width))
+        err.flush()
+        width, last_stage, last_at = max(width, len(line)), stage, now
+
+    try:
+        yield show
+    finally:
+        if width:
+            err.write("\r" + " " * width + "\r")
+            err.flush()

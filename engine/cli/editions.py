@@ -8,7 +8,17 @@ from pathlib import Path
 
 import click
 
-from stetline.cli.common import FORMAT, KIND, by_option, echo_json, init_ws, json_option, open_ws, workspace_option
+from stetline.cli.common import (
+    FORMAT,
+    KIND,
+    by_option,
+    echo_json,
+    init_ws,
+    json_option,
+    open_ws,
+    shown_progress,
+    workspace_option,
+)
 from stetline.workspace import default_path
 
 
@@ -36,8 +46,9 @@ def load(observations: Path, topics: Path | None, entities: Path | None, label: 
     """Load an edition: the first load, and every refresh."""
     from stetline import loading
 
-    summary = loading.load_edition(open_ws(workspace), observations, topics, entities, label=label, by=by,
-                                   dry_run=dry_run)
+    with shown_progress("load", as_json) as progress:
+        summary = loading.load_edition(open_ws(workspace), observations, topics, entities, label=label, by=by,
+                                       dry_run=dry_run, progress=progress)
     if as_json:
         echo_json(summary.to_json())
     else:
@@ -52,7 +63,8 @@ def redraft(as_json: bool, workspace: Path | None, by: str) -> None:
     """Redraft the current edition after a phrasing or settings change."""
     from stetline import loading
 
-    summary = loading.redraft(open_ws(workspace), by=by)
+    with shown_progress("redraft", as_json) as progress:
+        summary = loading.redraft(open_ws(workspace), by=by, progress=progress)
     if as_json:
         echo_json(summary.to_json())
     else:
@@ -120,9 +132,10 @@ def publish_(fmt: str, output: Path | None, sections: str, allow_recheck: bool, 
         raise click.UsageError(f"{fmt} is a binary format and is not written to the terminal; "
                                f"give a file with -o, e.g. -o report.{fmt}")
     ws = open_ws(workspace)
-    with ws.session() as session:
+    with shown_progress("publish") as progress, ws.session() as session:
         data, pub = publishing.publish(session, fmt, by=by, sections=sections, allow_recheck=allow_recheck,
-                                       require_approval=require_approval, layouts_dir=ws.layouts_dir)
+                                       require_approval=require_approval, layouts_dir=ws.layouts_dir,
+                                       progress=progress)
     for w in pub.warnings:
         click.echo(f"warning: {w}", err=True)
     if output is None:

@@ -6,18 +6,21 @@ of *its* engine; PostgreSQL is used as configured. Migrations run from code, wit
 
 from __future__ import annotations
 
+import ast
+import re
 import sqlite3
 import weakref
 from contextvars import ContextVar
 from importlib import resources
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from alembic import command
-from alembic.config import Config
-from alembic.runtime.migration import MigrationContext
-from alembic.script import ScriptDirectory
-from sqlalchemy import Engine, create_engine, event
+from sqlalchemy import Engine, create_engine, event, text
+from sqlalchemy.exc import SQLAlchemyError
 from sqlalchemy.orm import Session, sessionmaker
+
+if TYPE_CHECKING:  # Alembic is imported where migrations are read: `stetline --help` starts without it
+    from alembic.config import Config
 
 BUSY_TIMEOUT_MS = 30_000
 #: set while a writing transaction is open in this thread or task (see Workspace.session)
@@ -95,6 +98,8 @@ def session_factory(engine: Engine) -> sessionmaker[Session]:
 
 def alembic_config(url: str) -> Config:
     """An Alembic configuration pointing at the shipped migrations, with no alembic.ini."""
+    from alembic.config import Config
+
     cfg = Config()
     cfg.set_main_option("script_location", str(resources.files("stetline.migrations")))
     cfg.set_main_option("sqlalchemy.url", url.replace("%", "%%"))
@@ -103,14 +108,54 @@ def alembic_config(url: str) -> Config:
 
 def upgrade(url: str) -> None:
     """Bring a database to the newest schema."""
+    from alembic import command
+
     command.upgrade(alembic_config(url), "head")
 
 
 def is_current(url: str, engine: Engine) -> bool:
-    """True when the database is at the newest migration."""
+    """True when the database is at the newest migration.
+
+    The newest revisions are first read from the migration files themselves (their ``revision``
+    and ``down_revision`` lines), which is quick; only when they differ from the database's does
+    Alembic read the migrations in full to decide.
+    """
+    with engine.connect() as conn:
+        try:
+            stored = {row[0] for row in conn.execute(text("SELECT version_num FROM alembic_version"))}
+        except SQLAlchemyError:
+            stored = set()
+        conn.rollback()
+    if stored and stored == _file_heads():
+        return True
+    from alembic.runtime.migration import MigrationContext
+    from alembic.script import ScriptDirectory
+
     heads = set(ScriptDirectory.from_config(alembic_config(url)).get_heads())
     with engine.connect() as conn:
         return set(MigrationContext.configure(conn).get_current_heads()) == heads
+
+
+_REVISION_LINE = re.compile(r"^(revision|down_revision)\s*(?::[^=]*)?=\s*(.+)$", re.M)
+
+
+def _file_heads() -> set[str]:
+    """The revisions no migration file names as its down revision (empty when a file cannot be read so)."""
+    revisions: set[str] = set()
+    below: set[str] = set()
+    for path in (resources.files("stetline.migrations") / "versions").iterdir():
+        if not path.name.endswith(".py"):
+            continue
+        found = dict(_REVISION_LINE.findall(path.read_text(encoding="utf-8")))
+        try:
+            revision, down = ast.literal_eval(found["revision"]), ast.literal_eval(found.get("down_revision", "None"))
+        except (KeyError, ValueError, SyntaxError):
+            return set()
+        if not isinstance(revision, str):
+            return set()
+        revisions.add(revision)
+        below.update([down] if isinstance(down, str) else list(down or ()))
+    return revisions - below
 
 
 def bring_up_to_date(url: str, engine: Engine) -> bool:

@@ -10,10 +10,16 @@ slow machine moves both sides alike:
   observations file with pandas, renders one compiled template of about the size of the
   built-in ones per slot of the load, and inserts as many rows (slot id, text, JSON evidence)
   into a fresh SQLite file in one transaction;
+* ``load vs bare floor``: the same first load against a barer floor: one process that imports
+  pandas and Jinja2, reads the observations, renders a one-line compiled template per slot and
+  inserts one row per slot (slot id, text, a two-fact JSON) into a table with one index;
 * ``refresh``: loading the second edition against the first load;
 * ``no-op refresh``: loading the second edition's file again as a new edition against the first
   load; no draft, layer or approval row may be written;
 * ``memory``: the peak resident set size of the first load;
+* ``cli help`` and ``cli status``: the median time of ``stetline --help`` and of ``stetline status``
+  on the full-size workspace against a bare process that imports click and SQLAlchemy and runs
+  one query on the same database (see ``startup.py``);
 * ``pages``: the median and 95th-percentile times of the entity page, the topic page and the
   recheck queue on the full-size workspace (after its refresh) divided by the same on a
   workspace of about 3,000 statements (20 entities x 50 topics, refreshed the same way, with
@@ -46,6 +52,8 @@ GNU_TIME = "/usr/bin/time"
 BY = "bench"
 
 TARGET_LOAD = 2.0
+TARGET_BARE = 3.0
+TARGET_START = 2.0
 TARGET_REFRESH = 1.5
 TARGET_NOOP = 0.5
 TARGET_MEMORY_MB = 2048
@@ -108,6 +116,31 @@ def floor_main(observations: str, slots: int, db_path: str) -> None:
         }
         text = template.render(variables, p=i % 2, ev={k: v["shown"] for k, v in evidence.items()})
         out.append((f"standing/{entity}/{topic}/{i}", text.strip(), json.dumps(evidence)))
+    con = sqlite3.connect(db_path, isolation_level=None)
+    con.execute("CREATE TABLE draft (slot_id TEXT PRIMARY KEY, text TEXT, evidence TEXT)")
+    con.execute("BEGIN")
+    con.executemany("INSERT INTO draft VALUES (?, ?, ?)", out)
+    con.execute("COMMIT")
+    con.close()
+
+
+BARE_TEMPLATE = "{{ name }}: {{ label }} was {{ value }} in {{ period }}."
+
+
+def bare_floor_main(observations: str, slots: int, db_path: str) -> None:
+    """The bare floor: read, render a one-line template per slot, insert one row with a two-fact JSON."""
+    import jinja2
+    import pandas as pd
+
+    frame = pd.read_csv(observations)
+    template = jinja2.Environment(autoescape=False).from_string(BARE_TEMPLATE)
+    rows = list(frame.itertuples(index=False, name=None))
+    out = []
+    for i in range(slots):
+        entity, topic, period, value, _margin, _status = rows[i % len(rows)]
+        text = template.render(name=entity, label=topic, value=value, period=period)
+        facts = {"value": {"value": value, "shown": str(value)}, "period": {"value": period, "shown": str(period)}}
+        out.append((f"standing/{entity}/{topic}/{i}", text, json.dumps(facts)))
     con = sqlite3.connect(db_path, isolation_level=None)
     con.execute("CREATE TABLE draft (slot_id TEXT PRIMARY KEY, text TEXT, evidence TEXT)")
     con.execute("BEGIN")
@@ -267,6 +300,9 @@ def run(args: argparse.Namespace, work: Path) -> bool:
     floor = timed([sys.executable, str(Path(__file__).resolve()), "--floor",
                    str(paths["observations"]), str(slots), str(floor_db)], work)
     print(f"floor: {floor.seconds:.2f} s", flush=True)
+    bare = timed([sys.executable, str(Path(__file__).resolve()), "--bare-floor",
+                  str(paths["observations"]), str(slots), str(work / "bare-floor.db")], work)
+    print(f"bare floor: {bare.seconds:.2f} s", flush=True)
 
     t0 = time.perf_counter()
     work_done = add_human_work(ws, args.human_share)
@@ -287,6 +323,9 @@ def run(args: argparse.Namespace, work: Path) -> bool:
     print(f"no-op refresh: edition {s3['edition']}, {s3['drafts_written']} drafts written "
           f"in {noop.seconds:.2f} s (peak RSS {noop.max_rss_mb or 0:.0f} MB)", flush=True)
 
+    import startup
+
+    start = startup.measure(cli, ws, timed, args.start_repeats)
     small_ws = build_small(work, args.periods)
     pages = measure_pages(small_ws, ws, args.page_requests)
 
@@ -296,6 +335,17 @@ def run(args: argparse.Namespace, work: Path) -> bool:
     ok &= r <= TARGET_LOAD
     print(f"load vs floor: {r:.2f} (target <= {TARGET_LOAD:g}) {verdict(r <= TARGET_LOAD)} "
           f"[load {raw(first)}, floor {raw(floor)}]")
+    r = first.seconds / bare.seconds
+    ok &= r <= TARGET_BARE
+    print(f"load vs bare floor: {r:.2f} (target <= {TARGET_BARE:g}) {verdict(r <= TARGET_BARE)} "
+          f"[load {raw(first)}, bare floor {raw(bare)}]")
+    for name in ("help", "status"):
+        (wall, cpu), (bare_wall, bare_cpu) = start[name], start["bare"]
+        r = wall / bare_wall
+        ok &= r <= TARGET_START
+        cpu_note = f", cpu {cpu / bare_cpu:.2f} ({cpu:.2f} s vs {bare_cpu:.2f} s)" if cpu and bare_cpu else ""
+        print(f"cli {name}: {r:.2f} (target <= {TARGET_START:g}) {verdict(r <= TARGET_START)} "
+              f"[median of {args.start_repeats}: {wall:.2f} s vs bare {bare_wall:.2f} s{cpu_note}]")
     r = second.seconds / first.seconds
     ok &= r <= TARGET_REFRESH
     print(f"refresh: {r:.2f} (target <= {TARGET_REFRESH:g}) {verdict(r <= TARGET_REFRESH)} "
@@ -366,6 +416,9 @@ def main(argv: list[str] | None = None) -> int:
     if argv[:1] == ["--floor"]:
         floor_main(argv[1], int(argv[2]), argv[3])
         return 0
+    if argv[:1] == ["--bare-floor"]:
+        bare_floor_main(argv[1], int(argv[2]), argv[3])
+        return 0
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--entities", type=int, default=1000)
     parser.add_argument("--topics", type=int, default=100)
@@ -374,6 +427,8 @@ def main(argv: list[str] | None = None) -> int:
                         help="add human work to about one slot in this many (default 500)")
     parser.add_argument("--page-requests", type=int, default=100,
                         help="requests of each page per workspace for the page ratios (default 100)")
+    parser.add_argument("--start-repeats", type=int, default=5,
+                        help="runs of --help, status and the bare process for the CLI ratios (default 5)")
     parser.add_argument("--keep", type=Path, default=None,
                         help="work in this folder and keep it (default: a temporary folder, removed)")
     parser.add_argument("--strict", action="store_true", help="exit 1 when a target is missed")

@@ -13,13 +13,14 @@ import sys
 from pathlib import Path
 
 SCRIPT = Path(__file__).resolve().parent / "bench.py"
-LINES = ("load vs floor", "refresh", "no-op rows", "no-op refresh", "memory",
-         "entity page", "topic page", "recheck queue")
+LINES = ("load vs floor", "load vs bare floor", "cli help", "cli status", "refresh", "no-op rows", "no-op refresh",
+         "memory", "entity page", "topic page", "recheck queue")
 
 
 def test_the_benchmark_prints_every_ratio_line() -> None:
     out = subprocess.run(
-        [sys.executable, str(SCRIPT), "--entities", "30", "--topics", "5", "--periods", "3", "--page-requests", "3"],
+        [sys.executable, str(SCRIPT), "--entities", "30", "--topics", "5", "--periods", "3", "--page-requests", "3",
+         "--start-repeats", "1"],
         capture_output=True, text=True, timeout=900,
     )
     assert out.returncode == 0, out.stdout + out.stderr[-3000:]

@@ -8,12 +8,13 @@ from __future__ import annotations
 
 import json
 from collections.abc import Iterable, Iterator, Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import numpy as np
-import pandas as pd
 from sqlalchemy import insert, update
 from sqlalchemy.orm import Session
+
+if TYPE_CHECKING:  # imported where a frame is built: `stetline status` never needs pandas
+    import pandas as pd
 
 #: rows per executemany
 CHUNK = 20_000
@@ -31,6 +32,9 @@ def id_chunks(ids: Iterable[str]) -> Iterator[list[str]]:
 def to_frame(rows: Sequence[Any], columns: list[str], floats: tuple[str, ...] = ()) -> pd.DataFrame:
     """``pd.DataFrame(rows, columns=columns)``, built column by column (several times faster for
     many rows); the ``floats`` columns come as float64 with NaN for NULL."""
+    import numpy as np
+    import pandas as pd
+
     if not rows:
         return pd.DataFrame(rows, columns=columns)
     data: dict[str, Any] = {}

@@ -2,14 +2,16 @@
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import pandas as pd
 from sqlalchemy import select
 from sqlalchemy.orm import Session, aliased
 
 from stetline import periods
 from stetline.store.models import Edition, Entity, Observation, Setting, Topic
+
+if TYPE_CHECKING:  # imported where a frame is built: `stetline status` never needs pandas
+    import pandas as pd
 from stetline.store.ops.bulk import floats_or_none, to_frame, write_many
 
 
@@ -69,6 +71,8 @@ def get_topic(session: Session, key: str) -> Topic | None:
 
 def topics_frame(session: Session) -> pd.DataFrame | None:
     """The stored topic metadata as a frame shaped like engine.dataset's, or None if empty."""
+    import pandas as pd
+
     rows = session.scalars(select(Topic).order_by(Topic.position)).all()
     if not rows:
         return None
@@ -83,6 +87,8 @@ def topics_frame(session: Session) -> pd.DataFrame | None:
 
 def entities_frame(session: Session) -> pd.DataFrame | None:
     """The stored entity metadata as a frame, or None if empty."""
+    import pandas as pd
+
     rows = session.scalars(select(Entity).order_by(Entity.position)).all()
     if not rows:
         return None
@@ -91,6 +97,8 @@ def entities_frame(session: Session) -> pd.DataFrame | None:
 
 def replace_metadata(session: Session, topics: pd.DataFrame, entities: pd.DataFrame) -> None:
     """Store the metadata in force (rows not in the frames are kept: nothing is deleted)."""
+    import pandas as pd
+
     existing_t = {t.key: t for t in session.scalars(select(Topic))}
     for r in topics.itertuples(index=False):
         values = dict(
@@ -127,6 +135,7 @@ OBS_KEY = ["entity", "topic", "period"]
 
 def observations_frame(session: Session, edition_id: int | None = None) -> pd.DataFrame:
     """The observations valid in an edition (default: the current ones)."""
+
     q = select(
         Observation.id, Observation.entity, Observation.topic, Observation.period,
         Observation.value, Observation.margin, Observation.status,
@@ -149,6 +158,7 @@ def store_observations(
 
     ``current`` is what observations_frame(session) gives, when the caller has already read it.
     """
+
     old = observations_frame(session) if current is None else current
     new = observations[["entity", "topic", "period", "value", "margin", "status"]]
     merged = new.merge(old, on=OBS_KEY, how="outer", suffixes=("", "_old"), indicator=True)
@@ -185,6 +195,7 @@ def replaced_values(session: Session, before: int | None = None) -> pd.DataFrame
     an edition older than that edition id count (what that edition's own load saw). One probe of
     the observation index per current row, however many editions are stored.
     """
+
     old, cur = aliased(Observation), aliased(Observation)
     q = select(old.entity, old.topic, old.period, old.value).join(
         cur, (cur.valid_to.is_(None)) & (cur.entity == old.entity) & (cur.topic == old.topic)

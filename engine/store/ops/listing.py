@@ -17,8 +17,7 @@ from typing import Any
 from sqlalchemy import ColumnElement, String, cast, false, func, select
 from sqlalchemy.orm import Session
 
-from stetline.reconcile import REASONS
-from stetline.status import Status
+from stetline.status import REASONS, Status
 from stetline.store.models import Draft, Entity, Slot, Topic
 
 

@@ -7,15 +7,17 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from sqlalchemy import func, select, text
 from sqlalchemy.orm import Session
 
-from stetline.drafting import Draft as DraftText
-from stetline.reconcile import Basis, Decision, HumanWork, SlotState
 from stetline.store.models import Approval, Draft, Edition, Event, Layer, Observation, Slot, utcnow
 from stetline.store.ops.bulk import id_chunks, write_many
+
+if TYPE_CHECKING:  # imported where used: `stetline status` never needs drafting (pandas, Jinja2)
+    from stetline.drafting import Draft as DraftText
+    from stetline.reconcile import Decision, SlotState
 
 
 def hold_writers(session: Session) -> None:
@@ -33,6 +35,8 @@ def hold_writers(session: Session) -> None:
 
 def slot_states(session: Session) -> dict[str, SlotState]:
     """Every slot's state with its active human work, for reconcile."""
+    from stetline.reconcile import Basis, HumanWork, SlotState
+
     states = {
         sid: SlotState(sid, dig, gone, status)
         for sid, dig, gone, status in session.execute(select(Slot.id, Slot.digest, Slot.gone, Slot.status))
@@ -48,6 +52,8 @@ def slot_states(session: Session) -> dict[str, SlotState]:
 
 def current_drafts(session: Session, slot_ids: Iterable[str]) -> list[DraftText]:
     """The current draft of each of these slots (slots without one are left out), as drafted."""
+    from stetline.drafting import Draft as DraftText
+
     out: list[DraftText] = []
     q = select(
         Slot.id, Slot.kind, Slot.entity, Slot.topic, Draft.text, Draft.evidence, Draft.claims,
@@ -123,6 +129,8 @@ def apply_decisions(
 
 def _rebase(session: Session, decisions: Iterable[Decision], drafts: dict[str, DraftText]) -> None:
     """Point the human work a decision carries over at its slot's new basis."""
+    from stetline.reconcile import Basis
+
     layers: list[tuple[Any, ...]] = []
     approvals: list[tuple[Any, ...]] = []
     for d in decisions:
