@@ -9,6 +9,8 @@ from __future__ import annotations
 import gc
 import json
 import os
+import subprocess
+import sys
 import time
 from pathlib import Path
 from typing import Any
@@ -74,3 +76,17 @@ def signed_in(app: Any, name: str) -> Any:
     with client.session_transaction() as cookie:
         cookie.update({"account": name, "gen": generation, "since": now, "seen": now})
     return client
+
+
+def run_stetline(path: Path, *args: str, timeout: int = 300) -> subprocess.CompletedProcess[str]:
+    """Run the installed ``stetline`` command on a workspace folder, as a separate process.
+
+    The process is pointed at the database this test process uses for the folder (its own
+    PostgreSQL database when the suite runs there), so both sides see the same workspace.
+    """
+    import stetline.workspace as workspace_module
+
+    env = {**os.environ, "STETLINE_DATABASE_URL": workspace_module._url_for(path, None)}
+    command = str(Path(sys.executable).with_name("stetline"))
+    return subprocess.run([command, *args, "-w", str(path)], capture_output=True, text=True, timeout=timeout,
+                          env=env)

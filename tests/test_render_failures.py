@@ -11,12 +11,12 @@ from __future__ import annotations
 
 import json
 import subprocess
-import sys
 from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
 from flask import Flask
+from helpers import run_stetline
 
 from stetline import actions
 from stetline.web import create_app
@@ -25,11 +25,10 @@ from stetline.workspace import Workspace, open_workspace
 SLOT = "standing/cairnbrook/recycling"
 TRAP = ("{% macro deeper(n) %}{{ deeper(n + 1) }}{% endmacro %}"
         "{% if 'per cent' in (value | percent(0)) %}{{ deeper(1) }}{% endif %}Cairnbrook recycles {{ value }}.")
-STETLINE = str(Path(sys.executable).parent / "stetline")  # the installed command, run as a subprocess
 
 
 def stetline(path: Path, *args: str) -> subprocess.CompletedProcess[str]:
-    return subprocess.run([STETLINE, *args, "-w", str(path)], capture_output=True, text=True, timeout=300)
+    return run_stetline(path, *args)
 
 
 @pytest.fixture

@@ -11,14 +11,13 @@ from __future__ import annotations
 
 import html as html_mod
 import subprocess
-import sys
 from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
 from flask import Flask
 from flask.testing import FlaskClient
-from helpers import signed_in
+from helpers import run_stetline, signed_in
 from openpyxl import load_workbook
 
 from stetline import actions
@@ -26,7 +25,6 @@ from stetline.web import create_app
 from stetline.workspace import Workspace, open_workspace
 
 SLOT = "standing/cairnbrook/recycling"  # a draft nobody worked on in the demo
-STETLINE = str(Path(sys.executable).parent / "stetline")  # the installed command, run as a subprocess
 
 
 @pytest.fixture
@@ -67,7 +65,7 @@ def refused_approval(client: FlaskClient, ws: Workspace, author: str, slot: str 
 
 
 def stetline(ws_path: Path, *args: str) -> subprocess.CompletedProcess[str]:
-    return subprocess.run([STETLINE, *args, "-w", str(ws_path)], capture_output=True, text=True, timeout=300)
+    return run_stetline(ws_path, *args)
 
 
 def test_a_reviewer_who_pins_their_own_rewrite_cannot_approve_it(app: Flask, team: Workspace) -> None:
