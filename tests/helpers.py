@@ -84,9 +84,13 @@ def run_stetline(path: Path, *args: str, timeout: int = 300) -> subprocess.Compl
     The process is pointed at the database this test process uses for the folder (its own
     PostgreSQL database when the suite runs there), so both sides see the same workspace.
     """
-    import stetline.workspace as workspace_module
-
-    env = {**os.environ, "STETLINE_DATABASE_URL": workspace_module._url_for(path, None)}
     command = str(Path(sys.executable).with_name("stetline"))
     return subprocess.run([command, *args, "-w", str(path)], capture_output=True, text=True, timeout=timeout,
-                          env=env)
+                          env=stetline_env(path))
+
+
+def stetline_env(path: Path) -> dict[str, str]:
+    """The environment for a ``stetline`` process on a workspace folder: the test's database for it."""
+    import stetline.workspace as workspace_module
+
+    return {**os.environ, "STETLINE_DATABASE_URL": workspace_module._url_for(path, None)}

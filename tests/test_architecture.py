@@ -179,3 +179,10 @@ def test_developers_md_lists_every_engine_and_web_module() -> None:
     assert sorted(modules - named) == [], "modules DEVELOPERS.md does not name"
     anywhere = {p.stem for folder in ROOMS for p in (ROOT / folder).rglob("*.py")}
     assert sorted(named - anywhere) == [], "DEVELOPERS.md names modules that do not exist"
+
+
+def test_tests_take_shared_helpers_from_helpers_not_conftest() -> None:
+    # conftest.py holds fixtures; what tests import lives in tests/helpers.py (DEVELOPERS.md)
+    offenders = [str(p.relative_to(ROOT)) for p in sorted((ROOT / "tests").rglob("*.py"))
+                 if re.search(r"^\s*(from|import) (tests\.)?conftest\b", p.read_text(encoding="utf-8"), re.M)]
+    assert offenders == []

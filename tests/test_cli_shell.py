@@ -11,7 +11,7 @@ from typing import Any
 import pytest
 import waitress
 from click.testing import CliRunner
-from conftest import Cli
+from helpers import Cli, stetline_env
 
 import stetline.summary
 from stetline.cli import main
@@ -103,7 +103,7 @@ def test_settings_are_checked_like_the_web_app(demo_cli: Cli) -> None:
 def test_a_closed_pipe_ends_quietly(demo_path: Path) -> None:
     command = Path(sys.executable).parent / "stetline"
     with subprocess.Popen([str(command), "list", "-w", str(demo_path)], stdout=subprocess.PIPE,
-                          stderr=subprocess.PIPE, text=True) as proc:
+                          stderr=subprocess.PIPE, text=True, env=stetline_env(demo_path)) as proc:
         assert proc.stdout is not None and proc.stderr is not None
         first = proc.stdout.readline()
         proc.stdout.close()  # like `stetline list | head -1`

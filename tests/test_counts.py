@@ -8,7 +8,7 @@ import dataclasses
 from pathlib import Path
 
 import pytest
-from conftest import ON_POSTGRES, Cli
+from helpers import ON_POSTGRES, Cli
 
 from stetline.loading import LoadSummary
 from stetline.store import ops

@@ -24,6 +24,7 @@ from pathlib import Path
 
 import pandas as pd
 import pytest
+from helpers import stetline_env
 from openpyxl import Workbook
 
 import stetline.seed_data as seed_data
@@ -578,7 +579,7 @@ def test_the_cli_reports_all_four_kinds_at_once_and_writes_nothing(demo_path: Pa
     bad = write(tmp_path / "four.csv", demo_rows)
     command = str(Path(sys.executable).parent / "stetline")  # the installed command, run as a subprocess
     done = subprocess.run([command, "load", str(bad), "--by", "admin", "-w", str(demo_path)],
-                          capture_output=True, text=True, timeout=300)
+                          capture_output=True, text=True, timeout=300, env=stetline_env(demo_path))
     assert done.returncode != 0 and "Traceback" not in done.stderr
     for line in ("four.csv, row 2, column 'value': the value is not a number: 'lots'",
                  "four.csv, row 3, column 'period': not a period",

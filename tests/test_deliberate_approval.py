@@ -14,9 +14,9 @@ import re
 from typing import Any
 
 import pytest
-from conftest import Cli
 from flask import Flask
 from flask.testing import FlaskClient
+from helpers import Cli
 from werkzeug.datastructures import MultiDict
 
 from stetline import actions, bulk

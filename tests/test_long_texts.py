@@ -19,6 +19,7 @@ from pathlib import Path
 
 import pytest
 from flask import Flask
+from helpers import stetline_env
 
 from stetline import actions
 from stetline.actions import MAX_NOTE, MAX_REWRITE
@@ -78,6 +79,7 @@ def test_a_five_megabyte_note_is_refused_on_the_web(app: Flask, ws: Workspace) -
 def test_a_long_note_is_refused_by_the_cli(demo_path: Path, ws: Workspace) -> None:
     before = snapshot(ws)
     done = subprocess.run([STETLINE, "annotate", SLOT, prose(2, MAX_NOTE + 50), "--by", "ed", "-w", str(demo_path)],
+                          env=stetline_env(demo_path),
                           capture_output=True, text=True, timeout=300)
     assert done.returncode == 1 and "Traceback" not in done.stderr
     assert f"a note may hold at most {MAX_NOTE:,} characters" in done.stderr

@@ -15,6 +15,7 @@ import sys
 from pathlib import Path
 
 import markdown
+from helpers import stetline_env
 
 STETLINE = str(Path(sys.executable).parent / "stetline")  # the installed command, run as a subprocess
 HOSTILE_NAME = "Cairn<script>alert('name')</script>brook"
@@ -23,7 +24,8 @@ HOSTILE_UNIT = "<b>tonnes</b>"
 
 
 def stetline(ws: Path, *args: str) -> subprocess.CompletedProcess[str]:
-    done = subprocess.run([STETLINE, *args, "-w", str(ws)], capture_output=True, text=True, timeout=300)
+    done = subprocess.run([STETLINE, *args, "-w", str(ws)], env=stetline_env(ws), capture_output=True, text=True,
+                          timeout=300)
     assert done.returncode == 0, done.stderr
     return done
 

@@ -13,7 +13,7 @@ from typing import Any
 
 import docx
 import pytest
-from conftest import Cli
+from helpers import Cli
 
 from stetline.actions import views
 from stetline.publication import RECHECK_MARK, WAITING_HEADING

@@ -8,6 +8,7 @@ import sys
 from pathlib import Path
 
 from alembic.script import ScriptDirectory
+from helpers import stetline_env
 
 from stetline.store import db
 
@@ -25,7 +26,7 @@ print("heavy:" + ",".join(m for m in {heavy!r} if m in sys.modules))
 
 def test_status_reads_the_workspace_without_the_heavy_libraries(demo_path: Path) -> None:
     done = subprocess.run([sys.executable, "-c", PROBE.format(path=str(demo_path), heavy=HEAVY)],
-                          capture_output=True, text=True, check=True, timeout=120)
+                          capture_output=True, text=True, check=True, timeout=120, env=stetline_env(demo_path))
     assert "statements" in done.stdout  # the status was printed
     assert done.stdout.strip().splitlines()[-1] == "heavy:"
 

@@ -14,7 +14,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 from babel.numbers import format_compact_decimal, format_currency, format_decimal
-from conftest import Cli
+from helpers import Cli
 from test_kinds import ENTITIES, draft_texts, topic
 
 from stetline.dataset import load_dataset

@@ -15,6 +15,7 @@ import zipfile
 from pathlib import Path
 
 import pytest
+from helpers import stetline_env
 from openpyxl import Workbook
 
 from stetline import inputfiles
@@ -55,7 +56,8 @@ def bomb(rows: int) -> bytes:
 
 
 def editions(ws: Path) -> int:
-    done = subprocess.run([STETLINE, "status", "--json", "-w", str(ws)], capture_output=True, text=True, timeout=300)
+    done = subprocess.run([STETLINE, "status", "--json", "-w", str(ws)], env=stetline_env(ws),
+                          capture_output=True, text=True, timeout=300)
     return int(json.loads(done.stdout)["editions"])
 
 
@@ -66,6 +68,7 @@ def test_a_small_workbook_that_expands_to_megabytes_is_refused_unread(demo_path:
     path.write_bytes(data)
     before = editions(demo_path)
     done = subprocess.run([STETLINE, "load", str(path), "--by", "ed", "-w", str(demo_path)],
+                          env=stetline_env(demo_path),
                           capture_output=True, text=True, timeout=300)
     assert done.returncode == 1 and "Traceback" not in done.stderr
     assert "observations.xlsx" in done.stderr
