@@ -10,7 +10,7 @@ The other formats (HTML, JSON, CSV, Word) render the same Publication; see stetl
 from __future__ import annotations
 
 import hashlib
-from datetime import date, datetime
+from datetime import date
 from pathlib import Path
 
 from sqlalchemy.orm import Session
@@ -24,6 +24,7 @@ from stetline.publication import Publication, Statement
 from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.status import Status
 from stetline.store import ops
+from stetline.timestamps import iso_time
 
 
 class GateClosed(StetlineError):
@@ -70,7 +71,7 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
         st = Statement(v.slot.id, v.slot.kind, v.slot.entity, v.slot.topic, shown.status, shown.text,
                        list(shown.notes), caveat, v.slot.interest, shown.reason if shown.waiting else None,
                        v.draft.evidence, shown.written_by, approval.by if approval is not None else None,
-                       _iso(approval.at) if approval is not None else None)
+                       iso_time(approval.at) if approval is not None else None)
         key = (v.slot.entity if sections == "entity" else v.slot.topic) or ""
         grouped.setdefault(key, []).append(st)
     order = list(entities) if sections == "entity" else list(topics)
@@ -91,8 +92,6 @@ def waiting_warning(slot_id: str, reason: str) -> str:
     return f"{slot_id}: {reason}"
 
 
-def _iso(at: datetime | None) -> str | None:
-    return None if at is None else at.isoformat(timespec="seconds") + "Z"
 
 
 def to_markdown(pub: Publication, layouts_dir: Path | None = None) -> str:

@@ -6,6 +6,7 @@ from flask import Blueprint, render_template
 from sqlalchemy.orm import Session
 
 from stetline import accounts, actions
+from stetline.status import Status
 from stetline.store import ops
 from stetline.web.common import acting_name
 from stetline.web.db import session
@@ -13,13 +14,8 @@ from stetline.web.db import session
 bp = Blueprint("mine", __name__)
 
 #: the statuses that wait on a person of each role (None: a one-person workspace)
-WAITING = {
-    "expert": ("draft", "edited", "recheck"),
-    "editor": ("draft", "edited", "recheck"),
-    "reviewer": ("edited", "recheck"),
-    "admin": ("draft", "edited", "recheck"),
-    None: ("draft", "edited", "recheck"),
-}
+_OPEN = (Status.DRAFT, Status.EDITED, Status.RECHECK)
+WAITING = {"expert": _OPEN, "editor": _OPEN, "reviewer": (Status.EDITED, Status.RECHECK), "admin": _OPEN, None: _OPEN}
 
 
 @bp.get("/mine")

@@ -17,6 +17,7 @@ from stetline.formats import FORMATS, MEDIA_TYPES
 from stetline.livefields import LiveFields
 from stetline.loading import house_style
 from stetline.publication import CAUTION
+from stetline.status import Status
 from stetline.store import ops
 from stetline.web.common import acting_name
 from stetline.web.db import session, workspace
@@ -46,7 +47,7 @@ def _choice() -> dict[str, Any]:
 def _page(*, error: str | None = None, chosen: dict[str, Any] | None = None, status: int = 200) -> tuple[str, int]:
     s = session()
     edition = ops.current_edition(s)
-    waiting = actions.views(s, ops.SlotFilter(status="recheck"), order="severity") if edition else []
+    waiting = actions.views(s, ops.SlotFilter(status=Status.RECHECK), order="severity") if edition else []
     live = LiveFields(house_style(s)[0])
     shown = [(v.slot.id, v.printed(s, live)) for v in waiting[:SHOWN]]
     counts = ops.status_counts(s)
@@ -54,7 +55,7 @@ def _page(*, error: str | None = None, chosen: dict[str, Any] | None = None, sta
     mode = settings.with_defaults(ops.get_settings(s))["untraced_numbers"]
     return render_template(
         "publish/page.html", edition=edition, waiting=shown, waiting_total=len(waiting),
-        unapproved=counts.get("draft", 0) + counts.get("edited", 0), approved=counts.get("approved", 0),
+        unapproved=counts.get(Status.DRAFT, 0) + counts.get(Status.EDITED, 0), approved=counts.get(Status.APPROVED, 0),
         untraced=untraced[:SHOWN], untraced_total=len(untraced), untraced_mode=mode,
         caution=CAUTION, formats=[(f, *FORMAT_LABELS.get(f, (f, ""))) for f in FORMATS],
         sections=SECTIONS, chosen=chosen or {"format": "md", "sections": "entity"}, error=error,
