@@ -275,6 +275,9 @@ persistent overall gross median mean modal typical proportion proportions rates 
 electric renewable solar wind cycling walking journeys journey trips passengers visits visitor users
 customer customers tenants tenancies arrears evictions homeless homelessness temporary rough sleeping
 births deaths marriages migration migrants net-migration households' library's council's total
+market stock stocks value values capital investment investments sales revenue revenues profit profits
+assets output production yield yields growth consumption expenditure inflation interest savings land
+area crop crops harvest height weight size volume amount quantity sum capacity usage use deposits
 """.split())
 _ORDINARY_ENDINGS: Final = ("tion", "sion", "ment", "ness", "ity", "ance", "ence", "ship")
 

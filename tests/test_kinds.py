@@ -36,7 +36,7 @@ def topic(key: str, unit: str = "percent", better: str = "higher", decimals: int
 
 
 def draft_texts(rows: list[tuple], topics: list[dict], entities: pd.DataFrame = ENTITIES,
-                earlier: pd.DataFrame | None = None) -> dict[str, tuple[str, dict, dict]]:
+                earlier: pd.DataFrame | None = None, noun: str = "town") -> dict[str, tuple[str, dict, dict]]:
     """Draft every slot of a tiny dataset: rows are (entity, topic, period, value[, margin[, status]])."""
     full = [tuple(r) + (float("nan"), "")[len(r) - 4:] for r in rows]
     obs = pd.DataFrame(full, columns=["entity", "topic", "period", "value", "margin", "status"])
@@ -50,7 +50,7 @@ def draft_texts(rows: list[tuple], topics: list[dict], entities: pd.DataFrame = 
     facts = compute_facts(obs, t, entities, earlier)
     style = HouseStyle()
     ctx = Context(facts, t.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
-                  style, "town")
+                  style, noun)
     return {d.slot: (d.text, d.evidence, d.claims) for d in draft_all(ctx, Renderer(style), KINDS)}
 
 

@@ -122,6 +122,9 @@ def test_quarter_bands_only_where_they_mean_something() -> None:
     ("Reading ferry times", "Reading ferry times", True),
     ("Share of residents satisfied with parks", "share of residents satisfied with parks", True),
     ("Median emergency response time", "median emergency response time", True),
+    # labels of the Grunfeld investment panel (statsmodels' datasets), read as an editor would
+    ("Market value of the firm", "market value of the firm", True),
+    ("Stock of plant and equipment", "stock of plant and equipment", False),
 ])
 def test_labels_keep_capitals_and_take_the_by_their_head(label: str, mid: str, the: bool) -> None:
     assert in_sentence(label) == mid
@@ -282,3 +285,12 @@ def test_no_sentence_recurs_in_more_than_a_tenth_of_its_kind(swept: tuple[list[d
         counts.update(set(re.split(r"(?<=[.?!])\s+", text)))
     sentence, times = counts.most_common(1)[0]
     assert times < 2 or times <= 0.1 * len(items), (sentence, times, len(items))
+
+
+def test_movement_names_its_biggest_movers_with_the_entity_nouns_preposition() -> None:
+    # "the biggest improvement was at General Electric", not "in", when the entities are firms
+    rows = [(e, "recycling", y, v) for e, (v0, v1) in
+            {"a": (40, 42), "b": (41, 43), "c": (42, 44), "d": (43, 45), "e": (44, 41)}.items()
+            for y, v in ((2024, v0), (2025, v1))]
+    texts = draft_texts(rows, [topic("recycling")], noun="firm")
+    assert " at " in texts["movement/recycling"][0] and "was in " not in texts["movement/recycling"][0]

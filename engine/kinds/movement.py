@@ -77,7 +77,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "prev_period": prev_period, "neutral": neutral, "words": words,
             "n_up": n_up, "n_down": n_down, "steady": steady, "nouns": ctx.of_n(len(frame)),
             "exceptions": ctx.names(exceptions), "n_exceptions": len(exceptions),
-            "best_mover": "", "worst_mover": "",
+            "best_mover": "", "worst_mover": "", "prep": ctx.preposition,
         }
         folded = others_count(len(exceptions))
         if folded:  # "… and 5 others": the count the list folds away is a fact like the rest
