@@ -11,14 +11,12 @@ import pytest
 from helpers import Cli
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from test_kinds import draft_panel
 
-from stetline import periods
 from stetline import settings as declared
-from stetline.drafting import Context, Draft, Renderer, draft_all
+from stetline.drafting import Draft
 from stetline.errors import StetlineError
-from stetline.facts import compute_facts
-from stetline.kinds import BY_NAME, KINDS
-from stetline.phrasing import HouseStyle
+from stetline.kinds import BY_NAME
 from stetline.reconcile import Basis, HumanWork, SlotState, decide
 
 ENTITIES = pd.DataFrame({
@@ -32,18 +30,7 @@ TOPICS = [{"topic": "recycling", "label": "Recycling rate", "unit": "percent", "
 def drafts(rows: list[tuple], entities: pd.DataFrame = ENTITIES, topics: list[dict] = TOPICS) -> dict[str, Draft]:
     """Every draft of a small panel: rows are (entity, topic, period, value[, status])."""
     full = [(*r[:4], float("nan"), r[4] if len(r) > 4 else "") for r in rows]
-    obs = pd.DataFrame(full, columns=["entity", "topic", "period", "value", "margin", "status"])
-    obs["period"] = obs["period"].astype("str")
-    obs["value"] = obs["value"].astype("float64")
-    obs["margin"] = obs["margin"].astype("float64")
-    obs["time"] = periods.times(obs["period"], "year")
-    obs["row"] = range(2, len(obs) + 2)
-    t = pd.DataFrame(topics)
-    t["position"] = range(len(t))
-    style = HouseStyle()
-    ctx = Context(compute_facts(obs, t, entities, None), t.set_index("topic").to_dict("index"),
-                  entities.set_index("entity").to_dict("index"), style, "town")
-    return {d.slot: d for d in draft_all(ctx, Renderer(style), KINDS)}
+    return {d.slot: d for d in draft_panel(full, topics, entities)}
 
 
 def panel(latest: dict[str, float], earlier: dict[str, float] | None = None, status: dict[str, str] | None = None,

@@ -17,7 +17,7 @@ import pytest
 from scipy import stats
 
 from stetline import periods
-from stetline.drafting import Context, Renderer, draft_all
+from stetline.drafting import Context, Draft, Renderer, draft_all
 from stetline.facts import compute_facts
 from stetline.kinds import KINDS
 from stetline.phrasing import HouseStyle
@@ -39,6 +39,13 @@ def draft_texts(rows: list[tuple], topics: list[dict], entities: pd.DataFrame = 
                 earlier: pd.DataFrame | None = None, noun: str = "town") -> dict[str, tuple[str, dict, dict]]:
     """Draft every slot of a tiny dataset: rows are (entity, topic, period, value[, margin[, status]])."""
     full = [tuple(r) + (float("nan"), "")[len(r) - 4:] for r in rows]
+    drafted = draft_panel(full, topics, entities, earlier, noun)
+    return {d.slot: (d.text, d.evidence, d.claims) for d in drafted}
+
+
+def draft_panel(full: list[tuple], topics: list[dict], entities: pd.DataFrame = ENTITIES,
+                earlier: pd.DataFrame | None = None, noun: str = "town") -> list[Draft]:
+    """Every draft of every kind for rows (entity, topic, period, value, margin, status), yearly periods."""
     obs = pd.DataFrame(full, columns=["entity", "topic", "period", "value", "margin", "status"])
     obs["period"] = obs["period"].astype("str")
     obs["value"] = obs["value"].astype("float64")
@@ -51,7 +58,7 @@ def draft_texts(rows: list[tuple], topics: list[dict], entities: pd.DataFrame = 
     style = HouseStyle()
     ctx = Context(facts, t.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
                   style, noun)
-    return {d.slot: (d.text, d.evidence, d.claims) for d in draft_all(ctx, Renderer(style), KINDS)}
+    return list(draft_all(ctx, Renderer(style), KINDS))
 
 
 REC = [topic("recycling", target=50.0)]

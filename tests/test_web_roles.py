@@ -16,7 +16,6 @@ from __future__ import annotations
 import html as html_mod
 import io
 import re
-import time
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
@@ -25,10 +24,11 @@ from typing import Any
 import pytest
 from flask import Flask
 from flask.testing import FlaskClient
+from helpers import signed_in
 from sqlalchemy import func, select
 from werkzeug.datastructures import MultiDict
 
-from stetline import accounts, actions, demo
+from stetline import actions, demo
 from stetline import settings as settings_mod
 from stetline.accounts import PERMISSIONS, ROLES
 from stetline.store import ops
@@ -56,23 +56,6 @@ def team(team_path: Path) -> Iterator[Workspace]:
 @pytest.fixture
 def app(team: Workspace) -> Flask:
     return create_app(team, {"TESTING": True, "WTF_CSRF_ENABLED": False})
-
-
-def sign_in(app: Flask, name: str) -> FlaskClient:
-    """A client signed in as the demo account ``name``, as the sign-in form leaves it.
-
-    The matrix puts the account in the session cookie directly rather than posting the password
-    each time (checking a password hash is slow by design); the sign-in form itself is a row of
-    the matrix and has its own tests.
-    """
-    client = app.test_client()
-    ws: Workspace = app.extensions["stetline_workspace"]
-    with ws.reading() as s:
-        generation = accounts.get_account(s, name).session_generation  # type: ignore[union-attr]
-    now = int(time.time())
-    with client.session_transaction() as cookie:
-        cookie.update({"account": name, "gen": generation, "since": now, "seen": now})
-    return client
 
 
 @dataclass(frozen=True)
@@ -128,7 +111,7 @@ def upload_form() -> dict[str, Any]:
 
 def dry_run_token(app: Flask) -> str:
     """An upload checked by the admin, waiting to be loaded (its token, as the load form carries it)."""
-    response = sign_in(app, "admin").post("/data", data=upload_form(), content_type="multipart/form-data")
+    response = signed_in(app, "admin").post("/data", data=upload_form(), content_type="multipart/form-data")
     assert response.status_code == 200, response.get_data(as_text=True)
     found = re.search(r'name="token" value="([0-9a-f]{32})"', response.get_data(as_text=True))
     assert found, "the dry run offered no load form"
@@ -374,7 +357,7 @@ def test_the_matrix_covers_every_post_route(ws: Workspace) -> None:
 @pytest.mark.parametrize(("route", "role"), CASES)
 def test_each_role_on_each_post_route(app: Flask, team: Workspace, route: Route, role: str) -> None:
     form = route.form(team, app, role)
-    client = sign_in(app, role) if route.signed_in else app.test_client()
+    client = signed_in(app, role) if route.signed_in else app.test_client()
     before = snapshot(team)
     kwargs: dict[str, Any] = {"content_type": "multipart/form-data"} if route.multipart else {}
     response = client.post(route.url, data=form, **kwargs)
@@ -393,7 +376,7 @@ def test_each_role_on_each_post_route(app: Flask, team: Workspace, route: Route,
 
 def test_a_refused_expert_sees_nothing_saved_on_the_statement(app: Flask, team: Workspace) -> None:
     """A crafted rewrite by the expert comes back to the statement's page, the text kept in the form."""
-    expert = sign_in(app, "expert")
+    expert = signed_in(app, "expert")
     response = expert.post(f"/statements/{PLAIN}/rewrite", data={"version": version(team, PLAIN), "text": NEW_TEXT})
     html = html_mod.unescape(response.get_data(as_text=True))
     assert response.status_code == 403 and NEW_TEXT in html and 'id="rewrite-error"' in html
@@ -493,7 +476,7 @@ def test_the_https_setting_marks_the_session_cookie_secure(team: Workspace) -> N
 
 
 def test_the_https_setting_saved_on_the_settings_page_applies_at_the_next_start(app: Flask, team: Workspace) -> None:
-    admin = sign_in(app, "admin")
+    admin = signed_in(app, "admin")
     response = admin.post("/settings", data=settings_form(team, https="true"))
     assert response.status_code == 303
     assert "secure" not in cookie_flags(session_cookie(app))  # this running app keeps its cookie flags
@@ -511,7 +494,7 @@ def forms_on(html: str) -> set[str]:
 
 def test_a_statement_page_offers_each_role_only_its_own_actions(app: Flask) -> None:
     # the server refuses the rest anyway (the matrix above); the page does not offer them
-    offered = {role: forms_on(sign_in(app, role).get(f"/statements/{REWRITTEN}").get_data(as_text=True))
+    offered = {role: forms_on(signed_in(app, role).get(f"/statements/{REWRITTEN}").get_data(as_text=True))
                for role in ROLES}
     assert {"annotate", "comment"} <= offered["expert"]
     assert not offered["expert"] & {"rewrite", "pin", "suppress", "revert", "approve", "accept", "send-back"}
@@ -519,13 +502,13 @@ def test_a_statement_page_offers_each_role_only_its_own_actions(app: Flask) -> N
     assert not offered["editor"] & {"approve", "accept", "send-back"}
     for role in ("reviewer", "admin"):
         assert {"rewrite", "pin", "suppress", "revert", "approve", "annotate", "comment", "send-back"} <= offered[role]
-    html = sign_in(app, "expert").get(f"/statements/{REWRITTEN}").get_data(as_text=True)
+    html = signed_in(app, "expert").get(f"/statements/{REWRITTEN}").get_data(as_text=True)
     assert "Signed in as expert (expert): you may add notes and comments here" in html
 
 
 def test_the_data_settings_and_publish_pages_offer_their_forms_to_an_admin_only(app: Flask) -> None:
     for role in ROLES:
-        client = sign_in(app, role)
+        client = signed_in(app, role)
         data = client.get("/data").get_data(as_text=True)
         settings_page = client.get("/settings").get_data(as_text=True)
         publish = client.get("/publish").get_data(as_text=True)
