@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from stetline import periods
+from stetline import nesting, periods
 from stetline.errors import Problem, ValidationError
 from stetline.inputfiles import Source, Table, read_tables
 
@@ -25,7 +25,7 @@ OBSERVATION_OPTIONAL = ("margin", "status")
 TOPIC_COLUMNS = ("topic", "label", "unit", "better", "decimals", "category", "target")
 TOPIC_OPTIONAL = ("weight", "source", "change", "label_in_sentence", "article")
 ENTITY_COLUMNS = ("entity", "name", "group")
-ENTITY_OPTIONAL: tuple[str, ...] = ()
+ENTITY_OPTIONAL: tuple[str, ...] = ("parent",)
 
 STATUSES = ("final", "provisional", "estimated", "break", "confidential")
 DIRECTIONS = ("higher", "lower", "neutral")
@@ -274,6 +274,8 @@ def _parse_entities(table: Table) -> tuple[pd.DataFrame | None, list[Problem]]:
     if problems:
         return None, problems
     frame = table.frame
+    if "parent" not in frame.columns:
+        frame["parent"] = ""
     problems += _keys(table, "entity")
     name = frame["name"].astype("str").str.strip()
     problems += _bad_cells(table, "name", name == "", "the name is empty")
@@ -286,6 +288,7 @@ def _parse_entities(table: Table) -> tuple[pd.DataFrame | None, list[Problem]]:
         "name": name,
         "group": frame["group"].astype("str").str.strip(),
         "position": range(len(frame)),
+        "parent": frame["parent"].astype("str").str.strip(),
     })
     return out, []
 
@@ -361,6 +364,9 @@ def load_dataset(
                                  and entity_frame is None)
     if obs is not None and merged_topics is not None and not problems:
         problems += _percent_range(obs, merged_topics, obs_t.name)
+    if entity_frame is not None and merged_entities is not None and entities_t is not None:
+        rows = {str(k): i + 2 for i, k in enumerate(entity_frame["entity"])}
+        problems += nesting.parent_problems(merged_entities, entities_t.name, rows)
     if problems or obs is None:
         raise ValidationError(problems)
     assert merged_topics is not None and merged_entities is not None
@@ -385,6 +391,8 @@ def _merge(known: pd.DataFrame | None, new: pd.DataFrame | None, key: str) -> pd
     if known is None or known.empty:
         return new
     kept = known.loc[~known[key].isin(set(new[key]))]
+    if "parent" in new.columns and "parent" not in kept.columns:
+        kept = kept.assign(parent="")
     out = pd.concat([new, kept], ignore_index=True)
     out["position"] = range(len(out))
     return out

@@ -97,6 +97,7 @@ def build(path: Path, echo: Callable[[str], None] = print) -> Workspace:
     with ws.session() as s:
         ops.put_setting(s, "title", TITLE)
         ops.put_setting(s, "entity_noun", "town")
+        ops.put_setting(s, "level_nouns", "district,town")
     passwords = create_accounts(ws)
     echo("demo accounts (name and role, password) — also in demo-accounts.txt in the workspace:")
     for name, password in passwords.items():

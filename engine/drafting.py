@@ -15,14 +15,14 @@ from __future__ import annotations
 
 import hashlib
 from collections.abc import Iterable, Iterator
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
 import jinja2
 import orjson
 
-from stetline import phrasing
+from stetline import nesting, phrasing
 from stetline.errors import StetlineError
 from stetline.facts import Facts
 from stetline.phrasing import HouseStyle
@@ -149,6 +149,11 @@ def slot_id(kind: str, entity: str | None = None, topic: str | None = None) -> s
     return f"{kind}/{entity}" if topic is None else f"{kind}/{entity}/{topic}"
 
 
+def topic_slot(kind: str, topic: str, level: str = "") -> str:
+    """The slot id of a topic statement about one level: 'roundup/TOPIC' (main level), 'roundup/level-1/TOPIC'."""
+    return slot_id(kind, level or None, topic)
+
+
 def phrasing_index(slot: str, choices: int) -> int:
     """The phrasing a slot uses: a stable hash of its id, so the wording keeps across editions."""
     if choices <= 1:
@@ -176,6 +181,8 @@ class Context:
     edition: str = ""
     #: the kinds a workspace drafts (its `kinds` setting); empty: every kind
     kinds: tuple[str, ...] = ()
+    #: what one entity of each level is called, top level first (the `level_nouns` setting)
+    level_nouns: tuple[str, ...] = ()
     # wording already worked out (the same counts, labels and means recur across thousands of cells)
     _values_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
@@ -189,6 +196,32 @@ class Context:
         if got is None:
             got = self._kept[kind.KIND] = list(kind.candidates(self))
         return got
+
+    def level_noun(self, depth: int) -> str:
+        """What one entity of a level is called ("district"): the entity noun unless the setting names it."""
+        return nesting.level_noun(self.level_nouns, int(depth), self.entity_noun)
+
+    def of_level(self, n: int, depth: int) -> str:
+        """'14 towns', 'three districts': a count of the entities of one level."""
+        noun = self.level_noun(depth)
+        return self.of_n(n) if noun == self.entity_noun else phrasing.plural(int(n), noun, self.style)
+
+    def levels(self) -> list[tuple[str, Context]]:
+        """Each level with data as (slot token, context of its entities alone), top level first.
+
+        The main level (the deepest with data) has the empty token and keeps the plain topic slots;
+        a flat dataset has only that level, and its context is this one.
+        """
+        facts = self.facts
+        if len(facts.levels) <= 1:
+            return [("", self)]
+        out: list[tuple[str, Context]] = []
+        for depth, topic_facts in sorted(facts.levels.items()):
+            sub = replace(facts, cells=facts.cells.loc[facts.cells["depth"] == depth], topics=topic_facts,
+                          entities=facts.entities.loc[facts.entities["depth"] == depth], main_depth=depth)
+            token = "" if depth == facts.main_depth else nesting.level_token(depth)
+            out.append((token, replace(self, facts=sub, entity_noun=self.level_noun(depth))))
+        return out
 
     @property
     def entity_nouns(self) -> str:

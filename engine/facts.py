@@ -8,11 +8,12 @@ touches the database.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
 
+from stetline import nesting
 from stetline.rounding import round_half_up_array
 
 WITHHELD = "confidential"
@@ -24,9 +25,11 @@ class Facts:
     """The facts of one edition.
 
     ``cells``: one row per entity × topic pair present in the observations, at the topic's latest
-    period. ``topics``: one row per topic with its ranking and movement facts. ``entities``: one
-    row per entity with its composite score. ``series``: the observations sorted by entity, topic
-    and time, for statements about the run of a series.
+    period, ranked among the entities of its level (``depth``), with the comparison with its parent
+    (``stetline.nesting.parent_facts``). ``topics``: one row per topic with the ranking and movement
+    facts of the main level (the deepest with data); ``levels`` holds them for every level by depth.
+    ``entities``: one row per entity with its composite score among its level. ``series``: the
+    observations sorted by entity, topic and time, for statements about the run of a series.
     """
 
     cells: pd.DataFrame
@@ -34,6 +37,8 @@ class Facts:
     entities: pd.DataFrame
     series: pd.DataFrame
     latest_period: str
+    levels: dict[int, pd.DataFrame] = field(default_factory=dict)
+    main_depth: int = 0
 
 
 def _sign(better: pd.Series) -> pd.Series:
@@ -87,15 +92,26 @@ def compute_facts(
     cells["unit"] = cells["topic"].map(meta["unit"])
     cells["target"] = cells["topic"].map(meta["target"])
     cells["sign"] = _sign(cells["better"])
+    depth = nesting.depths(entities)
+    cells["depth"] = cells["entity"].map(depth).fillna(0).astype("int64")
+    if nesting.COLUMN in entities:
+        parents = entities.set_index("entity")[nesting.COLUMN].astype("object")
+        cells["parent"] = cells["entity"].map(parents).astype("object").fillna("").astype("str")
+    else:
+        cells["parent"] = ""
 
     _ranks(cells)
     _changes(cells)
     _revisions(cells, earlier)
-    topic_facts = _topic_facts(cells, meta)
+    nesting.parent_facts(cells)
+    main_depth = int(cells["depth"].max()) if len(cells) else 0
+    levels = {int(d): _topic_facts(cells.loc[cells["depth"] == d], meta) for d in sorted(set(cells["depth"]))}
+    topic_facts = levels.get(main_depth, _topic_facts(cells, meta))
     entity_facts = _entity_facts(cells, meta, entities)
+    entity_facts["depth"] = entity_facts.index.map(depth).fillna(0).astype("int64")
     latest = str(obs.loc[obs["time"].idxmax(), "period"]) if len(obs) else ""
     series = obs[["entity", "topic", "period", "time", "value", "margin", "status", "usable"]]
-    return Facts(_plain_text(cells), topic_facts, entity_facts, series, latest)
+    return Facts(_plain_text(cells), topic_facts, entity_facts, series, latest, levels, main_depth)
 
 
 def _plain_text(frame: pd.DataFrame) -> pd.DataFrame:
@@ -111,15 +127,17 @@ def _plain_text(frame: pd.DataFrame) -> pd.DataFrame:
 
 
 def _ranks(cells: pd.DataFrame) -> None:
-    """Competition ranks (1, 2, 2, 4), best first; neutral topics rank the highest first."""
+    """Competition ranks (1, 2, 2, 4), best first, among the entities of one level (like with like);
+    neutral topics rank the highest first."""
     direction = cells["sign"].where(cells["sign"] != 0, 1.0)
     score = cells["value"].where(cells["usable"]) * direction
     cells["score"] = score
-    by_topic = score.groupby(cells["topic"])
+    level = [cells["topic"], cells["depth"]]
+    by_topic = score.groupby(level)
     cells["rank"] = by_topic.rank(method="min", ascending=False)
     cells["rank_of"] = by_topic.transform("count").astype("int64")
-    cells["worst_rank"] = score.groupby(cells["topic"]).rank(method="min", ascending=True)
-    by_group = score.groupby([cells["topic"], cells["group"]])
+    cells["worst_rank"] = score.groupby(level).rank(method="min", ascending=True)
+    by_group = score.groupby(level + [cells["group"]])
     cells["group_rank"] = by_group.rank(method="min", ascending=False)
     cells["group_rank_of"] = by_group.transform("count").astype("int64")
     # direction-aware percentile: 1 for the best, 0 for the worst (0.5 when alone)
@@ -128,8 +146,8 @@ def _ranks(cells: pd.DataFrame) -> None:
     cells.loc[cells["rank"].isna(), "percentile"] = np.nan
     cells["band"] = np.floor(4 * (cells["rank"] - 1) / cells["rank_of"].where(cells["rank_of"] > 0))
     value = cells["value"].where(cells["usable"])
-    cells["group_mean"] = value.groupby([cells["topic"], cells["group"]]).transform("mean")
-    cells["all_mean"] = value.groupby(cells["topic"]).transform("mean")
+    cells["group_mean"] = value.groupby(level + [cells["group"]]).transform("mean")
+    cells["all_mean"] = value.groupby(level).transform("mean")
     cells["group_gap"] = cells["value"] - cells["group_mean"]
     cells["all_gap"] = cells["value"] - cells["all_mean"]
     cells["target_gap"] = cells["value"] - cells["target"]
@@ -243,13 +261,15 @@ def _topic_facts(cells: pd.DataFrame, meta: pd.DataFrame) -> pd.DataFrame:
 def composite_scores(cells: pd.DataFrame, meta: pd.DataFrame) -> pd.DataFrame:
     """Composite score per entity by the OECD/JRC Handbook (2008) min-max method, 0 to 100.
 
-    Each non-neutral topic's latest values are rescaled to 0..1 over the entities' range (lower-
-    is-better topics inverted), weighted by the topic's weight (1 unless given), and averaged
-    over the topics the entity reports; topics with no spread are left out.
+    Each non-neutral topic's latest values are rescaled to 0..1 over the range of the entities of
+    the same level (lower-is-better topics inverted), weighted by the topic's weight (1 unless
+    given), and averaged over the topics the entity reports; topics with no spread are left out.
     """
-    use = cells.loc[cells["usable"] & (cells["sign"] != 0), ["entity", "topic", "value", "sign"]].copy()
-    lo = use.groupby("topic")["value"].transform("min")
-    hi = use.groupby("topic")["value"].transform("max")
+    if "depth" not in cells:
+        cells = cells.assign(depth=0)
+    use = cells.loc[cells["usable"] & (cells["sign"] != 0), ["entity", "topic", "value", "sign", "depth"]].copy()
+    lo = use.groupby(["topic", "depth"])["value"].transform("min")
+    hi = use.groupby(["topic", "depth"])["value"].transform("max")
     span = hi - lo
     use = use.loc[span > 0]
     lo, hi, span = lo[use.index], hi[use.index], span[use.index]
@@ -262,8 +282,9 @@ def composite_scores(cells: pd.DataFrame, meta: pd.DataFrame) -> pd.DataFrame:
         "composite": 100 * by["weighted"].sum() / by["weight"].sum(),
         "composite_topics": by.size(),
     })
-    out["composite_rank"] = out["composite"].rank(method="min", ascending=False)
-    out["composite_of"] = int(out["composite"].notna().sum())
+    level = by["depth"].first() if len(use) else pd.Series(dtype="int64")
+    out["composite_rank"] = out["composite"].groupby(level).rank(method="min", ascending=False)
+    out["composite_of"] = out["composite"].groupby(level).transform("count").astype("int64")
     return out
 
 

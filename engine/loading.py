@@ -23,6 +23,7 @@ from typing import Any
 import pandas as pd
 from sqlalchemy.orm import Session
 
+from stetline import nesting
 from stetline import settings as settings_mod
 from stetline.accounts import authorize
 from stetline.dataset import Dataset, Source, load_dataset
@@ -207,6 +208,7 @@ def edition_context(
     return Context(
         facts, topics.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
         style, str(values["entity_noun"]), edition, settings_mod.kinds_of(values),
+        nesting.nouns_of(str(values["level_nouns"])),
     )
 
 

@@ -54,6 +54,9 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "The publication's title, printed on its title block."),
     SettingSpec("entity_noun", "What one entity is called", "area",
                 "What the report calls one entity, singular (town, district, school)."),
+    SettingSpec("level_nouns", "What each level of nested entities is called", "",
+                "For entities with a parent: the noun of one entity of each level, top level first, separated by "
+                "commas (district,town); a level not named takes the entity noun."),
     SettingSpec("locale", "Number locale", "en_GB",
                 "Locale of numbers (decimal sign and digit grouping), as a CLDR code.",
                 ("en_GB", "en_US", "en_IE", "en_AU", "en_NZ", "en_CA")),
@@ -84,7 +87,7 @@ SETTINGS: tuple[SettingSpec, ...] = (
 BY_KEY = {spec.key: spec for spec in SETTINGS}
 
 #: settings that change the drafts (a redraft follows a change)
-STYLE_KEYS = ("kinds", "entity_noun", "locale", "serial_comma", "percent_word", "small_numbers_in_words",
+STYLE_KEYS = ("kinds", "entity_noun", "level_nouns", "locale", "serial_comma", "percent_word", "small_numbers_in_words",
               "possessive_after_s")
 
 

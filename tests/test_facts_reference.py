@@ -70,6 +70,9 @@ def test_ranks_match_scipy_competition_ranking_on_every_demo_topic(edition: str)
     obs = read_input(f"observations-{edition}.csv")
     better_of = read_input("topics.csv").set_index("topic")["better"]
     latest = obs.loc[obs["period"] == edition]
+    # ranks compare like with like: the towns (the entities with a parent) among themselves
+    towns = set(read_input("entities.csv").query("parent != ''")["entity"])
+    latest = latest.loc[latest["entity"].isin(towns)]
     ranked = latest.loc[(latest["value"] != "") & (latest["status"] != "confidential")]
     ties_seen = 0
     checked = 0
@@ -80,7 +83,7 @@ def test_ranks_match_scipy_competition_ranking_on_every_demo_topic(edition: str)
         values = rows["value"].astype("float64").to_numpy()
         # SciPy docs, rankdata(method="min"): competition ranking "1224"
         expected = rankdata(-values if better == "higher" else values, method="min").astype(float)
-        group = cells.loc[cells["topic"] == topic].set_index("entity")
+        group = cells.loc[(cells["topic"] == topic) & cells["entity"].isin(towns)].set_index("entity")
         assert group.loc[rows["entity"], "rank"].tolist() == expected.tolist(), topic
         # every other town of the topic has no rank; rank_of counts the ranked ones
         others = group.index.difference(rows["entity"])
@@ -109,10 +112,13 @@ def test_withheld_and_missing_values_are_left_out_of_the_ranking() -> None:
 def test_population_a_neutral_topic_ranks_the_highest_first() -> None:
     # Stetline's own rule (stetline.facts._ranks docstring), no outside source: a neutral topic
     # ranks the highest value first
+    # ranks among the entities of one level (stetline.nesting): the towns, then the districts
     cells = facts_of(demo("2025")).cells
-    pop = cells.loc[cells["topic"] == "population"]
-    expected = rankdata(-pop["value"].to_numpy(), method="min")
-    assert pop["rank"].tolist() == expected.astype(float).tolist()
+    for depth, count in ((1, 14), (0, 3)):
+        pop = cells.loc[(cells["topic"] == "population") & (cells["depth"] == depth)]
+        assert len(pop) == count
+        expected = rankdata(-pop["value"].to_numpy(), method="min")
+        assert pop["rank"].tolist() == expected.astype(float).tolist()
 
 
 @pytest.mark.parametrize(

@@ -7,6 +7,7 @@ lead with a semicolon), so the subject is not repeated. A change is stated when 
 (not across a break, nor without a previous value); a trend when the series has a run of two or
 more periods or a record. Claims: the claims of the parts the paragraph states, namespaced by their
 kind (``standing.rank_band``, ``change.direction``, ``trend.streak`` …); evidence: theirs, by name.
+An entity with a parent ends with where it stands within the parent (``standing.vs_parent`` …).
 """
 
 from __future__ import annotations
@@ -25,7 +26,7 @@ STATED_CHANGES = ("up", "down", "flat", "not_significant")
 #: the evidence of each part a blurb can print (its claims are all stated)
 PRINTED = {
     "standing": ("period", "status", "value", "rank", "rank_of", "place", "group_mean", "group_gap", "target",
-                 "target_gap"),
+                 "target_gap", "sibling_rank", "sibling_rank_of", "parent_ref", "siblings_counted"),
     "change": ("period", "value", "previous_period", "previous", "revised_from", "change"),
     "trend": ("period", "value", "streak", "streak_since", "record_since"),
 }

@@ -30,6 +30,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     improving = sorted(directed.index[(directed["improved"] * 2 > moved) & (moved > 0)])
     worsening = sorted(directed.index[(directed["worsened"] * 2 > moved) & (moved > 0)])
     e = ctx.facts.entities
+    if "depth" in e:  # the edition at a glance is about the main level's entities (see nesting)
+        e = e.loc[e["depth"] == ctx.facts.main_depth]
     leaders = sorted(e.index[e["composite_rank"] == 1]) if "composite_rank" in e else []
     period = ctx.facts.latest_period
     evidence = {

@@ -13,7 +13,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from stetline import phrasing
-from stetline.drafting import Candidate, Context, ev, slot_id
+from stetline.drafting import Candidate, Context, ev, topic_slot
 from stetline.kinds.common import MIN_RANKED, best_word
 
 KIND = "leaders"
@@ -26,6 +26,12 @@ def _claim(keys: list[str]) -> str | list[str]:
 
 def candidates(ctx: Context) -> Iterator[Candidate]:
     """One leaders statement per topic with at least three entities reporting."""
+    for level, level_ctx in ctx.levels():
+        yield from _level(level_ctx, level)
+
+
+def _level(ctx: Context, level: str) -> Iterator[Candidate]:
+    """The statements of one level's entities (level: its slot token, empty for the main level)."""
     style = ctx.style
     for topic, t in ctx.facts.topics.iterrows():
         if int(t["reporting"]) < MIN_RANKED or not t["leaders"] or not t["laggards"]:
@@ -62,4 +68,4 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "spread": spread, "nouns": ctx.of_n(int(t["reporting"])),
             "is_ratio": "spread" in evidence and meta["unit"] != "percent" and min(best, worst) > 0,
         }
-        yield Candidate(slot_id(KIND, None, topic), KIND, None, topic, evidence, claims, 0.6, variables)
+        yield Candidate(topic_slot(KIND, topic, level), KIND, None, topic, evidence, claims, 0.6, variables)

@@ -15,7 +15,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from stetline import phrasing
-from stetline.drafting import Candidate, Context, ev, slot_id
+from stetline.drafting import Candidate, Context, ev, topic_slot
 from stetline.kinds.common import MIN_RANKED, missing
 from stetline.words import others_count
 
@@ -26,6 +26,12 @@ EXCEPTION_SHARE = 0.75
 
 def candidates(ctx: Context) -> Iterator[Candidate]:
     """One movement statement per topic with changes known for at least three entities."""
+    for level, level_ctx in ctx.levels():
+        yield from _level(level_ctx, level)
+
+
+def _level(ctx: Context, level: str) -> Iterator[Candidate]:
+    """The statements of one level's entities (level: its slot token, empty for the main level)."""
     style = ctx.style
     cells = ctx.facts.cells
     known = cells.loc[cells["change_known"]]
@@ -90,4 +96,4 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             variables["worst_mover"] = ctx.name(str(top_down["entity"]))
         claims = {"majority": majority, "exceptions": exceptions}
         interest = 0.5 + (0.2 if majority != "mixed" and not missing(majority) else 0.0)
-        yield Candidate(slot_id(KIND, None, topic), KIND, None, topic, evidence, claims, interest, variables)
+        yield Candidate(topic_slot(KIND, topic, level), KIND, None, topic, evidence, claims, interest, variables)

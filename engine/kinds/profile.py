@@ -7,6 +7,9 @@ towns on 8 of its 10 ranked indicators"). The composite score follows the OECD/J
 Constructing Composite Indicators (2008): min-max normalisation over the entities' latest values
 (lower-is-better topics inverted), the topics' weights (1 unless given), arithmetic mean, 0 to 100.
 
+Ranks, placings and the composite compare an entity with the entities of its own level (a district
+among districts, a town among towns; see ``stetline.nesting``), so each level with data has profiles.
+
 Claims: ``strongest`` and ``weakest`` (topic keys: the first in file order of the best and of the
 worst placing), ``composite_band`` (the quarter of the composite ranking: top | upper | lower |
 bottom).
@@ -32,7 +35,7 @@ def _placings(ctx: Context) -> dict[str, pd.DataFrame]:
     """Each entity's ranked, directed topics with their rank, how many share it and the percentile."""
     cells = ctx.facts.cells
     ranked = cells.loc[(cells["better"] != "neutral") & cells["rank"].notna() & (cells["rank_of"] >= MIN_RANKED)]
-    ranked = ranked.assign(tied=ranked.groupby(["topic", "rank"])["entity"].transform("size"))
+    ranked = ranked.assign(tied=ranked.groupby(["topic", "depth", "rank"])["entity"].transform("size"))
     return {str(k): g for k, g in ranked.groupby("entity", sort=False)}
 
 
@@ -41,7 +44,7 @@ def _placing(ctx: Context, rows: pd.DataFrame, total: int, said_of: int = 0) -> 
     first = rows.iloc[0]
     of = int(first["rank_of"])
     text = rank_phrase(int(first["rank"]), of, int(first["tied"]), str(first["better"]),
-                       "" if of == said_of else ctx.of_n(of), ctx.style)
+                       "" if of == said_of else ctx.of_level(of, int(first["depth"])), ctx.style)
     topics = [str(t) for t in rows["topic"]]
     if len(topics) <= NAMED_TOPICS:
         named = phrasing.join([ctx.the_label(t) for t in topics], ctx.style)
@@ -56,7 +59,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     period = ctx.facts.latest_period
     placings = _placings(ctx)
     position = {t: int(m.get("position", 0)) for t, m in ctx.topics.items()}
-    composite_ties = ctx.facts.entities["composite_rank"].value_counts().to_dict()
+    composite_ties = ctx.facts.entities[["depth", "composite_rank"]].value_counts().to_dict()
     moves = ctx.facts.cells.set_index(["entity", "topic"])[["change", "prev_value"]]
     for entity, e in ctx.facts.entities.iterrows():
         key = str(entity)
@@ -71,9 +74,9 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         total = len(rows)
         best_text, best_topics, strongest = _placing(ctx, best_rows, total)
         worst_text, worst_topics, weakest = _placing(ctx, worst_rows, total, int(best_rows.iloc[0]["rank_of"]))
-        rank, of = int(e["composite_rank"]), int(e["composite_of"])
-        composite_text = rank_phrase(rank, of, int(composite_ties.get(e["composite_rank"], 1)), "neutral",
-                                     ctx.of_n(of), style)
+        rank, of, depth = int(e["composite_rank"]), int(e["composite_of"]), int(e["depth"])
+        composite_text = rank_phrase(rank, of, int(composite_ties.get((depth, e["composite_rank"]), 1)), "neutral",
+                                     ctx.of_level(of, depth), style)
         evidence = {
             "period": ev(period, period),
             "composite": ev(float(e["composite"]), phrasing.number(float(e["composite"]), 0, style)),
@@ -88,7 +91,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "composite_band": band(rank, of) if of >= MIN_RANKED else None,
         }
         variables = {
-            "name": e["name"], "period": period, "nouns": ctx.of_n(of),
+            "name": e["name"], "period": period, "nouns": ctx.of_level(of, depth),
             "same": top_p == bottom_p, "ranked_count": total, "ranked_topics": phrasing.count(total, style),
             "best_topics": best_topics, "worst_topics": worst_topics,
             "topics_used": phrasing.plural(int(e["composite_topics"]), "indicator", style),

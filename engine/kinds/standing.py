@@ -5,11 +5,19 @@ second best"); a quarter ("in the top quarter") is added only with 12 or more ra
 five or more from its end. Claims: ``rank_band`` (top | upper | lower | bottom quarter of the
 ranking, or null when fewer than three entities report), ``vs_group`` (above | below | level with
 the group mean, level when the gap rounds to zero; null without a group to compare), ``target`` (met | missed | none).
+
+Ranks compare an entity with the entities of its own level (see ``stetline.nesting``). An entity
+with a parent also says where it stands among its siblings and how it compares with the parent:
+with the parent's own value for the topic and period when the data hold one, else with the mean of
+its siblings. Claims, only for an entity with a parent: ``parent_basis`` (parent | siblings, null
+when neither reports), ``vs_parent`` (above | below | level, level when the gap rounds to zero),
+``sibling_band`` (the quarter of the ranking among siblings, null under three).
 """
 
 from __future__ import annotations
 
 from collections.abc import Iterator
+from typing import Any
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, phrasing_index, slot_id
@@ -39,12 +47,53 @@ def _target_text(wording: int, met: bool, target: str, gap: str) -> str:
     return f"against a target of {target}, which it met" if met else f"against a target of {target}, missed by {gap}"
 
 
+def _parent_part(ctx: Context, c: Any, tied: int, evidence: dict[str, Any], claims: dict[str, object]) -> str:
+    """Where a cell stands within its parent, and how it compares with it: a sentence without its full stop.
+
+    "North Quay was third best of five towns in Westward District, above the Westward District
+    figure of 46.8%"; without a parent's value, "… above the average of the other four towns, 46.8%".
+    """
+    claims.update({"parent_basis": None, "vs_parent": None, "sibling_band": None})
+    parent = ctx.name(str(c.parent))
+    depth = int(c.depth)
+    rank_text = ""
+    if int(c.sibling_rank_of) >= MIN_RANKED and not missing(c.sibling_rank):
+        rank, of = int(c.sibling_rank), int(c.sibling_rank_of)
+        evidence["sibling_rank"] = ev(rank, phrasing.ordinal(rank))
+        evidence["sibling_rank_of"] = ev(of, phrasing.count(of, ctx.style))
+        claims["sibling_band"] = band(rank, of)
+        rank_text = f"{rank_phrase(rank, of, tied, c.better, ctx.of_level(of, depth), ctx.style)} in {parent}"
+    compare = ""
+    if c.parent_basis and not missing(c.parent_gap):
+        ref = float(c.parent_ref)
+        gap = float(c.parent_gap)
+        where = "level" if phrasing.round_half_up(abs(gap), int(c.decimals)) == 0 else ("above" if gap > 0 else "below")
+        claims["parent_basis"], claims["vs_parent"] = str(c.parent_basis), where
+        evidence["parent_ref"] = ev(ref, ctx.value(c.topic, ref))
+        shown = evidence["parent_ref"]["shown"]
+        where_text = "level with" if where == "level" else where
+        if c.parent_basis == "parent":
+            compare = f"{where_text} the {parent} figure of {shown}"
+        else:
+            n = int(c.siblings_counted)
+            evidence["siblings_counted"] = ev(n, phrasing.count(n, ctx.style))
+            others = ctx.of_level(n, depth)
+            inside = "" if rank_text else f" in {parent}"
+            compare = f"{where_text} the average of the other {others}{inside}, {shown}"
+    if not rank_text and not compare:
+        return ""
+    return f"{c.name} was " + ", ".join(x for x in (rank_text, compare) if x)
+
+
 def candidates(ctx: Context) -> Iterator[Candidate]:
     """One standing statement per entity × topic cell."""
     style = ctx.style
     cells = ctx.facts.cells
-    tied_counts = cells.groupby(["topic", "rank"]).size()
+    tied_counts = cells.groupby(["topic", "depth", "rank"]).size()
     tied = {k: int(n) for k, n in tied_counts.items() if n > 1}
+    nested = cells.loc[cells["parent"] != ""]
+    sibling_ties = nested.groupby(["topic", "parent", "sibling_rank"]).size()
+    sibling_tied = {k: int(n) for k, n in sibling_ties.items() if n > 1}
     prep = ctx.preposition
     for c in cells.itertuples(index=False):
         d = int(c.decimals)
@@ -54,7 +103,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
             "the_label": ctx.the_label(c.topic), "prep": prep, "period": c.period, "caveat": caveat(c.status),
             "state": c.status,
-            "ranked": False, "rank_text": "", "group_text": "", "target_text": "",
+            "ranked": False, "rank_text": "", "group_text": "", "target_text": "", "parent_text": "",
         }
         interest = 0.1
         if not c.usable:
@@ -71,8 +120,9 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             evidence["rank_of"] = ev(of, phrasing.count(of, style))
             claims["rank_band"] = band(rank, of)
             variables["ranked"] = True
-            shared = tied.get((c.topic, float(rank)), 1)
-            variables["rank_text"] = rank_phrase(rank, of, shared, c.better, ctx.of_n(of), style) + band_note(
+            shared = tied.get((c.topic, int(c.depth), float(rank)), 1)
+            variables["rank_text"] = rank_phrase(rank, of, shared, c.better, ctx.of_level(of, int(c.depth)),
+                                                 style) + band_note(
                 rank, of, shared)
             _top, counted = place(rank, of, shared)
             if counted not in (1, rank):  # counted from the nearer end: "28th worst" is a fact too
@@ -81,7 +131,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                 interest += 0.4
             elif claims["rank_band"] in ("top", "bottom"):
                 interest += 0.15
-        if int(c.group_rank_of) >= 2 and not missing(c.group_mean):
+        if c.group and int(c.group_rank_of) >= 2 and not missing(c.group_mean):  # no group: none to compare
             gap = float(c.group_gap)
             shown_gap = phrasing.round_half_up(abs(gap), d)
             where = "level" if shown_gap == 0 else ("above" if gap > 0 else "below")
@@ -98,7 +148,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                 gap = float(c.all_gap)
                 where = "level" if phrasing.round_half_up(abs(gap), d) == 0 else ("above" if gap > 0 else "below")
                 mean = evidence["all_mean"]["shown"]
-                everyone = f"the average of all {ctx.of_n(int(c.rank_of))}"
+                everyone = f"the average of all {ctx.of_level(int(c.rank_of), int(c.depth))}"
                 variables["group_text"] = (
                     f"level with {everyone}, {mean}" if where == "level" else f"{where} {everyone}, {mean}"
                 )
@@ -113,5 +163,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                 phrasing_index(slot_id(KIND, c.entity, c.topic) + "#target", _TARGET_WORDINGS), met,
                 evidence["target"]["shown"], evidence["target_gap"]["shown"])
             interest += 0.1
+        if c.parent:
+            shared = sibling_tied.get((c.topic, c.parent, c.sibling_rank), 1)
+            variables["parent_text"] = _parent_part(ctx, c, shared, evidence, claims)
         yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest,
                         variables)

@@ -68,6 +68,8 @@ class Entity(Base):
     name: Mapped[str] = mapped_column(String(300))
     group: Mapped[str] = mapped_column(String(200), default="")
     position: Mapped[int] = mapped_column(default=0)
+    #: the key of the entity this one lies within ("" at the top): the hierarchy, apart from the flat group
+    parent: Mapped[str] = mapped_column(String(200), default="", server_default="")
 
 
 class Topic(Base):
