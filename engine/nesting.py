@@ -134,3 +134,29 @@ def parent_facts(cells: pd.DataFrame) -> None:
     cells["parent_basis"] = basis
     cells["parent_ref"] = parent_value.where(parent_value.notna(), siblings_mean)
     cells["parent_gap"] = (cells["value"] - cells["parent_ref"]).where(cells["usable"])
+
+
+def ancestors(parents: dict[str, str], key: str) -> list[str]:
+    """The keys above an entity, nearest first (none for an entity at the top); expects no cycle."""
+    out: list[str] = []
+    up = parents.get(key, "")
+    while up and up not in out:
+        out.append(up)
+        up = parents.get(up, "")
+    return out
+
+
+def tree_order(parents: dict[str, str]) -> list[str]:
+    """Entity keys in the order of a tree: each parent followed by its children (file order among siblings)."""
+    children: dict[str, list[str]] = {}
+    for key, up in parents.items():
+        children.setdefault(up if up in parents else "", []).append(key)
+    out: list[str] = []
+    stack = list(reversed(children.get("", [])))
+    while stack:
+        key = stack.pop()
+        if key in out:
+            continue
+        out.append(key)
+        stack.extend(reversed(children.get(key, [])))
+    return out

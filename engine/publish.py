@@ -15,6 +15,7 @@ from pathlib import Path
 
 from sqlalchemy.orm import Session
 
+from stetline import nesting
 from stetline import settings as settings_mod
 from stetline.actions import views
 from stetline.errors import StetlineError
@@ -72,16 +73,21 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
                        list(shown.notes), caveat, v.slot.interest, shown.reason if shown.waiting else None,
                        v.draft.evidence, shown.written_by, approval.by if approval is not None else None,
                        iso_time(approval.at) if approval is not None else None)
-        key = (v.slot.entity if sections == "entity" else v.slot.topic) or ""
+        key = (v.slot.entity if sections != "topic" else v.slot.topic) or ""
         grouped.setdefault(key, []).append(st)
-    order = list(entities) if sections == "entity" else list(topics)
+    parents = {k: e.parent for k, e in entities.items()}
+    order = (list(topics) if sections == "topic" else nesting.tree_order(parents) if sections == "parent"
+             else list(entities))
+    heads = {p for k in grouped for p in nesting.ancestors(parents, k)} if sections == "parent" else set()
     out_sections = []
     if "" in grouped:
         out_sections.append(("", "Overview", grouped.pop("")))
     for key in order:
-        if key in grouped:
-            heading = entities[key].name if sections == "entity" else topics[key].label
-            out_sections.append((key, heading, grouped.pop(key)))
+        if key in grouped or key in heads:  # by parent: a parent's heading leads its children, statements or none
+            heading = topics[key].label if sections == "topic" else entities[key].name
+            if sections == "parent" and parents.get(key):
+                heading = f"{heading} ({entities[parents[key]].name})"
+            out_sections.append((key, heading, grouped.pop(key, [])))
     sources = {k: t.source for k, t in topics.items() if t.source}
     return Publication(str(values["title"]), edition.label, date.today().isoformat(), out_sections, warnings, sources,
                        {k: e.name for k, e in entities.items()}, {k: t.label for k, t in topics.items()}, waiting)
@@ -114,8 +120,8 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
 
     if fmt not in FORMATS:
         raise StetlineError(f"unknown format {fmt!r}; available: " + ", ".join(FORMATS))
-    if sections not in ("entity", "topic"):
-        raise StetlineError("sections are by entity or by topic")
+    if sections not in ("entity", "topic", "parent"):
+        raise StetlineError("sections are by entity, by topic or by parent (entities under their parents)")
     from stetline.accounts import authorize
 
     authorize(session, by, "publish")

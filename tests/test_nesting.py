@@ -245,3 +245,18 @@ def test_a_flat_dataset_drafts_as_before_without_parent_claims() -> None:
     assert not any(slot.startswith(("roundup/level-", "leaders/level-")) for slot in drafts)
     assert all("parent_basis" not in d.claims for d in drafts.values() if d.kind == "standing")
     assert "of 15 towns" in drafts["standing/t0/recycling"].text
+
+
+def test_the_demo_report_can_be_sectioned_by_parent(demo_ws: Workspace) -> None:
+    from stetline.publish import gather
+
+    with demo_ws.session() as s:
+        pub = gather(s, sections="parent", allow_recheck=True)
+    headings = [heading for _key, heading, _statements in pub.sections]
+    # seed_data/entities.csv: Westreach District holds North Quay … High Ferrow, in file order
+    start = headings.index("Westreach District")
+    assert headings[start:start + 6] == [
+        "Westreach District", "North Quay (Westreach District)", "Shellby Sands (Westreach District)",
+        "Gorse Point (Westreach District)", "Cairnbrook (Westreach District)", "High Ferrow (Westreach District)",
+    ]
+    assert headings.index("Eastmarch District") == start + 6

@@ -32,7 +32,7 @@ FORMAT_LABELS = {
     "csv": ("CSV", "one row per statement, for spreadsheets"),
     "docx": ("Word", "a document with restylable paragraph styles and a table of contents"),
 }
-SECTIONS = {"entity": "by entity", "topic": "by topic"}
+SECTIONS = {"entity": "by entity", "topic": "by topic", "parent": "by entity, under each parent"}
 SHOWN = 100
 
 

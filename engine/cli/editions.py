@@ -116,8 +116,8 @@ def changes_(from_label: str | None, to_label: str | None, fmt: str, workspace: 
 @click.option("--format", "fmt", type=FORMAT, default="md", show_default=True, help="The file format.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
               help="File to write (default: stdout; required for docx).")
-@click.option("--sections", type=click.Choice(["entity", "topic"]), default="entity", show_default=True,
-              help="Group the statements by entity or by topic.")
+@click.option("--sections", type=click.Choice(["entity", "topic", "parent"]), default="entity", show_default=True,
+              help="Group the statements by entity, by topic, or by entity under each parent's heading.")
 @click.option("--allow-recheck", is_flag=True, help="Publish statements in recheck with their last approved text.")
 @click.option("--require-approval", is_flag=True, help="Also refuse statements nobody approved.")
 @workspace_option
