@@ -260,3 +260,18 @@ def test_the_demo_report_can_be_sectioned_by_parent(demo_ws: Workspace) -> None:
         "Gorse Point (Westreach District)", "Cairnbrook (Westreach District)", "High Ferrow (Westreach District)",
     ]
     assert headings.index("Eastmarch District") == start + 6
+
+
+def test_an_entity_page_links_down_to_its_children_and_up_to_its_parent(demo_ws: Workspace) -> None:
+    from stetline.web import create_app
+
+    client = create_app(demo_ws, {"TESTING": True, "WTF_CSRF_ENABLED": False}).test_client()
+    district = client.get("/entities/westreach").get_data(as_text=True)
+    assert 'aria-label="Within Westreach District"' in district
+    for town in ("north-quay", "shellby-sands", "gorse-point", "cairnbrook", "high-ferrow"):
+        assert f'href="/entities/{town}"' in district
+    town = client.get("/entities/north-quay").get_data(as_text=True)
+    crumbs = town.split('aria-label="Breadcrumb"')[1].split("</nav>")[0]
+    assert 'href="/entities/westreach">Westreach District</a>' in crumbs
+    listing = client.get("/entities").get_data(as_text=True)
+    assert ">Within</th>" in listing and 'href="/entities/eastmarch">Eastmarch District</a>' in listing

@@ -8,7 +8,7 @@ from typing import Any
 from flask import Blueprint, abort, render_template, request
 from sqlalchemy.orm import Session
 
-from stetline import actions
+from stetline import actions, nesting
 from stetline.livefields import LiveFields
 from stetline.loading import house_style
 from stetline.status import Status
@@ -45,9 +45,11 @@ def entities() -> str:
     """Every entity with how many of its statements are in each status; sortable and filterable."""
     s = session()
     counts = ops.status_counts_by(s, "entity")
-    rows, q, sort = _sorted_filtered(ops.entity_rows(s), counts, ("name", "group", "key"), ENTITY_SORTS, "name")
+    every = ops.entity_rows(s)
+    rows, q, sort = _sorted_filtered(every, counts, ("name", "group", "key"), ENTITY_SORTS, "name")
+    names = {e.key: e.name for e in every}
     return render_template("browse/entities.html", entities=rows, counts=counts, statuses=actions.STATUSES,
-                           q=q, sort=sort)
+                           q=q, sort=sort, parent_names=names, nested=any(e.parent for e in every))
 
 
 @bp.get("/topics")
@@ -68,8 +70,13 @@ def entity(key: str) -> str:
     row = ops.get_entity(s, key)
     if row is None:
         abort(404, description=f"There is no entity {key!r} in this workspace.")
+    rows = ops.entity_rows(s)
+    parents = {e.key: e.parent for e in rows}
+    names = {e.key: e.name for e in rows}
+    up = [(k, names[k]) for k in reversed(nesting.ancestors(parents, key))]  # top first, for the breadcrumb
+    down = [(e.key, e.name) for e in rows if e.parent == key]
     return _listing(s, Selection.parse("entity", key, request.args), row.name,
-                    f"Group: {row.group}" if row.group else "")
+                    f"Group: {row.group}" if row.group else "", up=up, down=down)
 
 
 @bp.get("/topics/<key>")
@@ -84,14 +91,14 @@ def topic(key: str) -> str:
     return _listing(s, Selection.parse("topic", key, request.args), row.label, subtitle)
 
 
-def _listing(s: Session, sel: Selection, title: str, subtitle: str) -> str:
+def _listing(s: Session, sel: Selection, title: str, subtitle: str, **nav: Any) -> str:
     every = ops.status_counts_of(s, sel.scope, sel.key or "")
     status = sel.filters.get("status")
     page = current_page(every.get(status, 0) if status else sum(every.values()))
     items = sel.views(s, limit=page.size, offset=page.offset)
     return render_template("browse/statements.html", what=sel.scope, title=title, subtitle=subtitle,
                            rows=_rows(s, items), selection=sel, statuses=actions.STATUSES, every=every,
-                           total=sum(every.values()), page=page)
+                           total=sum(every.values()), page=page, up=nav.get("up", []), down=nav.get("down", []))
 
 
 def _rows(s: Session, items: list[actions.SlotView]) -> list[dict[str, Any]]:
