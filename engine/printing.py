@@ -110,6 +110,8 @@ def printed(slot: Slot, draft: Draft, layers: list[Layer], approval: Approval | 
                        "marked as waiting." + tail, slot.status, kept)
     if Reason.CLAIM_CHANGED in reasons:
         why = "the current data contradict the earlier text"
+    elif Reason.MERGED in reasons:
+        why = "several statements were merged into it and a person picks the text"
     else:
         why = "the wording of the draft changed"
     return Printed(draft.text, "draft", f"Waits in recheck ({said}): {why}, so it prints the new draft, "
