@@ -31,16 +31,18 @@ import difflib
 import re
 from collections.abc import Collection
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import pandas as pd
 from sqlalchemy.orm import Session
 
-from stetline.errors import Problem, StetlineError, ValidationError
+from stetline.errors import Conflict, Problem, StetlineError, ValidationError
 from stetline.inputfiles import Source, read_csv_table
 from stetline.reconcile import TEXT_LAYERS, Basis, Decision, HumanWork, SlotState
 from stetline.status import SEVERITY, Reason, Status
 from stetline.store import ops
+
+if TYPE_CHECKING:  # only named in annotations: the web app and the CLI import this without pandas
+    import pandas as pd
 
 COLUMNS = ("old", "new")
 
@@ -323,7 +325,7 @@ def choose(session: Session, slot_id: str, pick: int | None, *, by: str, version
     if not choices:
         raise StetlineError(f"{slot_id} holds no merged texts to choose from")
     if version is not None and version != slot.version:
-        raise StetlineError(f"{slot_id} changed since you opened it; reload and choose again")
+        raise Conflict(f"{slot_id} changed since you opened it; reload and choose again")
     if pick is None:
         draft = ops.get_draft(session, slot.draft_id)
         assert draft is not None

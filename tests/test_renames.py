@@ -217,3 +217,89 @@ def test_without_a_mapping_the_dropped_key_keeps_its_work_under_slot_gone(starte
     assert old["recheck"]["reasons"] == ["slot-gone"]
     assert old["layer"]["by"] == "ann"
     assert started.json("show", "blurb/east-vale/parks")["layer"] is None
+
+
+# -- the web app: the merged texts on the statement page, and the mapping on the data page ---------
+
+def _merge(cli: Cli, tmp_path: Path) -> None:
+    keys = {**{k: k for k in VALUES}, "east": "twin-towns"}
+    del keys["west"]
+    cli("load", str(_observations(tmp_path / "obs2.csv", keys)),
+        "--renames", str(_map(tmp_path / "m.csv", "old,new\neast,twin-towns\nwest,twin-towns\n")), "--by", "admin")
+
+
+def _csrf(html: str) -> str:
+    return html.split('name="csrf-token" content="', 1)[1].split('"', 1)[0]
+
+
+def test_the_statement_page_offers_the_merged_texts_to_an_editor_only(started: Cli, tmp_path: Path) -> None:
+    from helpers import signed_in
+
+    from stetline.web import create_app
+
+    _merge(started, tmp_path)
+    for name, role in (("admin", "admin"), ("ed", "editor"), ("exp", "expert")):
+        started("user", "add", name, "--role", role, "--password-stdin", "--by", "admin", input="long-password-1\n")
+    ws = open_workspace(started.path)
+    try:
+        app = create_app(ws, {"TESTING": True})  # CSRF on, as in production
+        url = "/statements/blurb/twin-towns/parks"
+        expert = signed_in(app, "exp")
+        html = expert.get(url).get_data(as_text=True)
+        assert "Texts of the merged statements" in html
+        assert "East is the town most content with its parks: 74.0% are satisfied." in html
+        assert "rewrite by ann" in html and "rewrite by bob" in html
+        assert "Use this text" not in html  # an expert may not choose a text
+        version = started.json("show", "blurb/twin-towns/parks")["version"]
+        form = {"version": str(version), "pick": "2", "csrf_token": _csrf(html)}
+        refused = expert.post(f"{url}/choose", data=form)
+        assert refused.status_code == 403
+        assert started.json("show", "blurb/twin-towns/parks")["layer"] is None
+        editor = signed_in(app, "ed")
+        html = editor.get(url).get_data(as_text=True)
+        assert html.count("Use this text") == 2 and "Keep the new draft" in html
+        no_token = editor.post(f"{url}/choose", data={"version": str(version), "pick": "2"})
+        assert no_token.status_code == 400
+        assert started.json("show", "blurb/twin-towns/parks")["layer"] is None
+        done = editor.post(f"{url}/choose", data={**form, "csrf_token": _csrf(html)})
+        assert done.status_code == 303
+    finally:
+        ws.close()
+    chosen = started.json("show", "blurb/twin-towns/parks")
+    assert chosen["text"] == "West comes second on parks, at 61.0%." and chosen["layer"]["by"] == "ed"
+    assert chosen["history"][-1]["action"] == "choose-merged"
+
+
+def test_the_data_page_takes_a_mapping_beside_the_observations(started: Cli, tmp_path: Path) -> None:
+    import io
+    import re
+
+    from stetline.web import create_app
+
+    obs = _observations(tmp_path / "obs2.csv", {**{k: k for k in VALUES}, "east": "east-vale"}).read_bytes()
+    ws = open_workspace(started.path)
+    try:
+        client = create_app(ws, {"TESTING": True, "WTF_CSRF_ENABLED": False}).test_client()
+        assert 'name="renames"' in client.get("/data").get_data(as_text=True)
+
+        def upload(mapping: bytes) -> Any:
+            return client.post("/data", content_type="multipart/form-data", data={
+                "observations": (io.BytesIO(obs), "obs2.csv"), "renames": (io.BytesIO(mapping), "renames.csv"),
+                "by": "admin"})
+
+        bad = upload(b"old,new\nnowhere,east-vale\n")
+        assert bad.status_code == 400
+        assert ("<td>renames.csv</td><td>2</td><td>old</td><td>the workspace holds no entity &#39;nowhere&#39;</td>"
+                in bad.get_data(as_text=True))
+        checked = upload(b"old,new\neast,east-vale\n")
+        html = checked.get_data(as_text=True)
+        assert checked.status_code == 200 and "This is a dry run" in html
+        assert "blurb/east/parks → blurb/east-vale/parks: 1 layer, 1 approval, 0 comments" in html
+        assert started.json("show", "blurb/east/parks")["layer"] is not None  # nothing moved yet
+        token = re.search(r'name="token" value="([0-9a-f]+)"', html)
+        assert token is not None
+        assert client.post("/data/load", data={"token": token.group(1), "by": "admin"}).status_code == 303
+    finally:
+        ws.close()
+    moved = started.json("show", "blurb/east-vale/parks")
+    assert moved["status"] == "approved" and moved["layer"]["by"] == "ann"
