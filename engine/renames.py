@@ -239,6 +239,8 @@ def _give(result: Plan, states: dict[str, SlotState], target: str, olds: list[st
         moved += old.work
         states[sid] = SlotState(sid, old.digest, old.gone, Status.DRAFT)  # nothing of a person's left on it
     current = states.get(target)
+    if current is None and not moved:
+        return  # nothing of a person's moves: the new slot is drafted as new (its rows still move)
     work = (current.work if current is not None else []) + moved
     if merger:
         for w in work:
