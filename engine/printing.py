@@ -5,7 +5,7 @@ rendered, else the draft) and the notes attached to it; a suppressed or gone one
 A slot in recheck is printed only when the publisher allows it, and then never with a human text
 or an approval the current data contradict:
 
-- ``claim-changed`` (and ``wording-changed``): the new draft;
+- ``claim-changed`` (and ``wording-changed``, and ``merged`` until a person chooses a text): the new draft;
 - ``slot-gone``: nothing (the slot no longer applies);
 - ``numbers-changed``: the proposed update when it merged cleanly, otherwise the new draft.
 
