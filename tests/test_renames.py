@@ -176,6 +176,9 @@ BAD_MAPS = [
     ("old,new\neast,east-vale\neast-vale,twin-towns\n",
      "renames.csv, row 2, column 'new': 'east-vale' is itself mapped to 'twin-towns' on row 3: a chain or cycle; "
      "map 'east' straight to the key it ends as"),
+    ("old,new\neast,west\nwest,east\n",  # a cycle: each row names the other
+     "renames.csv, row 3, column 'new': 'east' is itself mapped to 'west' on row 2: a chain or cycle; "
+     "map 'west' straight to the key it ends as"),
     ("old,new\nwest,east-vale\n",
      "renames.csv, row 2, column 'old': 'west' is still in the new data: only a key that leaves the data can be "
      "renamed"),
@@ -263,6 +266,8 @@ def test_the_statement_page_offers_the_merged_texts_to_an_editor_only(started: C
         assert started.json("show", "blurb/twin-towns/parks")["layer"] is None
         done = editor.post(f"{url}/choose", data={**form, "csrf_token": _csrf(html)})
         assert done.status_code == 303
+        history = editor.get(url).get_data(as_text=True)
+        assert "moved from blurb/east/parks on load of edition 2024-r2" in history  # the page's history says it
     finally:
         ws.close()
     chosen = started.json("show", "blurb/twin-towns/parks")
