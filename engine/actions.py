@@ -350,6 +350,7 @@ class SlotView:
                 "proposed": r.get("proposed"), "clean": bool(r.get("clean")),
                 "conflicts": list(r.get("conflicts", [])), "severity": r.get("severity", 0),
                 "contradicted": contradicted_claims(self.slot, self.draft, self.layers, self.approval),
+                "merged": list(r.get("merged") or []),  # merged entities' texts to choose from (stetline.renames)
             }
         return {
             "slot": self.slot.id,

@@ -55,6 +55,8 @@ def _needs_reading(v: SlotView) -> str | None:
         return "the new data contradict its claims: approve it on its own, confirming each claim"
     if Reason.SLOT_GONE in reasons or v.slot.gone:
         return "it no longer applies to the current edition: approve or suppress it on its own"
+    if Reason.MERGED in reasons:
+        return "several statements were merged into it: choose a text on its own page first"
     if recheck.get("conflicts"):
         return "its proposed text has a conflict: resolve it with a rewrite first"
     return None

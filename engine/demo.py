@@ -119,8 +119,9 @@ def build(path: Path, echo: Callable[[str], None] = print) -> Workspace:
             actions.suppress(s, slot, by=EDITOR)
         for slot in APPROVALS:
             actions.approve(s, slot, by=REVIEWER)
-    echo("loading the second edition (data to 2025, with revisions to 2024)")
-    second = loading.load_edition(ws, data_file("observations-2025.csv"), by=ADMIN)
+    echo("loading the second edition (data to 2025, with revisions to 2024; Larkholt is now Larkholt Vale)")
+    second = loading.load_edition(ws, data_file("observations-2025.csv"), by=ADMIN,
+                                  renames=data_file("renames-2025.csv"))
     echo("\n".join(second.lines()))
     with ws.session() as s:
         actions.approve(s, "headline", by=REVIEWER, confirm_claims=True)  # the reviewer read the new claims

@@ -168,6 +168,11 @@ def _stream(archive: zipfile.ZipFile, info: zipfile.ZipInfo, room: int, name: st
     return size, rows
 
 
+def read_csv_table(source: Source) -> Table:
+    """Read one CSV file (a mapping, for instance) into a table of strings, with its display name."""
+    return _read_csv(_display_name(source), _read_bytes(source))
+
+
 def read_tables(
     observations: Source, topics: Source | None, entities: Source | None,
 ) -> tuple[Table, Table | None, Table | None, list[str]]:

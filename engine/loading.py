@@ -23,8 +23,7 @@ from typing import Any
 import pandas as pd
 from sqlalchemy.orm import Session
 
-from stetline import nesting
-from stetline import settings as settings_mod
+from stetline import nesting, renames as rename_mod, settings as settings_mod
 from stetline.accounts import authorize
 from stetline.dataset import Dataset, Source, load_dataset
 from stetline.drafting import Context, Draft
@@ -60,6 +59,7 @@ class LoadSummary:
     slots: int = 0  # statements this edition drafted
     gone_waiting: int = 0  # of the slots gone in this load, those that wait in recheck (human work on them)
     totals: dict[str, int] = field(default_factory=dict)  # the workspace after the load (ops.Counts.totals)
+    moved: list[str] = field(default_factory=list)  # with a mapping: each slot whose work moves (renames.Move)
 
     def to_json(self) -> dict[str, Any]:
         """The summary as a JSON object (``workspace``: the totals after the load, in words)."""
@@ -84,6 +84,9 @@ class LoadSummary:
         if self.gone:
             out.append(f"  no longer apply:            {self.gone} (any human work on them is kept; "
                        f"{self.gone_waiting} of them wait in recheck)")
+        if self.moved:
+            out += [f"  statements whose human work moves to a new key: {len(self.moved)}",
+                    *(f"    {line}" for line in self.moved)]
         if self.totals:
             out.append(f"workspace now: {ops.describe_totals(self.totals)}")
         if self.dry_run:
@@ -257,10 +260,12 @@ def _summarise(summary: LoadSummary, decisions: list[Decision], drafts: Collecti
 def load_edition(
     ws: Workspace, observations: Source, topics: Source | None = None, entities: Source | None = None,
     *, label: str | None = None, by: str, dry_run: bool = False, progress: Progress = no_progress,
+    renames: Source | None = None,
 ) -> LoadSummary:
     """Load an edition's files into the workspace and reconcile every slot; one transaction.
 
-    ``progress`` hears each stage as it starts (and the drafting count as it grows).
+    ``progress`` hears each stage as it starts (and the drafting count as it grows); ``renames``
+    is a mapping file of old and new entity keys (see stetline.renames).
     """
     with _gc_paused(), ws.session() as session:
         if not dry_run:
@@ -272,6 +277,8 @@ def load_edition(
             known_topics=ops.topics_frame(session), known_entities=ops.entities_frame(session),
         )
         edition_label = _label(session, label, dataset)
+        mapping = None if renames is None else rename_mod.read_checked(session, renames, dataset.observations)
+        plan = None
         current = ops.current_edition(session)
         stored = ops.observations_frame(session)  # the current observations, read once
         earlier = _held(session, dataset.observations, stored) if current is not None else None
@@ -279,17 +286,22 @@ def load_edition(
         ctx = edition_context(session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
-        if current is not None and (current.summary or {}).get(DRAFTED_FROM) == inputs:
+        if mapping is None and current is not None and (current.summary or {}).get(DRAFTED_FROM) == inputs:
             progress("reconciling", 0, None)
             decisions, by_slot, drafted = _reconcile_as_drafted(session, states, dataset.topics, dataset.entities, ctx)
         else:
             drafts = draft_context(ws, ctx, progress)
             progress("reconciling", 0, len(drafts))
+            if mapping is not None:
+                plan = rename_mod.plan(session, mapping, states, {d.slot for d in drafts}, edition_label,
+                                       dataset.entities)
             decisions, by_slot = reconcile(states, drafts)
+            if plan is not None:
+                rename_mod.mark_merged(plan, decisions)
             del drafts
             drafted = by_slot.keys()
         del ctx
-        summary = LoadSummary(edition_label, dry_run=dry_run)
+        summary = LoadSummary(edition_label, dry_run=dry_run, moved=plan.lines() if plan else [])
         _summarise(summary, decisions, drafted, states)
         if dry_run:
             session.rollback()
@@ -302,7 +314,11 @@ def load_edition(
         session.flush()
         ops.replace_metadata(session, dataset.topics, dataset.entities)
         progress("writing statements", 0, len(decisions))
+        if plan is not None:
+            rename_mod.record(session, plan, edition.id, by)
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
+        if plan is not None:
+            rename_mod.move(session, plan)
         del decisions, by_slot, states  # the drafts are written: free them before the observations
         _count_unrenderable(summary, recheck_unrenderable(session, by=by))
         progress("writing observations", 0, len(dataset.observations))

@@ -5,7 +5,7 @@ rendered, else the draft) and the notes attached to it; a suppressed or gone one
 A slot in recheck is printed only when the publisher allows it, and then never with a human text
 or an approval the current data contradict:
 
-- ``claim-changed`` (and ``wording-changed``): the new draft;
+- ``claim-changed`` (and ``wording-changed``, and ``merged`` until a person chooses a text): the new draft;
 - ``slot-gone``: nothing (the slot no longer applies);
 - ``numbers-changed``: the proposed update when it merged cleanly, otherwise the new draft.
 
@@ -110,6 +110,8 @@ def printed(slot: Slot, draft: Draft, layers: list[Layer], approval: Approval | 
                        "marked as waiting." + tail, slot.status, kept)
     if Reason.CLAIM_CHANGED in reasons:
         why = "the current data contradict the earlier text"
+    elif Reason.MERGED in reasons:
+        why = "several statements were merged into it and a person picks the text"
     else:
         why = "the wording of the draft changed"
     return Printed(draft.text, "draft", f"Waits in recheck ({said}): {why}, so it prints the new draft, "

@@ -28,6 +28,7 @@ class Reason(StrEnum):
 
     CLAIM_CHANGED = "claim-changed"
     SLOT_GONE = "slot-gone"
+    MERGED = "merged"  # several entities became one at a load: a person picks a text (stetline.renames)
     RENDER_FAILED = "render-failed"  # a rewrite's live fields no longer render (stetline.slotstatus)
     NUMBERS_CHANGED = "numbers-changed"
     WORDING_CHANGED = "wording-changed"
@@ -39,6 +40,6 @@ STATUSES: Final[tuple[str, ...]] = tuple(s.value for s in Status)
 REASONS: Final[tuple[str, ...]] = tuple(r.value for r in Reason)
 #: higher is more urgent; the recheck queue sorts by it
 SEVERITY: Final[dict[str, int]] = {
-    Reason.CLAIM_CHANGED: 3, Reason.SLOT_GONE: 3, Reason.RENDER_FAILED: 3,
+    Reason.CLAIM_CHANGED: 3, Reason.SLOT_GONE: 3, Reason.MERGED: 3, Reason.RENDER_FAILED: 3,
     Reason.NUMBERS_CHANGED: 2, Reason.WORDING_CHANGED: 1,
 }

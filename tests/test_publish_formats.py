@@ -314,7 +314,8 @@ def test_docx_structure_styles_and_toc(published: dict[str, Any], demo_files: Pa
     assert document.core_properties.title == paragraphs[0].text
     headings = [p.text for p in paragraphs if p.style.name == "Heading 1"]
     with (demo_files / "entities.csv").open(encoding="utf-8") as fh:
-        towns = [row["name"] for row in csv.DictReader(fh)]
+        # Larkholt left the data at the 2025 load, renamed Larkholt Vale (seed_data/renames-2025.csv)
+        towns = [row["name"] for row in csv.DictReader(fh) if row["entity"] != "larkholt"]
     assert headings == ["Overview", *towns, FIGURE_NOTES]
     assert any("qualified person must check" in p.text for p in paragraphs)
     with zipfile.ZipFile(path) as z:

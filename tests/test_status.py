@@ -14,8 +14,9 @@ from stetline.status import REASONS, STATUSES, Reason, Status
 def test_the_words_are_designs() -> None:
     # DESIGN.md, "Statuses of a slot" and the reconcile table: the words users see and filter by
     assert STATUSES == ("draft", "edited", "approved", "recheck", "suppressed")
-    # plus the project's own `render-failed` (a rewrite whose live fields no longer render; README)
-    assert REASONS == ("claim-changed", "slot-gone", "render-failed", "numbers-changed", "wording-changed")
+    # plus the project's own `merged` (entities merged at a load; README, "Renamed and merged entities")
+    # and `render-failed` (a rewrite whose live fields no longer render; README)
+    assert REASONS == ("claim-changed", "slot-gone", "merged", "render-failed", "numbers-changed", "wording-changed")
     assert all(type(s) is str for s in STATUSES + REASONS)  # option lists get plain words
 
 

@@ -36,7 +36,7 @@ bp = Blueprint("data", __name__)
 UPLOADS = "uploads"
 MANIFEST = "manifest.json"
 MAX_AGE_SECONDS = 3600
-ROLES = ("observations", "topics", "entities")
+ROLES = ("observations", "topics", "entities", "renames")  # renames: a mapping of old to new entity keys
 SUFFIXES = (".csv", ".txt", ".xlsx", ".xlsm")
 TOKEN = re.compile(r"^[0-9a-f]{32}$")
 CLAIMED = "-loading"  # an upload being loaded is renamed to this, so it loads once
@@ -105,6 +105,12 @@ def _sources(folder: Path, manifest: dict[str, Any]) -> tuple[Path, Path | None,
     return folder / files["observations"], topics, entities
 
 
+def _mapping(folder: Path, manifest: dict[str, Any]) -> Path | None:
+    """The kept mapping of renamed entity keys (old,new), if one was uploaded."""
+    files = manifest["files"]
+    return folder / files["renames"] if "renames" in files else None
+
+
 def _refused() -> tuple[str, int] | None:
     """The 403 page when the acting account may not load data (checked before any file is kept or
     claimed), else None."""
@@ -145,7 +151,8 @@ def check() -> tuple[str, int]:
     (folder / MANIFEST).write_text(json.dumps(manifest))
     sources = _sources(folder, manifest)
     try:
-        summary = loading.load_edition(workspace(), *sources, label=label, by=str(manifest["by"]), dry_run=True)
+        summary = loading.load_edition(workspace(), *sources, label=label, by=str(manifest["by"]), dry_run=True,
+                                       renames=_mapping(folder, manifest))
     except ValidationError as exc:
         shutil.rmtree(folder, ignore_errors=True)
         return _page(status=400, problems=exc.problems, label=label)
@@ -169,7 +176,7 @@ def _same_as_current(preview: dict[str, Any], sources: tuple[Path, Path | None, 
 
     Checked only when the dry run changes no statement, so an ordinary upload costs nothing more.
     """
-    if preview["drafted"] or preview["updated"] or preview["sent_to_recheck"] or preview["gone"]:
+    if preview["drafted"] or preview["updated"] or preview["sent_to_recheck"] or preview["gone"] or preview["moved"]:
         return False
     s = session()
     known_topics, known_entities = ops.topics_frame(s), ops.entities_frame(s)
@@ -214,7 +221,8 @@ def load() -> Response | tuple[str, int]:
         sources = _sources(folder, manifest)
         ws = workspace()
         with progress.ProgressFile(ws.path, "load", acting_name()) as record:  # the data page shows it
-            summary = loading.load_edition(ws, *sources, label=manifest.get("label"), by=acting_name(), progress=record)
+            summary = loading.load_edition(ws, *sources, label=manifest.get("label"), by=acting_name(), progress=record,
+                                           renames=_mapping(folder, manifest))
     except ValidationError as exc:
         return _page(status=400, problems=exc.problems)
     except StetlineError as exc:

@@ -28,6 +28,8 @@ REASON_TEXT = {
     "numbers-changed": "numbers it shows changed; what it says still holds",
     "slot-gone": "it no longer applies to the current edition: its entity or topic left the data, "
                  "or its kind no longer applies",
+    "merged": "several entities became one at the load: pick one of the earlier texts on the statement's page, "
+              "or keep the new draft",
     "wording-changed": "only the draft's wording changed (a phrasing or house-style change); "
                        "numbers and claims are the same",
 }

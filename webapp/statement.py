@@ -249,6 +249,17 @@ def restore(slot: str) -> Response | tuple[str, int]:
                 "Earlier version restored")
 
 
+@bp.post("/statements/<path:slot>/choose")
+def choose(slot: str) -> Response | tuple[str, int]:
+    """Resolve a merged statement: one of the merged texts becomes its rewrite, or the new draft stays."""
+    from stetline import renames
+
+    raw = request.form.get("pick", "")
+    pick = None if raw == "draft" else int(raw) - 1 if raw.isdigit() else -1
+    return _act(slot, "choose", lambda s, by, ver: renames.choose(s, slot, pick, by=by, version=ver),
+                "New draft kept" if pick is None else "Merged text chosen")
+
+
 @bp.post("/statements/<path:slot>/comment")
 def comment(slot: str) -> Response | tuple[str, int]:
     """Add a comment to the statement's thread."""

@@ -37,18 +37,20 @@ def init(workspace: Path | None) -> None:
 @click.option("--entities", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
               help="Entity metadata (CSV or XLSX).")
 @click.option("--edition", "label", metavar="LABEL", help="Edition label (default: the latest period in the file).")
+@click.option("--renames", type=click.Path(dir_okay=False, path_type=Path), metavar="MAP",
+              help="Renamed or merged entities (CSV, columns old,new): their human work moves to the new keys.")
 @click.option("--dry-run", is_flag=True, help="Show what the load would do; write nothing.")
 @json_option
 @workspace_option
 @by_option
-def load(observations: Path, topics: Path | None, entities: Path | None, label: str | None,
+def load(observations: Path, topics: Path | None, entities: Path | None, label: str | None, renames: Path | None,
          dry_run: bool, as_json: bool, workspace: Path | None, by: str) -> None:
     """Load an edition: the first load, and every refresh."""
     from stetline import loading
 
     with shown_progress("load", as_json) as progress:
         summary = loading.load_edition(open_ws(workspace), observations, topics, entities, label=label, by=by,
-                                       dry_run=dry_run, progress=progress)
+                                       dry_run=dry_run, progress=progress, renames=renames)
     if as_json:
         echo_json(summary.to_json())
     else:

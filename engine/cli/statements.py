@@ -1,5 +1,5 @@
 """Commands about statements: the status summary, listing and showing them, and the actions on
-one statement or a confirmed selection (rewrite, pin, annotate, suppress, revert, approve)."""
+one statement or a confirmed selection (rewrite, choose, pin, annotate, suppress, revert, approve)."""
 
 from __future__ import annotations
 
@@ -107,6 +107,9 @@ def show(slot: str, as_json: bool, workspace: Path | None) -> None:
             click.echo(f"    {factwords.change_words(c['fact'])}: {old} → {new}")
         if r["proposed"]:
             click.echo(f"proposed ({'clean' if r['clean'] else 'needs a person'}): {r['proposed']}")
+        for n, m in enumerate(r.get("merged") or [], 1):  # stetline choose SLOT --text N
+            who = f"{m['type']} by {m['author'] or m['by']}" if m["by"] else "draft"
+            click.echo(f"merged text {n}, from {m['slot']} ({who}): {m['text']}")
     click.echo("evidence:")
     for name, fact in data["evidence"].items():
         click.echo(_evidence_line(name, fact))
@@ -153,6 +156,26 @@ def rewrite_(slot: str, text: str, workspace: Path | None, by: str) -> None:
     from stetline import actions
 
     _act(workspace, actions.rewrite, slot, text=text, by=by)
+
+
+@click.command(name="choose")
+@click.argument("slot")
+@click.option("--text", "pick", type=click.IntRange(min=1), metavar="N",
+              help="Make merged text N (as numbered by `stetline show`) the statement's rewrite.")
+@click.option("--draft", "keep", is_flag=True, help="Keep the new draft instead of any merged text.")
+@workspace_option
+@by_option
+def choose_(slot: str, pick: int | None, keep: bool, workspace: Path | None, by: str) -> None:
+    """Resolve a merged statement: take one of the merged entities' texts, or keep the draft."""
+    from stetline import renames
+    from stetline.store import ops
+
+    if (pick is None) == (not keep):
+        raise StetlineError("give either --text N or --draft")
+    with open_ws(workspace).session() as session:
+        renames.choose(session, slot, None if keep else (pick or 1) - 1, by=by)
+        row = ops.get_slot(session, slot)
+        click.echo(f"{slot}: {row.status if row is not None else '?'}")
 
 
 @click.command(name="pin")
@@ -342,5 +365,5 @@ def apply_worksheet_(file: Path, workspace: Path | None, by: str) -> None:
     click.echo(f"{len(result.applied)} applied, {len(result.refused)} refused")
 
 
-COMMANDS = (status, list_, show, history_, rewrite_, pin_, annotate_, suppress_, revert_, approve_,
+COMMANDS = (status, list_, show, history_, rewrite_, choose_, pin_, annotate_, suppress_, revert_, approve_,
             worksheet_, apply_worksheet_)

@@ -31,7 +31,7 @@ from stetline import demo
 from stetline.store import ops
 from stetline.workspace import open_workspace
 
-SLOTS = ("standing/tidemere/recycling", "change/north-quay/broadband", "standing/larkholt/population",
+SLOTS = ("standing/tidemere/recycling", "change/north-quay/broadband", "standing/larkholt-vale/population",
          "trend/heronsford/recycling", "profile/cairnbrook")
 PAGES = ("/", "/entities/tidemere", "/recheck", "/topics/recycling")
 TOKEN = re.compile(r'name="csrf_token" value="([^"]+)"')

@@ -11,6 +11,7 @@ importing only the ones listed before it:
 - listing: the listed predicate, slot filters, listings and status counts, recheck choices
 - refresh: slot states for reconcile, a refresh's decisions written in bulk
 - history: events, comment threads, drafts and layers as of an edition
+- moves: human work given from one slot to another (renamed and merged entities)
 - search: the texts of listed slots that hold every word of a query
 
 Callers write ``ops.name(...)``; the names below are the public ones.
@@ -67,6 +68,14 @@ from stetline.store.ops.listing import (
     status_counts_of,
     workspace_counts,
 )
+from stetline.store.ops.moves import (
+    comment_counts,
+    drop_work,
+    entity_slots,
+    layer_authors,
+    move_rows,
+    write_bases,
+)
 from stetline.store.ops.refresh import (
     Applied,
     apply_decisions,
@@ -112,5 +121,6 @@ __all__ = [
     "hold_writers", "slot_states", "current_drafts", "Applied", "apply_decisions", "table_counts",
     "add_event", "events_for", "recent_events", "events_by_action", "latest_event", "events_after", "first_edition_of",
     "COMMENT_KINDS", "add_comment", "comments_for", "drafts_as_of", "gone_as_of", "layer_types_by_slot",
+    "entity_slots", "comment_counts", "move_rows", "write_bases", "drop_work", "layer_authors",
     "SEARCH_LIMIT", "MAX_SEARCH_TERMS", "SearchHit", "SearchPage", "search_terms", "search",
 ]
