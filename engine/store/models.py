@@ -68,6 +68,8 @@ class Entity(Base):
     name: Mapped[str] = mapped_column(String(300))
     group: Mapped[str] = mapped_column(String(200), default="")
     position: Mapped[int] = mapped_column(default=0)
+    #: "the", "none" or "" (the engine decides): whether the name takes "the" mid-sentence
+    article: Mapped[str] = mapped_column(String(10), default="", server_default="")
 
 
 class Topic(Base):

@@ -92,7 +92,8 @@ def entities_frame(session: Session) -> pd.DataFrame | None:
     rows = session.scalars(select(Entity).order_by(Entity.position)).all()
     if not rows:
         return None
-    return pd.DataFrame([{"entity": r.key, "name": r.name, "group": r.group, "position": r.position} for r in rows])
+    return pd.DataFrame([{"entity": r.key, "name": r.name, "group": r.group, "position": r.position,
+                          "article": r.article} for r in rows])
 
 
 def replace_metadata(session: Session, topics: pd.DataFrame, entities: pd.DataFrame) -> None:
@@ -114,7 +115,7 @@ def replace_metadata(session: Session, topics: pd.DataFrame, entities: pd.DataFr
             _update(topic, values)
     existing_e = {e.key: e for e in session.scalars(select(Entity))}
     for r in entities.itertuples(index=False):
-        values = dict(name=r.name, group=r.group, position=int(r.position))
+        values = dict(name=r.name, group=r.group, position=int(r.position), article=getattr(r, "article", ""))
         entity = existing_e.get(r.entity)
         if entity is None:
             session.add(Entity(key=r.entity, **values))
