@@ -51,7 +51,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "the_label": ctx.the_label(c.topic), "period": c.period, "prev_period": prev_period,
             "caveat": caveat(c.status),
             "state": "", "revised": "", "neutral": c.better == "neutral", "nouns": nouns, "average_move": "",
-            "average_wording": 0, "frame": 0,
+            "average_wording": 0,
         }
         interest = 0.1
         variables["now_revised"] = ""
@@ -99,7 +99,6 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             variables["state"] = "not_significant"
         compared = int(compared_counts[c.topic])
         variables["average_move"] = variables["average_wording"] = ""
-        variables["frame"] = phrasing_index(slot + "#frame", 2)  # phrasing 1 opens with its period in half the slots
         relative = "change_abs" in evidence
         mean_change = (mean_rels if relative else mean_changes).get(c.topic)
         if compared >= 3 and mean_change is not None and not missing(mean_change):
