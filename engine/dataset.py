@@ -25,7 +25,7 @@ OBSERVATION_OPTIONAL = ("margin", "status")
 TOPIC_COLUMNS = ("topic", "label", "unit", "better", "decimals", "category", "target")
 TOPIC_OPTIONAL = ("weight", "source", "change", "label_in_sentence", "article")
 ENTITY_COLUMNS = ("entity", "name", "group")
-ENTITY_OPTIONAL: tuple[str, ...] = ("parent",)
+ENTITY_OPTIONAL: tuple[str, ...] = ("parent", "article")
 
 STATUSES = ("final", "provisional", "estimated", "break", "confidential")
 DIRECTIONS = ("higher", "lower", "neutral")
@@ -276,9 +276,13 @@ def _parse_entities(table: Table) -> tuple[pd.DataFrame | None, list[Problem]]:
     frame = table.frame
     if "parent" not in frame.columns:
         frame["parent"] = ""
+    if "article" not in frame.columns:
+        frame["article"] = ""
     problems += _keys(table, "entity")
     name = frame["name"].astype("str").str.strip()
     problems += _bad_cells(table, "name", name == "", "the name is empty")
+    article = frame["article"].astype("str").str.strip().str.lower()
+    problems += _bad_cells(table, "article", ~article.isin(("", "the", "none")), "'article' must be the, none or empty")
     if not problems:
         problems += _duplicates(table, ["entity"], "entity")
     if problems:
@@ -289,6 +293,7 @@ def _parse_entities(table: Table) -> tuple[pd.DataFrame | None, list[Problem]]:
         "group": frame["group"].astype("str").str.strip(),
         "position": range(len(frame)),
         "parent": frame["parent"].astype("str").str.strip(),
+        "article": article,
     })
     return out, []
 

@@ -184,7 +184,8 @@ class Context:
     #: what one entity of each level is called, top level first (the `level_nouns` setting)
     level_nouns: tuple[str, ...] = ()
     # wording already worked out (the same counts, labels and means recur across thousands of cells)
-    _values_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    _values_shown: dict[tuple[str, float, bool], str] = field(
+        default_factory=dict, init=False, repr=False, compare=False)
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _lower_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     # the candidates of part kinds that composed kinds read, kept while one drafting pass runs
@@ -237,8 +238,9 @@ class Context:
         return shown
 
     def name(self, entity: str) -> str:
-        """An entity's display name."""
-        return str(self.entities.get(entity, {}).get("name", entity))
+        """An entity's name mid-sentence, with "the" where it needs one ("the Netherlands")."""
+        meta = self.entities.get(entity, {})
+        return phrasing.name_in_sentence(str(meta.get("name", entity)), str(meta.get("article") or ""))
 
     def names(self, keys: Iterable[str]) -> str:
         """'A, B and C' of entity names (semicolons when a name holds a comma; long lists capped)."""
@@ -281,23 +283,33 @@ class Context:
         meta = self.topics[topic]
         return phrasing.change_in(str(meta["unit"]), str(meta.get("change") or ""))
 
-    def value(self, topic: str, x: float) -> str:
-        """A value of a topic as shown: its decimals and unit."""
+    def value(self, topic: str, x: float, wide: bool = False) -> str:
+        """A value of a topic as shown: its decimals and unit (``wide``: see :meth:`wide`)."""
         x = float(x)
-        key = (topic, x)
+        key = (topic, x, wide)
         shown = self._values_shown.get(key)
         if shown is None:
             meta = self.topics[topic]
-            shown = phrasing.value(x, str(meta["unit"]), int(meta["decimals"]), self.style)
+            shown = phrasing.value(x, str(meta["unit"]), int(meta["decimals"]), self.style, wide)
             self._values_shown[key] = shown
         return shown
 
-    def amount(self, topic: str, x: float) -> str:
+    def amount(self, topic: str, x: float, wide: bool = False) -> str:
         """The size of a difference in the topic's own terms: points for percent, else unit."""
         meta = self.topics[topic]
         if meta["unit"] == "percent":
             return phrasing.points(abs(float(x)), int(meta["decimals"]), self.style)
-        return phrasing.value(abs(float(x)), str(meta["unit"]), int(meta["decimals"]), self.style)
+        return phrasing.value(abs(float(x)), str(meta["unit"]), int(meta["decimals"]), self.style, wide)
+
+    @staticmethod
+    def wide(*figures: Any) -> bool:
+        """True when a statement's figures of one topic include one scaled in words (a million or more).
+
+        Its other figures from a thousand up are then scaled too, so one statement never mixes
+        "2.4 million" with "45,678" (a topic shown with decimals is never scaled).
+        """
+        sizes = [abs(float(x)) for x in figures if x is not None and x == x]
+        return any(size >= 1_000_000 for size in sizes)
 
 
 def lower_first(text: str) -> str:

@@ -25,6 +25,8 @@ FACT_WORDS: dict[str, str] = {
     "first_value": "first value in the series",
     "record_since": "record since",
     "revised_from": "value before the revision",
+    "value_revised_from": "this period's value before the revision",
+    "mean_change": "average change of all",
     "status": "status of the figure",
     "target": "target",
     "target_gap": "gap to the target",
@@ -51,7 +53,6 @@ FACT_WORDS: dict[str, str] = {
     "biggest_up": "biggest rise",
     "biggest_down": "biggest fall",
     "biggest_shift": "biggest shift",
-    "mean_change": "average change of all",
     "streak": "periods in a row",
     "composite": "overall score",
     "composite_of": "number given an overall score",
@@ -61,6 +62,8 @@ FACT_WORDS: dict[str, str] = {
     "strongest_rank": "place on the strongest topic",
     "weakest_rank": "place on the weakest topic",
     "topics": "topics counted",
+    "exception_topics": "indicators where it went against most",
+    "topics_compared": "indicators compared",
 }
 
 CLAIM_WORDS: dict[str, str] = {
@@ -83,6 +86,8 @@ CLAIM_WORDS: dict[str, str] = {
     "biggest_shift": "topic with the biggest shift",
     "composite_band": "place on the overall score",
     "composite_leader": "leader on the overall score",
+    "data_check": "worth a data check: against most on most indicators",
+    "exceptions_group": "group of every exception",
 }
 
 

@@ -18,6 +18,9 @@ Rules chosen here:
   is an ISO 4217 currency code ("USD", "GBP") is written as the locale places that currency
   ("$1,250", "US$1,250", "£2.4 billion"). The decimals stay fixed (one for every scaled number),
   so numbers of one statement read alike; a topic shown with decimals keeps its full figures.
+* A unit holding a currency sign or code with a scale word ("US$", "million US$", "million GBP")
+  is written with the currency before the figure and the scale word after it ("US$1,250 million",
+  common practice in financial reporting).
 * ``change``: a topic's ``change`` setting picks the size of a change: ``relative`` (per cent)
   or ``absolute`` (percentage points for percentages, else the topic's own unit: "0.6 years");
   with none, percentages change in points and everything else in per cent.
@@ -179,10 +182,14 @@ SCALE_FROM: Final = Decimal(1_000_000)
 _ZEROS: Final = re.compile(r"0+(?:\.0+)?")
 
 
-def _compact(q: Decimal, style: HouseStyle) -> str | None:
-    """The unsigned size of q in the locale's long compact words with one decimal, or None below a million."""
+#: the smallest figure scaled beside a larger scaled one of the same statement ("45.7 thousand")
+WIDE_FROM: Final = Decimal(1000)
+
+
+def _compact(q: Decimal, style: HouseStyle, scale_from: Decimal = SCALE_FROM) -> str | None:
+    """The unsigned size of q in the locale's long compact words with one decimal, or None below scale_from."""
     size = q.copy_abs()
-    if size < SCALE_FROM:
+    if size < scale_from:
         return None
     nums = _locale_numbers(style.locale)
     for magnitude, forms in reversed(nums.compact):  # smallest first: the last that fits wins
@@ -199,7 +206,7 @@ def _compact(q: Decimal, style: HouseStyle) -> str | None:
     divisor = Decimal(magnitude) / Decimal(10) ** (len(zeros.group(0)) - 1)
     mantissa = quantize(CONTEXT.divide(size, divisor), 1)
     if mantissa >= 1000 and magnitude < nums.compact[0][0]:
-        return _compact(Decimal(1000) * divisor, style)  # 999.96 million reads "1.0 billion"
+        return _compact(Decimal(1000) * divisor, style, scale_from)  # 999.96 million reads "1.0 billion"
     pattern = forms.get(nums.locale.plural_form(float(mantissa)), pattern)
     zeros = _ZEROS.search(pattern)
     if zeros is None:
@@ -207,11 +214,15 @@ def _compact(q: Decimal, style: HouseStyle) -> str | None:
     return pattern[: zeros.start()] + _format_rounded(mantissa, 1, style.locale) + pattern[zeros.end():]
 
 
-def scaled(x: float | Decimal, decimals: int, style: HouseStyle = DEFAULT) -> str:
-    """Write x plainly below a million, else scaled in CLDR words: "42,698", "2.4 billion"."""
+def scaled(x: float | Decimal, decimals: int, style: HouseStyle = DEFAULT, wide: bool = False) -> str:
+    """Write x plainly below a million, else scaled in CLDR words: "42,698", "2.4 billion".
+
+    ``wide``: the statement holds a scaled figure of the same topic, so a figure from a thousand up
+    is scaled too ("45.7 thousand" beside "2.4 million", never "45,678"): one form in one statement.
+    """
     check_decimals(decimals)
     d = to_decimal(x)
-    big = _compact(d, style)
+    big = _compact(d, style, WIDE_FROM if wide else SCALE_FROM)
     if big is None:
         return number(d, decimals, style)
     return f"-{big}" if d < 0 and quantize(d, 1) != 0 else big
@@ -222,12 +233,13 @@ def is_currency_unit(unit: str) -> bool:
     return len(unit) == 3 and unit.isalpha() and unit.isupper() and is_currency(unit)
 
 
-def money(x: float | Decimal, code: str, decimals: int, style: HouseStyle = DEFAULT) -> str:
+def money(x: float | Decimal, code: str, decimals: int, style: HouseStyle = DEFAULT, wide: bool = False) -> str:
     """Write an amount of money as the locale places the currency: "$1,250", "£2.4 billion"."""
     check_decimals(decimals)
     nums = _locale_numbers(style.locale)
     d = to_decimal(x)
-    size = (_compact(d, style) if decimals == 0 else None) or number(d.copy_abs(), decimals, style)
+    scale_from = WIDE_FROM if wide else SCALE_FROM
+    size = (_compact(d, style, scale_from) if decimals == 0 else None) or number(d.copy_abs(), decimals, style)
     negative = d < 0 and size.strip("0.,\u00a0 ") != ""
     prefix, suffix = nums.currency_negative if negative else nums.currency_positive
     symbol = str(get_currency_symbol(code, nums.locale))
@@ -235,15 +247,46 @@ def money(x: float | Decimal, code: str, decimals: int, style: HouseStyle = DEFA
 
 
 def value(
-    x: float | Decimal, unit: str, decimals: int, style: HouseStyle = DEFAULT
+    x: float | Decimal, unit: str, decimals: int, style: HouseStyle = DEFAULT, wide: bool = False
 ) -> str:
     """Write x with its unit: a percentage, money ("$1,250"), bare, or "12.5 tonnes", scaled when large."""
     if unit in ("percent", "%"):
         return percent(x, decimals, style)
     if is_currency_unit(unit):
-        return money(x, unit, decimals, style)
-    shown = scaled(x, 0, style) if decimals == 0 else number(x, decimals, style)  # counts are scaled
+        return money(x, unit, decimals, style, wide)
+    symbol, rest = currency_in(unit)
+    if symbol:  # "US$", "million US$": the sign before the figure, the scale word after it
+        d = to_decimal(x)
+        plain = number(d.copy_abs(), decimals, style)
+        iso = is_currency_unit(symbol)
+        sign_text = str(get_currency_symbol(symbol, _locale_numbers(style.locale).locale)) if iso else symbol
+        if rest.lower() in _SCALE_WORDS:  # already in millions: not scaled again
+            size = sign_text + plain
+        elif iso:
+            size = money(d.copy_abs(), symbol, decimals, style, wide)
+        else:
+            size = sign_text + (scaled(d.copy_abs(), 0, style, wide) if decimals == 0 else plain)
+        sign = "-" if d < 0 and size.strip("0.,\u00a0 ") != "" and quantize(d, decimals) != 0 else ""
+        return f"{sign}{size} {rest}" if rest else f"{sign}{size}"
+    in_scale = bool(unit.split()) and unit.split()[0].lower() in _SCALE_WORDS  # "million": not scaled again
+    shown = scaled(x, 0, style, wide) if decimals == 0 and not in_scale else number(x, decimals, style)  # counts
     return f"{shown} {unit}" if unit else shown
+
+
+_SCALE_WORDS: Final = frozenset({"thousand", "million", "billion", "trillion"})
+#: a currency sign written as a unit: "$", "US$", "A$", "£", "€"
+_CURRENCY_SIGN: Final = re.compile(r"^[A-Z]{0,3}[$£€¥₹]$")
+
+
+def currency_in(unit: str) -> tuple[str, str]:
+    """A unit's currency (a sign or an ISO 4217 code) and its other words: "million US$" -> ("US$", "million")."""
+    words = str(unit).split()
+    if not 1 <= len(words) <= 2:
+        return "", unit
+    signs = [w for w in words if _CURRENCY_SIGN.match(w) or (len(words) == 2 and is_currency_unit(w))]
+    if len(signs) != 1:
+        return "", unit
+    return signs[0], " ".join(w for w in words if w != signs[0])
 
 
 CHANGE_MODES: Final[tuple[str, ...]] = ("relative", "absolute")

@@ -265,6 +265,7 @@ affordable overall per gender female male women men girls boys working work work
 physical mental teenage teen under over domestic foreign exports imports trade tax taxes spending
 budget debt cost costs price prices rent rents house average fixed mobile paper demand bathing library
 dwelling dwellings vacant vacancy vacancies empty fuel child's people's borrowing loans loan
+real nominal consumer producer retail wholesale
 recorded reported registered estimated expected planned completed delayed missed cancelled employed
 unemployed qualified insured vaccinated immunised immunized enrolled eligible active inactive fly-tipping
 fly tipping litter noise anti-social antisocial violent serious minor fatal road-traffic accidents
@@ -326,3 +327,31 @@ def needs_the(label: str) -> bool:
     if first in ("the", "a", "an", "its", "their", "each", "every", "all", "no", "any"):
         return False
     return head_noun(text) in _COUNT_HEADS
+
+
+# Proper names read with "the" mid-sentence: those naming a union of parts or a plural ("the United
+# Kingdom", "the Czech Republic", "the Netherlands"). Common practice (as in the style guides of
+# the big news agencies), when the word ends the name; an entity's `article` column overrides the guess.
+_THE_NAME_WORDS: Final = frozenset({
+    "republic", "kingdom", "states", "islands", "union", "federation", "emirates", "territories",
+    "isles", "antilles", "netherlands", "philippines", "bahamas", "maldives", "seychelles", "comoros",
+    "grenadines",
+})
+
+
+def name_needs_the(name: str) -> bool:
+    """Tell whether a proper name reads with "the" mid-sentence: "the Netherlands", "the Czech Republic"."""
+    words = [w.strip(".,;:()").lower() for w in str(name).split()]
+    if not words or words[0] in ("the", "a", "an") or "," in str(name):  # "Korea, Rep." is a listing form
+        return False
+    # the word ends the name ("the Soviet Union"), or opens it before "of" ("the Republic of Korea"):
+    # a firm such as "Union Oil" takes none
+    return words[-1] in _THE_NAME_WORDS or (len(words) > 2 and words[0] in _THE_NAME_WORDS and words[1] == "of")
+
+
+def name_in_sentence(name: str, article: str = "") -> str:
+    """A proper name mid-sentence, with "the" where it needs one (``article``: "the", "none" or "" to guess)."""
+    text = str(name).strip()
+    chosen = str(article or "").strip().lower()
+    wants = chosen == "the" if chosen else name_needs_the(text)
+    return f"the {text}" if wants else text

@@ -323,6 +323,75 @@ def test_every_number_of_every_draft_is_traced(panel: dict) -> None:
     assert wrong == {}
 
 
+def expected_leaders(series: dict, topic: str, meta: dict, latest: float) -> tuple[object, object] | None:
+    """(leader, laggard) claims: the best and worst usable values of the latest period, ties as sorted lists."""
+    now = {e: r[2] for (e, t), rows in series.items() if t == topic for r in rows if r[1] == latest and usable(r)}
+    if len(now) < 3:
+        return None
+    high = max(now.values())
+    low = min(now.values())
+    best, worst = (low, high) if meta["better"] == "lower" else (high, low)
+    tops = sorted(e for e, v in now.items() if v == best)
+    bottoms = sorted(e for e, v in now.items() if v == worst)
+    return (tops[0] if len(tops) == 1 else tops), (bottoms[0] if len(bottoms) == 1 else bottoms)
+
+
+@SETTINGS
+@given(panels())
+def test_blurb_and_roundup_claims_match_a_recomputation(panel: dict) -> None:
+    """The composed kinds claim what their parts would, recomputed here from the rows."""
+    drafts = drafts_of(panel)
+    series = series_of(panel)
+    metas = panel["topics"].set_index("topic").to_dict("index")
+    natural = {"year": 1.0, "quarter": 0.25, "month": 1 / 12}[panel["fmt"]]
+    groups = dict(zip(panel["entities"]["entity"], panel["entities"]["group"]))
+    latest = {t: max(r[1] for (_e, k), rows in series.items() if k == t for r in rows) for t in metas}
+    for (e, t), rows in series.items():
+        slot = f"blurb/{e}/{t}"
+        if slot not in drafts:
+            continue
+        text, _ev, claims = drafts[slot]
+        expected = expected_change(rows, latest[t], metas[t])
+        if "change.direction" in claims:
+            assert expected is not None and (claims["change.direction"], claims["change.better"]) == expected, text
+            if expected[0] == "flat":
+                assert not re.search(r"\b(rose|fell) by\b", text), text
+        if "trend.streak" in claims:
+            assert claims["trend.streak"] == expected_streak(rows, metas[t], usual_spacing(series, t), natural), text
+        assert not ZERO_MOVE.search(text) and not ZERO_COUNT.search(text), text
+    for topic, meta in metas.items():
+        slot = f"roundup/{topic}"
+        leaders = expected_leaders(series, topic, meta, latest[topic])
+        moves = {e: m for (e, t), rows in series.items() if t == topic
+                 for m in [expected_change(rows, latest[topic], meta)] if m is not None}
+        if leaders is None and len(moves) < 3:
+            assert slot not in drafts
+            continue
+        text, _ev, claims = drafts[slot]
+        if leaders is not None:
+            assert (claims["leaders.leader"], claims["leaders.laggard"]) == leaders, text
+        if len(moves) >= 3:
+            column = 0 if meta["better"] == "neutral" else 1
+            up_word, down_word = ("up", "down") if column == 0 else ("improved", "worsened")
+            n_up = sum(1 for m in moves.values() if m[column] == up_word)
+            n_down = sum(1 for m in moves.values() if m[column] == down_word)
+            names = ("rose", "fell") if column == 0 else ("improved", "worsened")
+            moved = n_up + n_down
+            majority = (names[0] if moved and 2 * n_up > moved else
+                        names[1] if moved and 2 * n_down > moved else "mixed")
+            exceptions: list[str] = []
+            if moved and max(n_up, n_down) >= 0.75 * moved and min(n_up, n_down) > 0:
+                odd = down_word if n_up > n_down else up_word
+                exceptions = sorted(e for e, m in moves.items() if m[column] == odd)
+            assert claims["movement.majority"] == majority and claims["movement.exceptions"] == exceptions, text
+            shared = {groups[e] for e in exceptions}
+            group = shared.pop() if len(exceptions) >= 2 and len(shared) == 1 else None
+            assert claims.get("movement.exceptions_group") == group, text
+            if group:
+                assert f"all in the {group} group" in text, text
+        assert not ZERO_MOVE.search(text) and not ZERO_COUNT.search(text), text
+
+
 # ---- the cases the issue names ------------------------------------------------------------------
 
 def yearly(rows: list[tuple], topics: list[dict], n: int = 3, earlier: pd.DataFrame | None = None,

@@ -85,8 +85,10 @@ def test_roundup_states_leaders_and_movement(base: dict[str, Draft]) -> None:
         "Between 2024 and 2025, the recycling rate improved in three, worsened in one and held steady in two of "
         "six towns, Brill being the exception; the biggest improvement was in Ashby (12.0 percentage points), "
         "the biggest deterioration in "
-        "Brill (1.0 percentage points). Ashby had the best figure (52.0%) and Colne the worst (30.0%), 22.0 "
-        "percentage points apart.")
+        "Brill (1.0 percentage points). The average change was a rise of 2.3 percentage points. Ashby had the best "
+        "figure (52.0%) and Colne the worst (30.0%), 22.0 percentage points apart.")
+    # the topic's average change is said here, once, not in every change statement: (12 - 1 + 0.04 + 1.5 + 0 + 1) / 6
+    assert roundup.evidence["mean_change"]["value"] == pytest.approx(13.54 / 6)
     assert roundup.claims == {"movement.majority": "improved", "movement.exceptions": ["b"],
                               "leaders.leader": "a", "leaders.laggard": "c"}
 

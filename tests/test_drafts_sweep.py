@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import re
+from collections import Counter
 
 import pandas as pd
 import pytest
@@ -67,7 +68,37 @@ ZERO_MOVE = re.compile(
 ZERO_COUNT = re.compile(r"\b(in|on|of) 0(?![.,]?\d)")
 
 
-def load_open_dataset(tmp_path, obs: pd.DataFrame, topics_csv: str, entities: pd.DataFrame) -> tuple[list, list]:
+EVERY_KIND = ("headline", "profile", "standing", "change", "trend", "blurb", "leaders", "movement", "roundup")
+# an unscaled number of nine digits or more: "123,456,789"
+UNSCALED = re.compile(r"\b\d{3}(?:,\d{3}){2,}\b")
+# a figure scaled in words ("2.4 million") and a plain one of a thousand or more ("45,678") in one statement;
+# a plain figure followed by a scale word is in the unit's own millions ("US$1,311.5 million"), and a ratio
+# ("about 6,607 times") compares two figures rather than being one
+SCALED = re.compile(r"\b\d{1,3}\.\d (?:thousand|million|billion|trillion)\b")
+PLAIN_LARGE = re.compile(
+    r"\b\d{1,3}(?:,\d{3})+(?:\.\d+)?(?![\d.,]*\d)(?! (?:thousand|million|billion|trillion|times)\b)")
+#: a sentence may recur in at most this share of the statements of a kind (of kinds with MIN_KIND statements)
+RECUR_SHARE = 0.10
+MIN_KIND = 20
+
+
+def recurring_sentences(items: list[dict]) -> list[str]:
+    """Sentences that recur in more than a tenth of the statements of their kind (a page reading like a form)."""
+    by_kind: dict[str, list[str]] = {}
+    for item in items:
+        by_kind.setdefault(item["kind"], []).append(item["draft"])
+    problems = []
+    for kind, texts in by_kind.items():
+        if len(texts) < MIN_KIND:
+            continue
+        counted = Counter(s for text in texts for s in set(sentences(text)))
+        problems += [f"{kind}: {n} of {len(texts)} statements say: {s}" for s, n in counted.items()
+                     if n > RECUR_SHARE * len(texts)]
+    return problems
+
+
+def load_open_dataset(tmp_path, obs: pd.DataFrame, topics_csv: str, entities: pd.DataFrame,
+                      noun: str = "") -> tuple[list, list]:
     """Load an open dataset into a new workspace; return its statements and the audit of their numbers."""
     from stetline import loading
     from stetline.workspace import init_workspace
@@ -76,6 +107,9 @@ def load_open_dataset(tmp_path, obs: pd.DataFrame, topics_csv: str, entities: pd
     (tmp_path / "topics.csv").write_text(topics_csv, encoding="utf-8")
     entities[["entity", "name", "group"]].to_csv(tmp_path / "entities.csv", index=False)
     ws = init_workspace(tmp_path / "ws")
+    Cli(tmp_path / "ws")("settings", "kinds", ",".join(EVERY_KIND), "--by", "test")  # the part kinds are swept too
+    if noun:
+        Cli(tmp_path / "ws")("settings", "entity_noun", noun, "--by", "test")
     loading.load_edition(ws, tmp_path / "obs.csv", tmp_path / "topics.csv", tmp_path / "entities.csv", by="test")
     ws.close()
     cli = Cli(tmp_path / "ws")
@@ -97,8 +131,12 @@ def sweep_problems(items: list[dict], untraced: list[dict], wrong_units: re.Patt
             problems.append(f"{item['slot']}: a count of zero said as a figure: {text}")
         if wrong_units is not None and wrong_units.search(text):
             problems.append(f"{item['slot']}: a run counted in the wrong unit of time: {text}")
+        if UNSCALED.search(text):
+            problems.append(f"{item['slot']}: an unscaled number of nine digits or more: {text}")
+        if SCALED.search(text) and PLAIN_LARGE.search(text):
+            problems.append(f"{item['slot']}: scaled and unscaled figures in one statement: {text}")
     problems += [f"{a['slot']}: untraced numbers {a['untraced']}" for a in untraced]
-    return problems
+    return problems + recurring_sentences(items)
 
 
 def test_every_draft_of_an_open_dataset_reads_cleanly(tmp_path) -> None:
@@ -120,7 +158,7 @@ def test_every_draft_of_an_open_dataset_reads_cleanly(tmp_path) -> None:
     )
     ents = g[["country", "continent"]].drop_duplicates()
     ents = ents.assign(entity=ents["country"].map(keys)).rename(columns={"country": "name", "continent": "group"})
-    items, untraced = load_open_dataset(tmp_path, obs, topics, ents)
+    items, untraced = load_open_dataset(tmp_path, obs, topics, ents, noun="country")
     assert len(items) > 1000
     # the composed kinds are swept too: one blurb per country and indicator, one roundup per indicator
     composed = {kind: sum(1 for i in items if i["kind"] == kind) for kind in ("blurb", "roundup")}
@@ -130,6 +168,18 @@ def test_every_draft_of_an_open_dataset_reads_cleanly(tmp_path) -> None:
     assert any("readings" in i["draft"] for i in runs)
     wrong = re.compile(r"in a row|each of the last \S+ years|every year")
     assert sweep_problems(items, untraced, wrong) == []
+    # names that are plural or name a union of parts read with "the" mid-sentence (common practice)
+    bare = re.compile(r"(?<!the )(?<!The )\b(Netherlands|United States|United Kingdom|Czech Republic|Slovak Republic|"
+                      r"Dominican Republic|Central African Republic|Philippines)\b")
+    assert [i["draft"] for i in items if bare.search(i["draft"])] == []
+    assert any("in the Netherlands" in i["draft"] for i in items)
+    # the average change is said once, in the topic's movement, not in each country's change statement
+    assert all("mean_change" in i["evidence"] for i in items if i["kind"] == "movement")
+    said = [i for i in items if i["kind"] == "change" and "the average" in i["draft"]]
+    assert len(said) < 0.1 * sum(1 for i in items if i["kind"] == "change")
+    # every exception of a movement in one group is said so ("all in the Africa group")
+    grouped = [i for i in items if i["kind"] == "movement" and "exceptions_group" in i["claims"]]
+    assert all(f"all in the {i['claims']['exceptions_group']} group" in i["draft"] for i in grouped)
 
 
 def test_every_draft_of_a_yearly_panel_reads_cleanly(tmp_path) -> None:
@@ -148,11 +198,17 @@ def test_every_draft_of_a_yearly_panel_reads_cleanly(tmp_path) -> None:
         "capital,Capital stock,million US$,neutral,1,Capital,\n"
     )
     ents = g[["entity", "firm"]].drop_duplicates().rename(columns={"firm": "name"}).assign(group="")
-    items, untraced = load_open_dataset(tmp_path, obs, topics, ents)
+    items, untraced = load_open_dataset(tmp_path, obs, topics, ents, noun="firm")
     runs = [i for i in items if i["kind"] == "trend" and i["claims"]["streak"] != "none"]
     # one reading a year: a run is said in years, never in readings
     assert runs and not any(i["claims"]["streak"].endswith(":readings") for i in runs)
     assert sweep_problems(items, untraced, re.compile(r"\breadings\b|quarters|months")) == []
+    # the preposition follows the entity noun in every kind: "at a firm", never "in General Motors"
+    firms = "|".join(re.escape(n) for n in ents["name"])
+    assert [i["draft"] for i in items if re.search(rf"\bin (?:{firms})\b", i["draft"])] == []
+    assert any(re.search(rf"\bat (?:{firms})\b", i["draft"]) for i in items if i["kind"] in ("change", "trend"))
+    # a unit holding a currency sign puts it before the figure, the scale word after: "US$1,486.7 million"
+    assert not any("million US$" in i["draft"] for i in items)
 
 
 def test_every_draft_of_a_quarterly_series_reads_cleanly(tmp_path) -> None:
@@ -178,3 +234,12 @@ def test_every_draft_of_a_quarterly_series_reads_cleanly(tmp_path) -> None:
     # quarters are named as quarters, never as years or readings
     assert all("quarters" in i["draft"] for i in runs)
     assert sweep_problems(items, untraced, re.compile(r"\byears? in a row|each of the last \S+ years|readings")) == []
+
+
+def test_the_sweep_catches_a_sentence_said_in_most_statements_of_a_kind() -> None:
+    same = "Across the 14 towns, the average rose by 2.0%."
+    items = [{"kind": "change", "draft": f"Place {k} rose by {k}.0%. {same}"} for k in range(25)]
+    assert recurring_sentences(items) == [f"change: 25 of 25 statements say: {same}"]
+    items = [{"kind": "change", "draft": f"Place {k} rose by {k}.0%."} for k in range(25)]
+    assert recurring_sentences(items) == []
+    assert recurring_sentences(items[:5] + [{"kind": "roundup", "draft": same}] * 5) == []  # too few to judge

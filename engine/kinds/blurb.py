@@ -25,8 +25,9 @@ PHRASINGS = 3
 STATED_CHANGES = ("up", "down", "flat", "not_significant")
 #: the evidence of each part a blurb can print (its claims are all stated)
 PRINTED = {
-    "standing": ("period", "status", "value", "rank", "rank_of", "place", "group_mean", "group_gap", "target",
-                 "target_gap", "sibling_rank", "sibling_rank_of", "parent_ref", "siblings_counted"),
+    "standing": ("period", "status", "value", "value_revised_from", "rank", "rank_of", "place", "group_mean",
+                 "group_gap", "target", "target_gap", "sibling_rank", "sibling_rank_of", "parent_ref",
+                 "siblings_counted"),
     "change": ("period", "value", "previous_period", "previous", "revised_from", "change"),
     "trend": ("period", "value", "streak", "streak_since", "record_since"),
 }

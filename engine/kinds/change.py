@@ -19,11 +19,13 @@ import math
 from collections.abc import Iterator
 
 from stetline import phrasing
-from stetline.drafting import Candidate, Context, ev, slot_id
-from stetline.kinds.common import caveat, missing, status_shown
+from stetline.drafting import Candidate, Context, ev, phrasing_index, slot_id
+from stetline.kinds.common import caveat, cell_wide, missing, status_shown
 
 KIND = "change"
 PHRASINGS = 2
+#: wordings of the sentence on the average, picked per slot like the phrasing
+AVERAGE_WORDINGS = 3
 
 
 def candidates(ctx: Context) -> Iterator[Candidate]:
@@ -32,27 +34,31 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     topic_facts = ctx.facts.topics
     spread = (topic_facts["best_value"] - topic_facts["worst_value"]).abs().to_dict()
     mean_changes = topic_facts["mean_change"].to_dict()
+    known = ctx.facts.cells.loc[ctx.facts.cells["change_known"]]
+    mean_rels = known.groupby("topic")["change_rel"].mean().to_dict()  # the average of the relative changes
     compared_counts = topic_facts["compared"].to_dict()
     nouns = ctx.entity_nouns
     for c in ctx.facts.cells.itertuples(index=False):
-        meta = ctx.topics[c.topic]
         slot = slot_id(KIND, c.entity, c.topic)
+        wide = cell_wide(c)  # one form for the figures of a statement: "45.7 thousand" beside "2.4 million"
         evidence = {"period": ev(c.period, str(c.period)), "status": ev(c.status, status_shown(c.status))}
         prev_period = None if missing(c.prev_period) else str(c.prev_period)
         significant = None if missing(c.significant) else bool(c.significant)
         claims: dict[str, object] = {"direction": c.direction, "better": c.better_change, "significant": significant}
         variables: dict[str, object] = {
-            "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
+            "name": ctx.name(c.entity), "prep": ctx.preposition, "label": ctx.label(c.topic),
+            "lower_label": ctx.lower_label(c.topic),
             "the_label": ctx.the_label(c.topic), "period": c.period, "prev_period": prev_period,
             "caveat": caveat(c.status),
-            "state": "", "revised": "", "neutral": c.better == "neutral", "nouns": nouns,
+            "state": "", "revised": "", "neutral": c.better == "neutral", "nouns": nouns, "average_move": "",
+            "average_wording": 0,
         }
         interest = 0.1
         variables["now_revised"] = ""
         if c.usable:
-            evidence["value"] = ev(float(c.value), ctx.value(c.topic, float(c.value)))
+            evidence["value"] = ev(float(c.value), ctx.value(c.topic, float(c.value), wide))
             if not missing(c.value_revised_from):
-                held = ctx.value(c.topic, float(c.value_revised_from))
+                held = ctx.value(c.topic, float(c.value_revised_from), wide)
                 evidence["value_revised_from"] = ev(float(c.value_revised_from), held)
                 variables["now_revised"] = f" (revised from {held})"
         else:
@@ -62,9 +68,9 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             prev_withheld = (c.prev_status == "confidential")
             evidence["previous"] = ev(None, "withheld" if prev_withheld else "missing")
         else:
-            evidence["previous"] = ev(float(c.prev_value), ctx.value(c.topic, float(c.prev_value)))
+            evidence["previous"] = ev(float(c.prev_value), ctx.value(c.topic, float(c.prev_value), wide))
             if not missing(c.revised_from):
-                revised = ctx.value(c.topic, float(c.revised_from))
+                revised = ctx.value(c.topic, float(c.revised_from), wide)
                 variables["revised"] = revised
                 evidence["revised_from"] = ev(float(c.revised_from), revised)
         if not c.usable:
@@ -80,26 +86,33 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             yield Candidate(slot, KIND, c.entity, c.topic, evidence, claims, interest, variables)
             continue
         change = float(c.change)
-        d = int(meta["decimals"])
         if ctx.change_in(c.topic) != "relative" or missing(c.change_rel):  # the topic's `change` column
-            evidence["change"] = ev(change, ctx.amount(c.topic, change))
+            evidence["change"] = ev(change, ctx.amount(c.topic, change, wide))
         else:
             evidence["change"] = ev(float(c.change_rel), phrasing.relative(abs(float(c.change_rel)), style))
-            evidence["change_abs"] = ev(change, ctx.amount(c.topic, change))
+            evidence["change_abs"] = ev(change, ctx.amount(c.topic, change, wide))
         if not missing(c.margin) and not missing(c.prev_margin):
             threshold = math.sqrt(float(c.margin) ** 2 + float(c.prev_margin) ** 2)
-            evidence["margin_of_change"] = ev(threshold, ctx.amount(c.topic, threshold))
+            evidence["margin_of_change"] = ev(threshold, ctx.amount(c.topic, threshold, wide))
         variables["state"] = {"up": "up", "down": "down"}.get(str(c.direction), "flat")
         if variables["state"] == "flat" and significant is False:
             variables["state"] = "not_significant"
-        mean_change = mean_changes[c.topic]
         compared = int(compared_counts[c.topic])
-        variables["average_move"] = ""
-        if compared >= 3 and not missing(mean_change):
-            evidence["mean_change"] = ev(float(mean_change), ctx.amount(c.topic, float(mean_change)))
-            evidence["compared"] = ev(compared, phrasing.count(compared, style))
-            shown_zero = phrasing.round_half_up(abs(float(mean_change)), d) == 0
-            variables["average_move"] = "flat" if shown_zero else ("up" if mean_change > 0 else "down")
+        variables["average_move"] = variables["average_wording"] = ""
+        relative = "change_abs" in evidence
+        mean_change = (mean_rels if relative else mean_changes).get(c.topic)
+        if compared >= 3 and mean_change is not None and not missing(mean_change):
+            mean = float(mean_change)
+            shown = phrasing.relative(abs(mean), style) if relative else ctx.amount(c.topic, mean, wide)
+            shown_zero = not any(ch in "123456789" for ch in shown)
+            average_move = "flat" if shown_zero else ("up" if mean > 0 else "down")
+            # the average is the topic's context, said in its movement statement; an entity's change
+            # says it only when the entity went another way than the average (common practice)
+            if variables["state"] in ("up", "down", "flat") and average_move != variables["state"]:
+                evidence["mean_change"] = ev(mean, shown)
+                evidence["compared"] = ev(compared, phrasing.count(compared, style))
+                variables["average_move"] = average_move
+                variables["average_wording"] = phrasing_index(slot + "#average", AVERAGE_WORDINGS)
         variables["improved"] = c.better_change == "improved"
         variables["worsened"] = c.better_change == "worsened"
         variables["significant"] = significant is True

@@ -81,3 +81,10 @@ def caveat(status: str) -> str:
 def status_shown(status: str) -> str:
     """How an observation's status is shown in evidence."""
     return status or "final"
+
+
+def cell_wide(c: Any) -> bool:
+    """True when the statements of a cell print a figure scaled in words: all its figures from a thousand scale."""
+    figures = [getattr(c, name, None) for name in ("value", "prev_value", "group_mean", "all_mean", "target",
+                                                    "value_revised_from", "revised_from")]
+    return any(x is not None and not missing(x) and abs(float(x)) >= 1_000_000 for x in figures)

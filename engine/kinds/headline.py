@@ -6,7 +6,8 @@ is largest measured against the gap between its best and worst entity, said in t
 When no change can be compared (a first edition of data with a single period), it says what
 the edition covers instead. Claims: ``composite_leader`` (entity key or sorted keys), ``improving`` (topics where
 the majority improved, sorted), ``worsening`` (likewise), ``biggest_shift`` (a topic key, when
-the shift shows).
+the shift shows), ``data_check`` (entities that went against most others on most topics, sorted:
+said, and worth a check of the data; see kinds.patterns).
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ from collections.abc import Iterator
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
+from stetline.kinds import patterns
 from stetline.kinds.common import missing
 
 KIND = "headline"
@@ -43,7 +45,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     if leaders and not missing(e.loc[leaders[0], "composite"]):
         score = float(e.loc[leaders[0], "composite"])
         evidence["leader_composite"] = ev(score, phrasing.number(score, 0, style))
-    claims = {
+    claims: dict[str, object] = {
         "composite_leader": (leaders[0] if len(leaders) == 1 else leaders) if leaders else None,
         "improving": improving, "worsening": worsening,
     }
@@ -59,6 +61,13 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         if phrasing.round_half_up(abs(mean), int(ctx.topics[topic]["decimals"])) != 0:
             shift_move, shift_label = ("up" if mean > 0 else "down"), ctx.the_label(topic)
             claims["biggest_shift"] = topic
+    against = patterns.exceptions_by_entity(ctx)  # who went against most others on most topics
+    if against:
+        claims["data_check"] = sorted(against)
+        first = against[min(against)]
+        evidence["topics_compared"] = ev(first.of, phrasing.count(first.of, style))
+        if len(against) == 1:
+            evidence["exception_topics"] = ev(len(first.topics), phrasing.count(len(first.topics), style))
     if not int(t["compared"].sum()):  # nothing to compare: the statement says what the edition covers
         evidence["entities"] = ev(len(e), phrasing.count(len(e), style))
         evidence["all_topics"] = ev(len(t), phrasing.count(len(t), style))
@@ -66,6 +75,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         "period": period, "nouns": ctx.entity_nouns, "shift_move": shift_move, "shift_label": shift_label,
         "n_topics": len(directed),
         "leaders": ctx.names(leaders), "n_leaders": len(leaders),
+        "against": ctx.names(sorted(against)), "n_against": len(against),
+        "against_all": len(against) == 1 and all(len(a.topics) == a.of for a in against.values()),
         "improving_labels": phrasing.join([ctx.the_label(k) for k in improving][:3], style),
         "n_improving": len(improving), "n_worsening": len(worsening),
         "compared": int(t["compared"].sum()), "n_entities": len(e),

@@ -38,16 +38,17 @@ def _level(ctx: Context, level: str) -> Iterator[Candidate]:
             continue
         meta = ctx.topics[topic]
         best, worst = float(t["best_value"]), float(t["worst_value"])
+        wide = ctx.wide(best, worst)  # "199.6 thousand" beside "1.3 billion", never "199,579"
         evidence = {
             "period": ev(t["period"], str(t["period"])),
             "reporting": ev(int(t["reporting"]), phrasing.count(int(t["reporting"]), style)),
-            "best_value": ev(best, ctx.value(topic, best)),
-            "worst_value": ev(worst, ctx.value(topic, worst)),
+            "best_value": ev(best, ctx.value(topic, best, wide)),
+            "worst_value": ev(worst, ctx.value(topic, worst, wide)),
         }
         gap = abs(best - worst)
         if meta["unit"] == "percent":
-            spread = f"{ctx.amount(topic, gap)} apart"
-            evidence["spread"] = ev(gap, ctx.amount(topic, gap))
+            spread = f"{ctx.amount(topic, gap, wide)} apart"
+            evidence["spread"] = ev(gap, ctx.amount(topic, gap, wide))
         elif min(best, worst) > 0:
             ratio = max(best, worst) / min(best, worst)
             evidence["spread"] = ev(ratio, phrasing.ratio(ratio, style))
@@ -56,8 +57,8 @@ def _level(ctx: Context, level: str) -> Iterator[Candidate]:
                 else f"the higher value is {phrasing.relative(ratio - 1, style)} above the lower"
             )
         else:
-            evidence["spread"] = ev(gap, ctx.amount(topic, gap))
-            spread = f"{ctx.amount(topic, gap)} apart"
+            evidence["spread"] = ev(gap, ctx.amount(topic, gap, wide))
+            spread = f"{ctx.amount(topic, gap, wide)} apart"
         claims = {"leader": _claim(list(t["leaders"])), "laggard": _claim(list(t["laggards"]))}
         variables = {
             "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "the_label": ctx.the_label(topic),

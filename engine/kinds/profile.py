@@ -10,9 +10,13 @@ Constructing Composite Indicators (2008): min-max normalisation over the entitie
 Ranks, placings and the composite compare an entity with the entities of its own level (a district
 among districts, a town among towns; see ``stetline.nesting``), so each level with data has profiles.
 
+When the entity was an exception on most topics with a movement (kinds.patterns), that is
+said ("It was the only town to go against most towns on three of the four indicators compared").
+
 Claims: ``strongest`` and ``weakest`` (topic keys: the first in file order of the best and of the
 worst placing), ``composite_band`` (the quarter of the composite ranking: top | upper | lower |
-bottom).
+bottom), ``data_check`` (the topics where it was an exception, when that is a pattern; worth a
+check of the data before publication).
 """
 
 from __future__ import annotations
@@ -23,6 +27,7 @@ import pandas as pd
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
+from stetline.kinds import patterns
 from stetline.kinds.common import MIN_RANKED, band, missing, rank_phrase
 
 KIND = "profile"
@@ -61,6 +66,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     position = {t: int(m.get("position", 0)) for t, m in ctx.topics.items()}
     composite_ties = ctx.facts.entities[["depth", "composite_rank"]].value_counts().to_dict()
     moves = ctx.facts.cells.set_index(["entity", "topic"])[["change", "prev_value"]]
+    against = patterns.exceptions_by_entity(ctx)
     for entity, e in ctx.facts.entities.iterrows():
         key = str(entity)
         rows = placings.get(key)
@@ -86,12 +92,12 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "strongest_rank": ev(int(best_rows.iloc[0]["rank"]), best_text),
             "weakest_rank": ev(int(worst_rows.iloc[0]["rank"]), worst_text),
         }
-        claims = {
+        claims: dict[str, object] = {
             "strongest": strongest, "weakest": weakest,
             "composite_band": band(rank, of) if of >= MIN_RANKED else None,
         }
         variables = {
-            "name": e["name"], "period": period, "nouns": ctx.of_level(of, depth),
+            "name": ctx.name(key), "period": period, "nouns": ctx.of_level(of, depth),
             "same": top_p == bottom_p, "ranked_count": total, "ranked_topics": phrasing.count(total, style),
             "best_topics": best_topics, "worst_topics": worst_topics,
             "topics_used": phrasing.plural(int(e["composite_topics"]), "indicator", style),
@@ -106,5 +112,13 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                 evidence[f"{which}_change"] = ev(float(move["change"]), size)
                 variables["improvement_up" if which == "improvement" else "setback_down"] = (
                     float(move["change"]) > 0 if which == "improvement" else float(move["change"]) < 0)
+        variables.update(pattern="", pattern_all=False, nouns_all=ctx.entity_nouns)
+        pattern = against.get(key)
+        if pattern is not None:  # an exception on most topics: said as fact, and flagged for a data check
+            evidence["exception_topics"] = ev(len(pattern.topics), phrasing.count(len(pattern.topics), style))
+            evidence["topics_compared"] = ev(pattern.of, phrasing.count(pattern.of, style))
+            claims["data_check"] = list(pattern.topics)
+            variables["pattern"] = "alone" if pattern.alone else "among"
+            variables["pattern_all"] = len(pattern.topics) == pattern.of
         interest = 0.7 + (0.2 if claims["composite_band"] in ("top", "bottom") else 0.0)
         yield Candidate(slot_id(KIND, key, None), KIND, key, None, evidence, claims, interest, variables)

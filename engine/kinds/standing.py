@@ -21,7 +21,17 @@ from typing import Any
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, phrasing_index, slot_id
-from stetline.kinds.common import MIN_RANKED, band, band_note, caveat, missing, place, rank_phrase, status_shown
+from stetline.kinds.common import (
+    MIN_RANKED,
+    band,
+    band_note,
+    caveat,
+    cell_wide,
+    missing,
+    place,
+    rank_phrase,
+    status_shown,
+)
 
 KIND = "standing"
 PHRASINGS = 4
@@ -97,13 +107,15 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     prep = ctx.preposition
     for c in cells.itertuples(index=False):
         d = int(c.decimals)
+        wide = cell_wide(c)  # one form for the figures of a statement: "45.7 thousand" beside "2.4 million"
         evidence = {"period": ev(c.period, str(c.period)), "status": ev(c.status, status_shown(c.status))}
         claims: dict[str, object] = {"rank_band": None, "vs_group": None, "target": "none"}
         variables: dict[str, object] = {
-            "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
+            "name": ctx.name(c.entity), "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
             "the_label": ctx.the_label(c.topic), "prep": prep, "period": c.period, "caveat": caveat(c.status),
             "state": c.status,
             "ranked": False, "rank_text": "", "group_text": "", "target_text": "", "parent_text": "",
+            "now_revised": "",
         }
         interest = 0.1
         if not c.usable:
@@ -112,7 +124,12 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                             variables)
             continue
         value = float(c.value)
-        evidence["value"] = ev(value, ctx.value(c.topic, value))
+        evidence["value"] = ev(value, ctx.value(c.topic, value, wide))
+        if not missing(c.value_revised_from):  # this period's figure was revised since the last edition
+            held = ctx.value(c.topic, float(c.value_revised_from), wide)
+            evidence["value_revised_from"] = ev(float(c.value_revised_from), held)
+            variables["now_revised"] = f" (revised from {held})"
+            variables["caveat"] = f"{variables['caveat']}{variables['now_revised']}"  # blurbs read it too
         interest = 0.3
         if int(c.rank_of) >= MIN_RANKED and not missing(c.rank):
             rank, of = int(c.rank), int(c.rank_of)
@@ -136,14 +153,14 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             shown_gap = phrasing.round_half_up(abs(gap), d)
             where = "level" if shown_gap == 0 else ("above" if gap > 0 else "below")
             claims["vs_group"] = where
-            evidence["group_mean"] = ev(float(c.group_mean), ctx.value(c.topic, float(c.group_mean)))
-            evidence["group_gap"] = ev(gap, ctx.amount(c.topic, gap))
+            evidence["group_mean"] = ev(float(c.group_mean), ctx.value(c.topic, float(c.group_mean), wide))
+            evidence["group_gap"] = ev(gap, ctx.amount(c.topic, gap, wide))
             variables["group_text"] = _group_text(
                 phrasing_index(slot_id(KIND, c.entity, c.topic) + "#group", _GROUP_WORDINGS), where, str(c.group),
                 evidence["group_mean"]["shown"], evidence["group_gap"]["shown"])
         if not missing(c.all_mean):
-            evidence["all_mean"] = ev(float(c.all_mean), ctx.value(c.topic, float(c.all_mean)))
-            evidence["all_gap"] = ev(float(c.all_gap), ctx.amount(c.topic, float(c.all_gap)))
+            evidence["all_mean"] = ev(float(c.all_mean), ctx.value(c.topic, float(c.all_mean), wide))
+            evidence["all_gap"] = ev(float(c.all_gap), ctx.amount(c.topic, float(c.all_gap), wide))
             if not variables["group_text"] and int(c.rank_of) >= 2:
                 gap = float(c.all_gap)
                 where = "level" if phrasing.round_half_up(abs(gap), d) == 0 else ("above" if gap > 0 else "below")
@@ -157,8 +174,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             gap = value - target
             met = gap >= 0 if c.better != "lower" else gap <= 0
             claims["target"] = "met" if met else "missed"
-            evidence["target"] = ev(target, ctx.value(c.topic, target))
-            evidence["target_gap"] = ev(gap, ctx.amount(c.topic, gap))
+            evidence["target"] = ev(target, ctx.value(c.topic, target, wide))
+            evidence["target_gap"] = ev(gap, ctx.amount(c.topic, gap, wide))
             variables["target_text"] = _target_text(
                 phrasing_index(slot_id(KIND, c.entity, c.topic) + "#target", _TARGET_WORDINGS), met,
                 evidence["target"]["shown"], evidence["target_gap"]["shown"])

@@ -21,7 +21,7 @@ from collections.abc import Iterator
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
 from stetline.facts import trend_facts
-from stetline.kinds.common import caveat, missing
+from stetline.kinds.common import caveat, cell_wide, missing
 
 KIND = "trend"
 PHRASINGS = 2
@@ -44,6 +44,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         if not c.usable or missing(t.points) or int(t.points) < MIN_POINTS:
             continue
         meta = ctx.topics[c.topic]
+        wide = cell_wide(c) or ctx.wide(t.first_value)  # one form for the figures of a statement
         neutral = c.better == "neutral"
         value = float(c.value)
         streak = 0 if missing(t.streak) else int(t.streak)
@@ -65,9 +66,9 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             record = f"lowest-since:{since}"
         evidence = {
             "period": ev(c.period, str(c.period)),
-            "value": ev(value, ctx.value(c.topic, value)),
+            "value": ev(value, ctx.value(c.topic, value, wide)),
             "first_period": ev(str(t.first_period), str(t.first_period)),
-            "first_value": ev(float(t.first_value), ctx.value(c.topic, float(t.first_value))),
+            "first_value": ev(float(t.first_value), ctx.value(c.topic, float(t.first_value), wide)),
             "streak": ev(streak, phrasing.count(streak, style)),
         }
         if since:
@@ -77,7 +78,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         if years > 0:
             if meta["unit"] == "percent":
                 per_year = (value - float(t.first_value)) / years
-                evidence["yearly_change"] = ev(per_year, ctx.amount(c.topic, per_year))
+                evidence["yearly_change"] = ev(per_year, ctx.amount(c.topic, per_year, wide))
                 if phrasing.round_half_up(abs(per_year), int(meta["decimals"])) == 0:
                     rate_text = "changed little on average"
                 else:
@@ -104,7 +105,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "record": record,
         }
         variables = {
-            "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
+            "name": ctx.name(c.entity), "prep": ctx.preposition, "label": ctx.label(c.topic),
+            "lower_label": ctx.lower_label(c.topic),
             "period": c.period, "caveat": caveat(c.status), "streak": streak, "streak_word": word,
             "periods_word": _period_word(str(c.period), streak, natural), "natural": natural,
             "run_since": run_since,

@@ -70,6 +70,8 @@ class Entity(Base):
     position: Mapped[int] = mapped_column(default=0)
     #: the key of the entity this one lies within ("" at the top): the hierarchy, apart from the flat group
     parent: Mapped[str] = mapped_column(String(200), default="", server_default="")
+    #: "the", "none" or "" (the engine decides): whether the name takes "the" mid-sentence
+    article: Mapped[str] = mapped_column(String(10), default="", server_default="")
 
 
 class Topic(Base):

@@ -93,7 +93,7 @@ def entities_frame(session: Session) -> pd.DataFrame | None:
     if not rows:
         return None
     return pd.DataFrame([{"entity": r.key, "name": r.name, "group": r.group, "position": r.position,
-                          "parent": r.parent} for r in rows])
+                          "parent": r.parent, "article": r.article} for r in rows])
 
 
 def replace_metadata(session: Session, topics: pd.DataFrame, entities: pd.DataFrame) -> None:
@@ -115,7 +115,8 @@ def replace_metadata(session: Session, topics: pd.DataFrame, entities: pd.DataFr
             _update(topic, values)
     existing_e = {e.key: e for e in session.scalars(select(Entity))}
     for r in entities.itertuples(index=False):
-        values = dict(name=r.name, group=r.group, position=int(r.position), parent=getattr(r, "parent", ""))
+        values = dict(name=r.name, group=r.group, position=int(r.position), parent=getattr(r, "parent", ""),
+                      article=getattr(r, "article", ""))
         entity = existing_e.get(r.entity)
         if entity is None:
             session.add(Entity(key=r.entity, **values))
