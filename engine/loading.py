@@ -23,6 +23,7 @@ from typing import Any
 import pandas as pd
 from sqlalchemy.orm import Session
 
+from stetline import breakdowns
 from stetline import settings as settings_mod
 from stetline.accounts import authorize
 from stetline.dataset import Dataset, Source, load_dataset
@@ -59,6 +60,9 @@ class LoadSummary:
     slots: int = 0  # statements this edition drafted
     gone_waiting: int = 0  # of the slots gone in this load, those that wait in recheck (human work on them)
     totals: dict[str, int] = field(default_factory=dict)  # the workspace after the load (ops.Counts.totals)
+    breakdowns_written: int = 0  # rows of subgroups written (new or changed)
+    breakdowns_off: list[str] = field(default_factory=list)  # breakdowns in the data while the kind is off
+    suggested_kinds: str = ""  # the `kinds` setting that would draft them
 
     def to_json(self) -> dict[str, Any]:
         """The summary as a JSON object (``workspace``: the totals after the load, in words)."""
@@ -85,6 +89,8 @@ class LoadSummary:
                        f"{self.gone_waiting} of them wait in recheck)")
         if self.totals:
             out.append(f"workspace now: {ops.describe_totals(self.totals)}")
+        if self.breakdowns_off:
+            out.append(breakdowns.suggestion(self.breakdowns_off, self.suggested_kinds))
         if self.dry_run:
             out.insert(0, "dry run: nothing was written; the load would give")
         return out
@@ -199,11 +205,12 @@ def _hash_value(h: Any, value: Any) -> None:
 
 def edition_context(
     session: Session, observations: pd.DataFrame, topics: pd.DataFrame,
-    entities: pd.DataFrame, earlier: pd.DataFrame | None, edition: str,
+    entities: pd.DataFrame, earlier: pd.DataFrame | None, edition: str, subgroups: pd.DataFrame | None = None,
 ) -> Context:
-    """What the kinds draft an edition from: its facts, metadata and the house style."""
+    """What the kinds draft an edition from: its facts (the subgroups' among them), metadata and house style."""
     style, values = house_style(session)
     facts = compute_facts(observations, topics, entities, earlier)
+    facts.breakdowns = breakdowns.breakdown_facts(subgroups, observations, topics)
     return Context(
         facts, topics.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
         style, str(values["entity_noun"]), edition, settings_mod.kinds_of(values),
@@ -274,7 +281,8 @@ def load_edition(
         stored = ops.observations_frame(session)  # the current observations, read once
         earlier = _held(session, dataset.observations, stored) if current is not None else None
         progress("computing facts", 0, None)
-        ctx = edition_context(session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label)
+        ctx = edition_context(session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label,
+                              dataset.breakdowns)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
         if current is not None and (current.summary or {}).get(DRAFTED_FROM) == inputs:
@@ -286,8 +294,10 @@ def load_edition(
             decisions, by_slot = reconcile(states, drafts)
             del drafts
             drafted = by_slot.keys()
+        ctx_kinds = ctx.kinds
         del ctx
         summary = LoadSummary(edition_label, dry_run=dry_run)
+        summary.breakdowns_off, summary.suggested_kinds = breakdowns.unused(dataset.breakdowns, ctx_kinds)
         _summarise(summary, decisions, drafted, states)
         if dry_run:
             session.rollback()
@@ -306,6 +316,7 @@ def load_edition(
         progress("writing observations", 0, len(dataset.observations))
         written = ops.store_observations(session, edition.id, dataset.observations, stored)
         summary.observations_written = written["inserted"]
+        summary.breakdowns_written = ops.store_breakdowns(session, edition.id, dataset.breakdowns)["inserted"]
         session.flush()
         summary.totals = ops.workspace_counts(session).totals()
         edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs}
@@ -349,12 +360,12 @@ def _draft_position(topics_frame: pd.DataFrame, entities_frame: pd.DataFrame) ->
     topics = {key: i for i, key in enumerate(topics_frame["topic"])}
 
     def key(d: Draft) -> tuple[Any, ...]:
-        if d.entity is not None and d.topic is not None:
-            rest: tuple[Any, ...] = (d.entity, d.topic)
+        if d.entity is not None and d.topic is not None:  # a kind with both scopes (breakdown) gives cells first
+            rest: tuple[Any, ...] = (0, d.entity, d.topic, d.slot)
         elif d.entity is not None:
-            rest = (entities.get(d.entity, -1), d.entity)
+            rest = (1, entities.get(d.entity, -1), d.entity)
         elif d.topic is not None:
-            rest = (topics.get(d.topic, -1), d.topic)
+            rest = (2, topics.get(d.topic, -1), d.topic)
         else:
             rest = ()
         return (kinds.get(d.kind, len(kinds)),) + rest
@@ -379,7 +390,8 @@ def redraft(ws: Workspace, *, by: str, progress: Progress = no_progress) -> Load
         if previous:  # what the edition's own load compared against, so a redraft agrees with it
             stored = ops.observations_frame(session, previous[-1].id)
             earlier = _held(session, obs, stored, before=edition.id)
-        ctx = edition_context(session, obs, topics, entities, earlier, edition.label)
+        subgroups = _with_times(ops.breakdowns_frame(session), edition.period_format)
+        ctx = edition_context(session, obs, topics, entities, earlier, edition.label, subgroups)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
         drafts = draft_context(ws, ctx, progress)

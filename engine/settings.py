@@ -9,7 +9,10 @@ from typing import Any
 from stetline.errors import StetlineError
 
 #: every statement kind, in listing order (stetline.kinds.KINDS; tests/test_composed.py checks they agree)
-ALL_KINDS = ("headline", "profile", "standing", "change", "trend", "blurb", "leaders", "movement", "roundup")
+ALL_KINDS = ("headline", "profile", "standing", "change", "trend", "blurb", "leaders", "movement", "roundup",
+             "breakdown")
+#: the kinds a workspace must ask for: drafted only when the `kinds` setting names them
+OPT_IN_KINDS = ("breakdown",)
 #: what a workspace made before the `kinds` setting drafted (migration 0008 stores it for them)
 EARLIER_KINDS = ("headline", "profile", "standing", "change", "trend", "leaders", "movement")
 
@@ -66,9 +69,10 @@ SETTINGS: tuple[SettingSpec, ...] = (
     SettingSpec("possessive_after_s", "Possessive of a name ending in s", "'",
                 "How a name ending in s takes the possessive: ' (Harris' score) or 's (Harris's score).",
                 ("'", "'s")),
-    SettingSpec("kinds", "Statement kinds drafted", ",".join(ALL_KINDS),
+    SettingSpec("kinds", "Statement kinds drafted", ",".join(k for k in ALL_KINDS if k not in OPT_IN_KINDS),
                 "Which statement kinds the workspace drafts, separated by commas; run `stetline redraft` after a "
-                "change. Turning a kind off keeps its human work: those statements wait in recheck as gone."),
+                "change. Turning a kind off keeps its human work: those statements wait in recheck as gone. The "
+                "breakdown kind (breakdowns by group) is drafted only when named here."),
     SettingSpec("untraced_numbers", "Untraced numbers when publishing", "warn",
                 "What publishing does with typed numbers that match no fact.", ("warn", "refuse")),
     SettingSpec("self_approval", "Reviewers may approve their own rewrites", False,
