@@ -106,7 +106,8 @@ def breakdown_facts(breakdowns: pd.DataFrame, totals: pd.DataFrame, topics: pd.D
     out = by.agg(period=("period", "first"), time=("time", "first"), subgroups=("subgroup", "size"))
     out["best"] = best.groupby(KEY)["subgroup"].agg(list)
     out["worst"] = worst.groupby(KEY)["subgroup"].agg(list)
-    first_best, first_worst = best.groupby(KEY).first(), worst.groupby(KEY).first()
+    # the first row of each, as it is (groupby.first would take each column's first non-empty value)
+    first_best, first_worst = best.drop_duplicates(KEY).set_index(KEY), worst.drop_duplicates(KEY).set_index(KEY)
     out["best_value"], out["worst_value"] = first_best["value"], first_worst["value"]
     out["best_margin"], out["worst_margin"] = first_best["margin"], first_worst["margin"]
     out["best_share"], out["worst_share"] = first_best["share"], first_worst["share"]

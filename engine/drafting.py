@@ -176,6 +176,8 @@ class Context:
     edition: str = ""
     #: the kinds a workspace drafts (its `kinds` setting); empty: every kind
     kinds: tuple[str, ...] = ()
+    #: house style: "Fortunately"/"Unfortunately" before an entity's own change (never a gap between subgroups)
+    evaluative_words: bool = False
     # wording already worked out (the same counts, labels and means recur across thousands of cells)
     _values_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)

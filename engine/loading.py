@@ -214,6 +214,7 @@ def edition_context(
     return Context(
         facts, topics.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
         style, str(values["entity_noun"]), edition, settings_mod.kinds_of(values),
+        evaluative_words=bool(values["evaluative_words"]),
     )
 
 

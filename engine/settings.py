@@ -73,6 +73,9 @@ SETTINGS: tuple[SettingSpec, ...] = (
                 "Which statement kinds the workspace drafts, separated by commas; run `stetline redraft` after a "
                 "change. Turning a kind off keeps its human work: those statements wait in recheck as gone. The "
                 "breakdown kind (breakdowns by group) is drafted only when named here."),
+    SettingSpec("evaluative_words", "Evaluative words", False,
+                "Open a statement of an entity's own change that improved or worsened with 'Fortunately' or "
+                "'Unfortunately' (never a gap between subgroups)."),
     SettingSpec("untraced_numbers", "Untraced numbers when publishing", "warn",
                 "What publishing does with typed numbers that match no fact.", ("warn", "refuse")),
     SettingSpec("self_approval", "Reviewers may approve their own rewrites", False,
@@ -88,8 +91,8 @@ SETTINGS: tuple[SettingSpec, ...] = (
 BY_KEY = {spec.key: spec for spec in SETTINGS}
 
 #: settings that change the drafts (a redraft follows a change)
-STYLE_KEYS = ("kinds", "entity_noun", "locale", "serial_comma", "percent_word", "small_numbers_in_words",
-              "possessive_after_s")
+STYLE_KEYS = ("kinds", "evaluative_words", "entity_noun", "locale", "serial_comma", "percent_word",
+              "small_numbers_in_words", "possessive_after_s")
 
 
 def spec(key: str) -> SettingSpec:

@@ -26,6 +26,13 @@ KIND = "change"
 PHRASINGS = 2
 
 
+def evaluative_word(ctx: Context, variables: dict[str, object]) -> str:
+    """'Fortunately' or 'Unfortunately' for a change that improved or worsened, when the house style asks ('')."""
+    if not ctx.evaluative_words or variables["state"] not in ("up", "down"):
+        return ""
+    return "Fortunately" if variables["improved"] else ("Unfortunately" if variables["worsened"] else "")
+
+
 def candidates(ctx: Context) -> Iterator[Candidate]:
     """One change statement per entity × topic cell, including those that cannot state one."""
     style = ctx.style
@@ -45,7 +52,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "name": c.name, "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
             "the_label": ctx.the_label(c.topic), "period": c.period, "prev_period": prev_period,
             "caveat": caveat(c.status),
-            "state": "", "revised": "", "neutral": c.better == "neutral", "nouns": nouns,
+            "state": "", "revised": "", "evaluative": "", "neutral": c.better == "neutral", "nouns": nouns,
         }
         interest = 0.1
         variables["now_revised"] = ""
@@ -102,6 +109,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             variables["average_move"] = "flat" if shown_zero else ("up" if mean_change > 0 else "down")
         variables["improved"] = c.better_change == "improved"
         variables["worsened"] = c.better_change == "worsened"
+        variables["evaluative"] = evaluative_word(ctx, variables)
         variables["significant"] = significant is True
         size = abs(change) / spread[c.topic] if spread.get(c.topic) else 0.0
         interest = 0.3 + min(0.5, 0.5 * size) + (0.2 if significant else 0.0)
