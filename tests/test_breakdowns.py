@@ -31,6 +31,8 @@ from stetline.errors import ValidationError
 from stetline.facts import compute_facts
 from stetline.kinds import BY_NAME
 from stetline.phrasing import HouseStyle
+from stetline.web import create_app
+from stetline.workspace import Workspace
 
 HEADER = "entity,topic,period,value,margin,status,breakdown,subgroup,share\n"
 TOPICS = ("topic,label,unit,better,decimals,category,target\n"
@@ -311,3 +313,10 @@ def test_a_workspace_suggests_the_kind_then_drafts_versions_and_rechecks_breakdo
     assert {c["fact"]: c["new"] for c in shown["recheck"]["changes"]}["worst"] == ["35-64"]
     assert "The largest group, 35-64 at 67% of the whole, also has the worst figure." in shown["draft"]
     assert cli.json("show", "breakdown/nq/parks/age")["status"] == "approved"
+
+
+def test_the_data_page_suggests_the_kind_after_a_load_with_breakdowns(demo_ws: Workspace) -> None:
+    # the demo's observations hold parks satisfaction by age band; the demo does not draft the kind
+    html = create_app(demo_ws, {"TESTING": True}).test_client().get("/data?loaded=2025").get_data(as_text=True)
+    assert "The data hold breakdowns by group (age), but the <strong>breakdown</strong> kind is off" in html
+    assert 'href="/settings#set-kinds"' in html
