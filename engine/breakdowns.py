@@ -146,4 +146,4 @@ def unused(subgroups: pd.DataFrame, kinds: tuple[str, ...]) -> tuple[list[str], 
 def suggestion(names: list[str], kinds: str) -> str:
     """The suggestion a load prints when its data hold breakdowns the workspace does not draft."""
     return (f"the data hold breakdowns by group ({', '.join(names)}), but the breakdown kind is off: to draft "
-            f"them, run stetline settings kinds {kinds} then stetline redraft")
+            f"them, run `stetline settings kinds {kinds}`, then `stetline redraft`")

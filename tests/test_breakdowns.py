@@ -23,7 +23,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import stats
 
-from stetline import periods
+from stetline import configure, loading, periods
 from stetline.breakdowns import breakdown_facts
 from stetline.dataset import load_dataset
 from stetline.drafting import Context, Draft, Renderer, draft_all
@@ -320,3 +320,28 @@ def test_the_data_page_suggests_the_kind_after_a_load_with_breakdowns(demo_ws: W
     html = create_app(demo_ws, {"TESTING": True}).test_client().get("/data?loaded=2025").get_data(as_text=True)
     assert "The data hold breakdowns by group (age), but the <strong>breakdown</strong> kind is off" in html
     assert 'href="/settings#set-kinds"' in html
+    with demo_ws.session() as session:
+        configure.save(session, {"kinds": "headline,roundup,breakdown"}, by="admin")
+    loading.redraft(demo_ws, by="admin")
+    client = create_app(demo_ws, {"TESTING": True}).test_client()
+    page = client.get("/statements/breakdown/tidemere/parks-satisfaction/age")
+    assert page.status_code == 200
+    html = page.get_data(as_text=True)
+    assert "The largest group, 35-64 at 67% of the whole, also has the worst figure." in html
+    assert "— breakdown by age" in html
+
+
+def test_an_upload_changing_only_subgroups_is_not_called_the_same(demo_ws: Workspace) -> None:
+    from test_web_pages import demo_bytes, upload
+
+    same = "This file holds the same data as the current edition (2025); loading it would change nothing."
+    client = create_app(demo_ws, {"TESTING": True, "WTF_CSRF_ENABLED": False}).test_client()
+    assert same in upload(client, {"observations": (demo_bytes("observations-2025.csv"), "a.csv")}).get_data(
+        as_text=True)
+    text = demo_bytes("observations-2025.csv").decode()
+    assert "tidemere,parks-satisfaction,2025,64,3.4,,age,35-64,67" in text
+    # the breakdown kind is off: no statement changes, yet the load would store a new subgroup value
+    changed = text.replace("tidemere,parks-satisfaction,2025,64,3.4,,age,35-64,67",
+                           "tidemere,parks-satisfaction,2025,63,3.4,,age,35-64,67")
+    html = upload(client, {"observations": (changed.encode(), "b.csv")}).get_data(as_text=True)
+    assert "Check before loading: edition 2025-r2" in html and same not in html
