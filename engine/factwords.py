@@ -61,6 +61,13 @@ FACT_WORDS: dict[str, str] = {
     "strongest_rank": "place on the strongest topic",
     "weakest_rank": "place on the weakest topic",
     "topics": "topics counted",
+    "gap": "gap between the best and worst groups",
+    "margin_of_gap": "margin of error of the gap",
+    "subgroups": "groups compared",
+    "best_share": "share of the best group",
+    "worst_share": "share of the worst group",
+    "widest_gap": "widest gap between groups",
+    "narrowest_gap": "narrowest gap between groups",
 }
 
 CLAIM_WORDS: dict[str, str] = {
@@ -83,6 +90,12 @@ CLAIM_WORDS: dict[str, str] = {
     "biggest_shift": "topic with the biggest shift",
     "composite_band": "place on the overall score",
     "composite_leader": "leader on the overall score",
+    "best": "best group",
+    "worst": "worst group",
+    "difference": "difference between groups",
+    "largest": "largest group",
+    "widest": "widest gap between groups",
+    "narrowest": "narrowest gap between groups",
 }
 
 

@@ -223,11 +223,11 @@ def test_generated_breakdowns_name_the_best_and_worst_and_the_gap(subgroups: lis
     gap = abs(top - bottom)
     assert d.evidence["gap"]["value"] == pytest.approx(gap)
     if round(gap, 1) == 0:  # the gap prints as zero: no best or worst is named
-        assert d.claims["gap"] == "none" and d.claims["best"] == [] and "the same in all" in d.text
+        assert d.claims["difference"] == "none" and d.claims["best"] == [] and "the same in all" in d.text
         return
     best = [n for n in names if values[n] == top]
     worst = [n for n in names if values[n] == bottom]
-    assert (d.claims["best"], d.claims["worst"], d.claims["gap"]) == (best, worst, "some")
+    assert (d.claims["best"], d.claims["worst"], d.claims["difference"]) == (best, worst, "some")
     first_best, first_worst = subgroups[names.index(best[0])], subgroups[names.index(worst[0])]
     if first_best[1] is None or first_worst[1] is None:
         assert d.claims["significant"] is None and "margins" not in d.text

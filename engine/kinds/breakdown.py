@@ -11,10 +11,11 @@ the worst. A gap that prints as zero is said as no difference, naming no best or
 Per topic (slot ``breakdown/TOPIC``, with two breakdowns or more at the latest period): where the
 gap between subgroups is widest and where narrowest.
 
-Claims, per entity: ``best`` and ``worst`` (lists of subgroups, as written; empty when the gap is
-none), ``gap`` (none | some), ``significant`` (true | false | null without margins), ``largest``
-(best | worst | neither, or null unless every subgroup has a share). Per topic: ``widest`` and
-``narrowest`` (lists of ``ENTITY/BREAKDOWN``).
+Claims, per entity: ``best`` and ``worst`` (lists of subgroups, as written; empty when the gap
+prints as zero), ``difference`` (none | some: whether the gap prints as more than zero),
+``significant`` (true | false | null without margins), ``largest`` (best | worst | neither, or
+null unless every subgroup has a share). Per topic: ``widest`` and ``narrowest`` (lists of
+``ENTITY/BREAKDOWN``).
 """
 
 from __future__ import annotations
@@ -67,7 +68,7 @@ def _one(ctx: Context, b: Any) -> Candidate:
     if b.largest is not None and not none:
         largest = "best" if b.largest in best else ("worst" if b.largest in worst else "neither")
     claims: dict[str, Any] = {
-        "best": [] if none else best, "worst": [] if none else worst, "gap": "none" if none else "some",
+        "best": [] if none else best, "worst": [] if none else worst, "difference": "none" if none else "some",
         "significant": significant, "largest": largest,
     }
     neutral = b.better == "neutral"
