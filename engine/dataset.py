@@ -16,17 +16,19 @@ from pathlib import Path
 
 import pandas as pd
 
-from stetline import nesting, periods
+from stetline import breakdowns, nesting, periods
 from stetline.errors import Problem, ValidationError
 from stetline.inputfiles import Source, Table, read_tables
 
 OBSERVATION_COLUMNS = ("entity", "topic", "period", "value")
-OBSERVATION_OPTIONAL = ("margin", "status")
+OBSERVATION_OPTIONAL = ("margin", "status") + breakdowns.COLUMNS
 TOPIC_COLUMNS = ("topic", "label", "unit", "better", "decimals", "category", "target")
 TOPIC_OPTIONAL = ("weight", "source", "change", "label_in_sentence", "article")
 ENTITY_COLUMNS = ("entity", "name", "group")
 ENTITY_OPTIONAL: tuple[str, ...] = ("parent", "article")
 
+#: the columns of Dataset.breakdowns
+BREAKDOWN_FRAME = ["entity", "topic", "period", "value", "margin", "status", "time", "row", *breakdowns.COLUMNS]
 STATUSES = ("final", "provisional", "estimated", "break", "confidential")
 DIRECTIONS = ("higher", "lower", "neutral")
 PERCENT = "percent"
@@ -42,8 +44,10 @@ class Dataset:
 
     ``observations`` has the columns entity, topic, period (labels as written), value and margin
     (floats, NaN when empty), status (empty string when final or unstated), time (the period as
-    a float in years) and row (the row in the source file). ``topics`` and ``entities`` are the
-    metadata in force for this edition: the stored rows updated by any file given with it.
+    a float in years) and row (the row in the source file): the totals, rows with no breakdown.
+    ``breakdowns`` holds the rows of subgroups, with the same columns plus breakdown, subgroup and
+    share (float, NaN when empty). ``topics`` and ``entities`` are the metadata in force for this
+    edition: the stored rows updated by any file given with it.
     """
 
     observations: pd.DataFrame
@@ -51,6 +55,7 @@ class Dataset:
     entities: pd.DataFrame
     period_format: str
     files: list[str] = field(default_factory=list)
+    breakdowns: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=BREAKDOWN_FRAME))
 
     @property
     def latest_period(self) -> str:
@@ -169,6 +174,8 @@ def _parse_observations(table: Table) -> tuple[pd.DataFrame | None, str, list[Pr
         if col not in frame.columns:
             frame[col] = ""
     problems += _keys(table, "entity") + _keys(table, "topic")
+    groups, p = breakdowns.check(table.name, frame)
+    problems += p
     value, p = _numeric(table, "value", allow_empty=True, what="the value")
     problems += p
     margin, p = _numeric(table, "margin", allow_empty=True, what="the margin")
@@ -200,7 +207,11 @@ def _parse_observations(table: Table) -> tuple[pd.DataFrame | None, str, list[Pr
                 f"but this one is a {other} ({period.loc[at]!r}); use one format per file",
             ))
     if not problems:
-        problems += _duplicates(table, ["entity", "topic", "period"], "observation")
+        frame["breakdown"], frame["subgroup"] = groups["breakdown"], groups["subgroup"]
+        total = (groups["breakdown"] == "").to_numpy()
+        problems += _duplicates(Table(table.name, frame.loc[total]), ["entity", "topic", "period"], "observation")
+        problems += _duplicates(Table(table.name, frame.loc[~total]),
+                                ["entity", "topic", "period", "breakdown", "subgroup"], "subgroup observation")
     if problems:
         return None, chosen, problems, keys
     out = pd.DataFrame({
@@ -212,6 +223,7 @@ def _parse_observations(table: Table) -> tuple[pd.DataFrame | None, str, list[Pr
         "status": status.replace("final", ""),
         "time": periods.times(period, chosen),
         "row": frame.index.to_numpy() + 2,
+        **{col: groups[col] for col in breakdowns.COLUMNS},
     })
     return out, chosen, [], keys
 
@@ -372,10 +384,15 @@ def load_dataset(
     if entity_frame is not None and merged_entities is not None and entities_t is not None:
         rows = {str(k): i + 2 for i, k in enumerate(entity_frame["entity"])}
         problems += nesting.parent_problems(merged_entities, entities_t.name, rows)
-    if problems or obs is None:
+    total = obs["breakdown"] == "" if obs is not None else None
+    if total is not None and not problems and not total.any():
+        problems.append(Problem(obs_t.name, None, "breakdown", "every row belongs to a breakdown: give the totals "
+                                "too (rows with an empty breakdown)"))
+    if problems or obs is None or total is None:
         raise ValidationError(problems)
     assert merged_topics is not None and merged_entities is not None
-    return Dataset(obs, merged_topics, merged_entities, fmt, files)
+    return Dataset(obs.loc[total].drop(columns=list(breakdowns.COLUMNS)), merged_topics, merged_entities, fmt, files,
+                   obs.loc[~total, BREAKDOWN_FRAME].reset_index(drop=True))
 
 
 def _names_known(keys: pd.DataFrame, file: str, what: str, meta: pd.DataFrame | None, *,

@@ -183,6 +183,8 @@ class Context:
     kinds: tuple[str, ...] = ()
     #: what one entity of each level is called, top level first (the `level_nouns` setting)
     level_nouns: tuple[str, ...] = ()
+    #: house style: "Fortunately"/"Unfortunately" before an entity's own change (never a gap between subgroups)
+    evaluative_words: bool = False
     # wording already worked out (the same counts, labels and means recur across thousands of cells)
     _values_shown: dict[tuple[str, float, bool], str] = field(
         default_factory=dict, init=False, repr=False, compare=False)

@@ -29,7 +29,9 @@ class Facts:
     (``stetline.nesting.parent_facts``). ``topics``: one row per topic with the ranking and movement
     facts of the main level (the deepest with data); ``levels`` holds them for every level by depth.
     ``entities``: one row per entity with its composite score among its level. ``series``: the
-    observations sorted by entity, topic and time, for statements about the run of a series.
+    observations sorted by entity, topic and time, for statements about the run of a series. Rows
+    of a breakdown by group never reach these: they are the totals only; ``breakdowns`` holds the
+    facts of the subgroups.
     """
 
     cells: pd.DataFrame
@@ -39,6 +41,8 @@ class Facts:
     latest_period: str
     levels: dict[int, pd.DataFrame] = field(default_factory=dict)
     main_depth: int = 0
+    #: one row per entity × topic × breakdown with two subgroups or more (stetline.breakdowns)
+    breakdowns: pd.DataFrame = field(default_factory=pd.DataFrame)
 
 
 def _sign(better: pd.Series) -> pd.Series:
@@ -171,6 +175,19 @@ def printed_change_is_zero(change: pd.Series, change_rel: pd.Series, unit: pd.Se
     return pd.Series(zero & change.notna().to_numpy(), index=change.index)
 
 
+def significance(difference: pd.Series, margin_a: pd.Series, margin_b: pd.Series) -> pd.Series:
+    """Whether a difference of two values exceeds sqrt(m1² + m2²) of their margins (95% half-widths).
+
+    DESIGN "Numbers and words": the one test of a change, and of a gap between two subgroups.
+    NA where a margin or the difference is missing.
+    """
+    both = margin_a.notna() & margin_b.notna() & difference.notna()
+    threshold = np.sqrt(margin_a ** 2 + margin_b ** 2)
+    out = pd.Series(pd.NA, index=difference.index, dtype="boolean")
+    out[both] = (difference.abs() > threshold)[both]
+    return out
+
+
 def _changes(cells: pd.DataFrame) -> None:
     """Change since the previous period of the series, and whether it counts as a change."""
     has_prev = cells["prev_value"].notna() & cells["value"].notna() & cells["usable"]
@@ -180,10 +197,8 @@ def _changes(cells: pd.DataFrame) -> None:
     base = cells["prev_value"].abs()
     cells["change_rel"] = (cells["change"] / base).where(base > 0)
     cells["years"] = cells["time"] - cells["prev_time"]
-    both = cells["margin"].notna() & cells["prev_margin"].notna()
-    threshold = np.sqrt(cells["margin"] ** 2 + cells["prev_margin"] ** 2)
-    significant = pd.Series(pd.NA, index=cells.index, dtype="boolean")
-    significant[both & cells["change_known"]] = (cells["change"].abs() > threshold)[both & cells["change_known"]]
+    significant = significance(cells["change"], cells["margin"], cells["prev_margin"])
+    significant[~cells["change_known"]] = pd.NA
     cells["significant"] = significant
     cells["change_zero"] = printed_change_is_zero(
         cells["change"], cells["change_rel"], cells["unit"], cells["decimals"],

@@ -64,6 +64,13 @@ FACT_WORDS: dict[str, str] = {
     "topics": "topics counted",
     "exception_topics": "indicators where it went against most",
     "topics_compared": "indicators compared",
+    "gap": "gap between the best and worst groups",
+    "margin_of_gap": "margin of error of the gap",
+    "subgroups": "groups compared",
+    "best_share": "share of the best group",
+    "worst_share": "share of the worst group",
+    "widest_gap": "widest gap between groups",
+    "narrowest_gap": "narrowest gap between groups",
 }
 
 CLAIM_WORDS: dict[str, str] = {
@@ -88,6 +95,12 @@ CLAIM_WORDS: dict[str, str] = {
     "composite_leader": "leader on the overall score",
     "data_check": "worth a data check: against most on most indicators",
     "exceptions_group": "group of every exception",
+    "best": "best group",
+    "worst": "worst group",
+    "difference": "difference between groups",
+    "largest": "largest group",
+    "widest": "widest gap between groups",
+    "narrowest": "narrowest gap between groups",
 }
 
 

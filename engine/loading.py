@@ -14,7 +14,6 @@ import sys
 import threading
 from collections.abc import Collection, Iterator
 from contextlib import contextmanager
-from dataclasses import dataclass, field
 from functools import lru_cache
 from importlib import metadata
 from pathlib import Path
@@ -23,76 +22,23 @@ from typing import Any
 import pandas as pd
 from sqlalchemy.orm import Session
 
-from stetline import nesting, renames as rename_mod, settings as settings_mod
+from stetline import breakdowns, nesting
+from stetline import renames as rename_mod
+from stetline import settings as settings_mod
 from stetline.accounts import authorize
 from stetline.dataset import Dataset, Source, load_dataset
 from stetline.drafting import Context, Draft
 from stetline.errors import StetlineError
 from stetline.facts import compute_facts
 from stetline.kinds import COMPOSED, KINDS, composed_facts
+from stetline.loadsummary import LoadSummary, count_unrenderable, summarise
 from stetline.progress import Progress, no_progress
-from stetline.reconcile import REASONS, Decision, SlotState, reconcile
+from stetline.reconcile import Decision, SlotState, reconcile
 from stetline.slotstatus import house_style, recheck_unrenderable
-from stetline.status import Reason, Status
 from stetline.store import ops
 from stetline.store.models import Edition
 from stetline.workers import draft_kinds, worker_count
 from stetline.workspace import Workspace
-
-
-@dataclass
-class LoadSummary:
-    """What a load did (or, in a dry run, would do)."""
-
-    edition: str
-    drafted: int = 0
-    updated: int = 0
-    unchanged: int = 0
-    recheck: dict[str, int] = field(default_factory=dict)
-    sent_to_recheck: int = 0
-    still_in_recheck: int = 0
-    gone: int = 0
-    rebased: int = 0
-    drafts_written: int = 0
-    observations_written: int = 0
-    dry_run: bool = False
-    slots: int = 0  # statements this edition drafted
-    gone_waiting: int = 0  # of the slots gone in this load, those that wait in recheck (human work on them)
-    totals: dict[str, int] = field(default_factory=dict)  # the workspace after the load (ops.Counts.totals)
-    moved: list[str] = field(default_factory=list)  # with a mapping: each slot whose work moves (renames.Move)
-
-    def to_json(self) -> dict[str, Any]:
-        """The summary as a JSON object (``workspace``: the totals after the load, in words)."""
-        return {**self.__dict__, "workspace": ops.describe_totals(self.totals) if self.totals else None}
-
-    def lines(self) -> list[str]:
-        """The summary for people, one fact a line."""
-        out = [
-            f"edition {self.edition}: {self.slots} statements drafted",
-            f"  new, drafted:               {self.drafted}",
-            f"  updated silently (no human work on them): {self.updated}",
-            f"  unchanged:                  {self.unchanged}",
-        ]
-        out.append(f"  sent to recheck:            {self.sent_to_recheck}")
-        if self.sent_to_recheck:
-            out.append("    for these reasons (a statement may have several):")
-        for reason in REASONS:
-            if self.recheck.get(reason):
-                out.append(f"    {reason}: {self.recheck[reason]}")
-        if self.still_in_recheck:
-            out.append(f"  already in recheck, still waiting: {self.still_in_recheck}")
-        if self.gone:
-            out.append(f"  no longer apply:            {self.gone} (any human work on them is kept; "
-                       f"{self.gone_waiting} of them wait in recheck)")
-        if self.moved:
-            out += [f"  statements whose human work moves to a new key: {len(self.moved)}",
-                    *(f"    {line}" for line in self.moved)]
-        if self.totals:
-            out.append(f"workspace now: {ops.describe_totals(self.totals)}")
-        if self.dry_run:
-            out.insert(0, "dry run: nothing was written; the load would give")
-        return out
-
 
 _GC_LOCK = threading.Lock()
 _gc_pauses = 0
@@ -203,15 +149,17 @@ def _hash_value(h: Any, value: Any) -> None:
 
 def edition_context(
     session: Session, observations: pd.DataFrame, topics: pd.DataFrame,
-    entities: pd.DataFrame, earlier: pd.DataFrame | None, edition: str,
+    entities: pd.DataFrame, earlier: pd.DataFrame | None, edition: str, subgroups: pd.DataFrame | None = None,
 ) -> Context:
-    """What the kinds draft an edition from: its facts, metadata and the house style."""
+    """What the kinds draft an edition from: its facts (the subgroups' among them), metadata and house style."""
     style, values = house_style(session)
     facts = compute_facts(observations, topics, entities, earlier)
+    facts.breakdowns = breakdowns.breakdown_facts(subgroups, observations, topics)
     return Context(
         facts, topics.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
         style, str(values["entity_noun"]), edition, settings_mod.kinds_of(values),
         nesting.nouns_of(str(values["level_nouns"])),
+        evaluative_words=bool(values["evaluative_words"]),
     )
 
 
@@ -226,35 +174,6 @@ def draft_edition(
 ) -> list[Draft]:
     """Draft every statement of an edition from its observations and metadata."""
     return draft_context(ws, edition_context(session, observations, topics, entities, earlier, edition))
-
-
-def _summarise(summary: LoadSummary, decisions: list[Decision], drafts: Collection[str],
-               states: dict[str, SlotState]) -> None:
-    """Count what the decisions do; ``drafts`` holds the id of every slot drafted this time."""
-    summary.slots = len(drafts)
-    touched = 0
-    for d in decisions:
-        state = states.get(d.slot)
-        if d.gone:
-            summary.gone += 1
-            summary.gone_waiting += d.recheck is not None
-        if state is None:
-            summary.drafted += 1
-        elif d.recheck and state.status == Status.RECHECK:
-            summary.still_in_recheck += 1
-            touched += d.slot in drafts
-        elif d.recheck:
-            touched += d.slot in drafts
-            summary.sent_to_recheck += 1
-            for reason in d.reasons:
-                summary.recheck[reason] = summary.recheck.get(reason, 0) + 1
-        elif d.gone:
-            pass
-        elif d.silent:
-            summary.updated += 1
-        summary.rebased += len(d.rebase)
-    summary.drafts_written = sum(1 for d in decisions if d.write_draft)
-    summary.unchanged = summary.slots - summary.drafted - summary.updated - touched
 
 
 def load_edition(
@@ -283,7 +202,8 @@ def load_edition(
         stored = ops.observations_frame(session)  # the current observations, read once
         earlier = _held(session, dataset.observations, stored) if current is not None else None
         progress("computing facts", 0, None)
-        ctx = edition_context(session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label)
+        ctx = edition_context(session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label,
+                              dataset.breakdowns)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
         if mapping is None and current is not None and (current.summary or {}).get(DRAFTED_FROM) == inputs:
@@ -300,9 +220,11 @@ def load_edition(
                 rename_mod.mark_merged(plan, decisions)
             del drafts
             drafted = by_slot.keys()
+        ctx_kinds = ctx.kinds
         del ctx
         summary = LoadSummary(edition_label, dry_run=dry_run, moved=plan.lines() if plan else [])
-        _summarise(summary, decisions, drafted, states)
+        summary.breakdowns_off, summary.suggested_kinds = breakdowns.unused(dataset.breakdowns, ctx_kinds)
+        summarise(summary, decisions, drafted, states)
         if dry_run:
             session.rollback()
             return summary
@@ -320,21 +242,16 @@ def load_edition(
         if plan is not None:
             rename_mod.move(session, plan)
         del decisions, by_slot, states  # the drafts are written: free them before the observations
-        _count_unrenderable(summary, recheck_unrenderable(session, by=by))
+        count_unrenderable(summary, recheck_unrenderable(session, by=by))
         progress("writing observations", 0, len(dataset.observations))
         written = ops.store_observations(session, edition.id, dataset.observations, stored)
         summary.observations_written = written["inserted"]
+        summary.breakdowns_written = ops.store_breakdowns(session, edition.id, dataset.breakdowns)["inserted"]
         session.flush()
         summary.totals = ops.workspace_counts(session).totals()
         edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs}
         ops.add_event(session, by, "load", edition_id=edition.id, detail=summary.to_json())
     return summary
-
-
-def _count_unrenderable(summary: LoadSummary, slots: list[str]) -> None:
-    if slots:
-        summary.recheck[Reason.RENDER_FAILED] = summary.recheck.get(Reason.RENDER_FAILED, 0) + len(slots)
-        summary.sent_to_recheck += len(slots)
 
 
 def _reconcile_as_drafted(
@@ -367,12 +284,12 @@ def _draft_position(topics_frame: pd.DataFrame, entities_frame: pd.DataFrame) ->
     topics = {key: i for i, key in enumerate(topics_frame["topic"])}
 
     def key(d: Draft) -> tuple[Any, ...]:
-        if d.entity is not None and d.topic is not None:
-            rest: tuple[Any, ...] = (d.entity, d.topic)
+        if d.entity is not None and d.topic is not None:  # a kind with both scopes (breakdown) gives cells first
+            rest: tuple[Any, ...] = (0, d.entity, d.topic, d.slot)
         elif d.entity is not None:
-            rest = (entities.get(d.entity, -1), d.entity)
+            rest = (1, entities.get(d.entity, -1), d.entity)
         elif d.topic is not None:
-            rest = (topics.get(d.topic, -1), d.topic)
+            rest = (2, topics.get(d.topic, -1), d.topic)
         else:
             rest = ()
         return (kinds.get(d.kind, len(kinds)),) + rest
@@ -397,7 +314,8 @@ def redraft(ws: Workspace, *, by: str, progress: Progress = no_progress) -> Load
         if previous:  # what the edition's own load compared against, so a redraft agrees with it
             stored = ops.observations_frame(session, previous[-1].id)
             earlier = _held(session, obs, stored, before=edition.id)
-        ctx = edition_context(session, obs, topics, entities, earlier, edition.label)
+        subgroups = _with_times(ops.breakdowns_frame(session), edition.period_format)
+        ctx = edition_context(session, obs, topics, entities, earlier, edition.label, subgroups)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
         drafts = draft_context(ws, ctx, progress)
@@ -406,10 +324,10 @@ def redraft(ws: Workspace, *, by: str, progress: Progress = no_progress) -> Load
         decisions, by_slot = reconcile(states, drafts)
         del drafts
         summary = LoadSummary(edition.label)
-        _summarise(summary, decisions, by_slot.keys(), states)
+        summarise(summary, decisions, by_slot.keys(), states)
         progress("writing statements", 0, len(decisions))
         ops.apply_decisions(session, edition.id, decisions, by_slot, by)
-        _count_unrenderable(summary, recheck_unrenderable(session, by=by))
+        count_unrenderable(summary, recheck_unrenderable(session, by=by))
         session.flush()
         summary.totals = ops.workspace_counts(session).totals()
         edition.summary = {**(edition.summary or {}), DRAFTED_FROM: inputs}

@@ -9,7 +9,10 @@ from typing import Any
 from stetline.errors import StetlineError
 
 #: every statement kind, in listing order (stetline.kinds.KINDS; tests/test_composed.py checks they agree)
-ALL_KINDS = ("headline", "profile", "standing", "change", "trend", "blurb", "leaders", "movement", "roundup")
+ALL_KINDS = ("headline", "profile", "standing", "change", "trend", "blurb", "leaders", "movement", "roundup",
+             "breakdown")
+#: the kinds a workspace must ask for: drafted only when the `kinds` setting names them
+OPT_IN_KINDS = ("breakdown",)
 #: what a workspace made before the `kinds` setting drafted (migration 0008 stores it for them)
 EARLIER_KINDS = ("headline", "profile", "standing", "change", "trend", "leaders", "movement")
 
@@ -69,9 +72,13 @@ SETTINGS: tuple[SettingSpec, ...] = (
     SettingSpec("possessive_after_s", "Possessive of a name ending in s", "'",
                 "How a name ending in s takes the possessive: ' (Harris' score) or 's (Harris's score).",
                 ("'", "'s")),
-    SettingSpec("kinds", "Statement kinds drafted", ",".join(ALL_KINDS),
+    SettingSpec("kinds", "Statement kinds drafted", ",".join(k for k in ALL_KINDS if k not in OPT_IN_KINDS),
                 "Which statement kinds the workspace drafts, separated by commas; run `stetline redraft` after a "
-                "change. Turning a kind off keeps its human work: those statements wait in recheck as gone."),
+                "change. Turning a kind off keeps its human work: those statements wait in recheck as gone. The "
+                "breakdown kind (breakdowns by group) is drafted only when named here."),
+    SettingSpec("evaluative_words", "Evaluative words", False,
+                "Open a statement of an entity's own change that improved or worsened with 'Fortunately' or "
+                "'Unfortunately' (never a gap between subgroups)."),
     SettingSpec("untraced_numbers", "Untraced numbers when publishing", "warn",
                 "What publishing does with typed numbers that match no fact.", ("warn", "refuse")),
     SettingSpec("self_approval", "Reviewers may approve their own rewrites", False,
@@ -87,8 +94,8 @@ SETTINGS: tuple[SettingSpec, ...] = (
 BY_KEY = {spec.key: spec for spec in SETTINGS}
 
 #: settings that change the drafts (a redraft follows a change)
-STYLE_KEYS = ("kinds", "entity_noun", "level_nouns", "locale", "serial_comma", "percent_word", "small_numbers_in_words",
-              "possessive_after_s")
+STYLE_KEYS = ("kinds", "evaluative_words", "entity_noun", "level_nouns", "locale", "serial_comma", "percent_word",
+              "small_numbers_in_words", "possessive_after_s")
 
 
 def spec(key: str) -> SettingSpec:

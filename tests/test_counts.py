@@ -10,7 +10,7 @@ from pathlib import Path
 import pytest
 from helpers import ON_POSTGRES, Cli
 
-from stetline.loading import LoadSummary
+from stetline.loadsummary import LoadSummary
 from stetline.store import ops
 from stetline.web import create_app
 from stetline.workspace import Workspace

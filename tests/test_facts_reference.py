@@ -46,8 +46,12 @@ def demo(edition: str) -> Dataset:
 
 
 def read_input(name: str) -> pd.DataFrame:
-    """A demo file as plain text columns, as a person would open it (no engine code involved)."""
-    return pd.read_csv(DEMO_FILES / name, dtype=str, keep_default_na=False)
+    """A demo file as plain text columns, as a person would open it (no engine code involved); of the
+    observations, the totals (rows with an empty breakdown: the rows every kind but breakdown reads)."""
+    frame = pd.read_csv(DEMO_FILES / name, dtype=str, keep_default_na=False)
+    if "breakdown" in frame.columns:
+        frame = frame.loc[frame["breakdown"] == ""].reset_index(drop=True)
+    return frame
 
 
 def write_edition(

@@ -187,6 +187,9 @@ def _same_as_current(preview: dict[str, Any], sources: tuple[Path, Path | None, 
     columns = ["entity", "topic", "period", "value", "margin", "status"]
     if _rows(dataset.observations, columns) != _rows(ops.observations_frame(s), columns):
         return False
+    subgroups = ["entity", "topic", "breakdown", "subgroup", "period", "value", "margin", "status", "share"]
+    if _rows(dataset.breakdowns, subgroups) != _rows(ops.breakdowns_frame(s), subgroups):
+        return False  # the subgroups changed (they may change no statement while the breakdown kind is off)
     metadata = ((sources[1], dataset.topics, known_topics), (sources[2], dataset.entities, known_entities))
     for given, new, known in metadata:
         if given is None:

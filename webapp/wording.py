@@ -107,6 +107,8 @@ def slot_title(slot_id: str) -> str:
         entity = entities.get(keys[0], keys[0])
     where = " in ".join(x for x in (topic, entity) if x)
     label = kind.replace("_", " ").replace("-", " ")
+    if len(keys) >= 3:  # a breakdown by group: "… — breakdown by age"
+        label = f"{label} by {keys[2]}"
     return f"{where} — {label}" if where else words.capitalise(label)
 
 

@@ -12,11 +12,24 @@ from typing import Any
 
 from stetline.drafting import TEMPLATES, Context
 from stetline.errors import StetlineError
-from stetline.kinds import blurb, change, headline, leaders, movement, profile, roundup, standing, trend
+from stetline.kinds import (
+    blurb,
+    breakdown,
+    change,
+    headline,
+    leaders,
+    movement,
+    profile,
+    roundup,
+    standing,
+    trend,
+)
 from stetline.workspace import copy_builtin
 
 #: every kind, in the order statements are listed within an entity or topic
-KINDS: tuple[ModuleType, ...] = (headline, profile, standing, change, trend, blurb, leaders, movement, roundup)
+KINDS: tuple[ModuleType, ...] = (
+    headline, profile, standing, change, trend, blurb, leaders, movement, roundup, breakdown,
+)
 BY_NAME = {k.KIND: k for k in KINDS}
 #: the kinds composed from others' facts: a recheck judges only the facts their text states
 COMPOSED = ("blurb", "roundup")

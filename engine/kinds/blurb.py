@@ -34,7 +34,7 @@ PRINTED = {
 #: the average of all is printed only when there is no group to compare with
 _ALL_MEAN = ("all_mean", "all_gap")
 #: what the template reads of a part that a cell lacks
-_NO_CHANGE = {"state": "", "improved": False, "worsened": False, "prev_period": "", "revised": ""}
+_NO_CHANGE = {"state": "", "improved": False, "worsened": False, "prev_period": "", "revised": "", "evaluative": ""}
 _NO_TREND = {"streak": 0, "record": "none", "since": "", "participle": "", "periods_word": "", "natural": True,
              "run_since": ""}
 

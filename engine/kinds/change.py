@@ -28,6 +28,13 @@ PHRASINGS = 2
 AVERAGE_WORDINGS = 3
 
 
+def evaluative_word(ctx: Context, variables: dict[str, object]) -> str:
+    """'Fortunately' or 'Unfortunately' for a change that improved or worsened, when the house style asks ('')."""
+    if not ctx.evaluative_words or variables["state"] not in ("up", "down"):
+        return ""
+    return "Fortunately" if variables["improved"] else ("Unfortunately" if variables["worsened"] else "")
+
+
 def candidates(ctx: Context) -> Iterator[Candidate]:
     """One change statement per entity × topic cell, including those that cannot state one."""
     style = ctx.style
@@ -50,8 +57,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "lower_label": ctx.lower_label(c.topic),
             "the_label": ctx.the_label(c.topic), "period": c.period, "prev_period": prev_period,
             "caveat": caveat(c.status),
-            "state": "", "revised": "", "neutral": c.better == "neutral", "nouns": nouns, "average_move": "",
-            "average_wording": 0,
+            "state": "", "revised": "", "evaluative": "", "neutral": c.better == "neutral", "nouns": nouns,
+            "average_move": "", "average_wording": 0,
         }
         interest = 0.1
         variables["now_revised"] = ""
@@ -115,6 +122,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                 variables["average_wording"] = phrasing_index(slot + "#average", AVERAGE_WORDINGS)
         variables["improved"] = c.better_change == "improved"
         variables["worsened"] = c.better_change == "worsened"
+        variables["evaluative"] = evaluative_word(ctx, variables)
         variables["significant"] = significant is True
         size = abs(change) / spread[c.topic] if spread.get(c.topic) else 0.0
         interest = 0.3 + min(0.5, 0.5 * size) + (0.2 if significant else 0.0)

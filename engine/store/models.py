@@ -113,6 +113,29 @@ class Observation(Base):
     )
 
 
+class BreakdownObservation(Base):
+    """One value of one subgroup of a breakdown (age band 65+), valid over a range of editions.
+
+    The totals stay in ``observation``; rows here are read only by the breakdown kind.
+    """
+
+    __tablename__ = "breakdown_observation"
+    id: Mapped[int] = mapped_column(primary_key=True)
+    entity: Mapped[str] = mapped_column(String(200))
+    topic: Mapped[str] = mapped_column(String(200))
+    breakdown: Mapped[str] = mapped_column(String(200))
+    subgroup: Mapped[str] = mapped_column(String(300))
+    period: Mapped[str] = mapped_column(String(20))
+    value: Mapped[float | None]
+    margin: Mapped[float | None]
+    status: Mapped[str] = mapped_column(String(20), default="")
+    share: Mapped[float | None]
+    valid_from: Mapped[int] = mapped_column(ForeignKey("edition.id"))
+    valid_to: Mapped[int | None] = mapped_column(ForeignKey("edition.id"))
+
+    __table_args__ = (Index("ix_breakdown_observation_current", "valid_to", "entity", "topic"),)
+
+
 class Slot(Base):
     """The stable identity of a statement across editions, with its current state."""
 

@@ -20,6 +20,7 @@ Callers write ``ops.name(...)``; the names below are the public ones.
 from __future__ import annotations
 
 from stetline.store.ops.editions import (
+    breakdowns_frame,
     current_edition,
     edition_by_label,
     editions,
@@ -35,6 +36,7 @@ from stetline.store.ops.editions import (
     replace_metadata,
     replaced_values,
     series,
+    store_breakdowns,
     store_observations,
     topic_rows,
     topics_frame,
@@ -112,7 +114,8 @@ from stetline.store.ops.slots import (
 __all__ = [
     "get_settings", "put_setting", "current_edition", "editions", "edition_by_label", "label_taken",
     "topic_rows", "entity_rows", "get_entity", "get_topic", "topics_frame", "entities_frame",
-    "replace_metadata", "observations_frame", "store_observations", "replaced_values", "series",
+    "replace_metadata", "observations_frame", "store_observations", "breakdowns_frame", "store_breakdowns",
+    "replaced_values", "series",
     "latest_values", "get_slot", "get_draft", "active_layers", "text_layer_history", "active_approval", "last_approval",
     "add_layer", "drop", "add_approval", "layers_for", "approvals_for", "all_active_layers",
     "all_active_approvals", "slot_statuses", "listed", "SlotFilter", "list_slots", "count_slots",

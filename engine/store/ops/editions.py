@@ -8,7 +8,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session, aliased
 
 from stetline import periods
-from stetline.store.models import Edition, Entity, Observation, Setting, Topic
+from stetline.store.models import BreakdownObservation, Edition, Entity, Observation, Setting, Topic
 
 if TYPE_CHECKING:  # imported where a frame is built: `stetline status` never needs pandas
     import pandas as pd
@@ -133,24 +133,33 @@ def _update(row: Topic | Entity, values: dict[str, Any]) -> None:
 
 
 OBS_KEY = ["entity", "topic", "period"]
+OBS_COLUMNS = ["value", "margin", "status"]
+#: a subgroup's value is keyed by its breakdown and subgroup too, and carries the subgroup's share
+BREAKDOWN_KEY = ["entity", "topic", "breakdown", "subgroup", "period"]
+BREAKDOWN_COLUMNS = ["value", "margin", "status", "share"]
+_FLOATS = ("value", "margin", "share")
+
+
+def _valid_in(model: Any, columns: list[str], session: Session, edition_id: int | None) -> pd.DataFrame:
+    """The rows of a versioned table valid in an edition (default: the current ones)."""
+    q = select(model.id, *(getattr(model, c) for c in columns))
+    if edition_id is None:
+        q = q.where(model.valid_to.is_(None))
+    else:
+        q = q.where(model.valid_from <= edition_id).where((model.valid_to.is_(None)) | (model.valid_to > edition_id))
+    floats = tuple(c for c in columns if c in _FLOATS)
+    frame = to_frame(session.execute(q).all(), ["id", *columns], floats)
+    return frame.astype(dict.fromkeys(floats, "float64"))
 
 
 def observations_frame(session: Session, edition_id: int | None = None) -> pd.DataFrame:
-    """The observations valid in an edition (default: the current ones)."""
+    """The observations (totals) valid in an edition (default: the current ones)."""
+    return _valid_in(Observation, OBS_KEY + OBS_COLUMNS, session, edition_id)
 
-    q = select(
-        Observation.id, Observation.entity, Observation.topic, Observation.period,
-        Observation.value, Observation.margin, Observation.status,
-    )
-    if edition_id is None:
-        q = q.where(Observation.valid_to.is_(None))
-    else:
-        q = q.where(Observation.valid_from <= edition_id).where(
-            (Observation.valid_to.is_(None)) | (Observation.valid_to > edition_id)
-        )
-    rows = session.execute(q).all()
-    frame = to_frame(rows, ["id", "entity", "topic", "period", "value", "margin", "status"], ("value", "margin"))
-    return frame.astype({"value": "float64", "margin": "float64"})
+
+def breakdowns_frame(session: Session, edition_id: int | None = None) -> pd.DataFrame:
+    """The observations of subgroups valid in an edition (default: the current ones)."""
+    return _valid_in(BreakdownObservation, BREAKDOWN_KEY + BREAKDOWN_COLUMNS, session, edition_id)
 
 
 def store_observations(
@@ -160,31 +169,37 @@ def store_observations(
 
     ``current`` is what observations_frame(session) gives, when the caller has already read it.
     """
-
     old = observations_frame(session) if current is None else current
-    new = observations[["entity", "topic", "period", "value", "margin", "status"]]
-    merged = new.merge(old, on=OBS_KEY, how="outer", suffixes=("", "_old"), indicator=True)
+    return _version(session, Observation, OBS_KEY, OBS_COLUMNS, edition_id, observations, old)
+
+
+def store_breakdowns(session: Session, edition_id: int, breakdowns: pd.DataFrame) -> dict[str, int]:
+    """Version the subgroups' observations as the totals are: only rows that changed or left are written."""
+    return _version(session, BreakdownObservation, BREAKDOWN_KEY, BREAKDOWN_COLUMNS, edition_id, breakdowns,
+                    breakdowns_frame(session))
+
+
+def _version(session: Session, model: Any, key: list[str], compared: list[str], edition_id: int,
+             rows: pd.DataFrame, old: pd.DataFrame) -> dict[str, int]:
+    """Close the rows of ``old`` that changed or left, insert the new and changed rows of ``rows``."""
+    new = rows[key + compared]
+    merged = new.merge(old, on=key, how="outer", suffixes=("", "_old"), indicator=True)
 
     def same(a: pd.Series, b: pd.Series) -> pd.Series:
         return (a == b) | (a.isna() & b.isna())
 
     both = merged["_merge"] == "both"
-    unchanged = both & same(merged["value"], merged["value_old"]) & same(merged["margin"], merged["margin_old"]) & (
-        merged["status"] == merged["status_old"]
-    )
+    unchanged = both
+    for c in compared:
+        unchanged = unchanged & same(merged[c], merged[f"{c}_old"])
     to_close = merged.loc[(merged["_merge"] == "right_only") | (both & ~unchanged), "id"].dropna().astype("int64")
-    columns_in = ["entity", "topic", "period", "value", "margin", "status"]
-    to_insert = merged.loc[(merged["_merge"] == "left_only") | (both & ~unchanged), columns_in]
+    to_insert = merged.loc[(merged["_merge"] == "left_only") | (both & ~unchanged), key + compared]
     ids = to_close.tolist()
-    write_many(session, Observation, ["valid_to"], [(edition_id, i) for i in ids], where="id")
+    write_many(session, model, ["valid_to"], [(edition_id, i) for i in ids], where="id")
     n = len(to_insert)
-    columns = {
-        "entity": to_insert["entity"].tolist(), "topic": to_insert["topic"].tolist(),
-        "period": to_insert["period"].tolist(),
-        "value": floats_or_none(to_insert["value"]), "margin": floats_or_none(to_insert["margin"]),
-        "status": to_insert["status"].tolist(), "valid_from": [edition_id] * n, "valid_to": [None] * n,
-    }
-    write_many(session, Observation, list(columns), list(zip(*columns.values())))
+    columns = {c: floats_or_none(to_insert[c]) if c in _FLOATS else to_insert[c].tolist() for c in key + compared}
+    columns.update(valid_from=[edition_id] * n, valid_to=[None] * n)
+    write_many(session, model, list(columns), list(zip(*columns.values())))
     return {"closed": len(ids), "inserted": n}
 
 

@@ -12,7 +12,17 @@ from typing import TYPE_CHECKING, Any
 from sqlalchemy import func, select, text
 from sqlalchemy.orm import Session
 
-from stetline.store.models import Approval, Draft, Edition, Event, Layer, Observation, Slot, utcnow
+from stetline.store.models import (
+    Approval,
+    BreakdownObservation,
+    Draft,
+    Edition,
+    Event,
+    Layer,
+    Observation,
+    Slot,
+    utcnow,
+)
 from stetline.store.ops.bulk import id_chunks, write_many
 
 if TYPE_CHECKING:  # imported where used: `stetline status` never needs drafting (pandas, Jinja2)
@@ -149,6 +159,6 @@ def _rebase(session: Session, decisions: Iterable[Decision], drafts: dict[str, D
 def table_counts(session: Session) -> dict[str, int]:
     """Row counts of the tables a refresh may write (for checks and benchmarks)."""
     out = {}
-    for model in (Edition, Observation, Slot, Draft, Layer, Approval, Event):
+    for model in (Edition, Observation, BreakdownObservation, Slot, Draft, Layer, Approval, Event):
         out[model.__tablename__] = int(session.scalar(select(func.count()).select_from(model)) or 0)
     return out
