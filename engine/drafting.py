@@ -21,13 +21,16 @@ from typing import Any
 
 import jinja2
 import orjson
+import pandas as pd
 
-from stetline import phrasing
+from stetline import figures, phrasing
 from stetline.errors import StetlineError
 from stetline.facts import Facts
 from stetline.phrasing import HouseStyle
 
 TEMPLATES = Path(__file__).parent / "kinds" / "templates"
+#: the kinds that state the figures of every entity × topic cell (Context.write_columns writes them ahead)
+CELL_KINDS = frozenset({"standing", "change", "trend"})
 
 
 @dataclass
@@ -178,6 +181,7 @@ class Context:
     kinds: tuple[str, ...] = ()
     # wording already worked out (the same counts, labels and means recur across thousands of cells)
     _values_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    _amounts_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _lower_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     # the candidates of part kinds that composed kinds read, kept while one drafting pass runs
@@ -261,10 +265,40 @@ class Context:
 
     def amount(self, topic: str, x: float) -> str:
         """The size of a difference in the topic's own terms: points for percent, else unit."""
-        meta = self.topics[topic]
-        if meta["unit"] == "percent":
-            return phrasing.points(abs(float(x)), int(meta["decimals"]), self.style)
-        return phrasing.value(abs(float(x)), str(meta["unit"]), int(meta["decimals"]), self.style)
+        x = float(x)
+        key = (topic, x)
+        shown = self._amounts_shown.get(key)
+        if shown is None:
+            meta = self.topics[topic]
+            if meta["unit"] == "percent":
+                shown = phrasing.points(abs(x), int(meta["decimals"]), self.style)
+            else:
+                shown = phrasing.value(abs(x), str(meta["unit"]), int(meta["decimals"]), self.style)
+            self._amounts_shown[key] = shown
+        return shown
+
+    def write_columns(self) -> None:
+        """Write the cells' figures column by column, one topic at a time, ahead of the kinds.
+
+        The values (value, previous value, group and overall means, target) and the differences
+        (gaps to the means, change) the cell kinds show, each written once per topic through
+        figures.values_shown and amounts_shown, which give value()'s and amount()'s text; the
+        kinds then find every one already written.
+        """
+        cells = self.facts.cells
+        values = [c for c in ("value", "prev_value", "group_mean", "all_mean", "target") if c in cells.columns]
+        amounts = [c for c in ("group_gap", "all_gap", "change") if c in cells.columns]
+        for topic, rows in cells.groupby("topic", sort=False)[values + amounts]:
+            meta = self.topics.get(str(topic))
+            if meta is None:
+                continue
+            unit, decimals = str(meta["unit"]), int(meta["decimals"])
+            for columns, cache, write in ((values, self._values_shown, figures.values_shown),
+                                          (amounts, self._amounts_shown, figures.amounts_shown)):
+                xs = pd.unique(rows[columns].to_numpy(dtype="float64").ravel())
+                xs = [x for x in xs.tolist() if x == x and (str(topic), x) not in cache]
+                for x, shown in zip(xs, write(xs, unit, decimals, self.style)):
+                    cache[(str(topic), x)] = shown
 
 
 def lower_first(text: str) -> str:
@@ -323,6 +357,8 @@ def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterato
     """Draft every slot of every kind, in kind order; the parts of composed kinds are worked out once."""
     kinds = list(kinds)
     shared = {part for kind in kinds for part in getattr(kind, "PARTS", ())}
+    if ({kind.KIND for kind in kinds} | shared) & CELL_KINDS:
+        ctx.write_columns()
     try:
         yield from _draft_kinds(ctx, renderer, kinds, shared)
     finally:
