@@ -14,6 +14,8 @@ spread) score higher; missing or unchanged figures score lowest (0.1 to 0.2).
 from __future__ import annotations
 
 import hashlib
+import pickle  # only drafts this process's own workers made are unpickled
+from collections import Counter
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -86,9 +88,14 @@ class Draft:
         return self._serialised()[2]
 
     def to_row(self) -> tuple[Any, ...]:
-        """The draft as plain values, its evidence and claims as their JSON: what a drafting process sends back."""
+        """The draft as plain values, its evidence and claims as their JSON: what a drafting process sends back.
+
+        A composed draft's facts travel pickled (types kept exactly, a tenth of the memory of the
+        dictionaries) and are unpickled only if reconciling reads them (a slot with human work).
+        """
+        facts = None if self.facts is None else pickle.dumps(self.facts, pickle.HIGHEST_PROTOCOL)
         return (self.slot, self.kind, self.entity, self.topic, self.text, self.interest, self.phrasing,
-                self._serialised(), self.facts)
+                self._serialised(), facts)
 
     @classmethod
     def from_row(cls, row: tuple[Any, ...]) -> Draft:
@@ -115,7 +122,20 @@ class SentDraft(Draft):
     def __init__(self, row: tuple[Any, ...]) -> None:
         slot, kind, entity, topic, text, interest, choice, serialised, facts = row
         self.__dict__.update(slot=slot, kind=kind, entity=entity, topic=topic, text=text, interest=interest,
-                             phrasing=choice, _sent=serialised, facts=facts)
+                             phrasing=choice, _sent=serialised)
+        self.__dict__["_facts_sent"] = facts
+
+    @property  # type: ignore[override]
+    def facts(self) -> dict[str, Any] | None:
+        """The composed kind's facts, unpickled when first read."""
+        sent = self.__dict__.get("_facts_sent")
+        if isinstance(sent, bytes):
+            sent = self.__dict__["_facts_sent"] = pickle.loads(sent)
+        return sent
+
+    @facts.setter
+    def facts(self, value: dict[str, Any] | None) -> None:
+        self.__dict__["_facts_sent"] = value
 
     def __getattr__(self, name: str) -> Any:
         if name in ("evidence", "claims"):
@@ -186,6 +206,8 @@ class Context:
     _lower_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     # the candidates of part kinds that composed kinds read, kept while one drafting pass runs
     _kept: dict[str, list[Candidate]] = field(default_factory=dict, init=False, repr=False, compare=False)
+    # the part kinds a drafting pass reads more than once (the others are read as they come)
+    _keep: set[str] = field(default_factory=set, init=False, repr=False, compare=False)
 
     def kept(self, kind: Any) -> list[Candidate]:
         """A kind's candidates, computed once per drafting pass (composed kinds read their parts')."""
@@ -193,6 +215,16 @@ class Context:
         if got is None:
             got = self._kept[kind.KIND] = list(kind.candidates(self))
         return got
+
+    def part(self, kind: Any) -> Iterable[Candidate]:
+        """A part kind's candidates for a composed kind: kept when the pass reads them again, else as they come.
+
+        A worker drafting a blurb alone reads the standing, change and trend candidates of each cell
+        once, so it holds none of them longer than its cell (a pass drafting those kinds too keeps them).
+        """
+        if kind.KIND in self._keep or kind.KIND in self._kept:
+            return self.kept(kind)
+        return kind.candidates(self)
 
     @property
     def entity_nouns(self) -> str:
@@ -356,13 +388,17 @@ class Renderer:
 def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterator[Draft]:
     """Draft every slot of every kind, in kind order; the parts of composed kinds are worked out once."""
     kinds = list(kinds)
-    shared = {part for kind in kinds for part in getattr(kind, "PARTS", ())}
-    if ({kind.KIND for kind in kinds} | shared) & CELL_KINDS:
+    readers = Counter(part for kind in kinds for part in getattr(kind, "PARTS", ()))
+    readers.update(kind.KIND for kind in kinds if kind.KIND in readers)
+    shared = {part for part, n in readers.items() if n > 1}  # parts read twice in this pass: kept
+    if ({kind.KIND for kind in kinds} | set(readers)) & CELL_KINDS:
         ctx.write_columns()
+    ctx._keep = shared
     try:
         yield from _draft_kinds(ctx, renderer, kinds, shared)
     finally:
         ctx._kept.clear()
+        ctx._keep = set()
 
 
 def _draft_kinds(ctx: Context, renderer: Renderer, kinds: list[Any], shared: set[str]) -> Iterator[Draft]:
