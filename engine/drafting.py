@@ -14,20 +14,23 @@ spread) score higher; missing or unchanged figures score lowest (0.1 to 0.2).
 from __future__ import annotations
 
 import hashlib
+import pickle  # only drafts this process's own workers made are unpickled
+from collections import Counter
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field, replace
-from pathlib import Path
 from typing import Any
 
 import jinja2
 import orjson
+import pandas as pd
 
-from stetline import nesting, phrasing
-from stetline.errors import StetlineError
+from stetline import figures, nesting, phrasing
 from stetline.facts import Facts
 from stetline.phrasing import HouseStyle
+from stetline.rendering import Renderer, line_in, template_error
 
-TEMPLATES = Path(__file__).parent / "kinds" / "templates"
+#: the kinds that state the figures of every entity × topic cell (Context.write_columns writes them ahead)
+CELL_KINDS = frozenset({"standing", "change", "trend"})
 
 
 @dataclass
@@ -83,9 +86,14 @@ class Draft:
         return self._serialised()[2]
 
     def to_row(self) -> tuple[Any, ...]:
-        """The draft as plain values, its evidence and claims as their JSON: what a drafting process sends back."""
+        """The draft as plain values, its evidence and claims as their JSON: what a drafting process sends back.
+
+        A composed draft's facts travel pickled (types kept exactly, a tenth of the memory of the
+        dictionaries) and are unpickled only if reconciling reads them (a slot with human work).
+        """
+        facts = None if self.facts is None else pickle.dumps(self.facts, pickle.HIGHEST_PROTOCOL)
         return (self.slot, self.kind, self.entity, self.topic, self.text, self.interest, self.phrasing,
-                self._serialised(), self.facts)
+                self._serialised(), facts)
 
     @classmethod
     def from_row(cls, row: tuple[Any, ...]) -> Draft:
@@ -112,7 +120,20 @@ class SentDraft(Draft):
     def __init__(self, row: tuple[Any, ...]) -> None:
         slot, kind, entity, topic, text, interest, choice, serialised, facts = row
         self.__dict__.update(slot=slot, kind=kind, entity=entity, topic=topic, text=text, interest=interest,
-                             phrasing=choice, _sent=serialised, facts=facts)
+                             phrasing=choice, _sent=serialised)
+        self.__dict__["_facts_sent"] = facts
+
+    @property  # type: ignore[override]
+    def facts(self) -> dict[str, Any] | None:
+        """The composed kind's facts, unpickled when first read."""
+        sent = self.__dict__.get("_facts_sent")
+        if isinstance(sent, bytes):
+            sent = self.__dict__["_facts_sent"] = pickle.loads(sent)
+        return sent
+
+    @facts.setter
+    def facts(self, value: dict[str, Any] | None) -> None:
+        self.__dict__["_facts_sent"] = value
 
     def __getattr__(self, name: str) -> Any:
         if name in ("evidence", "claims"):
@@ -188,10 +209,14 @@ class Context:
     # wording already worked out (the same counts, labels and means recur across thousands of cells)
     _values_shown: dict[tuple[str, float, bool], str] = field(
         default_factory=dict, init=False, repr=False, compare=False)
+    _amounts_shown: dict[tuple[str, float, bool], str] = field(
+        default_factory=dict, init=False, repr=False, compare=False)
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _lower_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     # the candidates of part kinds that composed kinds read, kept while one drafting pass runs
     _kept: dict[str, list[Candidate]] = field(default_factory=dict, init=False, repr=False, compare=False)
+    # the part kinds a drafting pass reads more than once (the others are read as they come)
+    _keep: set[str] = field(default_factory=set, init=False, repr=False, compare=False)
 
     def kept(self, kind: Any) -> list[Candidate]:
         """A kind's candidates, computed once per drafting pass (composed kinds read their parts')."""
@@ -225,6 +250,16 @@ class Context:
             token = "" if depth == facts.main_depth else nesting.level_token(depth)
             out.append((token, replace(self, facts=sub, entity_noun=self.level_noun(depth))))
         return out
+
+    def part(self, kind: Any) -> Iterable[Candidate]:
+        """A part kind's candidates for a composed kind: kept when the pass reads them again, else as they come.
+
+        A worker drafting a blurb alone reads the standing, change and trend candidates of each cell
+        once, so it holds none of them longer than its cell (a pass drafting those kinds too keeps them).
+        """
+        if kind.KIND in self._keep or kind.KIND in self._kept:
+            return self.kept(kind)
+        return kind.candidates(self)
 
     @property
     def entity_nouns(self) -> str:
@@ -298,82 +333,66 @@ class Context:
 
     def amount(self, topic: str, x: float, wide: bool = False) -> str:
         """The size of a difference in the topic's own terms: points for percent, else unit."""
-        meta = self.topics[topic]
-        if meta["unit"] == "percent":
-            return phrasing.points(abs(float(x)), int(meta["decimals"]), self.style)
-        return phrasing.value(abs(float(x)), str(meta["unit"]), int(meta["decimals"]), self.style, wide)
+        x = float(x)
+        key = (topic, x, wide)
+        shown = self._amounts_shown.get(key)
+        if shown is None:
+            meta = self.topics[topic]
+            if meta["unit"] == "percent":
+                shown = phrasing.points(abs(x), int(meta["decimals"]), self.style)
+            else:
+                shown = phrasing.value(abs(x), str(meta["unit"]), int(meta["decimals"]), self.style, wide)
+            self._amounts_shown[key] = shown
+        return shown
 
     @staticmethod
-    def wide(*figures: Any) -> bool:
+    def wide(*values: Any) -> bool:
         """True when a statement's figures of one topic include one scaled in words (a million or more).
 
         Its other figures from a thousand up are then scaled too, so one statement never mixes
         "2.4 million" with "45,678" (a topic shown with decimals is never scaled).
         """
-        sizes = [abs(float(x)) for x in figures if x is not None and x == x]
+        sizes = [abs(float(x)) for x in values if x is not None and x == x]
         return any(size >= 1_000_000 for size in sizes)
 
+    def write_columns(self) -> None:
+        """Write the cells' figures column by column, one topic at a time, ahead of the kinds.
 
-def lower_first(text: str) -> str:
-    """Lower-case the first letter only when the first word is plainly an ordinary word (names, GP, No. 12 kept)."""
-    return phrasing.in_sentence(text)
-
-
-class Renderer:
-    """The compiled templates of every kind; workspace copies render in the sandbox."""
-
-    def __init__(self, style: HouseStyle, workspace_dir: Path | None = None) -> None:
-        filters = phrasing.make_filters(style)
-        filters["and_list"] = filters.pop("join")  # keep Jinja's own join filter
-        filters["lower_first"] = lower_first
-        self._builtin = jinja2.Environment(
-            loader=jinja2.FileSystemLoader(str(TEMPLATES)), autoescape=False,
-            undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True,
-        )
-        self._builtin.filters.update(filters)
-        self._sandbox: jinja2.Environment | None = None
-        self._workspace_dir = workspace_dir
-        if workspace_dir is not None and workspace_dir.is_dir():
-            from stetline.sandbox import CappedSandbox  # caps the work of each render
-
-            self._sandbox = CappedSandbox(
-                loader=jinja2.FileSystemLoader(str(workspace_dir)), autoescape=False,
-                undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True,
-            )
-            self._sandbox.add_filters(filters)
-        self._cache: dict[str, jinja2.Template] = {}
-
-    def template(self, kind: str) -> jinja2.Template:
-        """The compiled template of a kind: the workspace's copy if there is one."""
-        if kind not in self._cache:
-            name = f"{kind}.j2"
-            try:
-                if self._sandbox is not None and self._workspace_dir and (self._workspace_dir / name).exists():
-                    template = self._sandbox.get_template(name)
-                else:
-                    template = self._builtin.get_template(name)
-            except jinja2.TemplateSyntaxError as exc:
-                raise template_error(kind, exc.filename or name, exc.lineno, exc) from None
-            # Jinja2 chains a template's globals over its environment's and copies the chain at
-            # every render; one flat copy (this renderer never changes them) saves a third of
-            # each render's overhead
-            template.globals = dict(template.globals)
-            self._cache[kind] = template
-        return self._cache[kind]
-
-    def render(self, kind: str, variables: dict[str, Any]) -> str:
-        """Render a kind's template and tidy the spacing."""
-        return phrasing.tidy(self.template(kind).render(variables))
+        The values (value, previous value, group and overall means, target) and the differences
+        (gaps to the means, change) the cell kinds show, each written once per topic through
+        figures.values_shown and amounts_shown, which give value()'s and amount()'s text; the
+        kinds then find every one already written.
+        """
+        cells = self.facts.cells
+        values = [c for c in ("value", "prev_value", "group_mean", "all_mean", "target") if c in cells.columns]
+        amounts = [c for c in ("group_gap", "all_gap", "change") if c in cells.columns]
+        for topic, rows in cells.groupby("topic", sort=False)[values + amounts]:
+            meta = self.topics.get(str(topic))
+            if meta is None:
+                continue
+            unit, decimals = str(meta["unit"]), int(meta["decimals"])
+            for columns, cache, write in ((values, self._values_shown, figures.values_shown),
+                                          (amounts, self._amounts_shown, figures.amounts_shown)):
+                xs = pd.unique(rows[columns].to_numpy(dtype="float64").ravel())
+                xs = [x for x in xs.tolist() if x == x and (str(topic), x, False) not in cache]
+                for x, shown in zip(xs, write(xs, unit, decimals, self.style)):
+                    cache[(str(topic), x, False)] = shown
 
 
 def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterator[Draft]:
     """Draft every slot of every kind, in kind order; the parts of composed kinds are worked out once."""
     kinds = list(kinds)
-    shared = {part for kind in kinds for part in getattr(kind, "PARTS", ())}
+    readers = Counter(part for kind in kinds for part in getattr(kind, "PARTS", ()))
+    readers.update(kind.KIND for kind in kinds if kind.KIND in readers)
+    shared = {part for part, n in readers.items() if n > 1}  # parts read twice in this pass: kept
+    if ({kind.KIND for kind in kinds} | set(readers)) & CELL_KINDS:
+        ctx.write_columns()
+    ctx._keep = shared
     try:
         yield from _draft_kinds(ctx, renderer, kinds, shared)
     finally:
         ctx._kept.clear()
+        ctx._keep = set()
 
 
 def _draft_kinds(ctx: Context, renderer: Renderer, kinds: list[Any], shared: set[str]) -> Iterator[Draft]:
@@ -385,31 +404,9 @@ def _draft_kinds(ctx: Context, renderer: Renderer, kinds: list[Any], shared: set
                 text = phrasing.tidy(template.render(c.variables, p=choice, ev=_shown(c.evidence), c=c.claims))
             except jinja2.TemplateError as exc:
                 where = template.filename or f"{kind.KIND}.j2"
-                raise template_error(kind.KIND, where, _line_in(exc, where), exc, c.slot) from None
+                raise template_error(kind.KIND, where, line_in(exc, where), exc, c.slot) from None
             yield Draft(c.slot, c.kind, c.entity, c.topic, text, c.evidence, c.claims, round(c.interest, 4), choice,
                         c.facts)
-
-
-def template_error(kind: str, where: str, line: int | None, exc: jinja2.TemplateError,
-                   slot: str | None = None) -> StetlineError:
-    """A clear message for a kind's template that cannot be compiled or rendered."""
-    at = f"{where}, line {line}" if line else where
-    during = f", while drafting {slot}" if slot else ""
-    return StetlineError(
-        f"the {kind} template cannot be used ({at}{during}): {exc.message or exc}; fix the template and run the "
-        f"command again (the opening comment of the built-in {kind} template lists the variables it offers)"
-    )
-
-
-def _line_in(exc: BaseException, filename: str) -> int | None:
-    """The template line an error was raised at (Jinja2 puts template lines in the traceback)."""
-    line = None
-    tb = exc.__traceback__
-    while tb is not None:
-        if tb.tb_frame.f_code.co_filename == filename:
-            line = tb.tb_lineno
-        tb = tb.tb_next
-    return line
 
 
 def _shown(evidence: dict[str, dict[str, Any]]) -> dict[str, str]:

@@ -33,15 +33,17 @@ Rules chosen here:
 from __future__ import annotations
 
 import re
+from collections.abc import Sequence
 from dataclasses import dataclass
 from decimal import Decimal, localcontext
 from functools import lru_cache
 from typing import Final
 
+import numpy as np
 from babel import Locale, UnknownLocaleError
 from babel.numbers import format_decimal, get_currency_symbol, get_decimal_symbol, get_group_symbol, is_currency
 
-from stetline.rounding import CONTEXT, as_whole, check_decimals, quantize, to_decimal
+from stetline.rounding import CONTEXT, as_whole, check_decimals, quantize, round_half_up_array, to_decimal
 
 PERCENT_WORDS: Final[tuple[str, ...]] = ("%", "per cent", "percent")
 POSSESSIVES: Final[tuple[str, ...]] = ("'", "'s")
@@ -355,3 +357,63 @@ def ratio(r: float | Decimal, style: HouseStyle = DEFAULT) -> str:
     if d >= 1:
         return f"{_relative_size(d - 1, style)} higher"
     return f"{_relative_size(1 - d, style)} lower"
+
+
+def values_shown(xs: Sequence[float], unit: str, decimals: int, style: HouseStyle = DEFAULT) -> list[str]:
+    """Write a column of one topic's values, each exactly as :func:`value` writes it, at once.
+
+    The topic's pattern (percent sign and its place, the locale's signs) is worked out once and the
+    column rounded by :func:`stetline.rounding.round_half_up_array`, which gives round_half_up's
+    numbers; values it cannot write so (money, counts scaled in words, a locale that does not
+    group in threes, figures too long for a float to hold every digit) go through :func:`value`.
+    """
+    check_decimals(decimals)
+    nums = _locale_numbers(style.locale)
+    percent_unit = unit in ("percent", "%")
+    if nums.fallback_pattern is not None or (not percent_unit and is_currency_unit(unit)) or decimals > 15:
+        return [value(x, unit, decimals, style) for x in xs]
+    raw = np.asarray(xs, dtype="float64")
+    rounded = round_half_up_array(raw, decimals).tolist()
+    exact_below = 2.0**50 / 10.0**decimals  # every digit of a rounded figure below this is a float's own
+    scale_words = not percent_unit and decimals == 0
+    table = nums.table
+    if percent_unit and style.percent_word == "%":
+        (pos_pre, pos_suf), (neg_pre, neg_suf) = nums.percent_positive, nums.percent_negative
+    else:
+        after = f" {style.percent_word}" if percent_unit else (f" {unit}" if unit else "")
+        pos_pre, pos_suf, neg_pre, neg_suf = "", after, "-", after
+    spec = f",.{decimals}f"
+    out: list[str] = []
+    for x, r in zip(raw.tolist(), rounded):
+        size = abs(x)
+        if not size < exact_below or (scale_words and size >= 1_000_000):  # NaN, infinities and the rest too
+            out.append(value(x, unit, decimals, style))
+            continue
+        text = format(abs(r), spec)
+        if table is not None:
+            text = text.translate(table)
+        out.append(neg_pre + text + neg_suf if r < 0 else pos_pre + text + pos_suf)
+    return out
+
+
+def amounts_shown(xs: Sequence[float], unit: str, decimals: int, style: HouseStyle = DEFAULT) -> list[str]:
+    """Write a column of unsigned sizes of one topic (points for percent, else the unit), as Context.amount does."""
+    sizes = [abs(float(x)) for x in xs]
+    if unit != "percent":
+        return values_shown(sizes, unit, decimals, style)
+    nums = _locale_numbers(style.locale)
+    if nums.fallback_pattern is not None or decimals > 15:
+        return [points(x, decimals, style) for x in sizes]
+    rounded = round_half_up_array(sizes, decimals).tolist()
+    exact_below = 2.0**50 / 10.0**decimals
+    spec = f",.{decimals}f"
+    out: list[str] = []
+    for x, r in zip(sizes, rounded):
+        if not x < exact_below:
+            out.append(points(x, decimals, style))
+            continue
+        text = format(r, spec)
+        if nums.table is not None:
+            text = text.translate(nums.table)
+        out.append(f"{text} percentage point" if decimals == 0 and r == 1 else f"{text} percentage points")
+    return out

@@ -36,7 +36,9 @@ from stetline.progress import Progress, no_progress
 from stetline.reconcile import Decision, SlotState, reconcile
 from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.store import ops
-from stetline.store.models import Edition
+from stetline.store.models import Draft as DraftRow
+from stetline.store.models import Edition, Observation
+from stetline.store.models import Slot as SlotRow
 from stetline.workers import draft_kinds, worker_count
 from stetline.workspace import Workspace
 
@@ -235,18 +237,22 @@ def load_edition(
         session.add(edition)
         session.flush()
         ops.replace_metadata(session, dataset.topics, dataset.entities)
-        progress("writing statements", 0, len(decisions))
-        if plan is not None:
-            rename_mod.record(session, plan, edition.id, by)
-        ops.apply_decisions(session, edition.id, decisions, by_slot, by)
-        if plan is not None:
-            rename_mod.move(session, plan)
-        del decisions, by_slot, states  # the drafts are written: free them before the observations
-        count_unrenderable(summary, recheck_unrenderable(session, by=by))
-        progress("writing observations", 0, len(dataset.observations))
-        written = ops.store_observations(session, edition.id, dataset.observations, stored)
-        summary.observations_written = written["inserted"]
-        summary.breakdowns_written = ops.store_breakdowns(session, edition.id, dataset.breakdowns)["inserted"]
+        # a first load inserts into empty tables: their indexes are built once the rows are in
+        with ops.indexes_deferred(session, (SlotRow, DraftRow, Observation)) as deferred:
+            progress("writing statements", 0, len(decisions))
+            if plan is not None:
+                rename_mod.record(session, plan, edition.id, by)
+            ops.apply_decisions(session, edition.id, decisions, by_slot, by)
+            if plan is not None:
+                rename_mod.move(session, plan)
+            del decisions, by_slot, states  # the drafts are written: free them before the observations
+            count_unrenderable(summary, recheck_unrenderable(session, by=by))
+            progress("writing observations", 0, len(dataset.observations))
+            written = ops.store_observations(session, edition.id, dataset.observations, stored)
+            summary.observations_written = written["inserted"]
+            summary.breakdowns_written = ops.store_breakdowns(session, edition.id, dataset.breakdowns)["inserted"]
+            if deferred:
+                progress("building indexes", 0, None)
         session.flush()
         summary.totals = ops.workspace_counts(session).totals()
         edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs}

@@ -22,10 +22,11 @@ from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wai
 from pathlib import Path
 from typing import Any
 
-from stetline.drafting import Context, Draft, Renderer, draft_all
+from stetline.drafting import Context, Draft, draft_all
 from stetline.errors import StetlineError
 from stetline.kinds import chosen
 from stetline.progress import Progress, no_progress
+from stetline.rendering import Renderer
 
 #: fewer entity × topic cells than this draft in one process unless STETLINE_WORKERS says otherwise
 PARALLEL_FROM = 5_000

@@ -26,11 +26,12 @@ from scipy import stats
 from stetline import configure, loading, periods
 from stetline.breakdowns import breakdown_facts
 from stetline.dataset import load_dataset
-from stetline.drafting import Context, Draft, Renderer, draft_all
+from stetline.drafting import Context, Draft, draft_all
 from stetline.errors import ValidationError
 from stetline.facts import compute_facts
 from stetline.kinds import BY_NAME
 from stetline.phrasing import HouseStyle
+from stetline.rendering import Renderer
 from stetline.web import create_app
 from stetline.workspace import Workspace
 

@@ -32,10 +32,11 @@ from hypothesis import strategies as st
 
 from stetline import periods
 from stetline.audit import audit_text
-from stetline.drafting import Context, Renderer, draft_all
+from stetline.drafting import Context, draft_all
 from stetline.facts import compute_facts
 from stetline.kinds import KINDS
 from stetline.phrasing import HouseStyle
+from stetline.rendering import Renderer
 
 SPACINGS = ("year1", "year2", "year5", "quarter", "month")
 SETTINGS = settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])

@@ -17,10 +17,11 @@ import pytest
 from scipy import stats
 
 from stetline import periods
-from stetline.drafting import Context, Draft, Renderer, draft_all
+from stetline.drafting import Context, Draft, draft_all
 from stetline.facts import compute_facts
 from stetline.kinds import KINDS
 from stetline.phrasing import HouseStyle
+from stetline.rendering import Renderer
 
 ENTITIES = pd.DataFrame({
     "entity": ["a", "b", "c", "d"], "name": ["Ashby", "Brill", "Colne", "Dunmere"],

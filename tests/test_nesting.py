@@ -14,11 +14,12 @@ from scipy.stats import rankdata
 
 from stetline import loading, periods
 from stetline.dataset import load_dataset
-from stetline.drafting import Context, Renderer, draft_all
+from stetline.drafting import Context, draft_all
 from stetline.errors import ValidationError
 from stetline.facts import compute_facts
 from stetline.kinds import chosen
 from stetline.phrasing import HouseStyle
+from stetline.rendering import Renderer
 from stetline.store import ops
 from stetline.workspace import Workspace
 

@@ -16,9 +16,10 @@ import pandas as pd
 import pytest
 
 from stetline import periods, phrasing
-from stetline.drafting import Context, Renderer, draft_all
+from stetline.drafting import Context, draft_all
 from stetline.facts import compute_facts
 from stetline.kinds import change
+from stetline.rendering import Renderer
 from stetline.rounding import round_half_up, round_half_up_array
 
 

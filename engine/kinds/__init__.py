@@ -10,7 +10,7 @@ from pathlib import Path
 from types import ModuleType
 from typing import Any
 
-from stetline.drafting import TEMPLATES, Context
+from stetline.drafting import Context
 from stetline.errors import StetlineError
 from stetline.kinds import (
     blurb,
@@ -24,6 +24,7 @@ from stetline.kinds import (
     standing,
     trend,
 )
+from stetline.rendering import TEMPLATES
 from stetline.workspace import copy_builtin
 
 #: every kind, in the order statements are listed within an entity or topic

@@ -50,11 +50,8 @@ def stated(part: Candidate) -> bool:
 
 def candidates(ctx: Context) -> Iterator[Candidate]:
     """One blurb per entity × topic cell, its parts led by the most newsworthy."""
-    standings = parts.by_key(ctx, standing)
-    changes = parts.by_key(ctx, change)
-    trends = parts.by_key(ctx, trend)
-    for key, s in standings.items():
-        known = [p for p in (s, changes.get(key), trends.get(key)) if p is not None]
+    for s, (ch, tr) in parts.aligned(ctx, standing, (change, trend)):
+        known = [p for p in (s, ch, tr) if p is not None]
         if s.evidence["value"]["value"] is None:  # missing or withheld: the blurb says only that
             chosen = [s]
         else:
@@ -66,9 +63,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "name": s.variables["name"], "label": s.variables["label"], "the_label": s.variables["the_label"],
             "lower_label": s.variables["lower_label"], "prep": s.variables["prep"], "period": s.variables["period"],
             "caveat": s.variables["caveat"], "order": [p.kind for p in chosen],
-            "s": s.variables, "ch": {**_NO_CHANGE, **(changes[key].variables if key in changes else {})},
-            "tr": {**_NO_TREND, **(trends[key].variables if key in trends else {})},
+            "s": s.variables, "ch": {**_NO_CHANGE, **(ch.variables if ch is not None else {})},
+            "tr": {**_NO_TREND, **(tr.variables if tr is not None else {})},
         }
-        entity, topic = key
-        yield Candidate(slot_id(KIND, entity, topic), KIND, entity, topic, evidence, claims,
+        yield Candidate(slot_id(KIND, s.entity, s.topic), KIND, s.entity, s.topic, evidence, claims,
                         max(p.interest for p in chosen), variables, facts)

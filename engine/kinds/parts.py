@@ -6,7 +6,7 @@ workspace drafts them too, and the composed kinds share the answers. Nothing her
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Iterator, Mapping, Sequence
 from types import ModuleType
 from typing import Any
 
@@ -16,6 +16,31 @@ from stetline.drafting import Candidate, Context
 def by_key(ctx: Context, kind: ModuleType) -> dict[tuple[str | None, str | None], Candidate]:
     """A part kind's candidates by (entity, topic), computed once per drafting pass."""
     return {(c.entity, c.topic): c for c in ctx.kept(kind)}
+
+
+def aligned(ctx: Context, lead: ModuleType, others: Sequence[ModuleType],
+            ) -> Iterator[tuple[Candidate, list[Candidate | None]]]:
+    """Each candidate of ``lead`` with the candidates of ``others`` for its (entity, topic), read side by side.
+
+    The cell kinds yield their cells in the fact table's order (``lead`` every cell, the others
+    the cells they have something for), so a candidate is matched as it comes and none is held
+    past its cell: memory stays flat however many cells an edition has. A part left unmatched
+    (a kind yielding out of that order) is an error, never a part silently dropped.
+    """
+    streams = [iter(ctx.part(kind)) for kind in others]
+    heads = [next(stream, None) for stream in streams]
+    for c in ctx.part(lead):
+        matched: list[Candidate | None] = []
+        for i, head in enumerate(heads):
+            if head is not None and head.entity == c.entity and head.topic == c.topic:
+                matched.append(head)
+                heads[i] = next(streams[i], None)
+            else:
+                matched.append(None)
+        yield c, matched
+    unmatched = [f"{kind.KIND} {head.slot}" for kind, head in zip(others, heads) if head is not None]
+    if unmatched:
+        raise RuntimeError(f"part candidates out of the fact table's order: {', '.join(unmatched)}")
 
 
 def compose(stated: list[Candidate], known: list[Candidate], printed: Mapping[str, tuple[str, ...]] | None = None,

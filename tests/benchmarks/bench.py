@@ -58,6 +58,8 @@ TARGET_REFRESH = 1.5
 TARGET_NOOP = 0.5
 TARGET_MEMORY_MB = 2048
 TARGET_PAGES = 1.5
+#: the issue measures with every kind drafted, whatever a new workspace's default
+ALL_KINDS = "headline,profile,roundup,blurb,standing,change,trend,leaders,movement"
 SMALL = (20, 50)  # entities x topics of the 3,000-statement workspace the pages compare against
 
 # -- the floor ------------------------------------------------------------------------------
@@ -287,6 +289,7 @@ def run(args: argparse.Namespace, work: Path) -> bool:
           f"{n_obs:,} observations ({time.perf_counter() - t0:.1f} s to generate)", flush=True)
     cli = stetline()
     timed([cli, "init", "-w", str(ws)], work)
+    timed([cli, "settings", "-w", str(ws), "--by", BY, "kinds", ALL_KINDS], work)
 
     load = [cli, "load", "-w", str(ws), "--by", BY, "--json"]
     first = timed(load + [str(paths["observations"]), "--topics", str(paths["topics"]),
@@ -379,6 +382,7 @@ def build_small(work: Path, periods: int) -> Path:
     ws = work / "small-ws"
     cli = stetline()
     timed([cli, "init", "-w", str(ws)], work)
+    timed([cli, "settings", "-w", str(ws), "--by", BY, "kinds", ALL_KINDS], work)
     load = [cli, "load", "-w", str(ws), "--by", BY, "--json"]
     timed(load + [str(paths["observations"]), "--topics", str(paths["topics"]),
                   "--entities", str(paths["entities"])], work)

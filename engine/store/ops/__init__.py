@@ -5,7 +5,8 @@ draft row is written only when a slot's text, evidence or claims change, and lay
 approvals are never deleted (dropping stamps ``dropped_at``). One module per concern, each
 importing only the ones listed before it:
 
-- bulk: write_many (every bulk INSERT and UPDATE), id lists for IN (...), rows to frames
+- bulk: write_many (every bulk INSERT and UPDATE), indexes built after a first load's rows, id lists for
+  IN (...), rows to frames
 - editions: settings, editions, entity and topic metadata, observations
 - slots: a slot, its draft, layers and approvals
 - listing: the listed predicate, slot filters, listings and status counts, recheck choices
@@ -19,6 +20,7 @@ Callers write ``ops.name(...)``; the names below are the public ones.
 
 from __future__ import annotations
 
+from stetline.store.ops.bulk import indexes_deferred
 from stetline.store.ops.editions import (
     breakdowns_frame,
     current_edition,
@@ -121,7 +123,7 @@ __all__ = [
     "all_active_approvals", "slot_statuses", "listed", "SlotFilter", "list_slots", "count_slots",
     "status_counts", "status_counts_by", "status_counts_of", "recheck_options", "recheck_reason_counts",
     "Counts", "describe_totals", "workspace_counts",
-    "hold_writers", "slot_states", "current_drafts", "Applied", "apply_decisions", "table_counts",
+    "indexes_deferred", "hold_writers", "slot_states", "current_drafts", "Applied", "apply_decisions", "table_counts",
     "add_event", "events_for", "recent_events", "events_by_action", "latest_event", "events_after", "first_edition_of",
     "COMMENT_KINDS", "add_comment", "comments_for", "drafts_as_of", "gone_as_of", "layer_types_by_slot",
     "entity_slots", "comment_counts", "move_rows", "write_bases", "drop_work", "layer_authors",

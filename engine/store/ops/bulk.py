@@ -8,9 +8,10 @@ from __future__ import annotations
 
 import json
 from collections.abc import Iterable, Iterator, Sequence
+from contextlib import contextmanager
 from typing import TYPE_CHECKING, Any
 
-from sqlalchemy import insert, update
+from sqlalchemy import insert, text, update
 from sqlalchemy.orm import Session
 
 if TYPE_CHECKING:  # imported where a frame is built: `stetline status` never needs pandas
@@ -139,3 +140,48 @@ def _write_many_orm(session: Session, model: Any, columns: list[str], rows: list
         records = [dict(zip(columns + [where], r)) for r in rows]
         for start in range(0, len(records), CHUNK):
             session.execute(update(model), records[start:start + CHUNK])
+
+
+@contextmanager
+def indexes_deferred(session: Session, models: Sequence[Any]) -> Iterator[bool]:
+    """Build the secondary indexes of empty tables after the rows the body inserts, not during.
+
+    When every table of ``models`` is empty (a first load), their secondary indexes are dropped
+    and, once the body has written its rows, created again from the definitions the database
+    itself held, in the same transaction: one sort per index instead of a B-tree insert per row.
+    Primary keys and unique constraints stay. Yields whether the indexes were deferred; when any
+    table holds a row nothing is dropped. An error in the body rolls the transaction back, and
+    with it the drop.
+    """
+    tables = [m.__table__.name for m in models]
+    session.flush()
+    if any(session.execute(text(f"SELECT 1 FROM {t} LIMIT 1")).first() is not None for t in tables):
+        yield False
+        return
+    definitions = [d for t in tables for d in _index_definitions(session, t)]
+    q = session.get_bind().dialect.identifier_preparer.quote
+    for name, _sql in definitions:
+        session.execute(text(f"DROP INDEX {q(name)}"))
+    yield True
+    session.flush()
+    for _name, sql in definitions:
+        session.execute(text(sql))
+
+
+def _index_definitions(session: Session, table: str) -> list[tuple[str, str]]:
+    """(name, CREATE INDEX statement) of a table's secondary indexes, as the database holds them."""
+    dialect = session.get_bind().dialect.name
+    if dialect == "sqlite":  # automatic indexes (primary keys, unique constraints) have no sql
+        rows = session.execute(text(
+            "SELECT name, sql FROM sqlite_master WHERE type = 'index' AND tbl_name = :t AND sql IS NOT NULL "
+            "ORDER BY name"), {"t": table})
+    elif dialect == "postgresql":  # indexes that back a constraint stay
+        rows = session.execute(text(
+            "SELECT ic.relname, pg_get_indexdef(ix.indexrelid) FROM pg_index ix "
+            "JOIN pg_class ic ON ic.oid = ix.indexrelid JOIN pg_class tc ON tc.oid = ix.indrelid "
+            "WHERE tc.relname = :t AND tc.relnamespace = current_schema()::regnamespace "
+            "AND NOT EXISTS (SELECT 1 FROM pg_constraint c WHERE c.conindid = ix.indexrelid) "
+            "ORDER BY ic.relname"), {"t": table})
+    else:
+        return []
+    return [(str(name), str(sql)) for name, sql in rows]
