@@ -21,6 +21,7 @@ from stetline.errors import StetlineError
 from stetline.livefields import LiveFields
 from stetline.progress import Progress, no_progress
 from stetline.publication import Publication, Statement
+from stetline.publish_figures import topic_data
 from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.status import Status
 from stetline.store import ops
@@ -83,8 +84,10 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
             heading = entities[key].name if sections == "entity" else topics[key].label
             out_sections.append((key, heading, grouped.pop(key)))
     sources = {k: t.source for k, t in topics.items() if t.source}
+    noun = str(values["entity_noun"])
     return Publication(str(values["title"]), edition.label, date.today().isoformat(), out_sections, warnings, sources,
-                       {k: e.name for k, e in entities.items()}, {k: t.label for k, t in topics.items()}, waiting)
+                       {k: e.name for k, e in entities.items()}, {k: t.label for k, t in topics.items()}, waiting,
+                       topic_data(session, style, noun), noun, sections)
 
 
 def waiting_warning(slot_id: str, reason: str) -> str:

@@ -1,0 +1,73 @@
+"""The charts drawn with matplotlib: labels inside the image, captions that state the numbers, plain-text labels."""
+
+from __future__ import annotations
+
+import pytest
+
+from stetline import charts, phrasing
+
+PERIODS = ["2020", "2021", "2022", "2023", "2024", "2025"]
+# long units were clipped by the old hand-drawn SVG ("188 Mbit/s" showed as "88 Mbit/s")
+UNITS = [("Mbit/s", 0, 188.0), ("percent", 1, 59.3), ("per 1,000 residents", 1, 9.2), ("persons", 0, 42698.0)]
+
+
+def _lines(top: float) -> list[tuple[str, str, list[float | None]]]:
+    return [(f"t{i}", name, [top * (0.4 + 0.1 * i) * (1 + 0.02 * j) for j in range(len(PERIODS))])
+            for i, name in enumerate(["North Quay", "Little Thrift", "Samphire Reach", "Puffin Holm <b>&"])]
+
+
+def _specs(unit: str, decimals: int, top: float) -> list[charts.ChartSpec]:
+    def fmt(x: float) -> str:
+        return phrasing.value(x, unit, decimals)
+
+    lines = _lines(top)
+    series = charts.series_spec("Median speed $5", unit, PERIODS, lines, "t1", fmt, "town")
+    ranking = charts.ranking_spec("Median speed $5", unit, "2025", [(k, n, v[-1] or 0.0) for k, n, v in lines],
+                                  "t2", fmt, "town")
+    assert series is not None and ranking is not None
+    return [series, ranking]
+
+
+@pytest.mark.parametrize("unit, decimals, top", UNITS)
+def test_every_tick_label_lies_inside_the_image(unit: str, decimals: int, top: float) -> None:
+    for spec in _specs(unit, decimals, top):
+        fig = charts.figure(spec)
+        renderer = fig.canvas.get_renderer()
+        fig.draw_without_rendering()  # runs the constrained layout, as saving does
+        box = fig.bbox
+        labels = [t for ax in fig.axes for t in ax.get_xticklabels() + ax.get_yticklabels()
+                  if t.get_visible() and t.get_text()]
+        assert labels
+        for label in labels:
+            extent = label.get_window_extent(renderer)
+            assert extent.x0 >= box.x0 and extent.x1 <= box.x1, (spec.kind, label.get_text())
+            assert extent.y0 >= box.y0 and extent.y1 <= box.y1, (spec.kind, label.get_text())
+
+
+def test_a_short_unit_is_on_every_tick_and_a_long_one_on_the_axis() -> None:
+    speed, _ = _specs("Mbit/s", 0, 188.0)
+    assert speed.unit_label == "" and all(label.endswith(" Mbit/s") for _t, label in speed.ticks)
+    assert "140 Mbit/s" in [label for _t, label in speed.ticks]
+    rate, _ = _specs("per 1,000 residents", 1, 9.2)
+    assert rate.unit_label == "per 1,000 residents" and not any("residents" in label for _t, label in rate.ticks)
+
+
+def test_captions_state_the_numbers() -> None:
+    series, ranking = _specs("Mbit/s", 0, 188.0)
+    assert series.caption == ("Median speed $5 in Little Thrift: 103 Mbit/s in 2025, up from 94 Mbit/s in 2020. "
+                              "The other 3 towns ranged from 83 Mbit/s to 145 Mbit/s in 2025.")
+    assert ranking.caption == ("Median speed $5 in 2025, 4 towns ranked: best Puffin Holm <b>& (145 Mbit/s), "
+                               "worst North Quay (83 Mbit/s). Samphire Reach: 124 Mbit/s, 2nd of 4.")
+
+
+def test_svg_is_deterministic_plain_text_and_cached() -> None:
+    series, ranking = _specs("Mbit/s", 0, 188.0)
+    first = charts.render(ranking, "svg")
+    assert charts.cached(ranking, "svg")
+    assert charts._save(ranking, "svg") == first  # drawn again: the same bytes (no date, a fixed hash salt)
+    text = first.decode("utf-8")
+    assert text.startswith("<svg") and "<b>" not in text and "<script" not in text and "Date" not in text
+    png = charts.render(series, "png")
+    assert png.startswith(b"\x89PNG") and charts._save(series, "png") == png
+    with pytest.raises(ValueError):
+        charts.render(series, "gif")
