@@ -216,7 +216,7 @@ def _save(spec: ChartSpec, fmt: str) -> bytes:
 
 _PROLOG = re.compile(rb"\A.*?(?=<svg)", re.DOTALL)
 _NOISE = re.compile(rb"<metadata>.*?</metadata>|<!--.*?-->", re.DOTALL)
-_DIGITS = re.compile(rb"(\d+\.\d\d)\d+")
+_DIGITS = re.compile(rb"(?<![\d.])([1-9]\d*\.\d\d)\d+")  # coordinates; scales (0.085) kept whole
 _SPACE = re.compile(rb"\s*\n\s*")
 
 

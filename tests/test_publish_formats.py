@@ -299,11 +299,14 @@ def test_csv_columns_names_and_neutralised_rewrite(published: dict[str, Any]) ->
         reader = csv.DictReader(fh)
         rows = {row["slot"]: row for row in reader}
         assert reader.fieldnames == ["slot", "entity", "topic", "kind", "status", "text", "notes", "entity_name",
-                                     "topic_label"]
+                                     "topic_label", "section", "category", "role", "value", "rank", "rank_of",
+                                     "change", "previous", "chart"]
     assert rows[TAMPERED]["text"] == "'" + TAMPERED_SHOWN
     assert rows[TAMPERED]["status"] == "edited" and rows["headline"]["status"] == "approved"
     assert rows["profile/north-quay"]["notes"].split("\n") == [NOTE] and rows[TAMPERED]["notes"] == ""
-    assert rows[WRACKHAVEN]["entity_name"] == "Wrackhaven"
+    assert rows[WRACKHAVEN]["entity_name"] == "Wrackhaven" and rows[WRACKHAVEN]["section"] == "Wrackhaven"
+    assert rows[WRACKHAVEN]["category"] == "Environment" and rows[WRACKHAVEN]["role"] == "part"
+    assert rows["blurb/wrackhaven/recycling"]["role"] == "composed" and rows[WRACKHAVEN]["value"] == "45.7%"
     assert rows[WRACKHAVEN]["topic_label"] == "Household recycling rate"
     assert rows["headline"]["entity"] == "" and rows["headline"]["entity_name"] == ""
     assert not any(cell.startswith(("=", "+", "-", "@")) for row in rows.values() for cell in row.values())
@@ -332,7 +335,7 @@ def test_docx_structure_styles_and_toc(published: dict[str, Any], demo_files: Pa
     contents = [p.text for p in paragraphs if p.style.name == "Contents Entry"]
     assert contents == headings  # the contents show the headings without refreshing the field
     assert "Environment" in [p.text for p in paragraphs if p.style.name == "Heading 2"]
-    assert len(document.tables) > 100 and [c.text for c in document.tables[0].rows[0].cells][0] == "Rank"
+    assert len(document.tables) > 100 and [c.text for c in document.tables[-1].rows[0].cells][0] == "Rank"
     pictures = document.inline_shapes
     assert len(pictures) > 100 and all(p._inline.docPr.get("descr") for p in pictures)
     assert any("qualified person must check" in p.text for p in paragraphs)
