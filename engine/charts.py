@@ -1,217 +1,285 @@
 """Charts of the figures, drawn with matplotlib (Agg only): SVG for pages and HTML, PNG for Word.
 
-Two charts: the series of one topic over the periods with one entity highlighted among all the
-others (``series_spec``), and every entity ranked on one topic (``ranking_spec``). A spec is plain
-data (labels, values and the caption that states the numbers, used as the text alternative);
-``render`` draws it. Rendering is deterministic (a fixed ``svg.hashsalt`` per chart, no date or
-software metadata), labels are plain text (math parsing off, so "$" in a label stays a dollar
-sign), and every result is kept in an in-process LRU cache keyed by the spec's digest and the format,
-so a page or a report never draws the same chart twice in one process.
+What a chart shows is a ChartSpec (stetline.chartspecs: the series of a topic with one entity
+among all, or every entity ranked); ``render`` draws it. A report draws a chart per entity and
+topic, so drawing is made cheap: one Figure per chart kind is kept and cleared, the axes are
+drawn by hand (grid lines as one collection, labels as plain texts, no tick objects), the margins
+are measured from the labels instead of searched by a layout engine, and the grey lines of the
+other entities are one LineCollection. SVG keeps its text as text (``svg.fonttype`` none: small,
+searchable, drawn in the reader's DejaVu Sans or sans-serif); PNG is PNG_DPI dots an inch.
+
+Rendering is deterministic (a fixed ``svg.hashsalt`` per chart, no date or software metadata),
+labels are plain text (math parsing off, so "$" in a label stays a dollar sign), and every result
+is kept in an in-process LRU cache keyed by the spec's digest and the format, and, inside
+``folder(path)``, in files named by that key in the folder (publishing uses the workspace's
+``chart-cache``), so a report published again draws only the charts whose figures changed.
 """
 
 from __future__ import annotations
 
 import hashlib
 import io
-import json
+import os
 import re
+import tempfile
 from collections import OrderedDict
-from collections.abc import Callable
-from dataclasses import asdict, dataclass, field
+from collections.abc import Iterable, Iterator
+from contextlib import contextmanager
+from contextvars import ContextVar
+from functools import lru_cache
+from pathlib import Path
 from threading import Lock
 from typing import Any
 
-from stetline import phrasing
+from stetline.chartspecs import MANY as MANY
+from stetline.chartspecs import ChartSpec as ChartSpec  # re-exported: the charts' one import
+from stetline.chartspecs import ranking_spec as ranking_spec
+from stetline.chartspecs import series_spec as series_spec
 
-Format = Callable[[float], str]
 FORMATS = ("svg", "png")
 CACHE_SIZE = 1024
-LONG_UNIT = 8  # units longer than this go on the axis label instead of every tick label
+DISK_LIMIT = 5000  # files kept in a chart folder; the least recently used go first
+DRAWING = "3"  # bump when the drawing changes, so files drawn by older code are not reused
 
-INK, OTHER, GRID, MARK = "#1d1d1d", "#b9c2cc", "#e3e3e3", "#1f4e8c"
+FONT_SIZE = 9.5  # points, on a figure WIDTH inches wide: about 10 px on a phone, 14 px on a wide screen
+WIDTH = 4.4  # inches
+PNG_DPI = 120  # Word prints a chart about 11.5 cm wide: 120 dots an inch is sharp at that size
+PALETTE = 32  # colours of a PNG chart: its few inks and their anti-aliased edges
+PAD = 4.0  # points of white round the drawing
+GAP = 5.0  # points between a label and the axis it labels
 
+INK, OTHER, GRID, MARK, AXIS, LABEL = "#1d1d1d", "#b9c2cc", "#e3e3e3", "#1f4e8c", "#555555", "#333333"
 
-@dataclass(frozen=True)
-class ChartSpec:
-    """What one chart shows: its kind, title, axis unit, the values and the caption (text alternative)."""
-
-    kind: str  # "series" or "ranking"
-    title: str
-    caption: str
-    unit_label: str  # the unit as the axis shows it ("" when every tick label carries it)
-    ticks: tuple[tuple[float, str], ...]  # value axis ticks and their labels (units included when short)
-    periods: tuple[str, ...] = ()
-    lines: tuple[tuple[str, str, tuple[float | None, ...]], ...] = ()  # key, name, value per period
-    bars: tuple[tuple[str, str, float, str], ...] = ()  # key, name, value, shown; ranked, best first
-    marked: str | None = None
-    rows: tuple[tuple[str, str, bool], ...] = field(default=())  # the figures as a table: label, shown, marked
-
-    @property
-    def digest(self) -> str:
-        """A fingerprint of everything drawn: equal digests draw the same chart."""
-        data = json.dumps(asdict(self), sort_keys=True, ensure_ascii=False, default=str)
-        return hashlib.blake2b(data.encode("utf-8"), digest_size=16).hexdigest()
+_RC: dict[str, Any] = {"svg.fonttype": "none", "text.parse_math": False, "text.usetex": False,
+                       "font.family": ["DejaVu Sans"], "font.size": FONT_SIZE, "path.simplify": True}
 
 
-def _nice_ticks(lo: float, hi: float, count: int = 4) -> list[float]:
-    """Round tick values spanning lo..hi (steps of 1, 2, 2.5 or 5 times a power of ten)."""
-    import math
+@lru_cache(maxsize=4096)
+def _text_size(text: str, bold: bool = False) -> tuple[float, float]:
+    """The width and height of a line of text in points, as matplotlib lays it out."""
+    from matplotlib.backends.backend_agg import RendererAgg
+    from matplotlib.font_manager import FontProperties
 
-    if hi == lo:
-        return [lo]
-    raw = (hi - lo) / count
-    power = 10 ** math.floor(math.log10(raw))
-    step = next(m * power for m in (1, 2, 2.5, 5, 10) if m * power >= raw)
-    first = math.floor(lo / step) * step
-    ticks, t = [], first
-    while t <= hi + step * 0.5:
-        ticks.append(round(t, 10))
-        t += step
-    return ticks
+    prop = FontProperties(family=_RC["font.family"], size=FONT_SIZE, weight="bold" if bold else "normal")
+    width, height, _descent = RendererAgg(1, 1, 72).get_text_width_height_descent(text, prop, ismath=False)
+    return float(width), float(height)
 
 
-def _axis(values: list[float], unit: str, fmt: Format) -> tuple[str, tuple[tuple[float, str], ...]]:
-    """The unit label and the ticks of a value axis: short units on every tick, long ones on the axis."""
-    lo, hi = min(values), max(values)
-    ticks = _nice_ticks(min(lo, 0.0) if lo >= 0 and lo < (hi - lo) else lo, hi)
-    if len(unit) <= LONG_UNIT or unit in ("percent", "%"):
-        return "", tuple((t, fmt(t)) for t in ticks)
-    bare = [fmt(t).removesuffix(" " + unit) for t in ticks]
-    return unit, tuple(zip(ticks, bare))
+def _widest(texts: Iterable[str], bold: bool = False) -> float:
+    return max((_text_size(t, bold)[0] for t in texts), default=0.0)
 
 
-def series_spec(label: str, unit: str, periods: list[str], lines: list[tuple[str, str, list[float | None]]],
-                marked: str, fmt: Format, noun: str) -> ChartSpec | None:
-    """A topic's series over the periods, one line per entity, the marked entity drawn dark and labelled."""
-    mine = next((ln for ln in lines if ln[0] == marked), None)
-    known = [(p, v) for p, v in zip(periods, mine[2]) if v is not None] if mine else []
-    values = [v for _k, _n, vs in lines for v in vs if v is not None]
-    if mine is None or not known:
-        return None
-    name = mine[1]
-    first, last = known[0], known[-1]
-    if len(known) == 1:
-        caption = f"{label} in {name}: {fmt(last[1])} in {last[0]}."
-    else:
-        how = "up from" if last[1] > first[1] else "down from" if last[1] < first[1] else "the same as"
-        caption = f"{label} in {name}: {fmt(last[1])} in {last[0]}, {how} {fmt(first[1])} in {first[0]}."
-    others = [vs[periods.index(last[0])] for k, _n, vs in lines if k != marked]
-    others_known = [v for v in others if v is not None]
-    if others_known:
-        many = phrasing.noun_plural(noun, len(others_known))
-        caption += (f" The other {len(others_known)} {many} ranged from {fmt(min(others_known))} "
-                    f"to {fmt(max(others_known))} in {last[0]}.")
-    unit_label, ticks = _axis(values, unit, fmt)
-    rows = tuple((p, fmt(v), i == len(known) - 1) for i, (p, v) in enumerate(known))
-    return ChartSpec("series", f"{label} in {name}, {first[0]} to {last[0]}", caption, unit_label, ticks,
-                     tuple(periods), tuple((k, n, tuple(vs)) for k, n, vs in lines), (), marked, rows)
+_canvases: dict[str, tuple[Any, Any]] = {}
 
 
-def ranking_spec(label: str, unit: str, period: str, values: list[tuple[str, str, float]], marked: str | None,
-                 fmt: Format, noun: str, better: str = "higher") -> ChartSpec | None:
-    """Every entity's value in one period as ranked bars (best first), the marked entity drawn dark."""
-    if not values:
-        return None
-    ranked = sorted(values, key=lambda t: (t[2] if better == "lower" else -t[2], t[1]))
-    n = len(ranked)
-    many = phrasing.noun_plural(noun, n)
-    top, bottom = ranked[0], ranked[-1]
-    word = ("best", "worst") if better in ("higher", "lower") else ("highest", "lowest")
-    caption = f"{label} in {period}, {n} {many} ranked: {word[0]} {top[1]} ({fmt(top[2])})"
-    caption += f", {word[1]} {bottom[1]} ({fmt(bottom[2])})." if n > 1 else "."
-    if marked is not None and any(k == marked for k, _n, _v in ranked):
-        name, v = next((nm, v) for k, nm, v in ranked if k == marked)
-        rank = 1 + sum(1 for *_k, other in ranked if (other < v if better == "lower" else other > v))
-        caption += f" {name}: {fmt(v)}, {phrasing.ordinal(rank)} of {n}."
-    drawn = [v for *_k, v in ranked]
-    unit_label, ticks = _axis(drawn + [0.0] if min(drawn) >= 0 else drawn, unit, fmt)  # bars start at zero
-    bars = tuple((k, nm, v, fmt(v)) for k, nm, v in ranked)
-    rows = tuple((nm, shown, k == marked) for k, nm, _v, shown in bars)
-    return ChartSpec("ranking", f"{label}, {period}: every {noun}", caption, unit_label, ticks,
-                     (period,), (), bars, marked, rows)
-
-
-# -- drawing ---------------------------------------------------------------------------------
-
-_RC: dict[str, Any] = {"svg.fonttype": "path", "text.parse_math": False, "text.usetex": False,
-       "font.family": "DejaVu Sans",
-       "font.size": 8.5, "axes.edgecolor": "#555555", "axes.linewidth": 0.8, "xtick.color": "#333333",
-       "ytick.color": "#333333", "axes.spines.top": False, "axes.spines.right": False}
-
-
-def figure(spec: ChartSpec) -> Any:
-    """Draw a spec on a new matplotlib Figure (Agg canvas, constrained layout) and return the figure."""
+def _canvas(kind: str, height: float) -> tuple[Any, Any]:
+    """The kept Figure and axes of a chart kind, cleared of the last drawing and sized."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
-    rows = len(spec.bars)
-    height = 2.3 if spec.kind == "series" else 0.5 + 0.2 * max(rows, 3)
-    fig = Figure(figsize=(5.2, height), dpi=100, layout="constrained")
-    FigureCanvasAgg(fig)
-    ax = fig.add_subplot()
-    ax.grid(True, axis="y" if spec.kind == "series" else "x", color=GRID, linewidth=0.8)
-    ax.set_axisbelow(True)
-    ticks = [t for t, _s in spec.ticks]
-    if spec.kind == "series":
-        _draw_series(ax, spec)
-        ax.set_yticks(ticks, [s for _t, s in spec.ticks])
-        if spec.unit_label:
-            ax.set_ylabel(spec.unit_label)
-    else:
-        _draw_bars(ax, spec)
-        ax.set_xticks(ticks, [s for _t, s in spec.ticks])
-        if spec.unit_label:
-            ax.set_xlabel(spec.unit_label)
+    if kind not in _canvases:
+        fig = Figure(figsize=(WIDTH, height), dpi=100)
+        FigureCanvasAgg(fig)
+        ax = fig.add_axes((0, 0, 1, 1))
+        ax.set_axis_off()
+        _canvases[kind] = fig, ax
+    fig, ax = _canvases[kind]
+    for artist in [*ax.lines, *ax.collections, *ax.texts, *ax.patches, *fig.texts]:
+        artist.remove()
+    fig.set_dpi(100)
+    fig.set_size_inches(WIDTH, height)
+    return fig, ax
+
+
+def figure(spec: ChartSpec) -> Any:
+    """Draw a spec and return its matplotlib Figure (kept per chart kind: the next drawing reuses it)."""
+    import matplotlib
+
+    with matplotlib.rc_context(_RC):
+        line = _text_size("0")[1]
+        if spec.kind == "series":
+            fig, ax = _canvas("series", 2.4)
+            _draw_series(fig, ax, spec, line)
+        elif len(spec.bars) > MANY:
+            named = any(k == spec.marked for k, *_r in spec.bars)
+            fig, ax = _canvas("strip", 1.9 if named else 2.5)
+            _draw_strip(fig, ax, spec, line)
+        else:
+            height = (2 * PAD + 2.5 * line + GAP + (1.3 * line if spec.unit_label else 0)) / 72
+            fig, ax = _canvas("ranking", height + 0.19 * max(len(spec.bars), 3))
+            _draw_bars(fig, ax, spec, line)
     return fig
 
 
-def _draw_series(ax: Any, spec: ChartSpec) -> None:
+def _place(fig: Any, ax: Any, left: float, bottom: float, right: float, top: float) -> None:
+    """Put the plotting area inside the figure with margins given in points."""
+    w, h = fig.get_size_inches() * 72
+    ax.set_position((left / w, bottom / h, 1 - (left + right) / w, 1 - (bottom + top) / h))
+
+
+def _offset(ax: Any, transform: Any, x: float, y: float) -> Any:
+    from matplotlib.transforms import offset_copy
+
+    return offset_copy(transform, fig=ax.figure, x=x, y=y, units="points")
+
+
+def _grid(ax: Any, spec: ChartSpec, axis: str, span: tuple[float, float]) -> None:
+    """Grid lines at the value ticks, and their labels beside the plotting area."""
+    from matplotlib.collections import LineCollection
+
+    if axis == "y":
+        segments = [[(span[0], t), (span[1], t)] for t, _s in spec.ticks]
+        place = _offset(ax, ax.get_yaxis_transform(), -GAP, 0)
+        for t, s in spec.ticks:
+            ax.text(0, t, s, transform=place, ha="right", va="center", color=LABEL)
+        if spec.unit_label:
+            ax.text(0, 1, spec.unit_label, transform=_offset(ax, ax.transAxes, 0, GAP), ha="left", va="bottom",
+                    color=LABEL)
+    else:
+        segments = [[(t, span[0]), (t, span[1])] for t, _s in spec.ticks]
+        place = _offset(ax, ax.get_xaxis_transform(), 0, -GAP)
+        for t, s in spec.ticks:
+            ax.text(t, 0, s, transform=place, ha="center", va="top", color=LABEL)
+        if spec.unit_label:
+            line = _text_size("0")[1]
+            ax.text(0.5, 0, spec.unit_label, transform=_offset(ax, ax.transAxes, 0, -GAP - 1.3 * line),
+                    ha="center", va="top", color=LABEL)
+    ax.add_collection(LineCollection(segments, colors=GRID, linewidths=0.8, zorder=0), autolim=False)
+
+
+def _draw_series(fig: Any, ax: Any, spec: ChartSpec, line: float) -> None:
+    from matplotlib.collections import LineCollection
+
     xs = list(range(len(spec.periods)))
+    every = max(1, len(xs) // 6) if len(xs) > 8 else 1
+    shown = [(x, p) for x, p in zip(xs, spec.periods) if x % every == 0 or x == len(xs) - 1]
+    left = PAD + _widest(s for _t, s in spec.ticks) + GAP
+    top = PAD + 1.5 * line + (1.3 * line if spec.unit_label else 0)
+    _place(fig, ax, left, PAD + line + GAP, PAD + _widest(p for _x, p in shown[-1:]) / 2, top)
+    known = [v for _k, _n, vs in spec.lines for v in vs if v is not None]
+    lo, hi = min([spec.ticks[0][0], *known]), max([spec.ticks[-1][0], *known])
+    ax.set_xlim(-0.3, len(xs) - 0.7)
+    ax.set_ylim(lo, hi)
+    _grid(ax, spec, "y", (-0.3, len(xs) - 0.7))
+    ax.plot([-0.3, len(xs) - 0.7], [lo, lo], color=AXIS, linewidth=0.8)
+    place = _offset(ax, ax.get_xaxis_transform(), 0, -GAP)
+    for x, p in shown:
+        ax.text(x, 0, p, transform=place, ha="center", va="top", color=LABEL)
+    runs: list[list[tuple[float, float]]] = []  # every other entity's known values, as unbroken runs
     for key, _name, values in spec.lines:
-        if key == spec.marked:
-            continue
-        ax.plot(xs, [float("nan") if v is None else v for v in values], color=OTHER, linewidth=1)
+        run: list[tuple[float, float]] = []
+        for x, v in [*zip(xs, values), (0, None)] if key != spec.marked else []:
+            if v is not None:
+                run.append((x, v))
+                continue
+            if len(run) > 1:
+                runs.append(run)
+            run = []
+    ax.add_collection(LineCollection(runs, colors=OTHER, linewidths=1), autolim=False)
     mine = next(ln for ln in spec.lines if ln[0] == spec.marked)
     ys = [float("nan") if v is None else v for v in mine[2]]
-    ax.plot(xs, ys, color=MARK, linewidth=2.4, marker="o", markersize=4, label=mine[1])
-    ax.set_xticks(xs, list(spec.periods))
-    if len(xs) > 8:
-        every = max(1, len(xs) // 6)
-        for i, tick in enumerate(ax.get_xticklabels()):
-            tick.set_visible(i % every == 0 or i == len(xs) - 1)
-    ax.set_xlim(-0.3, len(xs) - 0.7)
-    ax.legend(handles=[ax.lines[-1]], loc="best", frameon=False, fontsize=8)
+    ax.plot(xs, ys, color=MARK, linewidth=2.4, marker="o", markersize=4)
+    _key(ax, mine[1], spec.others, line)
 
 
-def _draw_bars(ax: Any, spec: ChartSpec) -> None:
+def _key(ax: Any, name: str, others: str, line: float) -> None:
+    """The key above the plotting area: the marked entity's line and name, then the grey lines'."""
+    at = _offset(ax, ax.transAxes, 0, PAD + line / 2)
+    ax.add_collection(_segment(ax, at, 0, 16, MARK, 2.4))
+    ax.text(0, 1, name, transform=_offset(ax, at, 20, 0), va="center", color=INK, fontweight="bold")
+    if others:
+        start = 20 + _widest([name], bold=True) + 12
+        ax.add_collection(_segment(ax, at, start, start + 16, OTHER, 1.2))
+        ax.text(0, 1, others, transform=_offset(ax, at, start + 20, 0), va="center", color=LABEL)
+
+
+def _segment(ax: Any, at: Any, x0: float, x1: float, colour: str, width: float) -> Any:
+    """A short stroke of the key, from x0 to x1 points right of the plotting area's left edge."""
+    from matplotlib.collections import LineCollection
+
+    w = ax.figure.get_size_inches()[0] * 72 * ax.get_position().width  # points across the plotting area
+    return LineCollection([[(x0 / w, 1), (x1 / w, 1)]], colors=colour, linewidths=width, clip_on=False,
+                          transform=at)
+
+
+def _draw_bars(fig: Any, ax: Any, spec: ChartSpec, line: float) -> None:
+    from matplotlib.collections import PolyCollection
+
     names = [name for _k, name, _v, _s in spec.bars]
     values = [v for _k, _n, v, _s in spec.bars]
-    colours = [MARK if k == spec.marked else OTHER for k, _n, _v, _s in spec.bars]
-    positions = list(range(len(names)))
-    ax.barh(positions, values, color=colours, height=0.7)
-    ax.set_yticks(positions, names)
-    ax.invert_yaxis()
-    ax.tick_params(axis="y", length=0)
-    for label, (key, *_rest) in zip(ax.get_yticklabels(), spec.bars):
-        if key == spec.marked:
-            label.set_fontweight("bold")
-    lo, hi = min([0.0, *values, *(t for t, _s in spec.ticks)]), max([*values, *(t for t, _s in spec.ticks)])
+    marked = [name for k, name, _v, _s in spec.bars if k == spec.marked]
+    left = PAD + max(_widest(names), _widest(marked, bold=True)) + GAP
+    right = PAD + _widest(s for _t, s in spec.ticks[-1:]) / 2
+    bottom = PAD + line + GAP + (1.3 * line if spec.unit_label else 0)
+    _place(fig, ax, left, bottom, right, PAD + line / 2)
+    lo = min([0.0, *values, *(t for t, _s in spec.ticks)])
+    hi = max([*values, *(t for t, _s in spec.ticks)])
     ax.set_xlim(lo, hi + (hi - lo) * 0.02)
+    ax.set_ylim(len(names) - 0.5, -0.5)
+    _grid(ax, spec, "x", (-0.5, len(names) - 0.5))
+    ax.plot([0, 0], [-0.5, len(names) - 0.5], color=AXIS, linewidth=0.8)
+    boxes = [[(0, i - 0.35), (v, i - 0.35), (v, i + 0.35), (0, i + 0.35)] for i, v in enumerate(values)]
+    colours = [MARK if k == spec.marked else OTHER for k, _n, _v, _s in spec.bars]
+    ax.add_collection(PolyCollection(boxes, facecolors=colours, linewidths=0), autolim=False)
+    place = _offset(ax, ax.get_yaxis_transform(), -GAP, 0)
+    for i, (key, name, _v, _s) in enumerate(spec.bars):
+        mine = key == spec.marked
+        ax.text(0, i, name, transform=place, ha="right", va="center", color=INK if mine else LABEL,
+                fontweight="bold" if mine else "normal")
+
+
+def _draw_strip(fig: Any, ax: Any, spec: ChartSpec, line: float) -> None:
+    """Every entity as a dot on one value axis (rows alternate so neighbours stay apart), a few named."""
+    values = [v for _k, _n, v, _s in spec.bars]
+    bottom = PAD + line + GAP + (1.3 * line if spec.unit_label else 0)
+    side = PAD + _widest(s for _t, s in (spec.ticks[0], spec.ticks[-1])) / 2
+    _place(fig, ax, side, bottom, side, PAD)
+    lo, hi = min([*values, *(t for t, _s in spec.ticks)]), max([*values, *(t for t, _s in spec.ticks)])
+    ax.set_xlim(lo, hi)
+    mine = [i for i, (k, *_r) in enumerate(spec.bars) if k == spec.marked]
+    top = 5.6 if mine else 8.0  # room above the dots for one name, or for the first and the last
+    ax.set_ylim(-0.6, top)
+    _grid(ax, spec, "x", (-0.6, top))
+    ax.plot([lo, hi], [-0.6, -0.6], color=AXIS, linewidth=0.8)
+    rows = [i % 3 for i in range(len(values))]
+    colours = [MARK if i in mine else OTHER for i in range(len(values))]
+    sizes = [36 if i in mine else 16 for i in range(len(values))]
+    ax.scatter(values, rows, s=sizes, c=colours, linewidths=0, clip_on=False)
+    across = fig.get_size_inches()[0] * 72 * ax.get_position().width  # points across the plotting area
+    for n, i in enumerate(dict.fromkeys(mine or [len(values) - 1, 0])):
+        _k, name, v, shown = spec.bars[i]
+        wide = _widest([name, shown], bold=True) / across * (hi - lo)  # the label's width in data units
+        at = min(max(v - wide / 2, lo), hi - wide)  # centred on its dot, kept inside the plotting area
+        ax.annotate(f"{name}\n{shown}", (v, rows[i]), xytext=(at, 3.3 + 2.4 * n), ha="left", va="bottom",
+                    color=INK if i in mine else LABEL, fontweight="bold" if i in mine else "normal",
+                    arrowprops={"arrowstyle": "-", "color": "#888888", "linewidth": 0.6, "shrinkA": 1, "shrinkB": 3})
+
+
+_lock_draw = Lock()  # matplotlib's rc settings and the kept figures are shared: one drawing at a time
 
 
 def _save(spec: ChartSpec, fmt: str) -> bytes:
     import matplotlib
 
-    settings: Any = {**_RC, "svg.hashsalt": spec.digest}
-    with matplotlib.rc_context(settings):
+    with _lock_draw, matplotlib.rc_context({**_RC, "svg.hashsalt": spec.digest}):
         fig = figure(spec)
         buf = io.BytesIO()
         if fmt == "svg":
             fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": None, "Title": spec.title})
             return compact_svg(buf.getvalue())
-        else:
-            fig.savefig(buf, format="png", dpi=150, metadata={"Software": None})
+        fig.set_dpi(PNG_DPI)
+        fig.canvas.draw()
+        _png(fig, buf)
     return buf.getvalue()
+
+
+def _png(fig: Any, out: io.BytesIO) -> None:
+    """The drawn figure as a PNG of PALETTE colours (a third of the full-colour size; charts have few colours)."""
+    from PIL import Image
+
+    size = fig.canvas.get_width_height(physical=True)
+    image = Image.frombuffer("RGBA", size, fig.canvas.buffer_rgba()).convert("RGB")
+    image.quantize(PALETTE, method=Image.Quantize.FASTOCTREE).save(out, format="png")
 
 
 _PROLOG = re.compile(rb"\A.*?(?=<svg)", re.DOTALL)
@@ -226,12 +294,66 @@ def compact_svg(svg: bytes) -> bytes:
     return _SPACE.sub(b" ", _DIGITS.sub(rb"\1", svg)).replace(b"> <", b"><").strip() + b"\n"
 
 
+# -- the caches --------------------------------------------------------------------------------
+
 _cache: OrderedDict[tuple[str, str], bytes] = OrderedDict()
 _lock = Lock()
+_folder: ContextVar[Path | None] = ContextVar("chart_folder", default=None)
+
+
+@contextmanager
+def folder(path: Path | None) -> Iterator[None]:
+    """Keep the charts drawn inside this block as files in a folder too (made if missing; None: memory only)."""
+    if path is not None:
+        path.mkdir(parents=True, exist_ok=True)
+        _prune(path)
+    token = _folder.set(path)
+    try:
+        yield
+    finally:
+        _folder.reset(token)
+
+
+def _prune(path: Path) -> None:
+    """Remove the least recently used chart files beyond DISK_LIMIT."""
+    files = [e for e in os.scandir(path) if e.is_file() and e.name.endswith(FORMATS)]
+    if len(files) > DISK_LIMIT:
+        files.sort(key=lambda e: e.stat().st_mtime)
+        for entry in files[: len(files) - DISK_LIMIT]:
+            Path(entry.path).unlink(missing_ok=True)
+
+
+def _file(path: Path, spec: ChartSpec, fmt: str) -> Path:
+    style = hashlib.blake2b(repr((DRAWING, sorted(_RC.items()), PNG_DPI, PALETTE, WIDTH)).encode(), digest_size=4)
+    return path / f"{spec.digest}-{style.hexdigest()}.{fmt}"
+
+
+def _read(path: Path | None, spec: ChartSpec, fmt: str) -> bytes | None:
+    if path is None:
+        return None
+    file = _file(path, spec, fmt)
+    try:
+        data = file.read_bytes()
+        os.utime(file)  # recently used
+    except OSError:
+        return None
+    return data or None
+
+
+def _write(path: Path | None, spec: ChartSpec, fmt: str, data: bytes) -> None:
+    if path is None:
+        return
+    try:
+        fd, temp = tempfile.mkstemp(dir=path, suffix=".part")
+        with os.fdopen(fd, "wb") as out:
+            out.write(data)
+        os.replace(temp, _file(path, spec, fmt))  # a reader never sees half a file
+    except OSError:
+        pass  # the folder is a cache: a chart that cannot be kept is drawn again next time
 
 
 def render(spec: ChartSpec, fmt: str) -> bytes:
-    """The chart as SVG or PNG bytes, drawn once per process for each (spec digest, format)."""
+    """The chart as SVG or PNG bytes, drawn once per process (and once per chart folder) for each digest."""
     if fmt not in FORMATS:
         raise ValueError(f"a chart is drawn as {' or '.join(FORMATS)}, not {fmt!r}")
     key = (spec.digest, fmt)
@@ -239,7 +361,11 @@ def render(spec: ChartSpec, fmt: str) -> bytes:
         if key in _cache:
             _cache.move_to_end(key)
             return _cache[key]
-    data = _save(spec, fmt)
+    path = _folder.get()
+    data = _read(path, spec, fmt)
+    if data is None:
+        data = _save(spec, fmt)
+        _write(path, spec, fmt, data)
     with _lock:
         _cache[key] = data
         while len(_cache) > CACHE_SIZE:

@@ -15,6 +15,7 @@ from pathlib import Path
 
 from sqlalchemy.orm import Session
 
+from stetline import charts
 from stetline import settings as settings_mod
 from stetline.actions import views
 from stetline.errors import StetlineError
@@ -110,9 +111,13 @@ def checksum(data: bytes) -> str:
 
 
 def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", allow_recheck: bool = False,
-            require_approval: bool = False, layouts_dir: Path | None = None,
+            require_approval: bool = False, layouts_dir: Path | None = None, chart_dir: Path | None = None,
             progress: Progress = no_progress) -> tuple[bytes, Publication]:
-    """Produce a publication in a format and record it as an event with its checksum."""
+    """Produce a publication in a format and record it as an event with its checksum.
+
+    Charts drawn for it are kept as files in ``chart_dir`` when given (stetline.charts.folder), so
+    publishing again draws only the charts whose figures changed.
+    """
     from stetline.formats import FORMATS, render  # formats imports this module
 
     if fmt not in FORMATS:
@@ -136,7 +141,8 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
         )
     pub.warnings += [f"{slot}: untraced number(s) {', '.join(nums)}" for slot, nums in untraced]
     progress(f"writing {fmt}", 0, None)
-    data = render(pub, fmt, layouts_dir)
+    with charts.folder(chart_dir):
+        data = render(pub, fmt, layouts_dir)
     edition = ops.current_edition(session)
     ops.add_event(session, by, "publish", edition_id=edition.id if edition else None,
                   detail={"format": fmt, "sha256": checksum(data), "warnings": pub.warnings})

@@ -12,6 +12,7 @@ from __future__ import annotations
 import io
 import re
 from typing import Any
+from weakref import WeakKeyDictionary
 
 from stetline import charts
 from stetline.publication import (
@@ -32,6 +33,24 @@ _NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
 
 def _x(text: Any) -> str:
     return _NOT_XML.sub("", str(text))
+
+
+_style_ids: WeakKeyDictionary[Any, dict[str, str]] = WeakKeyDictionary()
+
+
+def _style_id(document: Any, name: str) -> str:
+    """A style's id, looked up once per document (python-docx searches every style on each lookup by name)."""
+    ids = _style_ids.setdefault(document.part, {})
+    if name not in ids:
+        ids[name] = document.styles[name].style_id
+    return ids[name]
+
+
+def _para(document: Any, style: str, text: str = "") -> Any:
+    """A new paragraph in a style (by name), with its text when given."""
+    paragraph = document.add_paragraph(text)
+    paragraph._p.style = _style_id(document, style)
+    return paragraph
 
 
 def _styles(document: Any) -> None:
@@ -82,10 +101,10 @@ def _contents(document: Any, headings: list[str]) -> None:
     from docx.oxml import OxmlElement
     from docx.oxml.ns import qn
 
-    document.add_paragraph(CONTENTS, style="TOC Heading")
+    _para(document, "TOC Heading", CONTENTS)
     entries = headings or [""]
     for i, heading in enumerate(entries):
-        paragraph = document.add_paragraph(style="Contents Entry")
+        paragraph = _para(document, "Contents Entry")
         if i == 0:
             begin = paragraph.add_run()._r
             begin.append(_field_char("begin"))
@@ -103,7 +122,7 @@ def _contents(document: Any, headings: list[str]) -> None:
 
 
 def _statement(document: Any, st: Statement, numbers: dict[int, int], printed: set[str]) -> None:
-    paragraph = document.add_paragraph(style="Statement")
+    paragraph = _para(document, "Statement")
     if st.status == "recheck":
         paragraph.add_run(RECHECK_MARK + " ").bold = True
     paragraph.add_run(_x(st.text))
@@ -114,7 +133,7 @@ def _statement(document: Any, st: Statement, numbers: dict[int, int], printed: s
         if note in printed:  # a note repeated word for word prints once
             continue
         printed.add(note)
-        p = document.add_paragraph(style="Note")
+        p = _para(document, "Note")
         p.add_run("Note: ").bold = True
         p.add_run(_x(note))
 
@@ -123,7 +142,7 @@ def _table(document: Any, headers: list[str], rows: list[list[str]]) -> None:
     from docx.enum.table import WD_TABLE_ALIGNMENT
 
     table = document.add_table(rows=1, cols=len(headers))
-    table.style = "Light List Accent 1"
+    table._tbl.tblStyle_val = _style_id(document, "Light List Accent 1")
     table.alignment = WD_TABLE_ALIGNMENT.LEFT
     for cell, text in zip(table.rows[0].cells, headers):
         cell.text = _x(text)
@@ -140,7 +159,7 @@ def _chart(document: Any, spec: Any, width_cm: float) -> None:
     shape = paragraph.add_run().add_picture(io.BytesIO(charts.render(spec, "png")), width=Cm(width_cm))
     shape._inline.docPr.set("descr", _x(spec.caption))  # the alternative text
     shape._inline.docPr.set("title", _x(spec.title))
-    document.add_paragraph(_x(spec.caption), style="Caption")
+    _para(document, "Caption", _x(spec.caption))
 
 
 def to_docx(pub: Publication) -> bytes:
@@ -153,13 +172,13 @@ def to_docx(pub: Publication) -> bytes:
     _styles(document)
     document.core_properties.title = _x(pub.title)
     document.core_properties.subject = _x(f"Edition {pub.edition}")
-    document.add_paragraph(_x(pub.title), style="Title")
-    document.add_paragraph(_x(f"Edition {pub.edition} · {pub.date}"), style="Subtitle")
-    document.add_paragraph(_x(CAUTION), style="Caution")
+    _para(document, "Title", _x(pub.title))
+    _para(document, "Subtitle", _x(f"Edition {pub.edition} · {pub.date}"))
+    _para(document, "Caution", _x(CAUTION))
     extra = ([FIGURE_NOTES] if notes else []) + ([WAITING_HEADING] if pub.waiting else [])
     _contents(document, [s.heading for s in sections] + extra)
     for section in sections:
-        document.add_heading(_x(section.heading), level=1)
+        _para(document, "Heading 1", _x(section.heading))
         printed: set[str] = set()
         for st in section.lead:
             _statement(document, st, numbers, printed)
@@ -169,9 +188,9 @@ def to_docx(pub: Publication) -> bytes:
         if section.chart is not None:
             _chart(document, section.chart, 14)
         for group in section.groups:
-            document.add_heading(_x(group.heading), level=2)
+            _para(document, "Heading 2", _x(group.heading))
             for item in group.items:
-                document.add_heading(_x(item.heading), level=3)
+                _para(document, "Heading 3", _x(item.heading))
                 seen: set[str] = set()
                 for st in item.statements:
                     _statement(document, st, numbers, seen)
@@ -181,18 +200,18 @@ def to_docx(pub: Publication) -> bytes:
                     _chart(document, item.chart, 11)
         line = sources_line(section.sources)
         if line:
-            document.add_paragraph(_x(line), style="Source")
+            _para(document, "Source", _x(line))
     if notes:
-        document.add_heading(FIGURE_NOTES, level=1)
+        _para(document, "Heading 1", FIGURE_NOTES)
         for n, caveat in enumerate(notes, 1):
-            p = document.add_paragraph(style="Figure Note")
+            p = _para(document, "Figure Note")
             p.add_run(str(n)).font.superscript = True
             p.add_run(" " + _x(caveat))
     if pub.waiting:
-        document.add_heading(WAITING_HEADING, level=1)
-        document.add_paragraph(_x(WAITING_INTRO), style="Figure Note")
+        _para(document, "Heading 1", WAITING_HEADING)
+        _para(document, "Figure Note", _x(WAITING_INTRO))
         for slot, reason in pub.waiting:
-            p = document.add_paragraph(style="List Bullet")
+            p = _para(document, "List Bullet")
             p.add_run(_x(slot)).bold = True
             p.add_run(" " + _x(reason))
     buf = io.BytesIO()

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 import pytest
 
 from stetline import charts, phrasing
@@ -28,20 +30,49 @@ def _specs(unit: str, decimals: int, top: float) -> list[charts.ChartSpec]:
     return [series, ranking]
 
 
+def _texts_outside(fig: Any) -> list[str]:
+    """The visible labels of a drawn figure that reach beyond its edges (tick labels, key, names)."""
+    from matplotlib.text import Text
+
+    renderer = fig.canvas.get_renderer()
+    box = fig.bbox
+    texts = [t for t in fig.findobj(Text) if t.get_visible() and t.get_text()]
+    assert texts
+    outside = []
+    for text in texts:
+        extent = text.get_window_extent(renderer)
+        if not (box.x0 <= extent.x0 and extent.x1 <= box.x1 and box.y0 <= extent.y0 and extent.y1 <= box.y1):
+            outside.append(text.get_text())
+    return outside
+
+
 @pytest.mark.parametrize("unit, decimals, top", UNITS)
 def test_every_tick_label_lies_inside_the_image(unit: str, decimals: int, top: float) -> None:
     for spec in _specs(unit, decimals, top):
         fig = charts.figure(spec)
-        renderer = fig.canvas.get_renderer()
-        fig.draw_without_rendering()  # runs the constrained layout, as saving does
-        box = fig.bbox
-        labels = [t for ax in fig.axes for t in ax.get_xticklabels() + ax.get_yticklabels()
-                  if t.get_visible() and t.get_text()]
-        assert labels
-        for label in labels:
-            extent = label.get_window_extent(renderer)
-            assert extent.x0 >= box.x0 and extent.x1 <= box.x1, (spec.kind, label.get_text())
-            assert extent.y0 >= box.y0 and extent.y1 <= box.y1, (spec.kind, label.get_text())
+        fig.draw_without_rendering()
+        assert _texts_outside(fig) == [], spec.kind
+
+
+@pytest.mark.parametrize("marked", ["e7", "e0", "e59", None])
+def test_a_ranking_of_sixty_is_a_dot_strip_with_its_labels_inside(marked: str | None) -> None:
+    def fmt(x: float) -> str:
+        return phrasing.value(x, "per 1,000 residents", 0)
+
+    panel = [(f"e{i}", f"Longer entity name number {i}", 1000.0 + (i * 37) % 500) for i in range(60)]
+    spec = charts.ranking_spec("Library visits", "per 1,000 residents", "2025", panel, marked, fmt, "town")
+    assert spec is not None and len(spec.bars) == 60
+    fig = charts.figure(spec)
+    fig.draw_without_rendering()
+    assert _texts_outside(fig) == []
+    height = fig.get_size_inches()[1]
+    assert height < 3  # bars of sixty would be a long column of hairlines; the strip stays short
+    named = [t.get_text() for t in fig.axes[0].texts if "\n" in t.get_text()]
+    if marked is None:  # the first and the last are named
+        assert sorted(named) == sorted(f"{nm}\n{shown}" for k, nm, _v, shown in (spec.bars[0], spec.bars[-1]))
+    else:
+        assert named == [next(f"{nm}\n{shown}" for k, nm, _v, shown in spec.bars if k == marked)]
+    assert spec.ticks[0][0] > 0  # the strip spans the values, not zero to the top
 
 
 def test_a_short_unit_is_on_every_tick_and_a_long_one_on_the_axis() -> None:
