@@ -50,7 +50,7 @@ GAP = 5.0  # points between a label and the axis it labels
 
 INK, OTHER, GRID, MARK, AXIS, LABEL = "#1d1d1d", "#b9c2cc", "#e3e3e3", "#1f4e8c", "#555555", "#333333"
 
-_RC: dict[str, Any] = {"svg.fonttype": "none", "text.parse_math": False, "text.usetex": False,
+_RC: Any = {"svg.fonttype": "none", "text.parse_math": False, "text.usetex": False,
                        "font.family": ["DejaVu Sans"], "font.size": FONT_SIZE, "path.simplify": True}
 
 
@@ -261,7 +261,8 @@ _lock_draw = Lock()  # matplotlib's rc settings and the kept figures are shared:
 def _save(spec: ChartSpec, fmt: str) -> bytes:
     import matplotlib
 
-    with _lock_draw, matplotlib.rc_context({**_RC, "svg.hashsalt": spec.digest}):
+    settings: Any = {**_RC, "svg.hashsalt": spec.digest}
+    with _lock_draw, matplotlib.rc_context(settings):
         fig = figure(spec)
         buf = io.BytesIO()
         if fmt == "svg":

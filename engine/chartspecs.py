@@ -94,9 +94,9 @@ def series_spec(label: str, unit: str, periods: list[str], lines: list[tuple[str
     unit_label, ticks = _axis(values, unit, fmt)
     rows = tuple((p, fmt(v), i == len(known) - 1) for i, (p, v) in enumerate(known))
     n_others = len(lines) - 1
-    others = f"the other {n_others} {phrasing.noun_plural(noun, n_others)}" if n_others else ""
+    others_key = f"the other {n_others} {phrasing.noun_plural(noun, n_others)}" if n_others else ""
     return ChartSpec("series", f"{label} in {name}, {first[0]} to {last[0]}", caption, unit_label, ticks,
-                     tuple(periods), tuple((k, n, tuple(vs)) for k, n, vs in lines), (), marked, rows, others)
+                     tuple(periods), tuple((k, n, tuple(vs)) for k, n, vs in lines), (), marked, rows, others_key)
 
 
 def ranking_spec(label: str, unit: str, period: str, values: list[tuple[str, str, float]], marked: str | None,
