@@ -102,3 +102,24 @@ def test_svg_is_deterministic_plain_text_and_cached() -> None:
     assert png.startswith(b"\x89PNG") and charts._save(series, "png") == png
     with pytest.raises(ValueError):
         charts.render(series, "gif")
+
+
+def test_a_chart_folder_keeps_what_was_drawn_for_the_next_publish(tmp_path: Any,
+                                                                  monkeypatch: pytest.MonkeyPatch) -> None:
+    series, ranking = _specs("percent", 1, 59.3)
+    charts._cache.clear()
+    with charts.folder(tmp_path / "chart-cache"):
+        svg, png = charts.render(series, "svg"), charts.render(ranking, "png")
+    kept = sorted(p.name.split("-")[0] + p.suffix for p in (tmp_path / "chart-cache").iterdir())
+    assert kept == sorted([series.digest + ".svg", ranking.digest + ".png"])
+    charts._cache.clear()  # as in a new process
+
+    def no_drawing(spec: Any, fmt: str) -> bytes:
+        raise AssertionError(f"drew {spec.title} again")
+
+    monkeypatch.setattr(charts, "_save", no_drawing)
+    with charts.folder(tmp_path / "chart-cache"):
+        assert charts.render(series, "svg") == svg and charts.render(ranking, "png") == png
+    charts._cache.clear()
+    with pytest.raises(AssertionError, match="drew"):  # outside the folder's block nothing is read from it
+        charts.render(series, "svg")
