@@ -300,14 +300,20 @@ def compact_svg(svg: bytes) -> bytes:
 _cache: OrderedDict[tuple[str, str], bytes] = OrderedDict()
 _lock = Lock()
 _folder: ContextVar[Path | None] = ContextVar("chart_folder", default=None)
+_pruned: set[Path] = set()
 
 
 @contextmanager
 def folder(path: Path | None) -> Iterator[None]:
     """Keep the charts drawn inside this block as files in a folder too (made if missing; None: memory only)."""
-    if path is not None:
-        path.mkdir(parents=True, exist_ok=True)
-        _prune(path)
+    if path is not None and path not in _pruned:  # once a process: a page showing a chart stays quick
+        try:
+            path.mkdir(parents=True, exist_ok=True)
+            _prune(path)
+        except OSError:
+            path = None  # the folder is a cache: without it charts are drawn as before
+        else:
+            _pruned.add(path)
     token = _folder.set(path)
     try:
         yield

@@ -621,12 +621,16 @@ def test_statement_page_charts_the_series_and_every_entity_with_text_alternative
 def test_a_statement_page_shown_again_draws_no_chart(client: FlaskClient, monkeypatch: pytest.MonkeyPatch) -> None:
     from stetline import charts
 
+    charts._cache.clear()  # drawn by this test's workspace, not found from an earlier test
     first = get(client, f"/statements/{HERONSFORD}")
     drawn: list[str] = []
     real = charts._save
     monkeypatch.setattr(charts, "_save", lambda spec, fmt: drawn.append(spec.title) or real(spec, fmt))
     assert get(client, f"/statements/{HERONSFORD}") == first
     assert drawn == []  # cached by the statement's digest: nothing drawn again
+    charts._cache.clear()  # as after a restart: the drawings are read from the workspace's chart folder
+    assert get(client, f"/statements/{HERONSFORD}") == first
+    assert drawn == []
 
 
 def test_a_topic_statement_shows_the_ranking_only_and_the_headline_none(client: FlaskClient) -> None:

@@ -4,8 +4,9 @@ Drawn by stetline.charts (matplotlib) as SVG and shown as <img> with a data: add
 page's Content-Security-Policy (no inline styles) does not apply inside the drawing and no text
 from the data can become page markup; the caption stating the numbers is the alt text. The
 specs of a statement are kept in an LRU cache keyed by the workspace, the slot, its digest and the
-current edition, and each drawing in stetline.charts' own cache keyed by the spec's digest: a
-page shown again draws nothing and reads no observations.
+current edition, and each drawing in stetline.charts' own cache keyed by the spec's digest and in
+the workspace's chart folder: a page shown again draws nothing and reads no observations, and
+after a restart a chart drawn before is read from its file.
 """
 
 from __future__ import annotations
@@ -20,6 +21,7 @@ from stetline import charts, phrasing
 from stetline.actions import SlotView
 from stetline.loading import house_style
 from stetline.store import ops
+from stetline.web.db import workspace
 
 CACHE_SIZE = 512
 _specs: OrderedDict[tuple[str, ...], dict[str, Any]] = OrderedDict()
@@ -68,5 +70,6 @@ def statement_charts(s: Session, v: SlotView, workspace_key: str) -> dict[str, A
 
 
 def image(spec: charts.ChartSpec) -> str:
-    """The chart's SVG as a data: address for an <img> (drawn once per process)."""
-    return charts.data_uri(spec)
+    """The chart's SVG as a data: address for an <img> (drawn once, kept in the workspace's chart folder)."""
+    with charts.folder(workspace().chart_dir):
+        return charts.data_uri(spec)
