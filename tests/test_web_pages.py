@@ -600,9 +600,11 @@ def test_bulk_forms_refuse_unknown_selections(client: FlaskClient) -> None:
 
 
 # -- the charts -----------------------------------------------------------------------------
+# on blurb and roundup slots: drafted with every kind and with the default kinds alike
+BLURB = "blurb/heronsford/recycling"
 
 def test_statement_page_charts_the_series_and_every_entity_with_text_alternatives(client: FlaskClient) -> None:
-    html = get(client, f"/statements/{HERONSFORD}")
+    html = get(client, f"/statements/{BLURB}")
     series = re.search(r'<img id="series-chart" src="data:image/svg\+xml;base64,([^"]+)" alt="([^"]+)">', html)
     assert series is not None
     svg = base64.b64decode(series.group(1)).decode("utf-8")
@@ -622,19 +624,19 @@ def test_a_statement_page_shown_again_draws_no_chart(client: FlaskClient, monkey
     from stetline import charts
 
     charts._cache.clear()  # drawn by this test's workspace, not found from an earlier test
-    first = get(client, f"/statements/{HERONSFORD}")
+    first = get(client, f"/statements/{BLURB}")
     drawn: list[str] = []
     real = charts._save
     monkeypatch.setattr(charts, "_save", lambda spec, fmt: drawn.append(spec.title) or real(spec, fmt))
-    assert get(client, f"/statements/{HERONSFORD}") == first
+    assert get(client, f"/statements/{BLURB}") == first
     assert drawn == []  # cached by the statement's digest: nothing drawn again
     charts._cache.clear()  # as after a restart: the drawings are read from the workspace's chart folder
-    assert get(client, f"/statements/{HERONSFORD}") == first
+    assert get(client, f"/statements/{BLURB}") == first
     assert drawn == []
 
 
 def test_a_topic_statement_shows_the_ranking_only_and_the_headline_none(client: FlaskClient) -> None:
-    html = get(client, "/statements/leaders/recycling")
+    html = get(client, "/statements/roundup/recycling")
     assert 'id="ranking-chart"' in html and 'id="series-chart"' not in html and "(this statement)" not in html
     assert "14 towns ranked: best Heronsford (59.3%), worst Gorse Point (40.4%)." in html
     assert "<figure" not in get(client, "/statements/headline")
