@@ -306,14 +306,14 @@ _pruned: set[Path] = set()
 @contextmanager
 def folder(path: Path | None) -> Iterator[None]:
     """Keep the charts drawn inside this block as files in a folder too (made if missing; None: memory only)."""
-    if path is not None and path not in _pruned:  # once a process: a page showing a chart stays quick
+    if path is not None:
         try:
-            path.mkdir(parents=True, exist_ok=True)
-            _prune(path)
+            path.mkdir(parents=True, exist_ok=True)  # again if it was deleted meanwhile
+            if path not in _pruned:  # once a process: a page showing a chart stays quick
+                _prune(path)
+                _pruned.add(path)
         except OSError:
             path = None  # the folder is a cache: without it charts are drawn as before
-        else:
-            _pruned.add(path)
     token = _folder.set(path)
     try:
         yield
