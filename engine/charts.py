@@ -41,7 +41,7 @@ CACHE_SIZE = 1024
 DISK_LIMIT = 5000  # files kept in a chart folder; the least recently used go first
 DRAWING = "3"  # bump when the drawing changes, so files drawn by older code are not reused
 
-FONT_SIZE = 9.5  # points, on a figure WIDTH inches wide: about 10 px on a phone, 14 px on a wide screen
+FONT_SIZE = 10.5  # points, on a figure WIDTH inches wide: 11 px or more on a phone, 15 px on a wide screen
 WIDTH = 4.4  # inches
 PNG_DPI = 120  # Word prints a chart about 11.5 cm wide: 120 dots an inch is sharp at that size
 PALETTE = 32  # colours of a PNG chart: its few inks and their anti-aliased edges
@@ -154,7 +154,9 @@ def _draw_series(fig: Any, ax: Any, spec: ChartSpec, line: float) -> None:
     every = max(1, len(xs) // 6) if len(xs) > 8 else 1
     shown = [(x, p) for x, p in zip(xs, spec.periods) if x % every == 0 or x == len(xs) - 1]
     left = PAD + _widest(s for _t, s in spec.ticks) + GAP
-    top = PAD + 1.5 * line + (1.3 * line if spec.unit_label else 0)
+    mine = next(ln for ln in spec.lines if ln[0] == spec.marked)
+    rows = _key_rows(mine[1], spec.others, line)
+    top = PAD + 1.3 * line * rows + 0.7 * line + (1.3 * line if spec.unit_label else 0)  # the key, the unit
     _place(fig, ax, left, PAD + line + GAP, PAD + _widest(p for _x, p in shown[-1:]) / 2, top)
     known = [v for _k, _n, vs in spec.lines for v in vs if v is not None]
     lo, hi = min([spec.ticks[0][0], *known]), max([spec.ticks[-1][0], *known])
@@ -176,28 +178,35 @@ def _draw_series(fig: Any, ax: Any, spec: ChartSpec, line: float) -> None:
                 runs.append(run)
             run = []
     ax.add_collection(LineCollection(runs, colors=OTHER, linewidths=1), autolim=False)
-    mine = next(ln for ln in spec.lines if ln[0] == spec.marked)
     ys = [float("nan") if v is None else v for v in mine[2]]
     ax.plot(xs, ys, color=MARK, linewidth=2.4, marker="o", markersize=4)
-    _key(ax, mine[1], spec.others, line)
+    _key(fig, ax, mine[1], spec.others, line)
 
 
-def _key(ax: Any, name: str, others: str, line: float) -> None:
-    """The key above the plotting area: the marked entity's line and name, then the grey lines'."""
-    at = _offset(ax, ax.transAxes, 0, PAD + line / 2)
-    ax.add_collection(_segment(ax, at, 0, 16, MARK, 2.4))
-    ax.text(0, 1, name, transform=_offset(ax, at, 20, 0), va="center", color=INK, fontweight="bold")
+def _key_rows(name: str, others: str, line: float) -> int:
+    """How many rows the key takes: one, or two when both entries do not fit side by side."""
+    wide = 20 + _widest([name], bold=True) + 12 + 20 + _widest([others])
+    return 1 if not others or wide <= WIDTH * 72 - 2 * PAD else 2
+
+
+def _key(fig: Any, ax: Any, name: str, others: str, line: float) -> None:
+    """The key at the top left: the marked entity's line and name, then the grey lines' (below if need be)."""
+    rows = _key_rows(name, others, line)
+    entries = [(0.0, 0, name, MARK, 2.4, INK, "bold")]
     if others:
-        start = 20 + _widest([name], bold=True) + 12
-        ax.add_collection(_segment(ax, at, start, start + 16, OTHER, 1.2))
-        ax.text(0, 1, others, transform=_offset(ax, at, start + 20, 0), va="center", color=LABEL)
+        start = 20 + _widest([name], bold=True) + 12 if rows == 1 else 0.0
+        entries.append((start, rows - 1, others, OTHER, 1.2, LABEL, "normal"))
+    for x, row, text, colour, width, ink, weight in entries:
+        at = _offset(ax, fig.transFigure, PAD, -(PAD + (row + 0.5) * 1.3 * line))
+        ax.add_collection(_segment(fig, at, x, x + 16, colour, width))
+        ax.text(0, 1, text, transform=_offset(ax, at, x + 20, 0), va="center", color=ink, fontweight=weight)
 
 
-def _segment(ax: Any, at: Any, x0: float, x1: float, colour: str, width: float) -> Any:
-    """A short stroke of the key, from x0 to x1 points right of the plotting area's left edge."""
+def _segment(fig: Any, at: Any, x0: float, x1: float, colour: str, width: float) -> Any:
+    """A short stroke of the key, from x0 to x1 points right of where ``at`` puts the figure's top left."""
     from matplotlib.collections import LineCollection
 
-    w = ax.figure.get_size_inches()[0] * 72 * ax.get_position().width  # points across the plotting area
+    w = fig.get_size_inches()[0] * 72  # points across the figure
     return LineCollection([[(x0 / w, 1), (x1 / w, 1)]], colors=colour, linewidths=width, clip_on=False,
                           transform=at)
 

@@ -85,3 +85,15 @@ def test_every_contents_link_reaches_its_section(page: Page, report: Path) -> No
     heading = page.get_by_role("heading", name=name, exact=True)
     box = heading.bounding_box()
     assert box is not None and 0 <= box["y"] < PHONE["height"] / 2  # scrolled to the top of the screen
+
+
+def test_the_statement_page_charts_are_readable_on_a_phone(page: Page, live: Live, screens: Path) -> None:
+    page.set_viewport_size(PHONE)
+    page.goto(live("/statements/blurb/heronsford/recycling"))  # a blurb: drafted under every kinds setting
+    page.locator("#series-chart").scroll_into_view_if_needed()
+    page.screenshot(path=str(screens / "statement-charts-390.png"))
+    images: list[dict[str, Any]] = page.evaluate(CHARTS.replace("figure.chart img", "#series-chart, #ranking-chart"))
+    assert len(images) == 2 and all(i["alt"].strip() and i["loaded"] for i in images)
+    points = charts.FONT_SIZE * 4 / 3
+    smallest = min(points * i["shown"] / i["natural"] for i in images)
+    assert smallest >= MIN_CHART_TEXT_PX, f"chart labels shown at {smallest:.1f} px on a 390 px screen"
