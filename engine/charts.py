@@ -317,7 +317,7 @@ def folder(path: Path | None) -> Iterator[None]:
     """Keep the charts drawn inside this block as files in a folder too (made if missing; None: memory only)."""
     if path is not None:
         try:
-            path.mkdir(parents=True, exist_ok=True)  # again if it was deleted meanwhile
+            path.mkdir(mode=0o700, parents=True, exist_ok=True)  # private, like the database; made again if deleted
             if path not in _pruned:  # once a process: a page showing a chart stays quick
                 _prune(path)
                 _pruned.add(path)

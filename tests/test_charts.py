@@ -112,6 +112,9 @@ def test_a_chart_folder_keeps_what_was_drawn_for_the_next_publish(tmp_path: Any,
         svg, png = charts.render(series, "svg"), charts.render(ranking, "png")
     kept = sorted(p.name.split("-")[0] + p.suffix for p in (tmp_path / "chart-cache").iterdir())
     assert kept == sorted([series.digest + ".svg", ranking.digest + ".png"])
+    # the drawings show the figures: readable by their owner only, like the database
+    assert (tmp_path / "chart-cache").stat().st_mode & 0o777 == 0o700
+    assert {p.stat().st_mode & 0o777 for p in (tmp_path / "chart-cache").iterdir()} == {0o600}
     charts._cache.clear()  # as in a new process
 
     def no_drawing(spec: Any, fmt: str) -> bytes:
