@@ -111,6 +111,14 @@ def figure(spec: ChartSpec) -> Any:
     return fig
 
 
+def _span(lo: float, hi: float) -> tuple[float, float]:
+    """The limits of a value axis, widened when every value is the same (an axis needs a length)."""
+    if hi > lo:
+        return lo, hi
+    pad = abs(lo) * 0.1 or 1.0
+    return lo - pad, hi + pad
+
+
 def _place(fig: Any, ax: Any, left: float, bottom: float, right: float, top: float) -> None:
     """Put the plotting area inside the figure with margins given in points."""
     w, h = fig.get_size_inches() * 72
@@ -159,7 +167,7 @@ def _draw_series(fig: Any, ax: Any, spec: ChartSpec, line: float) -> None:
     top = PAD + 1.3 * line * rows + 0.7 * line + (1.3 * line if spec.unit_label else 0)  # the key, the unit
     _place(fig, ax, left, PAD + line + GAP, PAD + _widest(p for _x, p in shown[-1:]) / 2, top)
     known = [v for _k, _n, vs in spec.lines for v in vs if v is not None]
-    lo, hi = min([spec.ticks[0][0], *known]), max([spec.ticks[-1][0], *known])
+    lo, hi = _span(min([spec.ticks[0][0], *known]), max([spec.ticks[-1][0], *known]))
     ax.set_xlim(-0.3, len(xs) - 0.7)
     ax.set_ylim(lo, hi)
     _grid(ax, spec, "y", (-0.3, len(xs) - 0.7))
@@ -221,8 +229,7 @@ def _draw_bars(fig: Any, ax: Any, spec: ChartSpec, line: float) -> None:
     right = PAD + _widest(s for _t, s in spec.ticks[-1:]) / 2
     bottom = PAD + line + GAP + (1.3 * line if spec.unit_label else 0)
     _place(fig, ax, left, bottom, right, PAD + line / 2)
-    lo = min([0.0, *values, *(t for t, _s in spec.ticks)])
-    hi = max([*values, *(t for t, _s in spec.ticks)])
+    lo, hi = _span(min([0.0, *values, *(t for t, _s in spec.ticks)]), max([*values, *(t for t, _s in spec.ticks)]))
     ax.set_xlim(lo, hi + (hi - lo) * 0.02)
     ax.set_ylim(len(names) - 0.5, -0.5)
     _grid(ax, spec, "x", (-0.5, len(names) - 0.5))
@@ -243,7 +250,7 @@ def _draw_strip(fig: Any, ax: Any, spec: ChartSpec, line: float) -> None:
     bottom = PAD + line + GAP + (1.3 * line if spec.unit_label else 0)
     side = PAD + _widest(s for _t, s in (spec.ticks[0], spec.ticks[-1])) / 2
     _place(fig, ax, side, bottom, side, PAD)
-    lo, hi = min([*values, *(t for t, _s in spec.ticks)]), max([*values, *(t for t, _s in spec.ticks)])
+    lo, hi = _span(min([*values, *(t for t, _s in spec.ticks)]), max([*values, *(t for t, _s in spec.ticks)]))
     ax.set_xlim(lo, hi)
     mine = [i for i, (k, *_r) in enumerate(spec.bars) if k == spec.marked]
     top = 5.6 if mine else 8.0  # room above the dots for one name, or for the first and the last

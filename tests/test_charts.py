@@ -126,3 +126,21 @@ def test_a_chart_folder_keeps_what_was_drawn_for_the_next_publish(tmp_path: Any,
     charts._cache.clear()
     with pytest.raises(AssertionError, match="drew"):  # outside the folder's block nothing is read from it
         charts.render(series, "svg")
+
+
+@pytest.mark.parametrize("entities", [2, 50])
+def test_a_topic_where_every_value_is_the_same_still_draws(entities: int) -> None:
+    def fmt(x: float) -> str:
+        return phrasing.value(x, "percent", 1)
+
+    flat = [(f"e{i}", f"Town {i}", [5.0, 5.0, None if i else 5.0]) for i in range(entities)]
+    series = charts.series_spec("Rate", "percent", ["2023", "2024", "2025"], flat, "e0", fmt, "town")
+    zero = charts.ranking_spec("Rate", "percent", "2025", [(k, n, 0.0) for k, n, _v in flat], "e0", fmt, "town")
+    lone = charts.series_spec("Rate", "percent", ["2025"], [("e0", "Town 0", [3.0])], "e0", fmt, "town")
+    for spec in (series, zero, lone):
+        assert spec is not None
+        for fmt_ in charts.FORMATS:  # warnings are errors in this suite: an axis of no length would warn
+            assert charts._save(spec, fmt_)
+        fig = charts.figure(spec)
+        fig.draw_without_rendering()
+        assert _texts_outside(fig) == []
