@@ -12,13 +12,15 @@ import csv
 import html
 import io
 import json
-import re
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
 from stetline.numbers import find_numbers, trace
-from stetline.publication import CAUTION, RECHECK_MARK, WAITING_HEADING, WAITING_INTRO, Publication, Statement
+from stetline.publication import FIGURE_NOTES as FIGURE_NOTES  # re-exported: one wording in every format
+from stetline.publication import Figures, Publication, Statement
+from stetline.publish_docx import TOC_INSTRUCTION as TOC_INSTRUCTION  # re-exported
+from stetline.publish_structure import Section, structure
 
 FORMATS = ("md", "html", "json", "csv", "docx")
 BINARY = frozenset({"docx"})
@@ -29,12 +31,10 @@ MEDIA_TYPES = {
     "csv": "text/csv; charset=utf-8",
     "docx": "application/vnd.openxmlformats-officedocument.wordprocessingml.document",
 }
-FIGURE_NOTES = "Notes on the figures"
-TOC_INSTRUCTION = 'TOC \\o "1-3" \\h \\z \\u'
-CSV_COLUMNS = ("slot", "entity", "topic", "kind", "status", "text", "notes", "entity_name", "topic_label")
+CSV_COLUMNS = ("slot", "entity", "topic", "kind", "status", "text", "notes", "entity_name", "topic_label",
+               "section", "category", "role", "value", "rank", "rank_of", "change", "previous", "chart")
 NOTES_SEPARATOR = "\n"  # the notes of a statement, one a line, in one CSV cell
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
-_NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
 
 
 def render(pub: Publication, fmt: str, layouts_dir: Path | None = None) -> bytes:
@@ -50,24 +50,27 @@ def render(pub: Publication, fmt: str, layouts_dir: Path | None = None) -> bytes
     return renderer(pub)
 
 
-def sources_line(pub: Publication, statements: list[Statement]) -> str | None:
-    """The sources of the topics a section's statements use, as one sentence (None if none)."""
-    used = sorted({st.topic for st in statements if st.topic and st.topic in pub.sources})
-    return "Sources: " + "; ".join(pub.sources[t] for t in used) + "." if used else None
+def placed(pub: Publication) -> list[tuple[Section, str, str, Statement, Figures | None, Any]]:
+    """Every statement in reading order with its section, sub-heading, role, figures and chart spec.
+
+    The role is "lead" (a section's own statements), "composed" (the first statement of a topic
+    within a section: the blurb when it is drafted) or "part" (the statements folded after it).
+    """
+    out: list[tuple[Section, str, str, Statement, Figures | None, Any]] = []
+    for section in structure(pub):
+        for st in section.lead:
+            out.append((section, "", "lead", st, None, None))
+        for group in section.groups:
+            for item in group.items:
+                for i, st in enumerate(item.statements):
+                    out.append((section, group.heading, "part" if i else "composed", st, item.figures, item.chart))
+    return out
 
 
-def _caveat_numbers(pub: Publication) -> dict[int, int]:
-    """Footnote numbers of the statements with a caveat, keyed by id(), in reading order."""
-    numbers: dict[int, int] = {}
-    for _key, _heading, statements in pub.sections:
-        for st in statements:
-            if st.caveat:
-                numbers[id(st)] = len(numbers) + 1
-    return numbers
+def _docx(pub: Publication) -> bytes:
+    from stetline.publish_docx import to_docx
 
-
-def _caveats(pub: Publication) -> list[str]:
-    return [st.caveat for _k, _h, sts in pub.sections for st in sts if st.caveat]
+    return to_docx(pub)
 
 
 def to_html(pub: Publication) -> bytes:
@@ -87,8 +90,16 @@ def _numbers(st: Statement) -> list[dict[str, Any]]:
     return found
 
 
+def _figures_json(figures: Figures | None) -> dict[str, Any] | None:
+    if figures is None:
+        return None
+    return {"period": figures.period, "value": figures.value, "rank": figures.rank, "rank_of": figures.rank_of,
+            "change": figures.change or None, "previous": figures.previous or None,
+            "previous_period": figures.previous_period or None}
+
+
 def statement_json(st: Statement, edition: str) -> dict[str, Any]:
-    """One published statement as a JSON object."""
+    """One published statement as a JSON object (without its place in the report)."""
     return {
         "slot": st.slot,
         "entity": st.entity,
@@ -111,8 +122,22 @@ def statement_json(st: Statement, edition: str) -> dict[str, Any]:
 
 
 def to_json(pub: Publication) -> bytes:
-    """A JSON list with one object per published statement, in publication order."""
-    items = [statement_json(st, pub.edition) for _k, _h, sts in pub.sections for st in sts]
+    """A JSON list with one object per published statement, in reading order, with its place and figures."""
+    items = []
+    tables_given: set[str] = set()
+    for section, category, role, st, figures, chart in placed(pub):
+        item = statement_json(st, pub.edition)
+        item["section"] = {"key": section.key, "heading": section.heading, "kind": section.kind}
+        item["category"] = category or None
+        item["role"] = role
+        item["figures"] = _figures_json(figures)
+        item["chart"] = chart.caption if chart is not None else None
+        if role == "lead" and section.kind == "topic" and section.key not in tables_given:
+            tables_given.add(section.key)  # the ranked table once, on the section's first statement
+            item["ranking"] = [{"rank": r.rank, "name": r.name, "value": r.value, "change": r.change or None}
+                               for r in section.table]
+            item["chart"] = section.chart.caption if section.chart is not None else None
+        items.append(item)
     return (json.dumps(items, ensure_ascii=False, indent=2) + "\n").encode("utf-8")
 
 
@@ -125,125 +150,21 @@ def neutralise(cell: Any) -> str:
 
 
 def to_csv(pub: Publication) -> bytes:
-    """One row per published statement, formula-like cells neutralised."""
+    """One row per published statement in reading order, with its place and figures; formula-like cells neutralised."""
     buf = io.StringIO(newline="")
     writer = csv.writer(buf)
     writer.writerow(CSV_COLUMNS)
-    for _k, _h, statements in pub.sections:
-        for st in statements:
-            writer.writerow([neutralise(c) for c in (
-                st.slot, st.entity, st.topic, st.kind, st.status, st.text, NOTES_SEPARATOR.join(st.notes),
-                pub.entity_names.get(st.entity or "", ""), pub.topic_labels.get(st.topic or "", ""),
-            )])
+    for section, category, role, st, figures, chart in placed(pub):
+        f = figures
+        writer.writerow([neutralise(c) for c in (
+            st.slot, st.entity, st.topic, st.kind, st.status, st.text, NOTES_SEPARATOR.join(st.notes),
+            pub.entity_names.get(st.entity or "", ""), pub.topic_labels.get(st.topic or "", ""),
+            section.heading, category, role, f.value if f else "", f.rank if f else "", f.rank_of if f else "",
+            f.change if f else "", f.previous if f else "", chart.caption if chart is not None else "",
+        )])
     return buf.getvalue().encode("utf-8")
 
 
-# -- Word ------------------------------------------------------------------------------------
-
-def _x(text: Any) -> str:
-    return _NOT_XML.sub("", str(text))
-
-
-def _styles(document: Any) -> None:
-    """Add the paragraph styles a designer restyles: Statement, Note, Source, Caution, Figure Note."""
-    from docx.enum.style import WD_STYLE_TYPE
-    from docx.shared import Cm, Pt, RGBColor
-
-    styles = document.styles
-    normal = styles["Normal"]
-
-    def add(name: str) -> Any:
-        style = styles.add_style(name, WD_STYLE_TYPE.PARAGRAPH)
-        style.base_style = normal
-        style.quick_style = True
-        return style
-
-    statement = add("Statement")
-    statement.paragraph_format.space_after = Pt(8)
-    note = add("Note")
-    note.font.italic = True
-    note.paragraph_format.left_indent = Cm(1)
-    note.paragraph_format.space_after = Pt(8)
-    source = add("Source")
-    source.font.size = Pt(9)
-    source.font.color.rgb = RGBColor(0x55, 0x55, 0x55)
-    caution = add("Caution")
-    caution.font.italic = True
-    caution.paragraph_format.space_after = Pt(12)
-    figure = add("Figure Note")
-    figure.font.size = Pt(9)
-    for style in (note, source, caution, figure):
-        style.next_paragraph_style = statement
-
-
-def _toc(document: Any) -> None:
-    """A table-of-contents field (Word fills it in when fields are updated, as on opening)."""
-    from docx.oxml import OxmlElement
-    from docx.oxml.ns import qn
-
-    document.add_paragraph("Contents", style="TOC Heading")
-    field = OxmlElement("w:fldSimple")
-    field.set(qn("w:instr"), TOC_INSTRUCTION)
-    run = OxmlElement("w:r")
-    text = OxmlElement("w:t")
-    text.text = "Update this field to show the table of contents."
-    run.append(text)
-    field.append(run)
-    document.add_paragraph()._p.append(field)
-    update = OxmlElement("w:updateFields")
-    update.set(qn("w:val"), "true")
-    document.settings.element.append(update)
-
-
-def to_docx(pub: Publication) -> bytes:
-    """A Word document: Title, Heading 1 per section, Statement and Note styles, figure notes, TOC."""
-    import docx
-
-    document = docx.Document()
-    _styles(document)
-    document.core_properties.title = _x(pub.title)
-    document.core_properties.subject = _x(f"Edition {pub.edition}")
-    document.add_paragraph(_x(pub.title), style="Title")
-    document.add_paragraph(_x(f"Edition {pub.edition} · {pub.date}"), style="Subtitle")
-    document.add_paragraph(_x(CAUTION), style="Caution")
-    _toc(document)
-    numbers = _caveat_numbers(pub)
-    for _key, heading, statements in pub.sections:
-        document.add_heading(_x(heading), level=1)
-        for st in statements:
-            paragraph = document.add_paragraph(style="Statement")
-            if st.status == "recheck":
-                paragraph.add_run(RECHECK_MARK + " ").bold = True
-            paragraph.add_run(_x(st.text))
-            n = numbers.get(id(st))
-            if n is not None:
-                paragraph.add_run(str(n)).font.superscript = True
-            for note in st.notes:
-                p = document.add_paragraph(style="Note")
-                p.add_run("Note: ").bold = True
-                p.add_run(_x(note))
-        line = sources_line(pub, statements)
-        if line:
-            document.add_paragraph(_x(line), style="Source")
-    caveats = _caveats(pub)
-    if caveats:
-        document.add_heading(FIGURE_NOTES, level=1)
-        for n, caveat in enumerate(caveats, 1):
-            p = document.add_paragraph(style="Figure Note")
-            p.add_run(str(n)).font.superscript = True
-            p.add_run(" " + _x(caveat))
-    if pub.waiting:
-        document.add_heading(WAITING_HEADING, level=1)
-        document.add_paragraph(_x(WAITING_INTRO), style="Figure Note")
-        for slot, reason in pub.waiting:
-            p = document.add_paragraph(style="List Bullet")
-            p.add_run(_x(slot)).bold = True
-            p.add_run(" " + _x(reason))
-    buf = io.BytesIO()
-    document.save(buf)
-    return buf.getvalue()
-
-
 _RENDERERS: dict[str, Callable[[Publication], bytes]] = {
-    "html": to_html, "json": to_json, "csv": to_csv, "docx": to_docx,
+    "html": to_html, "json": to_json, "csv": to_csv, "docx": _docx,
 }

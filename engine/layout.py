@@ -17,36 +17,74 @@ from typing import Any
 import jinja2
 from markupsafe import Markup
 
+from stetline import charts
 from stetline.errors import StetlineError
-from stetline.publication import CAUTION, RECHECK_MARK, WAITING_HEADING, WAITING_INTRO, Publication
+from stetline.publication import (
+    CAUTION,
+    FIGURE_NOTES,
+    RECHECK_MARK,
+    WAITING_HEADING,
+    WAITING_INTRO,
+    Publication,
+    Statement,
+)
+from stetline.publish_structure import figure_cells, figure_headers, sources_line, structure
+from stetline.publish_structure import footnotes as caveat_notes
 from stetline.sandbox import CappedSandbox
 
 BUILTIN = Path(__file__).parent / "layouts"
 LAYOUTS = ("md", "html")
-FIGURE_NOTES = "Notes on the figures"
 
 
-def context(pub: Publication) -> dict[str, Any]:
-    """What a layout template sees: the publication as plain dicts and lists."""
-    footnotes: list[str] = []
+def _statement(st: Statement, numbers: dict[int, int], printed_notes: set[str]) -> dict[str, Any]:
+    notes = [n for n in st.notes if n not in printed_notes]  # a note repeated word for word prints once
+    printed_notes.update(notes)
+    return {"slot": st.slot, "kind": st.kind, "entity": st.entity, "topic": st.topic, "text": st.text,
+            "notes": notes, "footnote": numbers.get(id(st)), "status": st.status,
+            "mark": RECHECK_MARK if st.status == "recheck" else ""}
+
+
+def _chart(spec: Any, with_images: bool) -> dict[str, Any] | None:
+    if spec is None:
+        return None
+    return {"caption": spec.caption, "title": spec.title,
+            "src": Markup(charts.data_uri(spec)) if with_images else ""}
+
+
+def context(pub: Publication, *, with_images: bool = True) -> dict[str, Any]:
+    """What a layout template sees: the publication as plain dicts and lists.
+
+    Each section has ``lead`` statements, ``groups`` (heading, entries: heading, statements, figures
+    with headers and cells, chart with caption and src), a ranked ``table``, a ``chart`` and
+    ``sources``; ``statements`` lists all of the section's statements in order (older layouts).
+    """
+    sections_ = structure(pub)
+    footnotes, numbers = caveat_notes(sections_)
     sections = []
-    for key, heading, statements in pub.sections:
-        items = []
-        for st in statements:
-            number = None
-            if st.caveat:
-                footnotes.append(st.caveat)
-                number = len(footnotes)
-            items.append({"slot": st.slot, "kind": st.kind, "entity": st.entity, "topic": st.topic,
-                          "text": st.text, "notes": list(st.notes), "footnote": number, "status": st.status,
-                          "mark": RECHECK_MARK if st.status == "recheck" else ""})
-        used = sorted({st.topic for st in statements if st.topic and st.topic in pub.sources})
-        sources = "Sources: " + "; ".join(pub.sources[t] for t in used) + "." if used else ""
-        sections.append({"key": key, "heading": heading, "statements": items, "sources": sources})
+    for index, sec in enumerate(sections_, 1):
+        printed: set[str] = set()
+        lead = [_statement(st, numbers, printed) for st in sec.lead]
+        groups: list[dict[str, Any]] = []
+        for group in sec.groups:
+            items: list[dict[str, Any]] = []
+            for item in group.items:
+                seen: set[str] = set()
+                figures = None if item.figures is None else {
+                    "headers": figure_headers(item.figures), "cells": figure_cells(item.figures)}
+                items.append({"key": item.key, "heading": item.heading, "figures": figures,
+                              "statements": [_statement(st, numbers, seen) for st in item.statements],
+                              "chart": _chart(item.chart, with_images)})
+            groups.append({"heading": group.heading, "entries": items})
+        flat = lead + [st for g in groups for item in g["entries"] for st in item["statements"]]
+        table = [{"rank": r.rank, "name": r.name, "value": r.value, "change": r.change} for r in sec.table]
+        sections.append({"key": sec.key, "heading": sec.heading, "kind": sec.kind, "anchor": f"section-{index}",
+                         "lead": lead, "groups": groups, "statements": flat, "table": table,
+                         "table_period": sec.table_period, "noun": pub.entity_noun.capitalize(),
+                         "chart": _chart(sec.chart, with_images), "sources": sources_line(sec.sources)})
     return {"title": pub.title, "edition": pub.edition, "date": pub.date, "caution": CAUTION,
             "sections": sections, "footnotes": footnotes, "figure_notes": FIGURE_NOTES,
             "waiting": [{"slot": slot, "reason": reason} for slot, reason in pub.waiting],
-            "waiting_heading": WAITING_HEADING, "waiting_intro": WAITING_INTRO}
+            "waiting_heading": WAITING_HEADING, "waiting_intro": WAITING_INTRO, "contents": "Contents"}
 
 
 # a Markdown link or image target: ](target   — allowed when it is a web or mail address
@@ -80,7 +118,7 @@ def render(pub: Publication, name: str, workspace_dir: Path | None = None) -> st
         raise StetlineError(f"unknown layout {name!r}; layouts: {', '.join(LAYOUTS)}")
     folder = workspace_dir if workspace_dir is not None and (workspace_dir / f"{name}.j2").exists() else BUILTIN
     try:
-        out = _environment(folder, name).get_template(f"{name}.j2").render(context(pub))
+        out = _environment(folder, name).get_template(f"{name}.j2").render(context(pub, with_images=name == "html"))
     except jinja2.TemplateError as exc:
         raise StetlineError(f"the {name} layout in {folder} cannot be rendered: {exc}") from None
     return out.rstrip() + "\n"

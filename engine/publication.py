@@ -36,6 +36,37 @@ class Statement:
 
 
 @dataclass
+class Figures:
+    """One entity's figures on one topic, as printed: value, rank of N, change and previous value."""
+
+    period: str
+    value: str
+    rank: int | None
+    rank_of: int | None
+    change: str  # signed, in the topic's proper unit ("+0.8 percentage points"), or "" when not known
+    previous: str  # the previous value, or ""
+    previous_period: str
+
+
+@dataclass
+class TopicData:
+    """One topic's metadata and values: what its table and charts are drawn from."""
+
+    key: str
+    label: str
+    unit: str
+    category: str
+    better: str
+    period: str  # the topic's latest period
+    periods: list[str]
+    series: dict[str, list[float | None]]  # entity → value per period (None when missing or withheld)
+    latest: list[tuple[str, float]]  # (entity, value) in the latest period, ranked best first
+    figures: dict[str, Figures]  # entity → its figures
+    ranking: Any = None  # the ranked chart of every entity (a stetline.charts.ChartSpec), or None
+    series_charts: dict[str, Any] = field(default_factory=dict)  # entity → its series chart (ChartSpec)
+
+
+@dataclass
 class Publication:
     """What a publication holds, before it is rendered to a format."""
 
@@ -48,6 +79,9 @@ class Publication:
     entity_names: dict[str, str] = field(default_factory=dict)
     topic_labels: dict[str, str] = field(default_factory=dict)
     waiting: list[tuple[str, str]] = field(default_factory=list)  # (slot, reason) of each statement in recheck
+    topics: dict[str, TopicData] = field(default_factory=dict)  # every topic's values, in topic order
+    entity_noun: str = "entity"
+    sections_by: str = "entity"  # "entity" or "topic": how the report is arranged
 
     @property
     def marked(self) -> bool:
@@ -56,6 +90,7 @@ class Publication:
 
 
 RECHECK_MARK = "[recheck]"
+FIGURE_NOTES = "Notes on the figures"
 WAITING_HEADING = "Waiting in recheck"
 WAITING_INTRO = ("These statements wait for a reviewer because the data changed since they were written or "
                  "approved; each is printed with the newest text the current data do not contradict, and "

@@ -15,13 +15,14 @@ from pathlib import Path
 
 from sqlalchemy.orm import Session
 
-from stetline import nesting
+from stetline import charts, nesting
 from stetline import settings as settings_mod
 from stetline.actions import views
 from stetline.errors import StetlineError
 from stetline.livefields import LiveFields
 from stetline.progress import Progress, no_progress
 from stetline.publication import Publication, Statement
+from stetline.publish_figures import topic_data
 from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.status import Status
 from stetline.store import ops
@@ -89,8 +90,10 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
                 heading = f"{heading} ({entities[parents[key]].name})"
             out_sections.append((key, heading, grouped.pop(key, [])))
     sources = {k: t.source for k, t in topics.items() if t.source}
+    noun = str(values["entity_noun"])
     return Publication(str(values["title"]), edition.label, date.today().isoformat(), out_sections, warnings, sources,
-                       {k: e.name for k, e in entities.items()}, {k: t.label for k, t in topics.items()}, waiting)
+                       {k: e.name for k, e in entities.items()}, {k: t.label for k, t in topics.items()}, waiting,
+                       topic_data(session, style, noun), noun, sections)
 
 
 def waiting_warning(slot_id: str, reason: str) -> str:
@@ -113,9 +116,13 @@ def checksum(data: bytes) -> str:
 
 
 def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", allow_recheck: bool = False,
-            require_approval: bool = False, layouts_dir: Path | None = None,
+            require_approval: bool = False, layouts_dir: Path | None = None, chart_dir: Path | None = None,
             progress: Progress = no_progress) -> tuple[bytes, Publication]:
-    """Produce a publication in a format and record it as an event with its checksum."""
+    """Produce a publication in a format and record it as an event with its checksum.
+
+    Charts drawn for it are kept as files in ``chart_dir`` when given (stetline.charts.folder), so
+    publishing again draws only the charts whose figures changed.
+    """
     from stetline.formats import FORMATS, render  # formats imports this module
 
     if fmt not in FORMATS:
@@ -139,7 +146,8 @@ def publish(session: Session, fmt: str, *, by: str, sections: str = "entity", al
         )
     pub.warnings += [f"{slot}: untraced number(s) {', '.join(nums)}" for slot, nums in untraced]
     progress(f"writing {fmt}", 0, None)
-    data = render(pub, fmt, layouts_dir)
+    with charts.folder(chart_dir):
+        data = render(pub, fmt, layouts_dir)
     edition = ops.current_edition(session)
     ops.add_event(session, by, "publish", edition_id=edition.id if edition else None,
                   detail={"format": fmt, "sha256": checksum(data), "warnings": pub.warnings})

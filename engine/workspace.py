@@ -60,6 +60,11 @@ class Workspace:
         """Where copied report layouts live."""
         return self.path / "layouts"
 
+    @property
+    def chart_dir(self) -> Path:
+        """Where publishing keeps the charts it drew, named by their digest (safe to delete)."""
+        return self.path / "chart-cache"
+
     @contextmanager
     def session(self) -> Iterator[Session]:
         """A writing session in one transaction: committed on success, rolled back on any error.

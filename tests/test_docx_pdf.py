@@ -14,7 +14,7 @@ from helpers import Cli, resolve_every_recheck
 from stetline.demo import TITLE
 from stetline.formats import FIGURE_NOTES
 
-TOOLS = {"soffice": "libreoffice-writer-nogui", "pdftotext": "poppler-utils"}
+TOOLS = {"soffice": "libreoffice-writer-nogui", "pdftotext": "poppler-utils", "pdftohtml": "poppler-utils"}
 HERONSFORD = "Heronsford kept its lead on recycling"  # the demo's rewrite, opening words
 
 
@@ -27,6 +27,23 @@ def _tool(name: str) -> str:
 
 def _flat(text: str) -> str:
     return re.sub(r"\s+", " ", text)
+
+
+def _bookmarks(pdf: Path) -> list[tuple[str, int]]:
+    """The PDF's top-level bookmarks (title, page), read by poppler's pdftohtml."""
+    import xml.etree.ElementTree as ET
+
+    xml = subprocess.run([_tool("pdftohtml"), "-xml", "-i", "-stdout", str(pdf)], capture_output=True, text=True,
+                         timeout=60, check=True).stdout
+    start = xml.index("<outline>")
+    depth, end = 0, start
+    for tag in re.finditer(r"</?outline>", xml[start:]):
+        depth += -1 if tag.group().startswith("</") else 1
+        if depth == 0:
+            end = start + tag.end()
+            break
+    root = ET.fromstring(xml[start:end])
+    return [(item.text or "", int(item.get("page", "0"))) for item in root.findall("item")]
 
 
 def test_word_publication_lays_out_as_a_readable_report(demo_cli: Cli, tmp_path: Path) -> None:
@@ -64,10 +81,17 @@ def test_word_publication_lays_out_as_a_readable_report(demo_cli: Cli, tmp_path:
     lines = [line.strip() for line in text.splitlines()]
     assert FIGURE_NOTES in lines, "the notes on the figures are missing"
 
-    # The section headings, each on a line of its own, in the order of the Markdown publication
-    # (a contents list's entries carry page numbers, so they never match a whole line).
+    # The section headings, each on a line of its own, are the PDF's top-level bookmarks (LibreOffice
+    # makes them from the Heading 1 paragraphs), in the order of the Markdown publication and on
+    # pages in that order. A topic's name is also the sub-heading of its item in every entity
+    # section, so the headings are told apart by level, not by their words.
     md_headings = [line.removeprefix("## ") for line in md_lines if line.startswith("## ")]
     assert md_headings[0] == "Overview" and len(md_headings) > 3
-    # The Markdown gives its caveats as footnotes; the Word document closes with them as a section.
-    expected = [*md_headings, FIGURE_NOTES]
-    assert [line for line in lines if line in set(expected)] == expected
+    # Both close with the caveats as a section of notes.
+    expected = md_headings
+    assert expected[-1] == FIGURE_NOTES
+    assert all(heading in lines for heading in expected)
+    top = _bookmarks(pdf)
+    assert [title for title, _page in top] == expected
+    assert [page for _t, page in top] == sorted(page for _t, page in top)
+    assert top[-1][1] > top[0][1]  # the sections run over several pages

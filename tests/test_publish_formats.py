@@ -38,6 +38,9 @@ def published(demo_template: Path, tmp_path_factory: pytest.TempPathFactory) -> 
     root = tmp_path_factory.mktemp("formats")
     shutil.copytree(demo_template, root / "ws")
     cli = Cli(root / "ws")
+    # the part kinds are drafted too, so they fold beneath their blurbs (set here, not left to the default)
+    cli("settings", "kinds", "headline,profile,roundup,blurb,standing,change,trend,leaders,movement", "--by", "admin")
+    cli("redraft", "--by", "admin")
     resolve_every_recheck(cli)
     cli("rewrite", TAMPERED, TAMPERED_TEXT, "--by", "editor")
     files = {}
@@ -54,7 +57,7 @@ def read_md(path: Path) -> dict[str, Any]:
     """The Markdown file's texts as a reader sees them once rendered (character references read)."""
     statements, notes, footnotes, refs = [], [], [], []
     for line in html_mod.unescape(path.read_text(encoding="utf-8")).splitlines():
-        if not line or line.startswith(("#", "Edition ", "Sources: ")):
+        if not line or line.startswith(("#", "Edition ", "Sources: ", "Source: ", "|", "*Chart: ")):
             continue
         if line.startswith("> **Note:** "):
             notes.append(line.removeprefix("> **Note:** "))
@@ -80,6 +83,7 @@ class HtmlReader(HTMLParser):
         self.notes: list[str] = []
         self.footnotes: dict[str, str] = {}
         self.sources: list[str] = []
+        self.images: list[dict[str, str | None]] = []
         self.caution = ""
         self.edition = ""
         self.title = ""
@@ -94,6 +98,8 @@ class HtmlReader(HTMLParser):
             self._in_sup = True
         elif tag == "a" and self._in_sup and self._stack:
             self._stack[-1][1]["ref"] = a.get("href")
+        if tag == "img":
+            self.images.append(a)
         if tag in ("h1", "h2", "p", "aside", "li"):
             self._stack.append((tag, a))
             self._buf = []
@@ -121,7 +127,7 @@ class HtmlReader(HTMLParser):
             self.sources.append(text)
         elif tag == "aside" and cls == "note":
             self.notes.append(text.removeprefix("Note:").strip())
-        elif tag == "li":
+        elif tag == "li" and (a.get("id") or "").startswith("fn"):
             self.footnotes[a.get("id") or ""] = text.rstrip("↩").strip()
 
     def handle_data(self, data: str) -> None:
@@ -201,7 +207,8 @@ def test_provisional_caveats_are_numbered_footnotes(published: dict[str, Any]) -
     assert page.h2[-1] == FIGURE_NOTES
 
     items = json.loads(files["json"].read_text(encoding="utf-8"))
-    assert [item["caveat"] for item in items if item["caveat"]] == md["footnotes"]
+    caveats = [item["caveat"] for item in items if item["caveat"]]
+    assert list(dict.fromkeys(caveats)) == md["footnotes"] and len(caveats) > len(md["footnotes"])  # merged
     assert next(item for item in items if item["slot"] == WRACKHAVEN)["caveat"] == "The 2025 figure is provisional."
 
     document = docx.Document(str(files["docx"]))
@@ -222,12 +229,15 @@ def test_html_is_standalone_and_escapes_all_text(published: dict[str, Any]) -> N
     assert page.title == "Kestrel Sound Regional Council: Service Scorecard"
     assert page.edition.startswith("Edition 2025 · ")
     assert "qualified person must check" in page.caution
-    assert "script" not in page.tags and "link" not in page.tags and "img" not in page.tags
+    assert "script" not in page.tags and "link" not in page.tags
+    assert len(page.images) > 100  # a chart per blurb and per topic, drawn inside the file
+    assert all((i.get("src") or "").startswith("data:image/svg+xml;base64,") and i.get("alt") for i in page.images)
     assert "style" in page.tags
     # escaped (markupsafe writes a double quote as &#34;, html.escape as &quot;: both are HTML)
     assert "&lt;script&gt;alert(&#34;x&#34;)&lt;/script&gt; &amp; North Quay" in raw
     assert TAMPERED_SHOWN in [s["text"] for s in page.statements]
-    assert page.h2[0] == "Overview" and "North Quay" in page.h2 and "Puffin Holm" in page.h2
+    assert page.h2[:2] == ["Contents", "Overview"] and "North Quay" in page.h2 and "Puffin Holm" in page.h2
+    assert "Household recycling rate" in page.h2  # the topic sections follow the entity sections
     assert any("Council waste returns" in s for s in page.sources)
 
 
@@ -238,7 +248,7 @@ def test_html_sections_by_topic(published: dict[str, Any], tmp_path: Path, demo_
     with (demo_files / "topics.csv").open(encoding="utf-8") as fh:
         labels = [row["label"] for row in csv.DictReader(fh)]
     assert "Household recycling rate" in page.h2
-    assert set(page.h2) - {"Overview", FIGURE_NOTES} <= set(labels)
+    assert set(page.h2) - {"Contents", "Overview", FIGURE_NOTES} <= set(labels)
     assert "North Quay" not in page.h2
 
 
@@ -289,11 +299,14 @@ def test_csv_columns_names_and_neutralised_rewrite(published: dict[str, Any]) ->
         reader = csv.DictReader(fh)
         rows = {row["slot"]: row for row in reader}
         assert reader.fieldnames == ["slot", "entity", "topic", "kind", "status", "text", "notes", "entity_name",
-                                     "topic_label"]
+                                     "topic_label", "section", "category", "role", "value", "rank", "rank_of",
+                                     "change", "previous", "chart"]
     assert rows[TAMPERED]["text"] == "'" + TAMPERED_SHOWN
     assert rows[TAMPERED]["status"] == "edited" and rows["headline"]["status"] == "approved"
     assert rows["profile/north-quay"]["notes"].split("\n") == [NOTE] and rows[TAMPERED]["notes"] == ""
-    assert rows[WRACKHAVEN]["entity_name"] == "Wrackhaven"
+    assert rows[WRACKHAVEN]["entity_name"] == "Wrackhaven" and rows[WRACKHAVEN]["section"] == "Wrackhaven"
+    assert rows[WRACKHAVEN]["category"] == "Environment" and rows[WRACKHAVEN]["role"] == "part"
+    assert rows["blurb/wrackhaven/recycling"]["role"] == "composed" and rows[WRACKHAVEN]["value"] == "45.7%"
     assert rows[WRACKHAVEN]["topic_label"] == "Household recycling rate"
     assert rows["headline"]["entity"] == "" and rows["headline"]["entity_name"] == ""
     assert not any(cell.startswith(("=", "+", "-", "@")) for row in rows.values() for cell in row.values())
@@ -316,13 +329,22 @@ def test_docx_structure_styles_and_toc(published: dict[str, Any], demo_files: Pa
     with (demo_files / "entities.csv").open(encoding="utf-8") as fh:
         # Larkholt left the data at the 2025 load, renamed Larkholt Vale (seed_data/renames-2025.csv)
         towns = [row["name"] for row in csv.DictReader(fh) if row["entity"] != "larkholt"]
-    assert headings == ["Overview", *towns, FIGURE_NOTES]
+    with (demo_files / "topics.csv").open(encoding="utf-8") as fh:
+        labels = [row["label"] for row in csv.DictReader(fh) if row["topic"] != "paper-timetables"]
+    assert headings[:len(towns) + 1] == ["Overview", *towns] and headings[-1] == FIGURE_NOTES
+    assert sorted(headings[len(towns) + 1:-1]) == sorted(labels)
+    contents = [p.text for p in paragraphs if p.style.name == "Contents Entry"]
+    assert contents == headings  # the contents show the headings without refreshing the field
+    assert "Environment" in [p.text for p in paragraphs if p.style.name == "Heading 2"]
+    assert len(document.tables) > 100 and [c.text for c in document.tables[-1].rows[0].cells][0] == "Rank"
+    pictures = document.inline_shapes
+    assert len(pictures) > 100 and all(p._inline.docPr.get("descr") for p in pictures)
     assert any("qualified person must check" in p.text for p in paragraphs)
     with zipfile.ZipFile(path) as z:
         body = z.read("word/document.xml").decode("utf-8")
     w = "{http://schemas.openxmlformats.org/wordprocessingml/2006/main}"
-    fields = [f.get(f"{w}instr") for f in ElementTree.fromstring(body).iter(f"{w}fldSimple")]
-    assert fields == [TOC_INSTRUCTION] == ['TOC \\o "1-3" \\h \\z \\u']
+    fields = [f.text for f in ElementTree.fromstring(body).iter(f"{w}instrText")]
+    assert fields == [TOC_INSTRUCTION] == ['TOC \\o "1-1" \\h \\z \\u']
     tampered = next(p for p in paragraphs if p.style.name == "Statement" and "North Quay recycled" in p.text)
     assert tampered.text == TAMPERED_SHOWN  # stored as text, not markup
 

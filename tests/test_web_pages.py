@@ -4,6 +4,7 @@ send-back, restoring an earlier rewrite, bulk work with its confirmation, and th
 
 from __future__ import annotations
 
+import base64
 import hashlib
 import html as html_mod
 import io
@@ -599,24 +600,46 @@ def test_bulk_forms_refuse_unknown_selections(client: FlaskClient) -> None:
 
 
 # -- the charts -----------------------------------------------------------------------------
+# on blurb and roundup slots: drafted with every kind and with the default kinds alike
+BLURB = "blurb/heronsford/recycling"
 
 def test_statement_page_charts_the_series_and_every_entity_with_text_alternatives(client: FlaskClient) -> None:
-    html = get(client, f"/statements/{HERONSFORD}")
-    assert '<svg id="series-chart" role="img" aria-labelledby="series-chart-title series-chart-desc"' in html
-    assert '<title id="series-chart-title">Household recycling rate in Heronsford, 2020 to 2025</title>' in html
-    assert "Household recycling rate in Heronsford: 59.3% in 2025, up from 54.4% in 2020" in html
+    html = get(client, f"/statements/{BLURB}")
+    series = re.search(r'<img id="series-chart" src="data:image/svg\+xml;base64,([^"]+)" alt="([^"]+)">', html)
+    assert series is not None
+    svg = base64.b64decode(series.group(1)).decode("utf-8")
+    assert svg.startswith("<svg") and "<title>Household recycling rate in Heronsford, 2020 to 2025</title>" in svg
+    assert "<script" not in svg
+    assert series.group(2).startswith("Household recycling rate in Heronsford: 59.3% in 2025, up from 54.4% in 2020.")
+    assert "The other 13 towns ranged from" in series.group(2)
     assert "<td>2024</td><td>59.0%</td>" in html  # the figures as a table
-    assert '<svg id="strip-chart" role="img"' in html
-    assert "Heronsford (59.3%) is the highest of 14 towns in 2025" in html
+    ranking = re.search(r'<img id="ranking-chart" src="data:image/svg\+xml;base64,[^"]+" alt="([^"]+)">', html)
+    assert ranking is not None
+    assert "best Heronsford (59.3%)" in ranking.group(1) and "Heronsford: 59.3%, 1st of 14." in ranking.group(1)
     assert "<td>Heronsford <strong>(this statement)</strong></td><td>59.3%</td>" in html
     assert html.count("<figcaption>") == 2
 
 
-def test_a_topic_statement_shows_the_strip_only_and_the_headline_none(client: FlaskClient) -> None:
-    html = get(client, "/statements/leaders/recycling")
-    assert 'id="strip-chart"' in html and 'id="series-chart"' not in html and "(this statement)" not in html
-    assert "across 14 towns runs from 40.4% (Gorse Point) to 59.3% (Heronsford)" in html
-    assert "<svg" not in get(client, "/statements/headline")
+def test_a_statement_page_shown_again_draws_no_chart(client: FlaskClient, monkeypatch: pytest.MonkeyPatch) -> None:
+    from stetline import charts
+
+    charts._cache.clear()  # drawn by this test's workspace, not found from an earlier test
+    first = get(client, f"/statements/{BLURB}")
+    drawn: list[str] = []
+    real = charts._save
+    monkeypatch.setattr(charts, "_save", lambda spec, fmt: drawn.append(spec.title) or real(spec, fmt))
+    assert get(client, f"/statements/{BLURB}") == first
+    assert drawn == []  # cached by the statement's digest: nothing drawn again
+    charts._cache.clear()  # as after a restart: the drawings are read from the workspace's chart folder
+    assert get(client, f"/statements/{BLURB}") == first
+    assert drawn == []
+
+
+def test_a_topic_statement_shows_the_ranking_only_and_the_headline_none(client: FlaskClient) -> None:
+    html = get(client, "/statements/roundup/recycling")
+    assert 'id="ranking-chart"' in html and 'id="series-chart"' not in html and "(this statement)" not in html
+    assert "14 towns ranked: best Heronsford (59.3%), worst Gorse Point (40.4%)." in html
+    assert "<figure" not in get(client, "/statements/headline")
 
 
 # -- a workspace made before the comment threads ----------------------------------------------

@@ -86,7 +86,8 @@ def download() -> Response | tuple[str, int]:
             data, pub = publish.publish(s, chosen["format"], by=by, sections=chosen["sections"],
                                         allow_recheck=chosen["allow_recheck"],
                                         require_approval=chosen["require_approval"],
-                                        layouts_dir=workspace().layouts_dir)
+                                        layouts_dir=workspace().layouts_dir,
+                                        chart_dir=workspace().chart_dir)
     except publish.GateClosed as exc:
         return _page(error=web_message(exc), chosen=chosen, status=409)
     except StetlineError as exc:

@@ -15,7 +15,7 @@ from flask import Blueprint, abort, flash, redirect, render_template, request, u
 from sqlalchemy.orm import Session
 from werkzeug.wrappers import Response
 
-from stetline import actions, comments, phrasing, printing
+from stetline import actions, comments, printing
 from stetline.accounts import authorize
 from stetline.errors import Conflict, Forbidden, NotFound, StetlineError
 from stetline.livefields import FILTER_HELP, LiveFields
@@ -81,33 +81,10 @@ def _page(slot_id: str, *, errors: dict[str, str] | None = None, values: dict[st
         filter_help=FILTER_HELP, has_draft_beside=layer is not None or data["suppressed"],
         thread=thread, sent_back=sent_back, accepted_by=accepted_by,
         entity_row=ops.get_entity(s, v.slot.entity) if v.slot.entity else None,
-        topic_row=ops.get_topic(s, v.slot.topic) if v.slot.topic else None, **_charts(s, v),
+        topic_row=ops.get_topic(s, v.slot.topic) if v.slot.topic else None, chart_image=charts.image,
+        **charts.statement_charts(s, v, workspace().url),
     )
     return html, status
-
-
-def _charts(s: Session, v: actions.SlotView) -> dict[str, Any]:
-    """The slot's series over the periods and every entity's latest value (when it has a topic)."""
-    out: dict[str, Any] = {"series": None, "strip": None}
-    topic = ops.get_topic(s, v.slot.topic) if v.slot.topic else None
-    if topic is None:
-        return out
-    style, values = house_style(s)
-
-    def fmt(x: float) -> str:
-        return phrasing.value(x, topic.unit, topic.decimals, style)
-
-    names = {e.key: e.name for e in ops.entity_rows(s)}
-    if v.slot.entity:
-        obs = ops.series(s, v.slot.entity, topic.key)
-        out["series"] = charts.series_chart(topic.label, names.get(v.slot.entity, v.slot.entity),
-                                            [o.period for o in obs], [o.value for o in obs], fmt)
-    period, latest = ops.latest_values(s, topic.key)
-    if period is not None:
-        noun = str(values["entity_noun"])
-        out["strip"] = charts.strip_chart(topic.label, period, [(k, names.get(k, k), x) for k, x in latest],
-                                          v.slot.entity, fmt, noun)
-    return out
 
 
 @bp.get("/statements/<path:slot>")

@@ -137,7 +137,7 @@ def publish_(fmt: str, output: Path | None, sections: str, allow_recheck: bool, 
     with shown_progress("publish") as progress, ws.session() as session:
         data, pub = publishing.publish(session, fmt, by=by, sections=sections, allow_recheck=allow_recheck,
                                        require_approval=require_approval, layouts_dir=ws.layouts_dir,
-                                       progress=progress)
+                                       chart_dir=ws.chart_dir, progress=progress)
     for w in pub.warnings:
         click.echo(f"warning: {w}", err=True)
     if output is None:

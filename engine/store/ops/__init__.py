@@ -41,6 +41,7 @@ from stetline.store.ops.editions import (
     store_breakdowns,
     store_observations,
     topic_rows,
+    topic_series,
     topics_frame,
 )
 from stetline.store.ops.history import (
@@ -117,8 +118,8 @@ __all__ = [
     "get_settings", "put_setting", "current_edition", "editions", "edition_by_label", "label_taken",
     "topic_rows", "entity_rows", "get_entity", "get_topic", "topics_frame", "entities_frame",
     "replace_metadata", "observations_frame", "store_observations", "breakdowns_frame", "store_breakdowns",
-    "replaced_values", "series",
-    "latest_values", "get_slot", "get_draft", "active_layers", "text_layer_history", "active_approval", "last_approval",
+    "replaced_values", "series", "latest_values",
+    "topic_series", "get_slot", "get_draft", "active_layers", "text_layer_history", "active_approval", "last_approval",
     "add_layer", "drop", "add_approval", "layers_for", "approvals_for", "all_active_layers",
     "all_active_approvals", "slot_statuses", "listed", "SlotFilter", "list_slots", "count_slots",
     "status_counts", "status_counts_by", "status_counts_of", "recheck_options", "recheck_reason_counts",

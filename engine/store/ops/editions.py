@@ -232,10 +232,25 @@ def series(session: Session, entity: str, topic: str) -> list[Observation]:
     return sorted(rows, key=lambda o: periods.period_time(o.period))
 
 
+def topic_series(session: Session, topic: str) -> tuple[dict[str, list[float | None]], list[str]]:
+    """Every entity's current values on one topic, one per period (None when missing), and the periods in order."""
+    rows = session.execute(select(Observation.entity, Observation.period, Observation.value, Observation.status).where(
+        Observation.valid_to.is_(None), Observation.topic == topic)).all()
+    ordered = sorted({r.period for r in rows}, key=periods.period_time)
+    at = {p: i for i, p in enumerate(ordered)}
+    lines: dict[str, list[float | None]] = {}
+    for r in rows:
+        line = lines.setdefault(r.entity, [None] * len(ordered))
+        if r.value is not None and r.status != "confidential":
+            line[at[r.period]] = float(r.value)
+    return lines, ordered
+
+
 def latest_values(session: Session, topic: str) -> tuple[str | None, list[tuple[str, float]]]:
     """The topic's latest period with a value, and every entity's value in it (highest first)."""
     rows = session.execute(select(Observation.entity, Observation.period, Observation.value).where(
         Observation.valid_to.is_(None), Observation.topic == topic, Observation.value.is_not(None),
+        Observation.status.is_distinct_from("confidential"),  # a withheld value is not shown
     )).all()
     if not rows:
         return None, []
