@@ -22,7 +22,7 @@ from typing import Any
 import jinja2
 import orjson
 
-from stetline import phrasing
+from stetline import periods, phrasing
 from stetline.errors import StetlineError
 from stetline.facts import Facts
 from stetline.phrasing import HouseStyle
@@ -176,10 +176,13 @@ class Context:
     edition: str = ""
     #: the kinds a workspace drafts (its `kinds` setting); empty: every kind
     kinds: tuple[str, ...] = ()
+    #: which comparison leads for quarters and months (the `compare_with` setting): year-earlier or previous
+    compare_with: str = "year-earlier"
     # wording already worked out (the same counts, labels and means recur across thousands of cells)
     _values_shown: dict[tuple[str, float], str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _lower_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    _period_names: dict[tuple[str, str], str] = field(default_factory=dict, init=False, repr=False, compare=False)
     # the candidates of part kinds that composed kinds read, kept while one drafting pass runs
     _kept: dict[str, list[Candidate]] = field(default_factory=dict, init=False, repr=False, compare=False)
 
@@ -201,6 +204,17 @@ class Context:
         shown = self._of_n.get(n)
         if shown is None:
             shown = self._of_n[n] = phrasing.plural(n, self.entity_noun, self.style)
+        return shown
+
+    def when(self, period: object, form: str = "noun") -> str:
+        """A period as a sentence names it: "the third quarter of 2025", "March 2025" (form "noun");
+        before a noun: "third-quarter 2025" (form "adjective"); "season": "third quarter", "March"."""
+        label = str(period)
+        shown = self._period_names.get((label, form))
+        if shown is None:
+            namer = {"noun": periods.period_name, "adjective": periods.period_adjective,
+                     "season": periods.season_name}[form]
+            shown = self._period_names[(label, form)] = namer(label, self.style.locale)
         return shown
 
     def name(self, entity: str) -> str:

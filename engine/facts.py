@@ -153,34 +153,47 @@ def printed_change_is_zero(change: pd.Series, change_rel: pd.Series, unit: pd.Se
     return pd.Series(zero & change.notna().to_numpy(), index=change.index)
 
 
+def compare(now: pd.DataFrame, before: pd.Series, before_margin: pd.Series, known: pd.Series) -> pd.DataFrame:
+    """Compare each cell's value with an earlier value (the previous period, or a year earlier).
+
+    ``now`` holds ``value``, ``margin``, ``sign``, ``unit`` and ``decimals``; ``known`` says where a
+    comparison can be stated. Returns ``change``, ``change_rel``, ``significant`` (NA without
+    margins), ``change_zero`` (the change prints as zero), ``direction`` (up, down, flat, unknown)
+    and ``better_change`` (improved, worsened, steady, n/a), by the rules of DESIGN "Numbers and words".
+    """
+    out = pd.DataFrame(index=now.index)
+    out["change"] = (now["value"] - before).where(known)
+    base = before.abs()
+    out["change_rel"] = (out["change"] / base).where(base > 0)
+    both = now["margin"].notna() & before_margin.notna()
+    threshold = np.sqrt(now["margin"] ** 2 + before_margin ** 2)
+    significant = pd.Series(pd.NA, index=now.index, dtype="boolean")
+    significant[both & known] = (out["change"].abs() > threshold)[both & known]
+    out["significant"] = significant
+    out["change_zero"] = printed_change_is_zero(out["change"], out["change_rel"], now["unit"], now["decimals"])
+    flat = out["change_zero"] | (significant.fillna(True) == False)  # noqa: E712
+    step = np.where(flat, 0.0, np.sign(out["change"]))
+    direction = pd.Series(np.select([step > 0, step < 0], ["up", "down"], "flat"), index=now.index)
+    out["direction"] = direction.where(known, "unknown")
+    moved = out["direction"].isin(["up", "down"])
+    good = np.sign(out["change"]) * now["sign"] > 0
+    out["better_change"] = np.select(
+        [~known | (now["sign"] == 0), ~moved, good], ["n/a", "steady", "improved"], "worsened",
+    )
+    return out
+
+
 def _changes(cells: pd.DataFrame) -> None:
     """Change since the previous period of the series, and whether it counts as a change."""
     has_prev = cells["prev_value"].notna() & cells["value"].notna() & cells["usable"]
     broken = cells["status"] == BREAK
     cells["change_known"] = has_prev & ~broken
-    cells["change"] = (cells["value"] - cells["prev_value"]).where(cells["change_known"])
-    base = cells["prev_value"].abs()
-    cells["change_rel"] = (cells["change"] / base).where(base > 0)
+    compared = compare(cells, cells["prev_value"], cells["prev_margin"], cells["change_known"])
+    cells["change"] = compared["change"]
+    cells["change_rel"] = compared["change_rel"]
     cells["years"] = cells["time"] - cells["prev_time"]
-    both = cells["margin"].notna() & cells["prev_margin"].notna()
-    threshold = np.sqrt(cells["margin"] ** 2 + cells["prev_margin"] ** 2)
-    significant = pd.Series(pd.NA, index=cells.index, dtype="boolean")
-    significant[both & cells["change_known"]] = (cells["change"].abs() > threshold)[both & cells["change_known"]]
-    cells["significant"] = significant
-    cells["change_zero"] = printed_change_is_zero(
-        cells["change"], cells["change_rel"], cells["unit"], cells["decimals"],
-    )
-    flat = cells["change_zero"] | (significant.fillna(True) == False)  # noqa: E712
-    step = np.where(flat, 0.0, np.sign(cells["change"]))
-    direction = pd.Series(np.select([step > 0, step < 0], ["up", "down"], "flat"), index=cells.index)
-    cells["direction"] = direction.where(cells["change_known"], "unknown")
-    moved = cells["direction"].isin(["up", "down"])
-    good = np.sign(cells["change"]) * cells["sign"] > 0
-    better = np.select(
-        [~cells["change_known"] | (cells["sign"] == 0), ~moved, good],
-        ["n/a", "steady", "improved"], "worsened",
-    )
-    cells["better_change"] = better
+    for col in ("significant", "change_zero", "direction", "better_change"):
+        cells[col] = compared[col]
 
 
 def _revisions(cells: pd.DataFrame, earlier: pd.DataFrame | None) -> None:

@@ -206,7 +206,7 @@ def edition_context(
     facts = compute_facts(observations, topics, entities, earlier)
     return Context(
         facts, topics.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
-        style, str(values["entity_noun"]), edition, settings_mod.kinds_of(values),
+        style, str(values["entity_noun"]), edition, settings_mod.kinds_of(values), str(values["compare_with"]),
     )
 
 

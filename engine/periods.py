@@ -60,3 +60,56 @@ def times(labels: pd.Series, fmt: str) -> pd.Series:
     if fmt == "quarter":
         return year + (labels.str.slice(-1).astype("int64") - 1) / 4
     return year + (labels.str.slice(5, 7).astype("int64") - 1) / 12
+
+
+#: the quarters named as people say them ("the third quarter of 2025"); common practice of statistical releases
+QUARTER_WORDS = ("first", "second", "third", "fourth")
+
+
+def is_within_year(label: str) -> bool:
+    """True for a quarter or a month: a period that has a same period a year earlier."""
+    return period_format(label) in ("quarter", "month")
+
+
+def year_earlier(label: str) -> str | None:
+    """The same quarter or month a year earlier (2025-Q3 → 2024-Q3); None for a year or a non-period."""
+    if not is_within_year(label):
+        return None
+    return f"{int(label[:4]) - 1:04d}{label[4:]}"
+
+
+def _month_name(month: int, locale: str) -> str:
+    from babel.dates import get_month_names
+
+    return str(get_month_names("wide", "format", locale)[month])
+
+
+def season_name(label: str, locale: str = "en_GB") -> str:
+    """The quarter or month of a period without its year ("third quarter", "March"); "" for a year.
+
+    Month names come from CLDR (Babel) in the house-style locale.
+    """
+    fmt = period_format(label)
+    if fmt == "quarter":
+        return f"{QUARTER_WORDS[int(label[-1]) - 1]} quarter"
+    if fmt == "month":
+        return _month_name(int(label[5:7]), locale)
+    return ""
+
+
+def period_name(label: str, locale: str = "en_GB") -> str:
+    """A period as a sentence names it: "2025", "the third quarter of 2025", "March 2025"."""
+    fmt = period_format(label)
+    if fmt == "quarter":
+        return f"the {season_name(label, locale)} of {label[:4]}"
+    if fmt == "month":
+        return f"{season_name(label, locale)} {label[:4]}"
+    return label
+
+
+def period_adjective(label: str, locale: str = "en_GB") -> str:
+    """A period before a noun ("the 2025 figure", "the third-quarter 2025 figure", "the March 2025 figure")."""
+    fmt = period_format(label)
+    if fmt == "quarter":
+        return f"{QUARTER_WORDS[int(label[-1]) - 1]}-quarter {label[:4]}"
+    return period_name(label, locale)

@@ -69,6 +69,10 @@ SETTINGS: tuple[SettingSpec, ...] = (
     SettingSpec("kinds", "Statement kinds drafted", ",".join(ALL_KINDS),
                 "Which statement kinds the workspace drafts, separated by commas; run `stetline redraft` after a "
                 "change. Turning a kind off keeps its human work: those statements wait in recheck as gone."),
+    SettingSpec("compare_with", "Quarters and months compared first with", "year-earlier",
+                "Which comparison leads a statement about a quarter or a month: the same period a year earlier "
+                "(year-earlier) or the period before (previous); the other follows. Yearly series are unaffected.",
+                ("year-earlier", "previous")),
     SettingSpec("untraced_numbers", "Untraced numbers when publishing", "warn",
                 "What publishing does with typed numbers that match no fact.", ("warn", "refuse")),
     SettingSpec("self_approval", "Reviewers may approve their own rewrites", False,
@@ -84,8 +88,8 @@ SETTINGS: tuple[SettingSpec, ...] = (
 BY_KEY = {spec.key: spec for spec in SETTINGS}
 
 #: settings that change the drafts (a redraft follows a change)
-STYLE_KEYS = ("kinds", "entity_noun", "locale", "serial_comma", "percent_word", "small_numbers_in_words",
-              "possessive_after_s")
+STYLE_KEYS = ("kinds", "compare_with", "entity_noun", "locale", "serial_comma", "percent_word",
+              "small_numbers_in_words", "possessive_after_s")
 
 
 def spec(key: str) -> SettingSpec:

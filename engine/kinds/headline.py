@@ -61,7 +61,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         evidence["entities"] = ev(len(e), phrasing.count(len(e), style))
         evidence["all_topics"] = ev(len(t), phrasing.count(len(t), style))
     variables = {
-        "period": period, "nouns": ctx.entity_nouns, "shift_move": shift_move, "shift_label": shift_label,
+        "period": ctx.when(period), "period_adj": ctx.when(period, "adjective"),
+        "nouns": ctx.entity_nouns, "shift_move": shift_move, "shift_label": shift_label,
         "n_topics": len(directed),
         "leaders": ctx.names(leaders), "n_leaders": len(leaders),
         "improving_labels": phrasing.join([ctx.the_label(k) for k in improving][:3], style),

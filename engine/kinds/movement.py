@@ -73,8 +73,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             top_down = None
         variables = {
             "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "the_label": ctx.the_label(topic),
-            "period": t["period"],
-            "prev_period": prev_period, "neutral": neutral, "words": words,
+            "period": ctx.when(t["period"]),
+            "prev_period": ctx.when(prev_period), "neutral": neutral, "words": words,
             "n_up": n_up, "n_down": n_down, "steady": steady, "nouns": ctx.of_n(len(frame)),
             "exceptions": ctx.names(exceptions), "n_exceptions": len(exceptions),
             "best_mover": "", "worst_mover": "", "prep": ctx.preposition,

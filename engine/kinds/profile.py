@@ -88,7 +88,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "composite_band": band(rank, of) if of >= MIN_RANKED else None,
         }
         variables = {
-            "name": e["name"], "period": period, "nouns": ctx.of_n(of),
+            "name": e["name"], "period": ctx.when(period), "nouns": ctx.of_n(of),
             "same": top_p == bottom_p, "ranked_count": total, "ranked_topics": phrasing.count(total, style),
             "best_topics": best_topics, "worst_topics": worst_topics,
             "topics_used": phrasing.plural(int(e["composite_topics"]), "indicator", style),
