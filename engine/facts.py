@@ -13,6 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from stetline import periods
 from stetline.rounding import round_half_up_array
 
 WITHHELD = "confidential"
@@ -26,7 +27,8 @@ class Facts:
     ``cells``: one row per entity × topic pair present in the observations, at the topic's latest
     period. ``topics``: one row per topic with its ranking and movement facts. ``entities``: one
     row per entity with its composite score. ``series``: the observations sorted by entity, topic
-    and time, for statements about the run of a series.
+    and time, for statements about the run of a series. ``latest_period``: the latest period of
+    the format most topics use (each topic keeps one format; a cell's own period is in ``cells``).
     """
 
     cells: pd.DataFrame
@@ -93,7 +95,10 @@ def compute_facts(
     _revisions(cells, earlier)
     topic_facts = _topic_facts(cells, meta)
     entity_facts = _entity_facts(cells, meta, entities)
-    latest = str(obs.loc[obs["time"].idxmax(), "period"]) if len(obs) else ""
+    latest = ""
+    if len(obs):  # the edition's period: the latest of the format most topics use
+        lead = periods.lead_format(obs["topic"], obs["period"])
+        latest = periods.latest_by_format(obs["period"], obs["time"]).get(lead, "")
     series = obs[["entity", "topic", "period", "time", "value", "margin", "status", "usable"]]
     return Facts(_plain_text(cells), topic_facts, entity_facts, series, latest)
 
@@ -293,17 +298,27 @@ def _entity_facts(cells: pd.DataFrame, meta: pd.DataFrame, entities: pd.DataFram
     out["weakest"] = weakest.set_index("entity")["topic"]
     out["weakest_percentile"] = weakest.set_index("entity")["percentile"]
     out["rated_topics"] = rated.groupby("entity").size()
-    # biggest improvement and setback, compared across topics as a share of the topic's range
+    moves = biggest_moves(cells)
+    out["improvement"] = moves["improvement"]
+    out["setback"] = moves["setback"]
+    out["topics"] = cells.groupby("entity").size()
+    return out
+
+
+def biggest_moves(cells: pd.DataFrame) -> pd.DataFrame:
+    """Per entity: the topic of its biggest improvement and of its biggest setback, compared across
+    topics as a share of the topic's range (from the cells' change columns, whichever comparison they hold)."""
     judged = cells["better_change"].isin(["improved", "worsened"])
-    moved = cells.loc[cells["change_known"] & (cells["sign"] != 0) & judged]
+    moved = cells.loc[cells["change_known"].astype("bool") & (cells["sign"] != 0) & judged]
     spread = cells.loc[cells["usable"]].groupby("topic")["value"].agg(lambda s: s.max() - s.min())
-    moved = moved.assign(size=(moved["change"] * moved["sign"]) / moved["topic"].map(spread).replace(0, np.nan))
+    size = (moved["change"].astype("float64") * moved["sign"]) / moved["topic"].map(spread).replace(0, np.nan)
+    moved = moved.assign(size=size)
     moved = moved.loc[moved["size"].notna()]
     up = moved.loc[moved["size"] > 0].sort_values("size", ascending=False).groupby("entity").head(1)
     down = moved.loc[moved["size"] < 0].sort_values("size", ascending=True).groupby("entity").head(1)
+    out = pd.DataFrame(index=pd.Index(cells["entity"].unique(), name="entity"))
     out["improvement"] = up.set_index("entity")["topic"]
     out["setback"] = down.set_index("entity")["topic"]
-    out["topics"] = cells.groupby("entity").size()
     return out
 
 

@@ -137,6 +137,8 @@ def _label(session: Session, requested: str | None, dataset: Dataset) -> str:
 
 #: where an edition's summary keeps the fingerprint of what its drafts were made from
 DRAFTED_FROM = "drafted_from"
+#: where an edition's summary keeps the latest period of each format its topics use
+LATEST_PERIODS = "latest_periods"
 #: libraries whose behaviour reaches the text of a draft
 _DRAFTING_LIBRARIES = ("pandas", "numpy", "jinja2", "babel", "inflect")
 
@@ -308,7 +310,7 @@ def load_edition(
         summary.observations_written = written["inserted"]
         session.flush()
         summary.totals = ops.workspace_counts(session).totals()
-        edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs}
+        edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs, LATEST_PERIODS: dataset.latest_periods}
         ops.add_event(session, by, "load", edition_id=edition.id, detail=summary.to_json())
     return summary
 
@@ -425,7 +427,7 @@ def _with_times(obs: pd.DataFrame, fmt: str) -> pd.DataFrame:
     from stetline import periods
 
     obs = obs.drop(columns=["id"])
-    obs["time"] = periods.times(obs["period"], fmt)
+    obs["time"] = periods.times(obs["period"], None if fmt == periods.MIXED else fmt)
     obs["row"] = range(2, len(obs) + 2)
     obs["status"] = obs["status"].fillna("")
     return obs

@@ -205,7 +205,8 @@ BAD_FILES = {
                   "row 3: duplicate observation"),
     "unknown topic": ("entity,topic,period,value\nnorth-quay,recyclng,2025,40\n", "did you mean 'recycling'?"),
     "mixed periods": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\n"
-                      "north-quay,bus-punctuality,2025-Q1,40\n", "mixed period formats"),
+                      "shellby-sands,recycling,2025-Q1,40\n", "row 3, column 'period': topic 'recycling' mixes period "
+                      "formats: most of its rows are years (like 2025) but this one is a quarter ('2025-Q1')"),
     "empty": ("", "the file is empty"),
     "slash in key": ("entity,topic,period,value\nnorth/quay,recycling,2025,40\n", "a key may not contain '/'"),
 }

@@ -21,7 +21,9 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
-from stetline import phrasing
+import pandas as pd
+
+from stetline import periods, phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
 from stetline.facts import trend_facts
 from stetline.kinds.common import caveat, missing
@@ -30,6 +32,17 @@ from stetline.seasons import season_records
 KIND = "trend"
 PHRASINGS = 2
 MIN_POINTS = 3  # a trend needs at least three values
+
+
+def _labels_by_format(series: pd.DataFrame) -> dict[str, dict[float, str]]:
+    """The label of each time, per period format (a workspace's topics may differ: 2025.0 is "2025"
+    in a yearly topic and "2025-Q1" in a quarterly one)."""
+    pairs = series[["time", "period"]].drop_duplicates()
+    kinds = periods.classify(pairs["period"].astype("str"))
+    out: dict[str, dict[float, str]] = {}
+    for kind, time, label in zip(kinds, pairs["time"], pairs["period"]):
+        out.setdefault(str(kind), {})[float(time)] = str(label)
+    return out
 
 
 def _period_word(period: str, n: int, natural: bool) -> str:
@@ -43,13 +56,14 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     style = ctx.style
     cells = ctx.facts.cells
     trends = trend_facts(cells, ctx.facts.series)
-    labels = dict(zip(ctx.facts.series["time"], ctx.facts.series["period"]))
+    by_format = _labels_by_format(ctx.facts.series)
     seasons = season_records(cells, ctx.facts.series)
     for c, t, r in zip(cells.itertuples(index=False), trends.itertuples(index=False),
                        seasons.itertuples(index=False)):
         if not c.usable or missing(t.points) or int(t.points) < MIN_POINTS:
             continue
         meta = ctx.topics[c.topic]
+        labels = by_format.get(periods.period_format(str(c.period)) or "", {})
         neutral = c.better == "neutral"
         value = float(c.value)
         streak = 0 if missing(t.streak) else int(t.streak)
