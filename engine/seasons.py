@@ -102,3 +102,49 @@ def season_records(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
     out["season_complete"] = out["season_complete"].astype("boolean").fillna(False).astype("bool")
     out.index = cells.index
     return out
+
+
+#: the columns of a cell that say its change; ``leading_changes`` gives them for the comparison that leads
+CHANGE_COLUMNS = ("change", "change_rel", "significant", "change_zero", "direction", "better_change")
+
+
+def leading_changes(cells: pd.DataFrame, series: pd.DataFrame, compare_with: str) -> pd.DataFrame:
+    """The cells' change columns for the comparison that leads, indexed like ``cells``.
+
+    With ``compare_with`` = ``year-earlier``, a quarterly or monthly topic in which at least one
+    cell has a year-earlier change is compared with the same period a year earlier (``prev_period``
+    and ``prev_value`` that period and its value, ``change_known`` says where it is stated); every other topic keeps
+    the previous period, as the change statement falls back to it. ``compared_with`` says which
+    (``previous`` or ``year-earlier``) per cell.
+    """
+    out = cells[["topic", "change_known", "prev_period", "prev_value", *CHANGE_COLUMNS]].copy()
+    out["compared_with"] = "previous"
+    within = _within_year(cells["period"])
+    if compare_with != "year-earlier" or not within.any():
+        return out
+    years = year_earlier_facts(cells, series)
+    stated = (years["year_state"] == "stated") & within
+    topics = set(cells.loc[stated, "topic"])
+    rows = within & cells["topic"].isin(topics)
+    out["change_known"] = stated.where(rows, out["change_known"]).astype("bool")
+    out["prev_period"] = years["year_period"].where(rows, out["prev_period"])
+    out["prev_value"] = years["year_value"].where(rows, out["prev_value"])
+    for col in CHANGE_COLUMNS:
+        out[col] = years[f"year_{col}"].where(rows, out[col])
+    out.loc[rows, "compared_with"] = "year-earlier"
+    return out
+
+
+def topic_moves(lead: pd.DataFrame) -> pd.DataFrame:
+    """Per topic of :func:`leading_changes`: how many cells improved, worsened and were compared, the
+    mean change, and which comparison the topic uses."""
+    known = lead.loc[lead["change_known"].astype("bool")]
+    counts = known.groupby(["topic", "better_change"]).size().unstack(fill_value=0)
+    out = pd.DataFrame(index=pd.Index(lead["topic"].unique(), name="topic"))
+    for col in ("improved", "worsened"):
+        out[col] = counts[col] if col in counts else 0
+    out["compared"] = known.groupby("topic").size()
+    out = out.fillna(0).astype("int64")
+    out["mean_change"] = known.groupby("topic")["change"].mean().astype("float64")
+    out["compared_with"] = lead.groupby("topic")["compared_with"].first()
+    return out

@@ -3,9 +3,15 @@
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+import pandas as pd
 
 from stetline import phrasing
+from stetline.seasons import leading_changes
+
+if TYPE_CHECKING:
+    from stetline.drafting import Context
 
 #: fewer entities than this reporting a topic: no ranking is stated (a rank of 2 says little)
 MIN_RANKED = 3
@@ -81,3 +87,12 @@ def caveat(status: str) -> str:
 def status_shown(status: str) -> str:
     """How an observation's status is shown in evidence."""
     return status or "final"
+
+
+def with_leading_changes(ctx: Context) -> pd.DataFrame:
+    """The edition's cells with their change columns for the comparison that leads (the
+    ``compare_with`` setting for quarters and months; see seasons.leading_changes)."""
+    cells = ctx.facts.cells
+    lead = leading_changes(cells, ctx.facts.series, ctx.compare_with)
+    columns = [c for c in lead.columns if c != "topic"]
+    return cells.drop(columns=[c for c in columns if c in cells.columns]).join(lead[columns])

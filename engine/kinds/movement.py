@@ -4,10 +4,13 @@ Held steady: the change itself, rounded as a change statement prints it, is zero
 rounded values compared), or it is not significant when margins are known. A count of zero is
 never printed; the biggest movers are named among those counted as moving. When at least
 three quarters of the entities that moved went the same way, the others are named as exceptions.
-Neutral topics count rises and falls instead.
+Neutral topics count rises and falls instead. A quarterly or monthly topic is compared as the
+``compare_with`` setting says (by default with the same period a year earlier; the previous
+period when no year-earlier figure is stated for any entity), and the statement names both periods.
 
 Claims: ``majority`` (improved | worsened for directed topics, rose | fell for neutral ones, or
-mixed when neither side has more than half of those that moved), ``exceptions`` (sorted keys).
+mixed when neither side has more than half of those that moved), ``exceptions`` (sorted keys),
+``compared_with`` (``year-earlier``, only when a quarter or month is compared with a year earlier).
 """
 
 from __future__ import annotations
@@ -16,7 +19,7 @@ from collections.abc import Iterator
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
-from stetline.kinds.common import MIN_RANKED, missing
+from stetline.kinds.common import MIN_RANKED, missing, with_leading_changes
 from stetline.words import others_count
 
 KIND = "movement"
@@ -27,7 +30,7 @@ EXCEPTION_SHARE = 0.75
 def candidates(ctx: Context) -> Iterator[Candidate]:
     """One movement statement per topic with changes known for at least three entities."""
     style = ctx.style
-    cells = ctx.facts.cells
+    cells = with_leading_changes(ctx)
     known = cells.loc[cells["change_known"]]
     by_topic = {topic: frame for topic, frame in known.groupby("topic")}
     for topic, t in ctx.facts.topics.iterrows():
@@ -88,6 +91,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         if top_down is not None:
             evidence["biggest_down"] = ev(float(top_down["change"]), ctx.amount(topic, float(top_down["change"])))
             variables["worst_mover"] = ctx.name(str(top_down["entity"]))
-        claims = {"majority": majority, "exceptions": exceptions}
+        claims: dict[str, object] = {"majority": majority, "exceptions": exceptions}
+        if (frame["compared_with"] == "year-earlier").any():  # said only when it is not the previous period
+            claims["compared_with"] = "year-earlier"
         interest = 0.5 + (0.2 if majority != "mixed" and not missing(majority) else 0.0)
         yield Candidate(slot_id(KIND, None, topic), KIND, None, topic, evidence, claims, interest, variables)

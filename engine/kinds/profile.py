@@ -10,6 +10,9 @@ Constructing Composite Indicators (2008): min-max normalisation over the entitie
 Claims: ``strongest`` and ``weakest`` (topic keys: the first in file order of the best and of the
 worst placing), ``composite_band`` (the quarter of the composite ranking: top | upper | lower |
 bottom).
+
+The biggest moves of a quarterly or monthly topic follow the ``compare_with`` setting: against the
+same period a year earlier by default, which the statement names ("down 4.1% on the third quarter of 2024").
 """
 
 from __future__ import annotations
@@ -20,7 +23,8 @@ import pandas as pd
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
-from stetline.kinds.common import MIN_RANKED, band, missing, rank_phrase
+from stetline.facts import biggest_moves
+from stetline.kinds.common import MIN_RANKED, band, missing, rank_phrase, with_leading_changes
 
 KIND = "profile"
 PHRASINGS = 3
@@ -57,8 +61,12 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     placings = _placings(ctx)
     position = {t: int(m.get("position", 0)) for t, m in ctx.topics.items()}
     composite_ties = ctx.facts.entities["composite_rank"].value_counts().to_dict()
-    moves = ctx.facts.cells.set_index(["entity", "topic"])[["change", "prev_value"]]
-    for entity, e in ctx.facts.entities.iterrows():
+    lead = with_leading_changes(ctx)
+    moves = lead.set_index(["entity", "topic"])[["change", "prev_value", "prev_period", "compared_with"]]
+    entities = ctx.facts.entities
+    if (lead["compared_with"] == "year-earlier").any():  # quarters and months as the compare_with setting says
+        entities = entities.drop(columns=["improvement", "setback"]).join(biggest_moves(lead))
+    for entity, e in entities.iterrows():
         key = str(entity)
         rows = placings.get(key)
         if rows is None or rows.empty or missing(e["composite"]):
@@ -94,13 +102,15 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "topics_used": phrasing.plural(int(e["composite_topics"]), "indicator", style),
             "improvement": "" if missing(e["improvement"]) else ctx.the_label(str(e["improvement"])),
             "setback": "" if missing(e["setback"]) else ctx.the_label(str(e["setback"])),
-            "improvement_up": False, "setback_down": False,
+            "improvement_up": False, "setback_down": False, "improvement_since": "", "setback_since": "",
         }
         for which in ("improvement", "setback"):
             if not missing(e[which]):
                 move = moves.loc[(key, str(e[which]))]
                 size = ctx.change_size(str(e[which]), float(move["change"]), float(move["prev_value"]))
                 evidence[f"{which}_change"] = ev(float(move["change"]), size)
+                if move["compared_with"] == "year-earlier":
+                    variables[f"{which}_since"] = f" on {ctx.when(str(move['prev_period']))}"
                 variables["improvement_up" if which == "improvement" else "setback_down"] = (
                     float(move["change"]) > 0 if which == "improvement" else float(move["change"]) < 0)
         interest = 0.7 + (0.2 if claims["composite_band"] in ("top", "bottom") else 0.0)
