@@ -109,8 +109,10 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                 move = moves.loc[(key, str(e[which]))]
                 size = ctx.change_size(str(e[which]), float(move["change"]), float(move["prev_value"]))
                 evidence[f"{which}_change"] = ev(float(move["change"]), size)
-                if move["compared_with"] == "year-earlier":
-                    variables[f"{which}_since"] = f" on {ctx.when(str(move['prev_period']))}"
+                if move["compared_with"] == "year-earlier":  # the period it is measured on is a fact it prints
+                    since = str(move["prev_period"])
+                    evidence[f"{which}_since"] = ev(since, ctx.when(since))
+                    variables[f"{which}_since"] = f" on {ctx.when(since)}"
                 variables["improvement_up" if which == "improvement" else "setback_down"] = (
                     float(move["change"]) > 0 if which == "improvement" else float(move["change"]) < 0)
         interest = 0.7 + (0.2 if claims["composite_band"] in ("top", "bottom") else 0.0)
