@@ -501,7 +501,7 @@ def test_an_xlsx_workbook_loads_the_same_as_the_csv_files(tmp_path: Path) -> Non
     pd.testing.assert_frame_equal(from_xlsx.observations, from_csv.observations)
     pd.testing.assert_frame_equal(from_xlsx.topics, from_csv.topics)
     pd.testing.assert_frame_equal(from_xlsx.entities, from_csv.entities)
-    assert from_xlsx.period_format == from_csv.period_format == "year"
+    assert from_xlsx.period_format == from_csv.period_format == "mixed"  # yearly topics and one quarterly
     assert from_xlsx.latest_period == "2025"
 
 
@@ -554,14 +554,17 @@ def test_an_xlsx_problem_names_the_workbook_and_sheet(tmp_path: Path) -> None:
 
 def test_the_demo_files_load() -> None:
     data = load_dataset(DEMO_FILES / "observations-2024.csv", DEMO_FILES / "topics.csv", DEMO_FILES / "entities.csv")
-    # counted from the shipped files (seed_data/README.md: 14 towns in four groups, 12 indicators)
+    # counted from the shipped files (seed_data/README.md: 14 towns in four groups, 12 yearly indicators
+    # and one quarterly)
     assert len(data.entities) == 14
     assert set(data.entities["group"]) == {"Coast", "Estuary", "Uplands", "Islands"}
-    assert len(data.topics) == 12
-    assert len(data.observations) == 840
-    assert data.period_format == "year"
+    assert len(data.topics) == 13
+    # 12 yearly indicators, 14 towns x 5 years; one quarterly, 14 towns x 11 quarters (2022-Q1 to 2024-Q3)
+    assert len(data.observations) == 14 * 5 * 12 + 14 * 11
+    assert data.period_format == "mixed"
     assert data.latest_period == "2024"
-    assert (data.observations["time"].min(), data.observations["time"].max()) == (2020.0, 2024.0)
+    assert data.latest_periods == {"year": "2024", "quarter": "2024-Q3"}
+    assert (data.observations["time"].min(), data.observations["time"].max()) == (2020.0, 2024.5)
     assert data.files == ["observations-2024.csv", "topics.csv", "entities.csv"]
 
 

@@ -26,7 +26,7 @@ from helpers import Cli
 
 from stetline import figures
 from stetline.store import ops
-from stetline.workspace import open_workspace
+from stetline.workspace import Workspace, open_workspace
 
 #: the part kinds these tests read, set explicitly (new workspaces draft fewer by default)
 KINDS = "headline,profile,change,trend,movement"
@@ -173,3 +173,47 @@ def test_percentage_points_agree_with_cldr_plural_rules(change: float, decimals:
     form = Locale("en").plural_form(Decimal(number))
     assert shown.endswith("point" if form == "one" else "points")
 
+
+def test_the_demo_quarterly_indicator_names_quarters_and_its_year_earlier_change_is_rechecked(demo_cli: Cli) -> None:
+    # seed_data/README.md: in four towns the third quarter of 2025 falls below the third quarter of 2024
+    demo_cli("settings", "kinds", "headline,profile,roundup,blurb,change,movement")
+    demo_cli("redraft")
+    for town in ("heronsford", "tidemere", "gorse-point", "cairnbrook"):
+        change = demo_cli.json("show", f"change/{town}/library-visits")
+        assert "the third quarter of 2025" in change["text"] and "the third quarter of 2024" in change["text"]
+        assert change["claims"]["year_earlier.better"] == "worsened"
+        assert change["claims"]["better"] == "improved"  # on the second quarter it rose: the season's peak
+    recheck = demo_cli.json("show", "blurb/heronsford/library-visits")  # approved on the first edition
+    assert recheck["status"] == "recheck" and "claim-changed" in recheck["recheck"]["reasons"]
+    changes = {c["fact"]: (c["old"], c["new"]) for c in recheck["recheck"]["changes"]}
+    assert changes["change.year_earlier.better"] == ("improved", "worsened")
+    assert "It fell by 4.1% from 1,034 per 1,000 residents in the third quarter of 2024" in recheck["text"]
+    assert "blurb/heronsford/library-visits" in {i["slot"] for i in demo_cli.json("list", "--status", "recheck")}
+    roundup = text(demo_cli, "roundup/library-visits")
+    assert roundup.startswith("Between the third quarter of 2024 and the third quarter of 2025, ")
+    # the yearly indicators keep their years
+    assert "2025" in text(demo_cli, "change/heronsford/recycling")
+    assert "quarter" not in text(demo_cli, "change/heronsford/recycling")
+
+
+def test_the_data_page_lists_the_latest_period_of_each_format(demo_ws: Workspace) -> None:
+    from stetline.web import create_app
+
+    client = create_app(demo_ws, {"TESTING": True, "WTF_CSRF_ENABLED": False}).test_client()
+    html = client.get("/data").get_data(as_text=True)
+    assert "(latest period 2025 (quarterly topics to 2025-Q3))" in html
+    assert "<td>2024 (quarterly topics to 2024-Q3)</td>" in html
+
+
+def test_a_provisional_quarter_is_named_in_words_in_the_published_caveat(mixed: Cli, tmp_path: Path) -> None:
+    lines = observations(2025).splitlines()
+    rows = [lines[0] + ",status"] + [f"{line},provisional" if line.startswith("c,visits,2025-Q3,") else f"{line},"
+                                     for line in lines[1:]]
+    third = tmp_path / "obs-2025-r2.csv"
+    third.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    mixed("load", str(third))
+    out = tmp_path / "report.md"
+    mixed("publish", "--format", "md", "-o", str(out), "--allow-recheck")
+    report = out.read_text(encoding="utf-8")
+    assert "The third-quarter 2025 figure is provisional." in report
+    assert "2025-Q3 figure" not in report
