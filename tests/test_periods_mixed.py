@@ -217,3 +217,31 @@ def test_a_provisional_quarter_is_named_in_words_in_the_published_caveat(mixed: 
     report = out.read_text(encoding="utf-8")
     assert "The third-quarter 2025 figure is provisional." in report
     assert "2025-Q3 figure" not in report
+
+
+def test_a_monthly_topic_beside_a_yearly_one_is_compared_with_the_same_month_a_year_earlier(
+    cli: Cli, tmp_path: Path,
+) -> None:
+    from babel.dates import get_month_names
+
+    def monthly(e: str, y: int, m: int) -> int:
+        # March is the peak; Avonby's March 2025 falls 15 below March 2024 but rises on February 2025
+        return BASE[e] + (20 if m == 3 else 0) + 5 * (y - 2024) - (20 if e == "a" and y == 2025 else 0)
+
+    lines = ["entity,topic,period,value"]
+    for e in BASE:
+        lines += [f"{e},recycling,{y},{RECYCLING[e][y - 2023]}" for y in (2024, 2025)]
+        lines += [f"{e},visits,{y}-{m:02d},{monthly(e, y, m)}" for y in (2024, 2025) for m in (1, 2, 3)]
+    for name, content in (("t.csv", TOPICS), ("e.csv", ENTITIES), ("o.csv", "\n".join(lines) + "\n")):
+        (tmp_path / name).write_text(content, encoding="utf-8")
+    cli("init")
+    cli("settings", "kinds", KINDS)
+    cli("settings", "entity_noun", "town")
+    cli("load", str(tmp_path / "o.csv"), "--topics", str(tmp_path / "t.csv"), "--entities", str(tmp_path / "e.csv"))
+    march = get_month_names("wide", locale="en_GB")[3]  # CLDR, via Babel
+    moved = cli.json("show", "movement/visits")
+    assert moved["text"].startswith(f"Between {march} 2024 and {march} 2025, ")
+    assert "improved in two and worsened in one" in moved["text"]  # a: 520 -> 505; b, c: +5
+    headline = cli.json("show", "headline")["text"]
+    assert headline.startswith("In 2025, ")
+    assert "Monthly indicators are compared with the same month a year earlier." in headline
