@@ -53,15 +53,20 @@ class Dataset:
     observations: pd.DataFrame
     topics: pd.DataFrame
     entities: pd.DataFrame
-    period_format: str
+    period_format: str  # year, quarter or month when every topic shares it, else "mixed"
     files: list[str] = field(default_factory=list)
     breakdowns: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=BREAKDOWN_FRAME))
 
     @property
+    def latest_periods(self) -> dict[str, str]:
+        """The latest period label of each format the topics use ({"year": "2025", "quarter": "2025-Q3"})."""
+        return periods.latest_by_format(self.observations["period"], self.observations["time"])
+
+    @property
     def latest_period(self) -> str:
-        """The latest period label in the observations."""
-        idx = self.observations["time"].idxmax()
-        return str(self.observations.at[idx, "period"])
+        """The latest period label of the format most topics use (the edition's period)."""
+        obs = self.observations
+        return self.latest_periods[periods.lead_format(obs["topic"], obs["period"])]
 
 
 def _check_columns(table: Table, required: Iterable[str], optional: Iterable[str]) -> list[Problem]:
@@ -192,20 +197,9 @@ def _parse_observations(table: Table) -> tuple[pd.DataFrame | None, str, list[Pr
         table, "period", fmt == "",
         "not a period (expected a year like 2025, a quarter like 2025-Q1 or a month like 2025-03)",
     )
+    problems += _mixed_formats(table, frame["topic"].astype("str"), period, fmt)
     used = sorted(set(fmt[fmt != ""]))
-    chosen = used[0] if used else ""
-    if len(used) > 1:
-        counts = fmt.value_counts()
-        chosen = str(counts[counts.index != ""].idxmax())
-        for other in used:
-            if other == chosen:
-                continue
-            at = frame.index[(fmt == other).to_numpy()][0]
-            problems.append(Problem(
-                table.name, int(at) + 2, "period",
-                f"mixed period formats: most rows are {chosen}s ({periods.EXAMPLES[chosen]}) "
-                f"but this one is a {other} ({period.loc[at]!r}); use one format per file",
-            ))
+    chosen = used[0] if len(used) == 1 else (periods.MIXED if used else "")
     if not problems:
         frame["breakdown"], frame["subgroup"] = groups["breakdown"], groups["subgroup"]
         total = (groups["breakdown"] == "").to_numpy()
@@ -221,11 +215,35 @@ def _parse_observations(table: Table) -> tuple[pd.DataFrame | None, str, list[Pr
         "value": value,
         "margin": margin,
         "status": status.replace("final", ""),
-        "time": periods.times(period, chosen),
+        "time": periods.times(period, chosen if chosen != periods.MIXED else None),
         "row": frame.index.to_numpy() + 2,
         **{col: groups[col] for col in breakdowns.COLUMNS},
     })
     return out, chosen, [], keys
+
+
+def _mixed_formats(table: Table, topic: pd.Series, period: pd.Series, fmt: pd.Series) -> list[Problem]:
+    """One problem per topic whose periods are not all of one format, at the first row of each
+    format other than the topic's most common one (a topic is all years, all quarters or all months)."""
+    rows = pd.DataFrame({"topic": topic, "fmt": fmt, "period": period}).loc[fmt != ""]
+    counts = rows.groupby(["topic", "fmt"], sort=False).size().reset_index(name="n")
+    mixed = counts.loc[counts.duplicated("topic", keep=False)]
+    order = {name: i for i, name in enumerate(periods.FORMATS)}
+    problems: list[Problem] = []
+    for key, group in mixed.groupby("topic", sort=False):
+        group = group.assign(order=group["fmt"].map(order)).sort_values(["n", "order"], ascending=[False, True])
+        chosen = str(group["fmt"].iloc[0])
+        for other in group["fmt"].iloc[1:]:
+            at = rows.index[((rows["topic"] == key) & (rows["fmt"] == other)).to_numpy()][0]
+            problems.append(Problem(
+                table.name, int(at) + 2, "period",
+                f"topic {str(key)!r} mixes period formats: most of its rows are {chosen}s "
+                f"(like {periods.EXAMPLES[chosen]}) but this one is a {other} ({period.loc[at]!r}); "
+                "a topic's series must be all years, all quarters or all months",
+            ))
+        if len(problems) >= MAX_SHOWN:
+            break
+    return problems
 
 
 def _parse_topics(table: Table) -> tuple[pd.DataFrame | None, list[Problem]]:

@@ -54,6 +54,8 @@ APPROVALS = (
     "change/heronsford/recycling",
 )
 SUPPRESS = ("standing/puffin-holm/new-business",)
+#: a quarterly statement approved on the first edition: the second turns its change on a year earlier round
+SEASONAL_APPROVALS = ("blurb/heronsford/library-visits",)
 
 
 def data_file(name: str) -> Path:
@@ -118,6 +120,8 @@ def build(path: Path, echo: Callable[[str], None] = print) -> Workspace:
         for slot in SUPPRESS:
             actions.suppress(s, slot, by=EDITOR)
         for slot in APPROVALS:
+            actions.approve(s, slot, by=REVIEWER)
+        for slot in SEASONAL_APPROVALS:
             actions.approve(s, slot, by=REVIEWER)
     echo("loading the second edition (data to 2025, with revisions to 2024; Larkholt is now Larkholt Vale)")
     second = loading.load_edition(ws, data_file("observations-2025.csv"), by=ADMIN,

@@ -24,7 +24,7 @@ import jinja2
 import orjson
 import pandas as pd
 
-from stetline import figures, nesting, phrasing
+from stetline import figures, nesting, periods, phrasing
 from stetline.facts import Facts
 from stetline.phrasing import HouseStyle
 from stetline.rendering import Renderer, line_in, template_error
@@ -206,6 +206,8 @@ class Context:
     level_nouns: tuple[str, ...] = ()
     #: house style: "Fortunately"/"Unfortunately" before an entity's own change (never a gap between subgroups)
     evaluative_words: bool = False
+    #: which comparison leads for quarters and months (the `compare_with` setting): year-earlier or previous
+    compare_with: str = "year-earlier"
     # wording already worked out (the same counts, labels and means recur across thousands of cells)
     _values_shown: dict[tuple[str, float, bool], str] = field(
         default_factory=dict, init=False, repr=False, compare=False)
@@ -213,6 +215,7 @@ class Context:
         default_factory=dict, init=False, repr=False, compare=False)
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _lower_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    _period_names: dict[tuple[str, str], str] = field(default_factory=dict, init=False, repr=False, compare=False)
     # the candidates of part kinds that composed kinds read, kept while one drafting pass runs
     _kept: dict[str, list[Candidate]] = field(default_factory=dict, init=False, repr=False, compare=False)
     # the part kinds a drafting pass reads more than once (the others are read as they come)
@@ -272,6 +275,17 @@ class Context:
         shown = self._of_n.get(n)
         if shown is None:
             shown = self._of_n[n] = phrasing.plural(n, self.entity_noun, self.style)
+        return shown
+
+    def when(self, period: object, form: str = "noun") -> str:
+        """A period as a sentence names it: "the third quarter of 2025", "March 2025" (form "noun");
+        before a noun: "third-quarter 2025" (form "adjective"); "season": "third quarter", "March"."""
+        label = str(period)
+        shown = self._period_names.get((label, form))
+        if shown is None:
+            namer = {"noun": periods.period_name, "adjective": periods.period_adjective,
+                     "season": periods.season_name}[form]
+            shown = self._period_names[(label, form)] = namer(label, self.style.locale)
         return shown
 
     def name(self, entity: str) -> str:

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from stetline import nesting
+from stetline import nesting, periods
 from stetline.rounding import round_half_up_array
 
 WITHHELD = "confidential"
@@ -31,7 +31,8 @@ class Facts:
     ``entities``: one row per entity with its composite score among its level. ``series``: the
     observations sorted by entity, topic and time, for statements about the run of a series. Rows
     of a breakdown by group never reach these: they are the totals only; ``breakdowns`` holds the
-    facts of the subgroups.
+    facts of the subgroups. ``latest_period``: the latest period of the format most topics use (each
+    topic keeps one format; a cell's own period is in ``cells``).
     """
 
     cells: pd.DataFrame
@@ -113,7 +114,10 @@ def compute_facts(
     topic_facts = levels.get(main_depth, _topic_facts(cells, meta))
     entity_facts = _entity_facts(cells, meta, entities)
     entity_facts["depth"] = entity_facts.index.map(depth).fillna(0).astype("int64")
-    latest = str(obs.loc[obs["time"].idxmax(), "period"]) if len(obs) else ""
+    latest = ""
+    if len(obs):  # the edition's period: the latest of the format most topics use
+        lead = periods.lead_format(obs["topic"], obs["period"])
+        latest = periods.latest_by_format(obs["period"], obs["time"]).get(lead, "")
     series = obs[["entity", "topic", "period", "time", "value", "margin", "status", "usable"]]
     return Facts(_plain_text(cells), topic_facts, entity_facts, series, latest, levels, main_depth)
 
@@ -188,32 +192,45 @@ def significance(difference: pd.Series, margin_a: pd.Series, margin_b: pd.Series
     return out
 
 
+def compare(now: pd.DataFrame, before: pd.Series, before_margin: pd.Series, known: pd.Series) -> pd.DataFrame:
+    """Compare each cell's value with an earlier value (the previous period, or a year earlier).
+
+    ``now`` holds ``value``, ``margin``, ``sign``, ``unit`` and ``decimals``; ``known`` says where a
+    comparison can be stated. Returns ``change``, ``change_rel``, ``significant`` (NA without
+    margins), ``change_zero`` (the change prints as zero), ``direction`` (up, down, flat, unknown)
+    and ``better_change`` (improved, worsened, steady, n/a), by the rules of DESIGN "Numbers and words".
+    """
+    out = pd.DataFrame(index=now.index)
+    out["change"] = (now["value"] - before).where(known)
+    base = before.abs()
+    out["change_rel"] = (out["change"] / base).where(base > 0)
+    significant = significance(out["change"], now["margin"], before_margin)
+    significant[~known.astype("bool")] = pd.NA
+    out["significant"] = significant
+    out["change_zero"] = printed_change_is_zero(out["change"], out["change_rel"], now["unit"], now["decimals"])
+    flat = out["change_zero"] | (significant.fillna(True) == False)  # noqa: E712
+    step = np.where(flat, 0.0, np.sign(out["change"]))
+    direction = pd.Series(np.select([step > 0, step < 0], ["up", "down"], "flat"), index=now.index)
+    out["direction"] = direction.where(known, "unknown")
+    moved = out["direction"].isin(["up", "down"])
+    good = np.sign(out["change"]) * now["sign"] > 0
+    out["better_change"] = np.select(
+        [~known | (now["sign"] == 0), ~moved, good], ["n/a", "steady", "improved"], "worsened",
+    )
+    return out
+
+
 def _changes(cells: pd.DataFrame) -> None:
     """Change since the previous period of the series, and whether it counts as a change."""
     has_prev = cells["prev_value"].notna() & cells["value"].notna() & cells["usable"]
     broken = cells["status"] == BREAK
     cells["change_known"] = has_prev & ~broken
-    cells["change"] = (cells["value"] - cells["prev_value"]).where(cells["change_known"])
-    base = cells["prev_value"].abs()
-    cells["change_rel"] = (cells["change"] / base).where(base > 0)
+    compared = compare(cells, cells["prev_value"], cells["prev_margin"], cells["change_known"])
+    cells["change"] = compared["change"]
+    cells["change_rel"] = compared["change_rel"]
     cells["years"] = cells["time"] - cells["prev_time"]
-    significant = significance(cells["change"], cells["margin"], cells["prev_margin"])
-    significant[~cells["change_known"]] = pd.NA
-    cells["significant"] = significant
-    cells["change_zero"] = printed_change_is_zero(
-        cells["change"], cells["change_rel"], cells["unit"], cells["decimals"],
-    )
-    flat = cells["change_zero"] | (significant.fillna(True) == False)  # noqa: E712
-    step = np.where(flat, 0.0, np.sign(cells["change"]))
-    direction = pd.Series(np.select([step > 0, step < 0], ["up", "down"], "flat"), index=cells.index)
-    cells["direction"] = direction.where(cells["change_known"], "unknown")
-    moved = cells["direction"].isin(["up", "down"])
-    good = np.sign(cells["change"]) * cells["sign"] > 0
-    better = np.select(
-        [~cells["change_known"] | (cells["sign"] == 0), ~moved, good],
-        ["n/a", "steady", "improved"], "worsened",
-    )
-    cells["better_change"] = better
+    for col in ("significant", "change_zero", "direction", "better_change"):
+        cells[col] = compared[col]
 
 
 def _revisions(cells: pd.DataFrame, earlier: pd.DataFrame | None) -> None:
@@ -316,17 +333,27 @@ def _entity_facts(cells: pd.DataFrame, meta: pd.DataFrame, entities: pd.DataFram
     out["weakest"] = weakest.set_index("entity")["topic"]
     out["weakest_percentile"] = weakest.set_index("entity")["percentile"]
     out["rated_topics"] = rated.groupby("entity").size()
-    # biggest improvement and setback, compared across topics as a share of the topic's range
+    moves = biggest_moves(cells)
+    out["improvement"] = moves["improvement"]
+    out["setback"] = moves["setback"]
+    out["topics"] = cells.groupby("entity").size()
+    return out
+
+
+def biggest_moves(cells: pd.DataFrame) -> pd.DataFrame:
+    """Per entity: the topic of its biggest improvement and of its biggest setback, compared across
+    topics as a share of the topic's range (from the cells' change columns, whichever comparison they hold)."""
     judged = cells["better_change"].isin(["improved", "worsened"])
-    moved = cells.loc[cells["change_known"] & (cells["sign"] != 0) & judged]
+    moved = cells.loc[cells["change_known"].astype("bool") & (cells["sign"] != 0) & judged]
     spread = cells.loc[cells["usable"]].groupby("topic")["value"].agg(lambda s: s.max() - s.min())
-    moved = moved.assign(size=(moved["change"] * moved["sign"]) / moved["topic"].map(spread).replace(0, np.nan))
+    size = (moved["change"].astype("float64") * moved["sign"]) / moved["topic"].map(spread).replace(0, np.nan)
+    moved = moved.assign(size=size)
     moved = moved.loc[moved["size"].notna()]
     up = moved.loc[moved["size"] > 0].sort_values("size", ascending=False).groupby("entity").head(1)
     down = moved.loc[moved["size"] < 0].sort_values("size", ascending=True).groupby("entity").head(1)
+    out = pd.DataFrame(index=pd.Index(cells["entity"].unique(), name="entity"))
     out["improvement"] = up.set_index("entity")["topic"]
     out["setback"] = down.set_index("entity")["topic"]
-    out["topics"] = cells.groupby("entity").size()
     return out
 
 

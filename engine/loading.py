@@ -89,6 +89,8 @@ def _label(session: Session, requested: str | None, dataset: Dataset) -> str:
 
 #: where an edition's summary keeps the fingerprint of what its drafts were made from
 DRAFTED_FROM = "drafted_from"
+#: where an edition's summary keeps the latest period of each format its topics use
+LATEST_PERIODS = "latest_periods"
 #: libraries whose behaviour reaches the text of a draft
 _DRAFTING_LIBRARIES = ("pandas", "numpy", "jinja2", "babel", "inflect")
 
@@ -161,7 +163,7 @@ def edition_context(
         facts, topics.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
         style, str(values["entity_noun"]), edition, settings_mod.kinds_of(values),
         nesting.nouns_of(str(values["level_nouns"])),
-        evaluative_words=bool(values["evaluative_words"]),
+        evaluative_words=bool(values["evaluative_words"]), compare_with=str(values["compare_with"]),
     )
 
 
@@ -255,7 +257,7 @@ def load_edition(
                 progress("building indexes", 0, None)
         session.flush()
         summary.totals = ops.workspace_counts(session).totals()
-        edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs}
+        edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs, LATEST_PERIODS: dataset.latest_periods}
         ops.add_event(session, by, "load", edition_id=edition.id, detail=summary.to_json())
     return summary
 
@@ -367,7 +369,7 @@ def _with_times(obs: pd.DataFrame, fmt: str) -> pd.DataFrame:
     from stetline import periods
 
     obs = obs.drop(columns=["id"])
-    obs["time"] = periods.times(obs["period"], fmt)
+    obs["time"] = periods.times(obs["period"], None if fmt == periods.MIXED else fmt)
     obs["row"] = range(2, len(obs) + 2)
     obs["status"] = obs["status"].fillna("")
     return obs

@@ -52,11 +52,106 @@ def classify(labels: pd.Series) -> pd.Series:
     return out
 
 
-def times(labels: pd.Series, fmt: str) -> pd.Series:
-    """Return the times of a column of labels that all share the format ``fmt``."""
+#: what an edition's format is called when its topics use more than one (each topic keeps one)
+MIXED = "mixed"
+
+
+def times(labels: pd.Series, fmt: str | None = None) -> pd.Series:
+    """Return the times of a column of valid period labels (of the one format ``fmt`` when given;
+    otherwise each label is read in its own format, as a workspace whose topics differ holds them)."""
+    labels = labels.astype("str")
     year = labels.str.slice(0, 4).astype("int64").astype("float64")
     if fmt == "year":
         return year
     if fmt == "quarter":
         return year + (labels.str.slice(-1).astype("int64") - 1) / 4
-    return year + (labels.str.slice(5, 7).astype("int64") - 1) / 12
+    if fmt == "month":
+        return year + (labels.str.slice(5, 7).astype("int64") - 1) / 12
+    import pandas as pd
+
+    kind = classify(labels)
+    quarter = pd.to_numeric(labels.str.slice(-1).where(kind == "quarter"), errors="coerce").fillna(1)
+    month = pd.to_numeric(labels.str.slice(5, 7).where(kind == "month"), errors="coerce").fillna(1)
+    return year + (quarter - 1) / 4 + (month - 1) / 12
+
+
+def latest_by_format(labels: pd.Series, times_: pd.Series) -> dict[str, str]:
+    """The latest label of each format present (years first, then quarters, then months)."""
+    kind = classify(labels.astype("str"))
+    out: dict[str, str] = {}
+    for name in FORMATS:
+        mask = (kind == name).to_numpy()
+        if mask.any():
+            at = times_[mask].idxmax()
+            out[name] = str(labels.at[at])
+    return out
+
+
+def lead_format(topics: pd.Series, labels: pd.Series) -> str:
+    """The format most topics use (years before quarters before months on a tie); "" when none.
+
+    An edition whose topics differ in format names its period by this one (its label, the
+    headline's "in 2025"); each topic's own statements name its own periods.
+    """
+    import pandas as pd
+
+    kind = classify(labels.astype("str"))
+    per_topic = pd.DataFrame({"topic": topics.to_numpy(), "kind": kind.to_numpy()}).drop_duplicates("topic")
+    counts = per_topic.loc[per_topic["kind"] != "", "kind"].value_counts()
+    if counts.empty:
+        return ""
+    order = list(FORMATS)
+    return str(max(counts.index, key=lambda k: (int(counts[k]), -order.index(str(k)))))
+
+
+#: the quarters named as people say them ("the third quarter of 2025"); common practice of statistical releases
+QUARTER_WORDS = ("first", "second", "third", "fourth")
+
+
+def is_within_year(label: str) -> bool:
+    """True for a quarter or a month: a period that has a same period a year earlier."""
+    return period_format(label) in ("quarter", "month")
+
+
+def year_earlier(label: str) -> str | None:
+    """The same quarter or month a year earlier (2025-Q3 → 2024-Q3); None for a year or a non-period."""
+    if not is_within_year(label):
+        return None
+    return f"{int(label[:4]) - 1:04d}{label[4:]}"
+
+
+def _month_name(month: int, locale: str) -> str:
+    from babel.dates import get_month_names
+
+    return str(get_month_names("wide", "format", locale)[month])
+
+
+def season_name(label: str, locale: str = "en_GB") -> str:
+    """The quarter or month of a period without its year ("third quarter", "March"); "" for a year.
+
+    Month names come from CLDR (Babel) in the house-style locale.
+    """
+    fmt = period_format(label)
+    if fmt == "quarter":
+        return f"{QUARTER_WORDS[int(label[-1]) - 1]} quarter"
+    if fmt == "month":
+        return _month_name(int(label[5:7]), locale)
+    return ""
+
+
+def period_name(label: str, locale: str = "en_GB") -> str:
+    """A period as a sentence names it: "2025", "the third quarter of 2025", "March 2025"."""
+    fmt = period_format(label)
+    if fmt == "quarter":
+        return f"the {season_name(label, locale)} of {label[:4]}"
+    if fmt == "month":
+        return f"{season_name(label, locale)} {label[:4]}"
+    return label
+
+
+def period_adjective(label: str, locale: str = "en_GB") -> str:
+    """A period before a noun ("the 2025 figure", "the third-quarter 2025 figure", "the March 2025 figure")."""
+    fmt = period_format(label)
+    if fmt == "quarter":
+        return f"{QUARTER_WORDS[int(label[-1]) - 1]}-quarter {label[:4]}"
+    return period_name(label, locale)

@@ -15,7 +15,7 @@ from pathlib import Path
 
 from sqlalchemy.orm import Session
 
-from stetline import charts, nesting
+from stetline import charts, nesting, periods
 from stetline import settings as settings_mod
 from stetline.actions import views
 from stetline.errors import StetlineError
@@ -68,7 +68,8 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
             continue
         figure = v.draft.evidence.get("status", {}).get("value") or ""
         period = v.draft.evidence.get("period", {}).get("shown", "")
-        caveat = f"The {period} figure is {figure}." if figure in ("provisional", "estimated") else None
+        caveat = (f"The {periods.period_adjective(period, style.locale)} figure is {figure}."
+                  if figure in ("provisional", "estimated") else None)  # "the third-quarter 2025 figure"
         approval = shown.approval
         st = Statement(v.slot.id, v.slot.kind, v.slot.entity, v.slot.topic, shown.status, shown.text,
                        list(shown.notes), caveat, v.slot.interest, shown.reason if shown.waiting else None,

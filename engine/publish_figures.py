@@ -27,7 +27,8 @@ def _frames(session: Session) -> tuple[pd.DataFrame, pd.DataFrame, pd.DataFrame]
     obs = ops.observations_frame(session).drop(columns=["id"])
     if obs.empty:
         return None
-    obs["time"] = periods.times(obs["period"], edition.period_format)
+    fmt = edition.period_format
+    obs["time"] = periods.times(obs["period"], None if fmt == periods.MIXED else fmt)
     obs["status"] = obs["status"].fillna("")
     obs["row"] = range(2, len(obs) + 2)
     return obs, topics, entities

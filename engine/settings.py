@@ -79,6 +79,10 @@ SETTINGS: tuple[SettingSpec, ...] = (
     SettingSpec("evaluative_words", "Evaluative words", False,
                 "Open a statement of an entity's own change that improved or worsened with 'Fortunately' or "
                 "'Unfortunately' (never a gap between subgroups)."),
+    SettingSpec("compare_with", "Quarters and months compared first with", "year-earlier",
+                "Which comparison leads a statement about a quarter or a month: the same period a year earlier "
+                "(year-earlier) or the period before (previous); the other follows. Yearly series are unaffected.",
+                ("year-earlier", "previous")),
     SettingSpec("untraced_numbers", "Untraced numbers when publishing", "warn",
                 "What publishing does with typed numbers that match no fact.", ("warn", "refuse")),
     SettingSpec("self_approval", "Reviewers may approve their own rewrites", False,
@@ -94,8 +98,8 @@ SETTINGS: tuple[SettingSpec, ...] = (
 BY_KEY = {spec.key: spec for spec in SETTINGS}
 
 #: settings that change the drafts (a redraft follows a change)
-STYLE_KEYS = ("kinds", "evaluative_words", "entity_noun", "level_nouns", "locale", "serial_comma", "percent_word",
-              "small_numbers_in_words", "possessive_after_s")
+STYLE_KEYS = ("kinds", "evaluative_words", "compare_with", "entity_noun", "level_nouns", "locale", "serial_comma",
+              "percent_word", "small_numbers_in_words", "possessive_after_s")
 
 
 def spec(key: str) -> SettingSpec:

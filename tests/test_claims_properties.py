@@ -118,13 +118,17 @@ def panels(draw: st.DrawFn) -> dict:
             "labels": labels}
 
 
-def drafts_of(panel: dict) -> dict[str, tuple[str, dict, dict]]:
-    """Draft every slot of a panel through the engine's real path (facts, kinds, templates)."""
+def drafts_of(panel: dict, compare_with: str = "previous") -> dict[str, tuple[str, dict, dict]]:
+    """Draft every slot of a panel through the engine's real path (facts, kinds, templates).
+
+    The previous period leads a change statement here (the claims recomputed below are those);
+    tests/test_periods_compare.py checks quarters and months led by the same period a year earlier.
+    """
     t, entities = panel["topics"], panel["entities"]
     facts = compute_facts(panel["obs"], t, entities)
     style = HouseStyle()
     ctx = Context(facts, t.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
-                  style, "town")
+                  style, "town", kinds=tuple(k.KIND for k in KINDS), compare_with=compare_with)
     return {d.slot: (d.text, d.evidence, d.claims) for d in draft_all(ctx, Renderer(style), KINDS)}
 
 

@@ -178,7 +178,7 @@ def test_json_shapes_follow_the_contract(demo_cli: Cli) -> None:
 def test_list_filters(demo_cli: Cli) -> None:
     items = demo_cli.json("list", "--entity", "tidemere", "--kind", "standing")
     assert {i["slot"] for i in items} == {f"standing/tidemere/{t}" for t in {i["topic"] for i in items}}
-    assert len(items) == 11
+    assert len(items) == 12  # 11 yearly topics still reported (paper timetables stopped) and one quarterly
     assert all(i["status"] == "recheck" for i in demo_cli.json("list", "--status", "recheck"))
 
 
@@ -228,7 +228,8 @@ BAD_FILES = {
                   "row 3: duplicate observation"),
     "unknown topic": ("entity,topic,period,value\nnorth-quay,recyclng,2025,40\n", "did you mean 'recycling'?"),
     "mixed periods": ("entity,topic,period,value\nnorth-quay,recycling,2025,40\n"
-                      "north-quay,bus-punctuality,2025-Q1,40\n", "mixed period formats"),
+                      "shellby-sands,recycling,2025-Q1,40\n", "row 3, column 'period': topic 'recycling' mixes period "
+                      "formats: most of its rows are years (like 2025) but this one is a quarter ('2025-Q1')"),
     "empty": ("", "the file is empty"),
     "slash in key": ("entity,topic,period,value\nnorth/quay,recycling,2025,40\n", "a key may not contain '/'"),
 }

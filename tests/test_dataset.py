@@ -196,8 +196,44 @@ def test_mixed_period_formats_are_refused_at_the_odd_row(tmp_path: Path) -> None
     )
     p = only(problems_of(tmp_path, text))
     assert (p.file, p.row, p.column) == ("observations.csv", 4, "period")
-    assert "mixed period formats" in p.message
-    assert "'2024-Q1'" in p.message
+    assert p.message == (
+        "topic 'recycling' mixes period formats: most of its rows are years (like 2025) but this one is a "
+        "quarter ('2024-Q1'); a topic's series must be all years, all quarters or all months"
+    )
+
+
+def test_a_topic_mixing_formats_is_named_once_per_odd_format_at_its_first_row(tmp_path: Path) -> None:
+    # the topic's most common format is kept; each other format is told at its first row
+    text = rows(
+        "north-quay,population,2024-Q1,100",
+        "north-quay,population,2024-Q2,101",
+        "north-quay,population,2024-03,102",
+        "north-quay,population,2024,103",
+        "north-quay,population,2024-04,104",
+        "north-quay,recycling,2024,40",
+    )
+    found = problems_of(tmp_path, text)
+    assert [(p.row, p.column) for p in found] == [(4, "period"), (5, "period")]
+    assert all(p.message.startswith("topic 'population' mixes period formats: most of its rows are quarters "
+                                    "(like 2025-Q1) but this one is a ") for p in found)
+    assert "a month ('2024-03')" in found[0].message and "a year ('2024')" in found[1].message
+
+
+def test_topics_of_different_formats_share_one_file(tmp_path: Path) -> None:
+    text = rows(
+        "north-quay,recycling,2024,40",
+        "north-quay,recycling,2025,41",
+        "north-quay,population,2025-Q2,101",
+        "north-quay,population,2025-Q3,102",
+    )
+    data = load(tmp_path, text)
+    assert data.period_format == "mixed"
+    time = dict(zip(data.observations["period"], data.observations["time"]))
+    # each label keeps its own calendar (common practice: fractional years, as above)
+    assert time == {"2024": 2024.0, "2025": 2025.0, "2025-Q2": 2025.25, "2025-Q3": 2025.5}
+    assert data.latest_periods == {"year": "2025", "quarter": "2025-Q3"}
+    # one topic each: the tie goes to years, so the edition is named by its latest year
+    assert data.latest_period == "2025"
 
 
 @pytest.mark.parametrize("bad", ["24", "2024Q1", "2024-13", "2024-Q5", "FY2024"])
@@ -465,7 +501,7 @@ def test_an_xlsx_workbook_loads_the_same_as_the_csv_files(tmp_path: Path) -> Non
     pd.testing.assert_frame_equal(from_xlsx.observations, from_csv.observations)
     pd.testing.assert_frame_equal(from_xlsx.topics, from_csv.topics)
     pd.testing.assert_frame_equal(from_xlsx.entities, from_csv.entities)
-    assert from_xlsx.period_format == from_csv.period_format == "year"
+    assert from_xlsx.period_format == from_csv.period_format == "mixed"  # yearly topics and one quarterly
     assert from_xlsx.latest_period == "2025"
 
 
@@ -519,17 +555,20 @@ def test_an_xlsx_problem_names_the_workbook_and_sheet(tmp_path: Path) -> None:
 def test_the_demo_files_load() -> None:
     data = load_dataset(DEMO_FILES / "observations-2024.csv", DEMO_FILES / "topics.csv", DEMO_FILES / "entities.csv")
     # counted from the shipped files (seed_data/README.md: 14 towns in four groups and three districts,
-    # 12 indicators, and the key Larkholt is renamed to in the 2025 edition; the districts report
-    # population and recycling for 2020 to 2024)
+    # 12 yearly indicators and one quarterly, and the key Larkholt is renamed to in the 2025 edition;
+    # the districts report population and recycling for 2020 to 2024)
     assert len(data.entities) == 18
     towns = data.entities.loc[data.entities["parent"] != ""]
     assert len(towns) == 15 and set(towns["group"]) == {"Coast", "Estuary", "Uplands", "Islands"}
     assert set(towns["parent"]) == {"westreach", "eastmarch", "sound-isles"}
-    assert len(data.topics) == 12
-    assert len(data.observations) == 840 + 3 * 2 * 5
-    assert data.period_format == "year"
+    assert len(data.topics) == 13
+    # 12 yearly indicators, 14 towns x 5 years; the districts' two, 3 x 2 x 5; one quarterly,
+    # 14 towns x 11 quarters (2022-Q1 to 2024-Q3); the age-band rows are breakdowns, not totals
+    assert len(data.observations) == 14 * 5 * 12 + 3 * 2 * 5 + 14 * 11
+    assert data.period_format == "mixed"
     assert data.latest_period == "2024"
-    assert (data.observations["time"].min(), data.observations["time"].max()) == (2020.0, 2024.0)
+    assert data.latest_periods == {"year": "2024", "quarter": "2024-Q3"}
+    assert (data.observations["time"].min(), data.observations["time"].max()) == (2020.0, 2024.5)
     assert data.files == ["observations-2024.csv", "topics.csv", "entities.csv"]
 
 

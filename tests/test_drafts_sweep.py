@@ -54,9 +54,10 @@ def test_shown_evidence_appears_in_the_text(demo_drafts: list[dict]) -> None:
         if item["kind"] in ("standing", "change") and item["evidence"]["value"]["value"] is not None:
             assert item["evidence"]["value"]["shown"] in item["draft"], item["slot"]
             checked[item["kind"]] += 1
-    # 14 towns x 11 topics reported in 2025 (seed_data/README.md), every one with a value; plus
-    # standing/wrackhaven/paper-timetables, a gone slot kept for its note, with its 2024 figure
-    assert checked == {"standing": 14 * 11 + 1, "change": 14 * 11}
+    # 14 towns x 12 topics reported in 2025 (seed_data/README.md: 11 yearly, one quarterly) and the three
+    # districts' two indicators, every one with a value; plus standing/wrackhaven/paper-timetables, a gone
+    # slot kept for its note, with its 2024 figure
+    assert checked == {"standing": 14 * 12 + 3 * 2 + 1, "change": 14 * 12 + 3 * 2}
 
 
 # a zero change said as a rise or a fall: "a fall of 0.0%", "rose by 0", "down 0.0", "(0 tonnes)"

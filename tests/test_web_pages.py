@@ -249,7 +249,7 @@ def test_publish_page_shows_the_blocks_the_untraced_numbers_and_the_caution(clie
     with demo_ws.session() as s:  # a typed number no fact backs, in a statement that would be printed
         actions.rewrite(s, "standing/cairnbrook/recycling", "Cairnbrook recycled 61.2% of its waste.", by="editor")
     html = get(client, "/publish")
-    assert "13 statements wait in recheck" in html and f'href="/statements/{HERONSFORD}"' in html
+    assert "14 statements wait in recheck" in html and f'href="/statements/{HERONSFORD}"' in html
     assert "Numbers no fact backs" in html and "61.2%" in html
     # the stale rewrite of a statement in recheck is not printed, so its old figure is not audited
     assert "56.6%" not in html
@@ -502,12 +502,14 @@ def test_restoring_from_a_stale_page_is_a_conflict(client: FlaskClient, demo_ws:
 
 def test_entity_page_filters_by_status_and_offers_bulk_work(client: FlaskClient) -> None:
     html = get(client, "/entities/heronsford")
-    assert "Approve all 45 shown" in html and "Suppress all 45 shown" in html and "Annotate all 45 shown" in html
-    # 11 topics x (standing, change, trend, blurb) and the profile
-    assert '<label for="bulk-note">Note for all 45 shown</label>' in html and '<label for="f-status">' in html
+    assert "Approve all 49 shown" in html and "Suppress all 49 shown" in html and "Annotate all 49 shown" in html
+    # 12 topics x (standing, change, trend, blurb) and the profile
+    assert '<label for="bulk-note">Note for all 49 shown</label>' in html and '<label for="f-status">' in html
     html = get(client, "/entities/heronsford?status=recheck")
-    assert "1 of 45 statement" in html and "Approve all 1 shown" in html
-    assert re.findall(r'<a href="/statements/([^"]+)"><code>', html) == [HERONSFORD]
+    # the recycling change rewritten and approved, and the approved quarterly blurb (seed_data/README.md)
+    assert "2 of 49 statements" in html and "Approve all 2 shown" in html
+    assert sorted(re.findall(r'<a href="/statements/([^"]+)"><code>', html)) == sorted(
+        [HERONSFORD, "blurb/heronsford/library-visits"])
     assert "Approve all 1 shown" in get(client, "/topics/recycling?status=edited")
 
 
@@ -516,20 +518,20 @@ def test_bulk_approve_confirms_the_count_then_approves_exactly_those(client: Fla
                                                   "status": "draft"})
     assert response.status_code == 200
     html = response.get_data(as_text=True)
-    assert "<h1>Approve 44 statements?</h1>" in html and "Yes, approve all 44" in html
+    assert "<h1>Approve 47 statements?</h1>" in html and "Yes, approve all 47" in html
     assert "Proposed texts in recheck" not in html  # none of these is in recheck
     fields = form_fields(html, "/bulk/apply")
     slots = [v for n, v in fields if n == "slot"]
-    assert len(slots) == 44 and HERONSFORD not in slots
+    assert len(slots) == 47 and HERONSFORD not in slots
     with demo_ws.session() as s:
         assert all(v.slot.status == "draft"
                    for v in actions.views(s, ops.SlotFilter(entity="heronsford", status="draft")))
     response = client.post("/bulk/apply", data=_multi([(n, "reviewer" if n == "by" else v) for n, v in fields]))
     assert response.status_code == 303 and response.headers["Location"].endswith("/entities/heronsford?status=draft")
     html = get(client, "/entities/heronsford?status=draft")
-    assert "Approved 44 statements." in html and "No statements with this filter" in html
+    assert "Approved 47 statements." in html and "No statements with this filter" in html
     with demo_ws.session() as s:
-        assert ops.status_counts_by(s, "entity")["heronsford"] == {"approved": 44, "recheck": 1}
+        assert ops.status_counts_by(s, "entity")["heronsford"] == {"approved": 47, "recheck": 2}
         assert sorted(e.slot_id for e in ops.recent_events(s, 200) if e.action == "approve" and e.by == "reviewer"
                       and e.slot_id in slots) == sorted(slots)
 
@@ -556,9 +558,9 @@ def test_bulk_annotate_on_the_recheck_queue(client: FlaskClient, demo_ws: Worksp
 def test_bulk_approve_in_the_recheck_queue_says_proposals_are_not_taken(client: FlaskClient) -> None:
     html = client.post("/bulk/confirm", data={"action": "approve", "scope": "recheck", "reason": "numbers-changed"}
                        ).get_data(as_text=True)
-    # of the 10 whose numbers changed, the 5 whose claims the new data also contradict are left alone
+    # of the 11 whose numbers changed, the 6 whose claims the new data also contradict are left alone
     assert "<h1>Approve 5 statements?</h1>" in html and "Proposed texts in recheck are <em>not</em> taken" in html
-    assert "Left as they are (5)" in html and html.count("the new data contradict its claims") == 5
+    assert "Left as they are (6)" in html and html.count("the new data contradict its claims") == 6
 
 
 def test_bulk_annotate_needs_a_note(client: FlaskClient) -> None:

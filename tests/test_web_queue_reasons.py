@@ -89,11 +89,11 @@ def test_empty_diffs_are_hidden(client: FlaskClient) -> None:
 def test_approving_has_one_name_on_every_page(client: FlaskClient) -> None:
     html = get(client, "/recheck")
     assert "Approve as is" not in html
-    assert html.count(">Approve as it reads</button>") == 13  # every statement in the queue
+    assert html.count(">Approve as it reads</button>") == 14  # every statement in the queue
     assert f'aria-label="Approve as it reads: {HERONSFORD}"' in html  # the visible name starts the spoken one
-    assert "Approve all 13 shown as they read</button>" in html
+    assert "Approve all 14 shown as they read</button>" in html
     assert ">Approve as it reads</button>" in get(client, f"/statements/{HERONSFORD}")
     response = client.post("/bulk/confirm", data={"scope": "recheck", "action": "approve"})
     assert response.status_code == 200
     assert "as they read</button>" in response.get_data(as_text=True)
-    assert "Approve all 45 shown as they read</button>" in get(client, "/entities/heronsford")
+    assert "Approve all 49 shown as they read</button>" in get(client, "/entities/heronsford")

@@ -36,7 +36,8 @@ def init(workspace: Path | None) -> None:
               help="Topic metadata (CSV or XLSX).")
 @click.option("--entities", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
               help="Entity metadata (CSV or XLSX).")
-@click.option("--edition", "label", metavar="LABEL", help="Edition label (default: the latest period in the file).")
+@click.option("--edition", "label", metavar="LABEL",
+              help="Edition label (default: the latest period in the file, of the format most topics use).")
 @click.option("--renames", type=click.Path(dir_okay=False, path_type=Path), metavar="MAP",
               help="Renamed or merged entities (CSV, columns old,new): their human work moves to the new keys.")
 @click.option("--dry-run", is_flag=True, help="Show what the load would do; write nothing.")

@@ -28,15 +28,17 @@ PRINTED = {
     "standing": ("period", "status", "value", "value_revised_from", "rank", "rank_of", "place", "group_mean",
                  "group_gap", "target", "target_gap", "sibling_rank", "sibling_rank_of", "parent_ref",
                  "siblings_counted"),
-    "change": ("period", "value", "previous_period", "previous", "revised_from", "change"),
+    "change": ("period", "value", "previous_period", "previous", "revised_from", "change", "year_earlier_period",
+               "year_earlier", "year_earlier_change"),
     "trend": ("period", "value", "streak", "streak_since", "record_since"),
 }
 #: the average of all is printed only when there is no group to compare with
 _ALL_MEAN = ("all_mean", "all_gap")
 #: what the template reads of a part that a cell lacks
-_NO_CHANGE = {"state": "", "improved": False, "worsened": False, "prev_period": "", "revised": "", "evaluative": ""}
+_NO_CHANGE = {"state": "", "improved": False, "worsened": False, "prev_period": "", "revised": "", "evaluative": "",
+              "lead": "previous"}
 _NO_TREND = {"streak": 0, "record": "none", "since": "", "participle": "", "periods_word": "", "natural": True,
-             "run_since": ""}
+             "run_since": "", "season": ""}
 
 
 def stated(part: Candidate) -> bool:

@@ -3,9 +3,15 @@
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+import pandas as pd
 
 from stetline import phrasing
+from stetline.seasons import leading_changes
+
+if TYPE_CHECKING:
+    from stetline.drafting import Context
 
 #: fewer entities than this reporting a topic: no ranking is stated (a rank of 2 says little)
 MIN_RANKED = 3
@@ -88,3 +94,12 @@ def cell_wide(c: Any) -> bool:
     figures = [getattr(c, name, None) for name in ("value", "prev_value", "group_mean", "all_mean", "target",
                                                     "value_revised_from", "revised_from")]
     return any(x is not None and not missing(x) and abs(float(x)) >= 1_000_000 for x in figures)
+
+
+def with_leading_changes(ctx: Context) -> pd.DataFrame:
+    """The edition's cells with their change columns for the comparison that leads (the
+    ``compare_with`` setting for quarters and months; see seasons.leading_changes)."""
+    cells = ctx.facts.cells
+    lead = leading_changes(cells, ctx.facts.series, ctx.compare_with)
+    columns = [c for c in lead.columns if c != "topic"]
+    return cells.drop(columns=[c for c in columns if c in cells.columns]).join(lead[columns])

@@ -7,17 +7,20 @@ When no change can be compared (a first edition of data with a single period), i
 the edition covers instead. Claims: ``composite_leader`` (entity key or sorted keys), ``improving`` (topics where
 the majority improved, sorted), ``worsening`` (likewise), ``biggest_shift`` (a topic key, when
 the shift shows), ``data_check`` (entities that went against most others on most topics, sorted:
-said, and worth a check of the data; see kinds.patterns).
+said, and worth a check of the data; see kinds.patterns), ``compared_with`` (``year-earlier`` when
+quarterly or monthly indicators are counted against the same period a year earlier, as the
+``compare_with`` setting says; the statement then says so).
 """
 
 from __future__ import annotations
 
 from collections.abc import Iterator
 
-from stetline import phrasing
+from stetline import periods, phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
 from stetline.kinds import patterns
-from stetline.kinds.common import missing
+from stetline.kinds.common import missing, with_leading_changes
+from stetline.seasons import topic_moves
 
 KIND = "headline"
 PHRASINGS = 1
@@ -27,6 +30,15 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     """The one headline statement of the edition."""
     style = ctx.style
     t = ctx.facts.topics
+    lead = with_leading_changes(ctx)
+    if "depth" in lead:  # counted among the main level's entities, as the topic facts are (see nesting)
+        lead = lead.loc[lead["depth"] == ctx.facts.main_depth]
+    moves = topic_moves(lead)
+    seasonal = sorted(moves.index[moves["compared_with"] == "year-earlier"])
+    if seasonal:  # quarters and months counted against the same period a year earlier
+        t = t.copy()
+        for col in ("improved", "worsened", "compared", "mean_change"):
+            t.loc[seasonal, col] = moves.loc[seasonal, col]
     directed = t.loc[[ctx.topics[k]["better"] != "neutral" for k in t.index]]
     moved = directed["improved"] + directed["worsened"]
     improving = sorted(directed.index[(directed["improved"] * 2 > moved) & (moved > 0)])
@@ -61,6 +73,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         if phrasing.round_half_up(abs(mean), int(ctx.topics[topic]["decimals"])) != 0:
             shift_move, shift_label = ("up" if mean > 0 else "down"), ctx.the_label(topic)
             claims["biggest_shift"] = topic
+    if seasonal:
+        claims["compared_with"] = "year-earlier"
     against = patterns.exceptions_by_entity(ctx)  # who went against most others on most topics
     if against:
         claims["data_check"] = sorted(against)
@@ -72,7 +86,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         evidence["entities"] = ev(len(e), phrasing.count(len(e), style))
         evidence["all_topics"] = ev(len(t), phrasing.count(len(t), style))
     variables = {
-        "period": period, "nouns": ctx.entity_nouns, "shift_move": shift_move, "shift_label": shift_label,
+        "period": ctx.when(period), "period_adj": ctx.when(period, "adjective"),
+        "nouns": ctx.entity_nouns, "shift_move": shift_move, "shift_label": shift_label,
         "n_topics": len(directed),
         "leaders": ctx.names(leaders), "n_leaders": len(leaders),
         "against": ctx.names(sorted(against)), "n_against": len(against),
@@ -80,6 +95,17 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         "improving_labels": phrasing.join([ctx.the_label(k) for k in improving][:3], style),
         "n_improving": len(improving), "n_worsening": len(worsening),
         "compared": int(t["compared"].sum()), "n_entities": len(e),
+        "year_earlier_note": _year_earlier_note(ctx, seasonal),
         "entities_counted": ctx.of_n(len(e)), "topics_counted": phrasing.plural(len(t), "indicator", style),
     }
     yield Candidate(slot_id(KIND), KIND, None, None, evidence, claims, 1.0, variables)
+
+
+def _year_earlier_note(ctx: Context, seasonal: list[str]) -> str:
+    """Which indicators are compared with the same period a year earlier ("" when none are)."""
+    if not seasonal:
+        return ""
+    kinds = {periods.period_format(str(ctx.facts.topics.at[k, "period"])) for k in seasonal}
+    words = [w for f, w in (("quarter", "quarterly"), ("month", "monthly")) if f in kinds]
+    same = " or ".join(f for f in ("quarter", "month") if f in kinds)
+    return f"{' and '.join(words).capitalize()} indicators are compared with the same {same} a year earlier."

@@ -62,7 +62,7 @@ def _level(ctx: Context, level: str) -> Iterator[Candidate]:
         claims = {"leader": _claim(list(t["leaders"])), "laggard": _claim(list(t["laggards"]))}
         variables = {
             "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "the_label": ctx.the_label(topic),
-            "prep": ctx.preposition, "period": t["period"],
+            "prep": ctx.preposition, "period": ctx.when(t["period"]),
             "leaders": ctx.names(t["leaders"]), "laggards": ctx.names(t["laggards"]),
             "shared_top": len(t["leaders"]) > 1, "shared_bottom": len(t["laggards"]) > 1,
             "top": best_word(meta["better"], True), "bottom": best_word(meta["better"], False),

@@ -4,7 +4,9 @@ Held steady: the change itself, rounded as a change statement prints it, is zero
 rounded values compared), or it is not significant when margins are known. A count of zero is
 never printed; the biggest movers are named among those counted as moving. When at least
 three quarters of the entities that moved went the same way, the others are named as exceptions.
-Neutral topics count rises and falls instead.
+Neutral topics count rises and falls instead. A quarterly or monthly topic is compared as the
+``compare_with`` setting says (by default with the same period a year earlier; the previous
+period when no year-earlier figure is stated for any entity), and the statement names both periods.
 
 The average change of the entities compared is said here, once for the topic (in per cent when
 the topic's changes are relative, else in its own terms); when every exception is in one group,
@@ -12,7 +14,8 @@ that is said too ("all in the Coast group").
 
 Claims: ``majority`` (improved | worsened for directed topics, rose | fell for neutral ones, or
 mixed when neither side has more than half of those that moved), ``exceptions`` (sorted keys),
-``exceptions_group`` (the group every exception is in, when there are two or more).
+``exceptions_group`` (the group every exception is in, when there are two or more),
+``compared_with`` (``year-earlier``, only when a quarter or month is compared with a year earlier).
 """
 
 from __future__ import annotations
@@ -24,7 +27,7 @@ import pandas as pd
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, phrasing_index, topic_slot
-from stetline.kinds.common import MIN_RANKED, missing
+from stetline.kinds.common import MIN_RANKED, missing, with_leading_changes
 from stetline.words import others_count
 
 KIND = "movement"
@@ -64,7 +67,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
 def _level(ctx: Context, level: str) -> Iterator[Candidate]:
     """The statements of one level's entities (level: its slot token, empty for the main level)."""
     style = ctx.style
-    cells = ctx.facts.cells
+    cells = with_leading_changes(ctx)
     known = cells.loc[cells["change_known"]]
     by_topic = {topic: frame for topic, frame in known.groupby("topic")}
     for topic, t in ctx.facts.topics.iterrows():
@@ -119,8 +122,8 @@ def _level(ctx: Context, level: str) -> Iterator[Candidate]:
             top_down = None
         variables = {
             "label": ctx.label(topic), "lower_label": ctx.lower_label(topic), "the_label": ctx.the_label(topic),
-            "period": t["period"],
-            "prev_period": prev_period, "neutral": neutral, "words": words,
+            "period": ctx.when(t["period"]),
+            "prev_period": ctx.when(prev_period), "neutral": neutral, "words": words,
             "n_up": n_up, "n_down": n_down, "steady": steady, "nouns": ctx.of_n(len(frame)),
             "exceptions": ctx.names(exceptions), "n_exceptions": len(exceptions),
             "best_mover": "", "worst_mover": "", "prep": ctx.preposition, "exceptions_group": "",
@@ -141,5 +144,7 @@ def _level(ctx: Context, level: str) -> Iterator[Candidate]:
             variables["exceptions_group"] = groups.pop()
             claims["exceptions_group"] = variables["exceptions_group"]
         average_move(ctx, topic, frame, evidence, variables)
+        if (frame["compared_with"] == "year-earlier").any():  # said only when it is not the previous period
+            claims["compared_with"] = "year-earlier"
         interest = 0.5 + (0.2 if majority != "mixed" and not missing(majority) else 0.0)
         yield Candidate(topic_slot(KIND, topic, level), KIND, None, topic, evidence, claims, interest, variables)

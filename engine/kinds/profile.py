@@ -17,6 +17,9 @@ Claims: ``strongest`` and ``weakest`` (topic keys: the first in file order of th
 worst placing), ``composite_band`` (the quarter of the composite ranking: top | upper | lower |
 bottom), ``data_check`` (the topics where it was an exception, when that is a pattern; worth a
 check of the data before publication).
+
+The biggest moves of a quarterly or monthly topic follow the ``compare_with`` setting: against the
+same period a year earlier by default, which the statement names ("down 4.1% on the third quarter of 2024").
 """
 
 from __future__ import annotations
@@ -27,8 +30,9 @@ import pandas as pd
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
+from stetline.facts import biggest_moves
 from stetline.kinds import patterns
-from stetline.kinds.common import MIN_RANKED, band, missing, rank_phrase
+from stetline.kinds.common import MIN_RANKED, band, missing, rank_phrase, with_leading_changes
 
 KIND = "profile"
 PHRASINGS = 3
@@ -65,9 +69,13 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     placings = _placings(ctx)
     position = {t: int(m.get("position", 0)) for t, m in ctx.topics.items()}
     composite_ties = ctx.facts.entities[["depth", "composite_rank"]].value_counts().to_dict()
-    moves = ctx.facts.cells.set_index(["entity", "topic"])[["change", "prev_value"]]
+    lead = with_leading_changes(ctx)
+    moves = lead.set_index(["entity", "topic"])[["change", "prev_value", "prev_period", "compared_with"]]
     against = patterns.exceptions_by_entity(ctx)
-    for entity, e in ctx.facts.entities.iterrows():
+    entities = ctx.facts.entities
+    if (lead["compared_with"] == "year-earlier").any():  # quarters and months as the compare_with setting says
+        entities = entities.drop(columns=["improvement", "setback"]).join(biggest_moves(lead))
+    for entity, e in entities.iterrows():
         key = str(entity)
         rows = placings.get(key)
         if rows is None or rows.empty or missing(e["composite"]):
@@ -97,19 +105,23 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "composite_band": band(rank, of) if of >= MIN_RANKED else None,
         }
         variables = {
-            "name": ctx.name(key), "period": period, "nouns": ctx.of_level(of, depth),
+            "name": ctx.name(key), "period": ctx.when(period), "nouns": ctx.of_level(of, depth),
             "same": top_p == bottom_p, "ranked_count": total, "ranked_topics": phrasing.count(total, style),
             "best_topics": best_topics, "worst_topics": worst_topics,
             "topics_used": phrasing.plural(int(e["composite_topics"]), "indicator", style),
             "improvement": "" if missing(e["improvement"]) else ctx.the_label(str(e["improvement"])),
             "setback": "" if missing(e["setback"]) else ctx.the_label(str(e["setback"])),
-            "improvement_up": False, "setback_down": False,
+            "improvement_up": False, "setback_down": False, "improvement_since": "", "setback_since": "",
         }
         for which in ("improvement", "setback"):
             if not missing(e[which]):
                 move = moves.loc[(key, str(e[which]))]
                 size = ctx.change_size(str(e[which]), float(move["change"]), float(move["prev_value"]))
                 evidence[f"{which}_change"] = ev(float(move["change"]), size)
+                if move["compared_with"] == "year-earlier":  # the period it is measured on is a fact it prints
+                    since = str(move["prev_period"])
+                    evidence[f"{which}_since"] = ev(since, ctx.when(since))
+                    variables[f"{which}_since"] = f" on {ctx.when(since)}"
                 variables["improvement_up" if which == "improvement" else "setback_down"] = (
                     float(move["change"]) > 0 if which == "improvement" else float(move["change"]) < 0)
         variables.update(pattern="", pattern_all=False, nouns_all=ctx.entity_nouns)

@@ -112,7 +112,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         claims: dict[str, object] = {"rank_band": None, "vs_group": None, "target": "none"}
         variables: dict[str, object] = {
             "name": ctx.name(c.entity), "label": ctx.label(c.topic), "lower_label": ctx.lower_label(c.topic),
-            "the_label": ctx.the_label(c.topic), "prep": prep, "period": c.period, "caveat": caveat(c.status),
+            "the_label": ctx.the_label(c.topic), "prep": prep, "period": ctx.when(c.period),
+            "period_adj": ctx.when(c.period, "adjective"), "caveat": caveat(c.status),
             "state": c.status,
             "ranked": False, "rank_text": "", "group_text": "", "target_text": "", "parent_text": "",
             "now_revised": "",

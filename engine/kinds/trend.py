@@ -6,26 +6,43 @@ with the period the run started from ("at each of the last three readings, since
 whether the latest value is the highest or lowest since some earlier period, and the yearly rate
 since the start of the series (or its last break), over the real time between the periods: the
 compound annual growth rate for counts and amounts, the average yearly change in percentage
-points for percentages. A step is judged on its change as it would print; a break in series, a
+points for percentages. A quarter or a month sets a record only against the same quarter or month
+of earlier years ("the highest third quarter since 2019"; seasons.py), read back year by year
+until a year without a usable figure. A step is judged on its change as it would print; a break in series, a
 missing value or a gap wider than the topic's usual spacing ends a run.
 
 Claims: ``streak`` ("improved:3", "worsened:2", "rose:4", "fell:2" for runs of two or more
 periods; "improved:3:readings" when counted in readings; else "none"), ``record``
-("highest-on-record", "lowest-on-record", "highest-since:2021", "lowest-since:2021" or "none").
+("highest-on-record", "lowest-on-record", "highest-since:2021", "lowest-since:2021" or "none"; for
+quarters and months against the same season: "highest-since:2019-Q3").
 """
 
 from __future__ import annotations
 
 from collections.abc import Iterator
 
-from stetline import phrasing
+import pandas as pd
+
+from stetline import periods, phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
 from stetline.facts import trend_facts
 from stetline.kinds.common import caveat, cell_wide, missing
+from stetline.seasons import season_records
 
 KIND = "trend"
 PHRASINGS = 2
 MIN_POINTS = 3  # a trend needs at least three values
+
+
+def _labels_by_format(series: pd.DataFrame) -> dict[str, dict[float, str]]:
+    """The label of each time, per period format (a workspace's topics may differ: 2025.0 is "2025"
+    in a yearly topic and "2025-Q1" in a quarterly one)."""
+    pairs = series[["time", "period"]].drop_duplicates()
+    kinds = periods.classify(pairs["period"].astype("str"))
+    out: dict[str, dict[float, str]] = {}
+    for kind, time, label in zip(kinds, pairs["time"], pairs["period"]):
+        out.setdefault(str(kind), {})[float(time)] = str(label)
+    return out
 
 
 def _period_word(period: str, n: int, natural: bool) -> str:
@@ -39,12 +56,15 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     style = ctx.style
     cells = ctx.facts.cells
     trends = trend_facts(cells, ctx.facts.series)
-    labels = dict(zip(ctx.facts.series["time"], ctx.facts.series["period"]))
-    for c, t in zip(cells.itertuples(index=False), trends.itertuples(index=False)):
+    by_format = _labels_by_format(ctx.facts.series)
+    seasons = season_records(cells, ctx.facts.series)
+    for c, t, r in zip(cells.itertuples(index=False), trends.itertuples(index=False),
+                       seasons.itertuples(index=False)):
         if not c.usable or missing(t.points) or int(t.points) < MIN_POINTS:
             continue
         meta = ctx.topics[c.topic]
         wide = cell_wide(c) or ctx.wide(t.first_value)  # one form for the figures of a statement
+        labels = by_format.get(periods.period_format(str(c.period)) or "", {})
         neutral = c.better == "neutral"
         value = float(c.value)
         streak = 0 if missing(t.streak) else int(t.streak)
@@ -54,7 +74,10 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         record = "none"
         since = ""
         prev_time = None if missing(c.prev_time) else float(c.prev_time)
-        if missing(t.higher_before):
+        season = ctx.when(c.period, "season")
+        if season:
+            record, since = _season_record(r, float(c.time), labels)
+        elif missing(t.higher_before):
             record, since = "highest-on-record", str(t.first_period)
         elif missing(t.lower_before):
             record, since = "lowest-on-record", str(t.first_period)
@@ -73,6 +96,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         }
         if since:
             evidence["record_since"] = ev(since, since)
+            since = since[:4] if season else ctx.when(since)  # a season's record names the year only
         years = float(c.time) - float(t.first_time)
         rate_text = ""
         if years > 0:
@@ -107,13 +131,35 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         variables = {
             "name": ctx.name(c.entity), "prep": ctx.preposition, "label": ctx.label(c.topic),
             "lower_label": ctx.lower_label(c.topic),
-            "period": c.period, "caveat": caveat(c.status), "streak": streak, "streak_word": word,
+            "period": ctx.when(c.period), "caveat": caveat(c.status), "streak": streak, "streak_word": word,
             "periods_word": _period_word(str(c.period), streak, natural), "natural": natural,
-            "run_since": run_since,
+            "run_since": ctx.when(run_since), "season": season,
             "participle": {"rose": "risen", "fell": "fallen"}.get(word, word),
             "record": record.split(":")[0], "since": since, "rate_text": rate_text,
-            "first_period": t.first_period,
+            "first_period": ctx.when(t.first_period),
         }
         interest = 0.25 + 0.05 * min(streak, 5) + (0.25 if record != "none" else 0.0)
         yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest,
                         variables)
+
+
+def _season_record(r: object, now: float, labels: dict[float, str]) -> tuple[str, str]:
+    """The record a quarter or a month sets against the same season of earlier years, and the period it names.
+
+    On record: higher (lower) than every earlier reading of its season, at least two, back to the
+    first; "since": higher (lower) than the year before at least, up to a reading at or above
+    (below) it, all years between them having a figure. Else none.
+    """
+    readings = int(getattr(r, "season_readings"))
+    higher, lower = getattr(r, "season_higher"), getattr(r, "season_lower")
+    complete = bool(getattr(r, "season_complete"))
+    first = getattr(r, "season_first")
+    if readings >= 2 and complete and missing(higher):
+        return "highest-on-record", labels.get(float(first), "")
+    if readings >= 2 and complete and missing(lower):
+        return "lowest-on-record", labels.get(float(first), "")
+    if not missing(higher) and float(higher) < now - 1.5:
+        return f"highest-since:{labels.get(float(higher), '')}", labels.get(float(higher), "")
+    if not missing(lower) and float(lower) < now - 1.5:
+        return f"lowest-since:{labels.get(float(lower), '')}", labels.get(float(lower), "")
+    return "none", ""

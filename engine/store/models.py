@@ -59,6 +59,18 @@ class Edition(Base):
     observations: Mapped[int] = mapped_column(default=0)
     summary: Mapped[dict[str, Any]] = mapped_column(JSON, default=dict)
 
+    @property
+    def periods_shown(self) -> str:
+        """The edition's latest period, with the latest of each other format its topics use
+        ("2025 (quarterly topics to 2025-Q3)"); editions loaded before this was kept show the one."""
+        latest = dict((self.summary or {}).get("latest_periods") or {})
+        others = [f"{_FORMAT_WORDS.get(k, k)} topics to {v}" for k, v in latest.items() if v != self.latest_period]
+        return f"{self.latest_period} ({'; '.join(others)})" if others else self.latest_period
+
+
+#: how a period format is named before "topics" on the pages that list editions
+_FORMAT_WORDS = {"year": "yearly", "quarter": "quarterly", "month": "monthly"}
+
 
 class Entity(Base):
     """A thing the report describes: the metadata as last loaded."""
