@@ -40,6 +40,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     cells = ctx.facts.cells
     trends = trend_facts(cells, ctx.facts.series)
     labels = dict(zip(ctx.facts.series["time"], ctx.facts.series["period"]))
+    ctx.write_values(cells["topic"], trends["first_value"])  # the series' first values, a column at a time
     for c, t in zip(cells.itertuples(index=False), trends.itertuples(index=False)):
         if not c.usable or missing(t.points) or int(t.points) < MIN_POINTS:
             continue
