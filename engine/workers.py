@@ -34,6 +34,8 @@ from stetline.rendering import Renderer
 #: fewer entity × topic cells than this draft in one process unless STETLINE_WORKERS says otherwise
 PARALLEL_FROM = 5_000
 WORKERS_ENV = "STETLINE_WORKERS"
+#: a worker pickles its drafts this many rows at a time (one pickle per row costs ten times the CPU)
+_ROWS_A_PICKLE = 1_000
 #: one process reports drafting progress every this many statements
 _REPORT_EVERY = 2_000
 
@@ -142,15 +144,20 @@ def _draft_kind(index: int, folder: str) -> str:
     """Draft one kind in a worker into a file of the load's own temporary folder; the file's path.
 
     The drafts go as rows (their JSON already made), pickled one after another as they are drafted,
-    so neither the worker nor the loading process ever holds a kind's drafts as one message (a list
-    of rows and its pickle at once took several times the memory of the drafts).
+    a thousand at a time, so neither the worker nor the loading process ever holds a kind's drafts
+    as one message (a list of rows and its pickle at once took several times the memory of the drafts).
     """
     ctx = _worker["ctx"]
     kind = chosen(ctx.kinds)[index]
     path = Path(folder) / f"{index}-{kind.KIND}.drafts"
     with path.open("wb") as out:
+        rows: list[tuple[Any, ...]] = []
         for d in draft_all(ctx, _worker["renderer"], [kind]):
-            pickle.dump(d.to_row(), out, pickle.HIGHEST_PROTOCOL)
+            rows.append(d.to_row())
+            if len(rows) == _ROWS_A_PICKLE:
+                pickle.dump(rows, out, pickle.HIGHEST_PROTOCOL)
+                rows = []
+        pickle.dump(rows, out, pickle.HIGHEST_PROTOCOL)
     return str(path)
 
 
@@ -159,6 +166,7 @@ def _rows_of(path: Path) -> Iterator[tuple[Any, ...]]:
     with path.open("rb") as stream:
         while True:
             try:
-                yield pickle.load(stream)
+                rows = pickle.load(stream)
             except EOFError:
                 return
+            yield from rows
