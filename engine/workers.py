@@ -135,7 +135,8 @@ def _start_method() -> str:
 
 def _start(ctx: Context, phrasing_dir: Path | None) -> None:
     """Set a worker up: the context and the compiled templates, kept for every kind it drafts."""
-    gc.disable()  # as in the load itself: many small objects, almost no cycles
+    gc.disable()  # as in the load itself: many small objects; the few cycles are collected per chunk
+    gc.freeze()  # what the worker inherits is never scanned (its pages stay shared with the loading process)
     _worker["ctx"] = ctx
     _worker["renderer"] = Renderer(ctx.style, phrasing_dir)
 
@@ -157,6 +158,7 @@ def _draft_kind(index: int, folder: str) -> str:
             if len(rows) == _ROWS_A_PICKLE:
                 pickle.dump(rows, out, pickle.HIGHEST_PROTOCOL)
                 rows = []
+                gc.collect(0)  # the reference cycles each render leaves (Jinja2's contexts): freed, not kept
         pickle.dump(rows, out, pickle.HIGHEST_PROTOCOL)
     return str(path)
 
