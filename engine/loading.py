@@ -309,7 +309,7 @@ def _reconcile_as_drafted(
     drafts = sorted(ops.current_drafts(session, human), key=_draft_position(topics, entities))
     composed = {d.kind for d in drafts if d.kind in COMPOSED}
     if composed:  # a composed draft is judged on facts it may not state: the stored draft lacks them
-        facts = composed_facts(ctx, composed)
+        facts = composed_facts(ctx, composed, {d.slot for d in drafts if d.kind in COMPOSED})
         for d in drafts:
             d.facts = facts.get(d.slot) if d.kind in COMPOSED else None
     decisions, by_slot = reconcile(human, drafts)
