@@ -216,6 +216,9 @@ class Context:
     _of_n: dict[int, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _lower_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     _period_names: dict[tuple[str, str], str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    _the_labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    _labels: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
+    _names: dict[str, str] = field(default_factory=dict, init=False, repr=False, compare=False)
     # the candidates of part kinds that composed kinds read, kept while one drafting pass runs
     _kept: dict[str, list[Candidate]] = field(default_factory=dict, init=False, repr=False, compare=False)
     # the part kinds a drafting pass reads more than once (the others are read as they come)
@@ -290,8 +293,12 @@ class Context:
 
     def name(self, entity: str) -> str:
         """An entity's name mid-sentence, with "the" where it needs one ("the Netherlands")."""
-        meta = self.entities.get(entity, {})
-        return phrasing.name_in_sentence(str(meta.get("name", entity)), str(meta.get("article") or ""))
+        shown = self._names.get(entity)
+        if shown is None:
+            meta = self.entities.get(entity, {})
+            shown = phrasing.name_in_sentence(str(meta.get("name", entity)), str(meta.get("article") or ""))
+            self._names[entity] = shown
+        return shown
 
     def names(self, keys: Iterable[str]) -> str:
         """'A, B and C' of entity names (semicolons when a name holds a comma; long lists capped)."""
@@ -313,15 +320,21 @@ class Context:
 
     def the_label(self, topic: str) -> str:
         """A topic's label mid-sentence as a noun phrase: "the vacancy rate", "life expectancy"."""
-        meta = self.topics[topic]
-        chosen = str(meta.get("article") or "").strip().lower()
-        bare = self.lower_label(topic)
-        wants_the = chosen == "the" if chosen else phrasing.needs_the(bare)
-        return f"the {bare}" if wants_the else bare
+        shown = self._the_labels.get(topic)
+        if shown is None:
+            meta = self.topics[topic]
+            chosen = str(meta.get("article") or "").strip().lower()
+            bare = self.lower_label(topic)
+            wants_the = chosen == "the" if chosen else phrasing.needs_the(bare)
+            shown = self._the_labels[topic] = f"the {bare}" if wants_the else bare
+        return shown
 
     def label(self, topic: str) -> str:
         """A topic's label for the start of a sentence: "The vacancy rate", "Life expectancy"."""
-        return phrasing.capitalise(self.the_label(topic))
+        shown = self._labels.get(topic)
+        if shown is None:
+            shown = self._labels[topic] = phrasing.capitalise(self.the_label(topic))
+        return shown
 
     def change_size(self, topic: str, x: float, previous: float | None) -> str:
         """The size of a change in the unit the topic's `change` column asks for (see figures.change_size)."""
@@ -381,16 +394,23 @@ class Context:
         values = [c for c in ("value", "prev_value", "group_mean", "all_mean", "target") if c in cells.columns]
         amounts = [c for c in ("group_gap", "all_gap", "change") if c in cells.columns]
         for topic, rows in cells.groupby("topic", sort=False)[values + amounts]:
-            meta = self.topics.get(str(topic))
-            if meta is None:
-                continue
-            unit, decimals = str(meta["unit"]), int(meta["decimals"])
-            for columns, cache, write in ((values, self._values_shown, figures.values_shown),
-                                          (amounts, self._amounts_shown, figures.amounts_shown)):
-                xs = pd.unique(rows[columns].to_numpy(dtype="float64").ravel())
-                xs = [x for x in xs.tolist() if x == x and (str(topic), x, False) not in cache]
-                for x, shown in zip(xs, write(xs, unit, decimals, self.style)):
-                    cache[(str(topic), x, False)] = shown
+            self._write(str(topic), rows[values], self._values_shown, figures.values_shown)
+            self._write(str(topic), rows[amounts], self._amounts_shown, figures.amounts_shown)
+
+    def write_values(self, topics: Any, values: Any) -> None:
+        """Write more values of the cells' topics column by column (as write_columns does), e.g. a series' first."""
+        frame = pd.DataFrame({"topic": list(topics), "x": pd.to_numeric(pd.Series(list(values)), errors="coerce")})
+        for topic, rows in frame.groupby("topic", sort=False)[["x"]]:
+            self._write(str(topic), rows, self._values_shown, figures.values_shown)
+
+    def _write(self, topic: str, rows: pd.DataFrame, cache: dict[tuple[str, float, bool], str], write: Any) -> None:
+        meta = self.topics.get(topic)
+        if meta is None:
+            return
+        xs = pd.unique(rows.to_numpy(dtype="float64").ravel())
+        xs = [x for x in xs.tolist() if x == x and (topic, x, False) not in cache]
+        for x, shown in zip(xs, write(xs, str(meta["unit"]), int(meta["decimals"]), self.style)):
+            cache[(topic, x, False)] = shown
 
 
 def draft_all(ctx: Context, renderer: Renderer, kinds: Iterable[Any]) -> Iterator[Draft]:

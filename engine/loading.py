@@ -33,13 +33,13 @@ from stetline.facts import compute_facts
 from stetline.kinds import COMPOSED, KINDS, composed_facts
 from stetline.loadsummary import LoadSummary, count_unrenderable, summarise
 from stetline.progress import Progress, no_progress
-from stetline.reconcile import Decision, SlotState, reconcile
+from stetline.reconcile import Decision, SlotState, reconcile, reconcile_drafted, reconcile_gone
 from stetline.slotstatus import house_style, recheck_unrenderable
 from stetline.store import ops
 from stetline.store.models import Draft as DraftRow
 from stetline.store.models import Edition, Observation
 from stetline.store.models import Slot as SlotRow
-from stetline.workers import draft_kinds, worker_count
+from stetline.workers import draft_each_kind, draft_kinds, worker_count
 from stetline.workspace import Workspace
 
 _GC_LOCK = threading.Lock()
@@ -210,9 +210,12 @@ def load_edition(
                               dataset.breakdowns)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
+        streamed = False
         if mapping is None and current is not None and (current.summary or {}).get(DRAFTED_FROM) == inputs:
             progress("reconciling", 0, None)
             decisions, by_slot, drafted = _reconcile_as_drafted(session, states, dataset.topics, dataset.entities, ctx)
+        elif mapping is None and not dry_run:  # drafted, reconciled and written a kind at a time, below
+            streamed, decisions, by_slot, drafted = True, [], {}, set()
         else:
             drafts = draft_context(ws, ctx, progress)
             progress("reconciling", 0, len(drafts))
@@ -225,10 +228,11 @@ def load_edition(
             del drafts
             drafted = by_slot.keys()
         ctx_kinds = ctx.kinds
-        del ctx
         summary = LoadSummary(edition_label, dry_run=dry_run, moved=plan.lines() if plan else [])
         summary.breakdowns_off, summary.suggested_kinds = breakdowns.unused(dataset.breakdowns, ctx_kinds)
-        summarise(summary, decisions, drafted, states)
+        if not streamed:
+            del ctx
+            summarise(summary, decisions, drafted, states)
         if dry_run:
             session.rollback()
             return summary
@@ -241,13 +245,19 @@ def load_edition(
         ops.replace_metadata(session, dataset.topics, dataset.entities)
         # a first load inserts into empty tables: their indexes are built once the rows are in
         with ops.indexes_deferred(session, (SlotRow, DraftRow, Observation)) as deferred:
-            progress("writing statements", 0, len(decisions))
+            if not streamed:  # a streamed load reports drafting as it writes
+                progress("writing statements", 0, len(decisions))
             if plan is not None:
                 rename_mod.record(session, plan, edition.id, by)
-            ops.apply_decisions(session, edition.id, decisions, by_slot, by)
+            if streamed:
+                decisions, drafted = _write_as_drafted(ws, session, ctx, states, edition.id, by, progress)
+                del ctx
+                summarise(summary, decisions, drafted, states)
+            else:
+                ops.apply_decisions(session, edition.id, decisions, by_slot, by)
             if plan is not None:
                 rename_mod.move(session, plan)
-            del decisions, by_slot, states  # the drafts are written: free them before the observations
+            del decisions, by_slot, states, drafted  # the drafts are written: free them before the observations
             count_unrenderable(summary, recheck_unrenderable(session, by=by))
             progress("writing observations", 0, len(dataset.observations))
             written = ops.store_observations(session, edition.id, dataset.observations, stored)
@@ -260,6 +270,30 @@ def load_edition(
         edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs, LATEST_PERIODS: dataset.latest_periods}
         ops.add_event(session, by, "load", edition_id=edition.id, detail=summary.to_json())
     return summary
+
+
+def _write_as_drafted(ws: Workspace, session: Session, ctx: Context, states: dict[str, SlotState], edition_id: int,
+                      by: str, progress: Progress) -> tuple[list[Decision], set[str]]:
+    """Draft, reconcile and write a kind at a time, so no more than a kind or two of drafts is held at once.
+
+    The same decisions, in the same order, and the same rows as reconciling every draft at once
+    (reconcile.reconcile), then the slots no draft came for. Returns the decisions and the slots drafted.
+    """
+    decisions: list[Decision] = []
+    drafted: set[str] = set()
+    versions = ops.slot_versions(session)
+    for batch in draft_each_kind(ctx, ws.phrasing_dir, worker_count(len(ctx.facts.cells)), progress):
+        some, by_slot = reconcile_drafted(states, batch)
+        del batch
+        ops.apply_decisions(session, edition_id, some, by_slot, by, versions)
+        decisions += some
+        drafted.update(by_slot)
+        del some, by_slot
+    progress("reconciling", 0, len(drafted))  # the slots no draft came for
+    gone = reconcile_gone(states, drafted)
+    progress("writing statements", len(decisions), len(decisions) + len(gone))
+    ops.apply_decisions(session, edition_id, gone, {}, by, versions)
+    return decisions + gone, drafted
 
 
 def _reconcile_as_drafted(
@@ -277,7 +311,7 @@ def _reconcile_as_drafted(
     drafts = sorted(ops.current_drafts(session, human), key=_draft_position(topics, entities))
     composed = {d.kind for d in drafts if d.kind in COMPOSED}
     if composed:  # a composed draft is judged on facts it may not state: the stored draft lacks them
-        facts = composed_facts(ctx, composed)
+        facts = composed_facts(ctx, composed, {d.slot for d in drafts if d.kind in COMPOSED})
         for d in drafts:
             d.facts = facts.get(d.slot) if d.kind in COMPOSED else None
     decisions, by_slot = reconcile(human, drafts)
@@ -326,15 +360,10 @@ def redraft(ws: Workspace, *, by: str, progress: Progress = no_progress) -> Load
         ctx = edition_context(session, obs, topics, entities, earlier, edition.label, subgroups)
         inputs = drafting_inputs(ws, ctx)
         states = ops.slot_states(session)
-        drafts = draft_context(ws, ctx, progress)
+        decisions, drafted = _write_as_drafted(ws, session, ctx, states, edition.id, by, progress)
         del ctx
-        progress("reconciling", 0, len(drafts))
-        decisions, by_slot = reconcile(states, drafts)
-        del drafts
         summary = LoadSummary(edition.label)
-        summarise(summary, decisions, by_slot.keys(), states)
-        progress("writing statements", 0, len(decisions))
-        ops.apply_decisions(session, edition.id, decisions, by_slot, by)
+        summarise(summary, decisions, drafted, states)
         count_unrenderable(summary, recheck_unrenderable(session, by=by))
         session.flush()
         summary.totals = ops.workspace_counts(session).totals()

@@ -8,7 +8,7 @@ only digits below display precision moved. No I/O happens here; nothing is ever 
 
 from __future__ import annotations
 
-from collections.abc import Iterable
+from collections.abc import Collection, Iterable
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -226,6 +226,12 @@ def _needs_rebase(rebase: list[HumanWork], draft: Draft) -> bool:
 
 def reconcile(states: dict[str, SlotState], drafts: Iterable[Draft]) -> tuple[list[Decision], dict[str, Draft]]:
     """Decide every slot of a refresh; returns the decisions and the drafts by slot id."""
+    decisions, by_slot = reconcile_drafted(states, drafts)
+    return decisions + reconcile_gone(states, by_slot.keys()), by_slot
+
+
+def reconcile_drafted(states: dict[str, SlotState], drafts: Iterable[Draft]) -> tuple[list[Decision], dict[str, Draft]]:
+    """Decide the slots of some drafts (a refresh may pass them a kind at a time); decisions and drafts by slot."""
     by_slot: dict[str, Draft] = {}
     decisions: list[Decision] = []
     for draft in drafts:
@@ -233,9 +239,15 @@ def reconcile(states: dict[str, SlotState], drafts: Iterable[Draft]) -> tuple[li
         decision = decide(states.get(draft.slot), draft)
         if decision is not None:
             decisions.append(decision)
+    return decisions, by_slot
+
+
+def reconcile_gone(states: dict[str, SlotState], drafted: Collection[str]) -> list[Decision]:
+    """Decide the slots no draft of this refresh has (``drafted``: every slot drafted)."""
+    decisions: list[Decision] = []
     for slot, state in states.items():
-        if slot not in by_slot:
+        if slot not in drafted:
             decision = decide(state, None)
             if decision is not None:
                 decisions.append(decision)
-    return decisions, by_slot
+    return decisions

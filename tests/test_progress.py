@@ -76,10 +76,10 @@ def test_the_data_page_shows_the_running_load_and_stays_usable(demo_ws: Workspac
     app: Flask = create_app(demo_ws, {"TESTING": True, "WTF_CSRF_ENABLED": False})
     loader, watcher = app.test_client(), app.test_client()
     seen: dict[str, Any] = {}
-    original = loading.draft_kinds
+    original = loading.draft_each_kind
 
     def drafting_while_someone_looks(*args: Any, **kwargs: Any) -> Any:
-        drafts = original(*args, **kwargs)
+        drafts = list(original(*args, **kwargs))  # every kind drafted, none written yet
 
         def look() -> None:  # another person's request, served while the load runs
             page = watcher.get("/data")
@@ -91,7 +91,7 @@ def test_the_data_page_shows_the_running_load_and_stays_usable(demo_ws: Workspac
         thread.join(timeout=60)
         return drafts
 
-    monkeypatch.setattr(loading, "draft_kinds", drafting_while_someone_looks)
+    monkeypatch.setattr(loading, "draft_each_kind", drafting_while_someone_looks)
     html = upload(loader, {"observations": (revised_2025(), "observations-2025-revised.csv")}, by="Ada").get_data(
         as_text=True)
     token = dict(form_fields(html, "/data/load"))["token"]

@@ -6,6 +6,7 @@ and ``candidates(ctx)``, which yields the slots it drafts with their evidence an
 
 from __future__ import annotations
 
+from collections.abc import Collection
 from pathlib import Path
 from types import ModuleType
 from typing import Any
@@ -36,10 +37,13 @@ BY_NAME = {k.KIND: k for k in KINDS}
 COMPOSED = ("blurb", "roundup")
 
 
-def composed_facts(ctx: Context, kinds: set[str]) -> dict[str, dict[str, Any]]:
-    """Every fact, stated or not, of the composed statements of some kinds, by slot (no text rendered)."""
+def composed_facts(ctx: Context, kinds: set[str], slots: Collection[str] | None = None) -> dict[str, dict[str, Any]]:
+    """Every fact, stated or not, of the composed statements of some kinds, by slot (no text rendered).
+
+    ``slots``: only these slots' facts are kept (a no-op refresh needs those with human work alone).
+    """
     return {c.slot: c.facts for name in sorted(kinds & set(COMPOSED)) for c in BY_NAME[name].candidates(ctx)
-            if c.facts is not None}
+            if c.facts is not None and (slots is None or c.slot in slots)}
 
 
 def chosen(names: tuple[str, ...] | list[str]) -> tuple[ModuleType, ...]:

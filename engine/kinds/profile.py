@@ -25,8 +25,7 @@ same period a year earlier by default, which the statement names ("down 4.1% on 
 from __future__ import annotations
 
 from collections.abc import Iterator
-
-import pandas as pd
+from typing import NamedTuple
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
@@ -40,21 +39,43 @@ PHRASINGS = 3
 NAMED_TOPICS = 3
 
 
-def _placings(ctx: Context) -> dict[str, pd.DataFrame]:
-    """Each entity's ranked, directed topics with their rank, how many share it and the percentile."""
+class _Placed(NamedTuple):
+    """One ranked, directed topic of an entity: its rank, how many share it and its percentile."""
+
+    topic: str
+    rank: float
+    rank_of: float
+    tied: int
+    better: str
+    depth: int
+    percentile: float
+
+
+def _placings(ctx: Context) -> dict[str, list[_Placed]]:
+    """Each entity's ranked, directed topics, best placing first (then file order), in one pass over the cells."""
     cells = ctx.facts.cells
     ranked = cells.loc[(cells["better"] != "neutral") & cells["rank"].notna() & (cells["rank_of"] >= MIN_RANKED)]
-    ranked = ranked.assign(tied=ranked.groupby(["topic", "depth", "rank"])["entity"].transform("size"))
-    return {str(k): g for k, g in ranked.groupby("entity", sort=False)}
+    position = {t: int(m.get("position", 0)) for t, m in ctx.topics.items()}
+    ranked = ranked.assign(tied=ranked.groupby(["topic", "depth", "rank"])["entity"].transform("size"),
+                           order=ranked["topic"].map(position))
+    # a stable sort keeps each entity's rows in the order its own sort would give them
+    ranked = ranked.sort_values(["percentile", "order"], ascending=[False, True])
+    out: dict[str, list[_Placed]] = {}
+    columns = [ranked[c].tolist() for c in ("entity", "topic", "rank", "rank_of", "tied", "better", "depth",
+                                            "percentile")]
+    for entity, topic, rank, of, tied, better, depth, percentile in zip(*columns):
+        out.setdefault(str(entity), []).append(
+            _Placed(str(topic), rank, of, int(tied), str(better), int(depth), percentile))
+    return out
 
 
-def _placing(ctx: Context, rows: pd.DataFrame, total: int, said_of: int = 0) -> tuple[str, str, str]:
+def _placing(ctx: Context, rows: list[_Placed], total: int, said_of: int = 0) -> tuple[str, str, str]:
     """(rank text, topics text, first topic) of topics sharing one placing ("of 14 towns" once a sentence)."""
-    first = rows.iloc[0]
-    of = int(first["rank_of"])
-    text = rank_phrase(int(first["rank"]), of, int(first["tied"]), str(first["better"]),
-                       "" if of == said_of else ctx.of_level(of, int(first["depth"])), ctx.style)
-    topics = [str(t) for t in rows["topic"]]
+    first = rows[0]
+    of = int(first.rank_of)
+    text = rank_phrase(int(first.rank), of, first.tied, first.better,
+                       "" if of == said_of else ctx.of_level(of, first.depth), ctx.style)
+    topics = [r.topic for r in rows]
     if len(topics) <= NAMED_TOPICS:
         named = phrasing.join([ctx.the_label(t) for t in topics], ctx.style)
     else:
@@ -67,10 +88,11 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     style = ctx.style
     period = ctx.facts.latest_period
     placings = _placings(ctx)
-    position = {t: int(m.get("position", 0)) for t, m in ctx.topics.items()}
     composite_ties = ctx.facts.entities[["depth", "composite_rank"]].value_counts().to_dict()
     lead = with_leading_changes(ctx)
-    moves = lead.set_index(["entity", "topic"])[["change", "prev_value", "prev_period", "compared_with"]]
+    moves = dict(zip(zip(lead["entity"].tolist(), lead["topic"].tolist()),
+                     zip(lead["change"].tolist(), lead["prev_value"].tolist(), lead["prev_period"].tolist(),
+                         lead["compared_with"].tolist())))
     against = patterns.exceptions_by_entity(ctx)
     entities = ctx.facts.entities
     if (lead["compared_with"] == "year-earlier").any():  # quarters and months as the compare_with setting says
@@ -78,16 +100,14 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     for entity, e in entities.iterrows():
         key = str(entity)
         rows = placings.get(key)
-        if rows is None or rows.empty or missing(e["composite"]):
+        if not rows or missing(e["composite"]):
             continue
-        rows = rows.assign(order=rows["topic"].map(position)).sort_values(["percentile", "order"],
-                                                                          ascending=[False, True])
-        top_p, bottom_p = rows["percentile"].max(), rows["percentile"].min()
-        best_rows = rows.loc[rows["percentile"] == top_p]
-        worst_rows = rows.loc[rows["percentile"] == bottom_p]
+        top_p, bottom_p = rows[0].percentile, min(r.percentile for r in rows)
+        best_rows = [r for r in rows if r.percentile == top_p]
+        worst_rows = [r for r in rows if r.percentile == bottom_p]
         total = len(rows)
         best_text, best_topics, strongest = _placing(ctx, best_rows, total)
-        worst_text, worst_topics, weakest = _placing(ctx, worst_rows, total, int(best_rows.iloc[0]["rank_of"]))
+        worst_text, worst_topics, weakest = _placing(ctx, worst_rows, total, int(best_rows[0].rank_of))
         rank, of, depth = int(e["composite_rank"]), int(e["composite_of"]), int(e["depth"])
         composite_text = rank_phrase(rank, of, int(composite_ties.get((depth, e["composite_rank"]), 1)), "neutral",
                                      ctx.of_level(of, depth), style)
@@ -97,8 +117,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "composite_rank": ev(rank, composite_text),
             "composite_of": ev(of, phrasing.count(of, style)),
             "composite_topics": ev(int(e["composite_topics"]), phrasing.count(int(e["composite_topics"]), style)),
-            "strongest_rank": ev(int(best_rows.iloc[0]["rank"]), best_text),
-            "weakest_rank": ev(int(worst_rows.iloc[0]["rank"]), worst_text),
+            "strongest_rank": ev(int(best_rows[0].rank), best_text),
+            "weakest_rank": ev(int(worst_rows[0].rank), worst_text),
         }
         claims: dict[str, object] = {
             "strongest": strongest, "weakest": weakest,
@@ -115,15 +135,15 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         }
         for which in ("improvement", "setback"):
             if not missing(e[which]):
-                move = moves.loc[(key, str(e[which]))]
-                size = ctx.change_size(str(e[which]), float(move["change"]), float(move["prev_value"]))
-                evidence[f"{which}_change"] = ev(float(move["change"]), size)
-                if move["compared_with"] == "year-earlier":  # the period it is measured on is a fact it prints
-                    since = str(move["prev_period"])
+                moved, previous, prev_period, compared_with = moves[(key, str(e[which]))]
+                size = ctx.change_size(str(e[which]), float(moved), float(previous))
+                evidence[f"{which}_change"] = ev(float(moved), size)
+                if compared_with == "year-earlier":  # the period it is measured on is a fact it prints
+                    since = str(prev_period)
                     evidence[f"{which}_since"] = ev(since, ctx.when(since))
                     variables[f"{which}_since"] = f" on {ctx.when(since)}"
                 variables["improvement_up" if which == "improvement" else "setback_down"] = (
-                    float(move["change"]) > 0 if which == "improvement" else float(move["change"]) < 0)
+                    float(moved) > 0 if which == "improvement" else float(moved) < 0)
         variables.update(pattern="", pattern_all=False, nouns_all=ctx.entity_nouns)
         pattern = against.get(key)
         if pattern is not None:  # an exception on most topics: said as fact, and flagged for a data check

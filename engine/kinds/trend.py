@@ -58,6 +58,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     trends = trend_facts(cells, ctx.facts.series)
     by_format = _labels_by_format(ctx.facts.series)
     seasons = season_records(cells, ctx.facts.series)
+    ctx.write_values(cells["topic"], trends["first_value"])  # the series' first values, a column at a time
     for c, t, r in zip(cells.itertuples(index=False), trends.itertuples(index=False),
                        seasons.itertuples(index=False)):
         if not c.usable or missing(t.points) or int(t.points) < MIN_POINTS:

@@ -39,13 +39,13 @@ def test_two_workers_store_exactly_what_one_process_stores(tmp_path: Path, monke
     single = _journey(tmp_path / "one", data)
     monkeypatch.setenv(workers.WORKERS_ENV, "2")
     stages: list[str] = []
-    original = workers.draft_kinds
+    original = workers.draft_each_kind
 
     def watched(*args: Any, **kwargs: Any) -> Any:
         stages.append(f"workers={args[2]}")
         return original(*args, **kwargs)
 
-    monkeypatch.setattr(loading, "draft_kinds", watched)
+    monkeypatch.setattr(loading, "draft_each_kind", watched)
     multi = _journey(tmp_path / "two", data)
     assert stages == ["workers=2", "workers=2", "workers=2"]  # both loads and the redraft drafted in two
     assert multi[0] == single[0]

@@ -86,10 +86,16 @@ class Applied:
 
 def apply_decisions(
     session: Session, edition_id: int, decisions: Sequence[Decision], drafts: dict[str, DraftText], by: str,
+    versions: dict[str, int] | None = None,
 ) -> Applied:
-    """Write a refresh's decisions in bulk: new drafts, slot states, rebased human work, events."""
+    """Write a refresh's decisions in bulk: new drafts, slot states, rebased human work, events.
+
+    ``versions`` (from :func:`slot_versions`, read before any of a load's writes) lets a load apply
+    its decisions in several calls, a kind at a time, without reading every slot's version each time.
+    """
     next_id = (session.scalar(select(func.max(Draft.id))) or 0) + 1
-    versions: dict[str, int] = dict(session.execute(select(Slot.id, Slot.version)).all())  # type: ignore[arg-type]
+    if versions is None:
+        versions = slot_versions(session)
     now = utcnow()
     draft_rows: list[tuple[Any, ...]] = []
     new_slots: list[tuple[Any, ...]] = []
@@ -135,6 +141,11 @@ def apply_decisions(
     ]
     write_many(session, Event, ["at", "by", "action", "slot_id", "edition_id", "before", "after", "detail"], events)
     return Applied(len(draft_rows), len(new_slots), len(updates_with_draft) + len(updates))
+
+
+def slot_versions(session: Session) -> dict[str, int]:
+    """Every slot's version, by slot id."""
+    return dict(session.execute(select(Slot.id, Slot.version)).all())  # type: ignore[arg-type]
 
 
 def _rebase(session: Session, decisions: Iterable[Decision], drafts: dict[str, DraftText]) -> None:
