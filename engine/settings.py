@@ -12,6 +12,8 @@ from stetline.errors import StetlineError
 ALL_KINDS = ("headline", "profile", "standing", "change", "trend", "blurb", "leaders", "movement", "roundup")
 #: what a workspace made before the `kinds` setting drafted (migration 0008 stores it for them)
 EARLIER_KINDS = ("headline", "profile", "standing", "change", "trend", "leaders", "movement")
+#: what a new workspace drafts: the composed statements a report prints; the part kinds are added by choice
+DEFAULT_KINDS = ("headline", "profile", "roundup", "blurb")
 
 
 @dataclass(frozen=True)
@@ -66,9 +68,10 @@ SETTINGS: tuple[SettingSpec, ...] = (
     SettingSpec("possessive_after_s", "Possessive of a name ending in s", "'",
                 "How a name ending in s takes the possessive: ' (Harris' score) or 's (Harris's score).",
                 ("'", "'s")),
-    SettingSpec("kinds", "Statement kinds drafted", ",".join(ALL_KINDS),
+    SettingSpec("kinds", "Statement kinds drafted", ",".join(DEFAULT_KINDS),
                 "Which statement kinds the workspace drafts, separated by commas; run `stetline redraft` after a "
-                "change. Turning a kind off keeps its human work: those statements wait in recheck as gone."),
+                "change. Add standing,change,trend,leaders,movement to annotate single figures. Turning a kind "
+                "off keeps its human work: those statements wait in recheck as gone."),
     SettingSpec("untraced_numbers", "Untraced numbers when publishing", "warn",
                 "What publishing does with typed numbers that match no fact.", ("warn", "refuse")),
     SettingSpec("self_approval", "Reviewers may approve their own rewrites", False,

@@ -231,5 +231,20 @@ def test_a_workspace_made_before_the_setting_keeps_its_kinds(demo_path: Path) ->
     cli = Cli(demo_path)
     assert cli("settings", "kinds").stdout.strip() == '"headline,profile,standing,change,trend,leaders,movement"'
     cli("redraft", "--by", "admin")
-    kinds = {item["kind"] for item in cli.json("list")}
-    assert kinds == {"headline", "profile", "standing", "change", "trend", "leaders", "movement"}
+    items = cli.json("list")
+    assert {i["kind"] for i in items if not i["gone"]} == {
+        "headline", "profile", "standing", "change", "trend", "leaders", "movement"}
+    # the demo's work on blurbs and roundups (a made-new workspace's kinds) is kept, waiting as gone
+    composed = [i for i in items if i["kind"] in ("blurb", "roundup")]
+    assert composed and all(i["gone"] for i in composed)
+    assert all(i["recheck"]["reasons"] == ["slot-gone"] for i in composed if i["status"] != "suppressed")
+    assert "blurb/gorse-point/recycling" in {i["slot"] for i in composed}
+
+
+def test_a_new_workspace_drafts_the_composed_kinds_and_the_headline_and_profiles(tmp_path: Path) -> None:
+    cli = Cli(tmp_path / "new")
+    cli("init")
+    assert cli("settings", "kinds").stdout.strip() == '"headline,profile,roundup,blurb"'
+    told = cli("settings", "kinds", "headline,profile,roundup,blurb,standing", "--by", "admin").stdout
+    assert "changes which statements are drafted: run `stetline redraft`" in told
+    assert "wording" not in told
