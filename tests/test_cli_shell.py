@@ -59,7 +59,7 @@ def test_an_unexpected_error_is_one_line_and_exit_code_1(demo_cli: Cli, monkeypa
 
 
 def test_an_engine_error_keeps_its_message(demo_cli: Cli) -> None:
-    result = demo_cli("show", "standing/nowhere/recycling", ok=False)
+    result = demo_cli("show", "blurb/nowhere/recycling", ok=False)
     assert result.exit_code == 1
     assert result.stderr.startswith("Error: ") and result.stderr.count("\n") == 1
     assert "unexpected" not in result.stderr
@@ -74,7 +74,7 @@ def test_an_unknown_kind_is_refused_naming_the_kinds(demo_cli: Cli) -> None:
 
 
 def test_a_suppressed_statement_says_so(demo_cli: Cli) -> None:
-    out = demo_cli("show", "standing/puffin-holm/new-business").stdout
+    out = demo_cli("show", "blurb/puffin-holm/new-business").stdout
     assert "[suppressed]" in out
     assert "suppressed: left out of the publication" in out
     assert "None" not in out
@@ -82,7 +82,7 @@ def test_a_suppressed_statement_says_so(demo_cli: Cli) -> None:
 
 
 def test_evidence_shows_a_status_as_a_word(demo_cli: Cli) -> None:
-    out = demo_cli("show", "change/heronsford/recycling").stdout
+    out = demo_cli("show", "blurb/heronsford/parks-satisfaction").stdout
     assert "    status of the figure (status): final\n" in out and "()" not in out
     # a fact in words with its live-field name, and its value as shown, never the raw float
     assert "    value this period (value): 59.3%\n" in out

@@ -148,7 +148,8 @@ def test_gone_slot_keeps_its_layers(demo_cli: Cli) -> None:
 def test_live_field_rewrite_updates_itself_without_recheck(demo_cli: Cli) -> None:
     item = demo_cli.json("show", "blurb/little-thrift/parks-satisfaction")
     assert item["status"] == "edited"
-    assert item["text"] == "In 2025, 67% of Little Thrift's residents were satisfied with their local parks, 8th of 14 towns."
+    assert item["text"] == (
+        "In 2025, 67% of Little Thrift's residents were satisfied with their local parks, 8th of 14 towns.")
     assert item["layer"]["text"].startswith("In {{ period }}, {{ value }} of Little Thrift's")
 
 

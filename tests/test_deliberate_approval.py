@@ -26,12 +26,12 @@ from stetline.web import create_app
 from stetline.workspace import Workspace
 
 # The demo after its second edition (see engine/demo.py):
-SAMPHIRE = "change/samphire-reach/recycling"  # approved draft whose direction flipped: claim-changed
+SAMPHIRE = "blurb/samphire-reach/recycling"  # approved draft whose direction flipped: claim-changed
 SAMPHIRE_CLAIMS = ["better: improved → worsened", "direction: up → down"]
-GORSE = "change/gorse-point/recycling"  # a rewrite whose claims flipped; its proposal has a conflict
-HIGH_FERROW = "standing/high-ferrow/bus-punctuality"  # approved draft: rank band, target and group flipped
-HERONSFORD = "change/heronsford/recycling"  # a rewrite whose numbers changed; clean proposal, same claims
-GONE = "standing/wrackhaven/paper-timetables"  # its indicator left the data: slot-gone
+GORSE = "blurb/gorse-point/recycling"  # a rewrite whose claims flipped; its proposal has a conflict
+HIGH_FERROW = "blurb/high-ferrow/bus-punctuality"  # approved draft: rank band, target and group flipped
+HERONSFORD = "blurb/heronsford/parks-satisfaction"  # a rewrite whose numbers changed; clean proposal, same claims
+GONE = "blurb/wrackhaven/paper-timetables"  # its indicator left the data: slot-gone
 
 
 @pytest.fixture
@@ -115,7 +115,7 @@ def test_cli_selection_by_kind_skips_gone_and_claim_changed_statements(demo_cli:
     assert f"skipped {GONE}: it no longer applies to the current edition" in out
     assert f"skipped {HIGH_FERROW}: the new data contradict its claims" in out
     assert demo_cli.json("show", GONE)["status"] == demo_cli.json("show", HIGH_FERROW)["status"] == "recheck"
-    assert demo_cli.json("show", "standing/tidemere/recycling")["status"] == "approved"  # numbers changed only
+    assert demo_cli.json("show", "blurb/tidemere/recycling")["status"] == "approved"  # numbers changed only
 
 
 def test_cli_approve_refuses_mixed_requests(demo_cli: Cli) -> None:

@@ -54,7 +54,7 @@ def test_shown_evidence_appears_in_the_text(demo_drafts: list[dict]) -> None:
             assert item["evidence"]["value"]["shown"] in item["draft"], item["slot"]
             checked[item["kind"]] += 1
     # 14 towns x 11 topics reported in 2025 (seed_data/README.md), every one with a value; plus
-    # standing/wrackhaven/paper-timetables, a gone slot kept for its note, with its 2024 figure
+    # blurb/wrackhaven/paper-timetables, a gone slot kept for its note, with its 2024 figure
     assert checked == {"standing": 14 * 11 + 1, "change": 14 * 11}
 
 

@@ -22,7 +22,7 @@ from stetline import actions
 from stetline.web import create_app
 from stetline.workspace import Workspace, open_workspace
 
-SLOT = "standing/cairnbrook/recycling"
+SLOT = "blurb/cairnbrook/recycling"
 TRAP = ("{% macro deeper(n) %}{{ deeper(n + 1) }}{% endmacro %}"
         "{% if 'per cent' in (value | percent(0)) %}{{ deeper(1) }}{% endif %}Cairnbrook recycles {{ value }}.")
 

@@ -24,7 +24,7 @@ from stetline import actions
 from stetline.web import create_app
 from stetline.workspace import Workspace, open_workspace
 
-SLOT = "standing/cairnbrook/recycling"  # a draft nobody worked on in the demo
+SLOT = "blurb/cairnbrook/recycling"  # a draft nobody worked on in the demo
 
 
 @pytest.fixture

@@ -15,8 +15,8 @@ from stetline.store import ops
 from stetline.web import create_app
 from stetline.workspace import Workspace
 
-HERONSFORD = "change/heronsford/recycling"
-GORSE = "change/gorse-point/recycling"
+HERONSFORD = "blurb/heronsford/parks-satisfaction"
+GORSE = "blurb/gorse-point/recycling"
 PASSWORDS = {"ada": "ada-password-1", "eve": "eve-password-1", "rex": "rex-password-1", "max": "max-password-1"}
 
 
@@ -157,6 +157,6 @@ def test_my_statements_lists_what_is_assigned_and_waits(app: Flask, team: Worksp
     with team.session() as s:
         accounts.assign(s, "eve", entity="tidemere", by="max")
     page = signed_in(app, "eve").get("/mine").get_data(as_text=True)
-    assert "Tidemere" in page and "standing/tidemere/recycling" in page
-    assert "standing/north-quay/recycling" not in page
+    assert "Tidemere" in page and "blurb/tidemere/recycling" in page
+    assert "blurb/north-quay/recycling" not in page
     assert "Nothing is assigned to rex" in signed_in(app, "rex").get("/mine").get_data(as_text=True)

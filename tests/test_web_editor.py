@@ -15,8 +15,8 @@ from stetline.store import ops
 from stetline.web import create_app
 from stetline.workspace import Workspace
 
-HERONSFORD = "change/heronsford/recycling"  # a rewrite in recheck with a clean proposal
-GORSE = "change/gorse-point/recycling"  # a rewrite in recheck whose proposal has a conflict
+HERONSFORD = "blurb/heronsford/parks-satisfaction"  # a rewrite in recheck with a clean proposal
+GORSE = "blurb/gorse-point/recycling"  # a rewrite in recheck whose proposal has a conflict
 
 
 @pytest.fixture
@@ -82,18 +82,18 @@ def test_topic_page_lists_its_statements(client: FlaskClient) -> None:
     html = page(client, "/topics/recycling")
     assert "<h1>Household recycling rate</h1>" in html
     html += page(client, "/topics/recycling?page=2")  # 14 towns x 4 kinds and three topic statements: two pages
-    assert f'href="/statements/{HERONSFORD}"' in html and 'href="/statements/leaders/recycling"' in html
+    assert f'href="/statements/{HERONSFORD}"' in html and 'href="/statements/roundup/recycling"' in html
     assert 'href="/statements/blurb/heronsford/recycling"' in html and 'href="/statements/roundup/recycling"' in html
 
 
 def test_unknown_keys_and_slots_are_404_pages(client: FlaskClient) -> None:
     assert "no entity &#39;atlantis&#39;" in page(client, "/entities/atlantis", 404)
     assert "There is no topic" in page(client, "/topics/nothing", 404)
-    html = page(client, "/statements/change/atlantis/recycling", 404)
+    html = page(client, "/statements/blurb/atlantis/recycling", 404)
     assert "Not found" in html and "no statement" in html
     # the web names its own ways to find a statement, not a command to type
     assert "stetline list" not in html and "find it from the overview" in html
-    assert client.post("/statements/change/atlantis/recycling/approve", data={"version": "1"}).status_code == 404
+    assert client.post("/statements/blurb/atlantis/recycling/approve", data={"version": "1"}).status_code == 404
     assert client.post("/statements/nope/preview", data={"text": "x"}).status_code == 404
 
 
@@ -183,7 +183,7 @@ def test_a_missing_version_is_refused(client: FlaskClient, demo_ws: Workspace) -
 
 
 def test_suppress_lift_pin_and_revert(client: FlaskClient, demo_ws: Workspace) -> None:
-    slot = "leaders/recycling"
+    slot = "roundup/recycling"
     v = state(demo_ws, slot)["version"]
     assert client.post(f"/statements/{slot}/suppress", data={"version": str(v)}).status_code == 303
     assert state(demo_ws, slot)["suppressed"]
@@ -264,7 +264,7 @@ def test_recheck_queue_filters(client: FlaskClient) -> None:
     listed = re.findall(r'<h2 id="item-\d+"><a href="/statements/([^"]+)">', html)
     assert listed and all(x.startswith("leaders/") for x in listed)
     listed = re.findall(r'<h2 id="item-\d+"><a href="/statements/([^"]+)">', page(client, "/recheck?topic=recycling"))
-    assert HERONSFORD in listed and "leaders/recycling" in listed and "standing/north-quay/broadband" not in listed
+    assert HERONSFORD in listed and "roundup/recycling" in listed and "blurb/north-quay/broadband" not in listed
     assert "Nothing waits in recheck with these filters" in page(client, "/recheck?entity=heronsford&kind=leaders")
 
 
@@ -315,21 +315,21 @@ def test_accept_every_clean_proposal_after_confirming_the_count(client, demo_ws)
     done = client.post("/recheck/accept-clean", data={"count": "5"})
     assert done.status_code == 303
     with demo_ws.session() as s:
-        assert actions.view(s, "change/heronsford/recycling").slot.status == "approved"
-        assert actions.view(s, "change/gorse-point/recycling").slot.status == "recheck"  # conflict: never in bulk
-        assert actions.history(s, "change/heronsford/recycling")[-1]["action"] == "accept"
+        assert actions.view(s, "blurb/heronsford/parks-satisfaction").slot.status == "approved"
+        assert actions.view(s, "blurb/gorse-point/recycling").slot.status == "recheck"  # conflict: never in bulk
+        assert actions.history(s, "blurb/heronsford/parks-satisfaction")[-1]["action"] == "accept"
 
 
 def test_the_changelog_page(client) -> None:
     page = client.get("/changes").get_data(as_text=True)
     assert "From edition <strong>2024</strong> to <strong>2025</strong>" in page
-    assert "change/gorse-point/recycling" in page and "direction of the change: up → down" in page
+    assert "blurb/gorse-point/recycling" in page and "direction of the change: up → down" in page
     assert "Household recycling rate in Gorse Point — change</a>" in page
-    assert "leaders/paper-timetables" in page
+    assert "roundup/paper-timetables" in page
 
 
 def test_two_people_saving_the_same_statement_the_second_sees_the_conflict(app, demo_ws) -> None:
-    slot = "standing/tidemere/population"
+    slot = "blurb/tidemere/population"
     first, second = app.test_client(), app.test_client()
     for c, name in ((first, "ann"), (second, "ben")):
         c.post("/name", data={"by": name})

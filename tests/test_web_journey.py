@@ -21,7 +21,7 @@ def test_resolve_every_recheck_in_the_browser_and_publish(team_path: Path) -> No
         assert client.post("/login", data={"name": name, "password": passwords[name]}).status_code == 303
     # the publish page says what blocks
     blocked = admin.get("/publish").get_data(as_text=True)
-    assert "change/heronsford/recycling" in blocked
+    assert "blurb/heronsford/parks-satisfaction" in blocked
     # the reviewer accepts every clean proposal, then approves the rest one by one from the queue
     page = reviewer.get("/recheck/accept-clean").get_data(as_text=True)
     count = int(re.search(r"(\d+) statements? waits? in recheck only because", page).group(1))  # type: ignore[union-attr]

@@ -27,8 +27,8 @@ from stetline.store.db import alembic_config
 from stetline.web import create_app
 from stetline.workspace import Workspace
 
-HERONSFORD = "change/heronsford/recycling"
-GORSE = "change/gorse-point/recycling"
+HERONSFORD = "blurb/heronsford/parks-satisfaction"
+GORSE = "blurb/gorse-point/recycling"
 
 
 @pytest.fixture
@@ -246,7 +246,7 @@ def test_the_first_edition_loads_into_an_empty_workspace(ws: Workspace) -> None:
 def test_publish_page_shows_the_blocks_the_untraced_numbers_and_the_caution(client: FlaskClient,
                                                                            demo_ws: Workspace) -> None:
     with demo_ws.session() as s:  # a typed number no fact backs, in a statement that would be printed
-        actions.rewrite(s, "standing/cairnbrook/recycling", "Cairnbrook recycled 61.2% of its waste.", by="editor")
+        actions.rewrite(s, "blurb/cairnbrook/recycling", "Cairnbrook recycled 61.2% of its waste.", by="editor")
     html = get(client, "/publish")
     assert "13 statements wait in recheck" in html and f'href="/statements/{HERONSFORD}"' in html
     assert "Numbers no fact backs" in html and "61.2%" in html
@@ -388,7 +388,7 @@ def test_nothing_changed_says_so(client: FlaskClient) -> None:
 
 def test_search_finds_notes_and_marks_the_words(client: FlaskClient) -> None:
     html = get(client, "/search?q=Food-Waste+kerbside")
-    assert "1 result for" in html and 'href="/statements/change/samphire-reach/recycling"' in html
+    assert "1 result for" in html and 'href="/statements/blurb/samphire-reach/recycling"' in html
     assert '<span class="tag tag-note">note</span>' in html and "by expert" in html
     assert "<mark>kerbside</mark> <mark>food-waste</mark>" in html
 
@@ -436,7 +436,7 @@ def test_comments_form_a_thread_in_markdown_without_scripts(client: FlaskClient,
 
 
 def test_send_back_records_an_event_and_keeps_the_status(client: FlaskClient, demo_ws: Workspace) -> None:
-    slot = "standing/larkholt/recycling"
+    slot = "blurb/larkholt/recycling"
     before = state(demo_ws, slot)
     response = client.post(f"/statements/{slot}/send-back", data={
         "version": str(before["version"]), "text": "Say which year the rank is for.", "by": "reviewer"})
@@ -464,7 +464,7 @@ def test_an_empty_comment_is_refused_next_to_its_field(client: FlaskClient, demo
 def test_the_engine_refuses_comments_on_unknown_statements(demo_ws: Workspace) -> None:
     with demo_ws.session() as s:
         with pytest.raises(NotFound):
-            comments.add_comment(s, "change/atlantis/recycling", "hello", "Ada")
+            comments.add_comment(s, "blurb/atlantis/recycling", "hello", "Ada")
         with pytest.raises(StetlineError, match="limit"):
             comments.send_back(s, HERONSFORD, "x" * 6000, "Ada")
         entry = comments.add_comment(s, HERONSFORD, "  fine  ", "Ada")
@@ -548,7 +548,7 @@ def test_bulk_annotate_on_the_recheck_queue(client: FlaskClient, demo_ws: Worksp
     assert "<h1>Annotate 2 statements?</h1>" in html and "Indicator discontinued in 2025." in html
     response = client.post("/bulk/apply", data=_multi(form_fields(html, "/bulk/apply")))
     assert response.status_code == 303 and response.headers["Location"].endswith("/recheck?reason=slot-gone")
-    for slot in ("leaders/paper-timetables", "standing/wrackhaven/paper-timetables"):
+    for slot in ("roundup/paper-timetables", "blurb/wrackhaven/paper-timetables"):
         assert "Indicator discontinued in 2025." in [n["text"] for n in state(demo_ws, slot)["notes"]]
 
 
@@ -580,7 +580,7 @@ def test_bulk_apply_changes_nothing_when_a_statement_changed_since(client: Flask
         as_text=True)
     fields = form_fields(html, "/bulk/apply")
     with demo_ws.session() as s:
-        actions.pin(s, "standing/heronsford/recycling", by="someone")
+        actions.pin(s, "blurb/heronsford/recycling", by="someone")
     before = {slot: state(demo_ws, slot)["status"] for n, slot in fields if n == "slot"}
     response = client.post("/bulk/apply", data=_multi(fields))
     assert response.status_code == 409
@@ -613,7 +613,7 @@ def test_statement_page_charts_the_series_and_every_entity_with_text_alternative
 
 
 def test_a_topic_statement_shows_the_strip_only_and_the_headline_none(client: FlaskClient) -> None:
-    html = get(client, "/statements/leaders/recycling")
+    html = get(client, "/statements/roundup/recycling")
     assert 'id="strip-chart"' in html and 'id="series-chart"' not in html and "(this statement)" not in html
     assert "across 14 towns runs from 40.4% (Gorse Point) to 59.3% (Heronsford)" in html
     assert "<svg" not in get(client, "/statements/headline")
@@ -632,7 +632,7 @@ def test_the_app_brings_an_older_workspace_up_to_date(demo_ws: Workspace) -> Non
 # -- every form carries a CSRF token, every control a label -----------------------------------
 
 PAGES = ("/", "/entities", "/entities/heronsford", "/topics/recycling", f"/statements/{HERONSFORD}",
-         "/statements/leaders/recycling", "/recheck", "/publish", "/data", "/settings", "/search?q=recycling")
+         "/statements/roundup/recycling", "/recheck", "/publish", "/data", "/settings", "/search?q=recycling")
 
 
 def test_every_post_form_carries_a_csrf_token(demo_ws: Workspace) -> None:
@@ -664,9 +664,9 @@ def test_every_control_has_a_label(client: FlaskClient) -> None:
 
 
 @pytest.mark.parametrize("slot", [
-    "headline", "profile/north-quay", "movement/recycling", "leaders/paper-timetables",  # gone, in recheck
-    "standing/puffin-holm/new-business",  # suppressed
-    "trend/heronsford/relet-days", "standing/wrackhaven/paper-timetables",
+    "headline", "profile/north-quay", "movement/recycling", "roundup/paper-timetables",  # gone, in recheck
+    "blurb/puffin-holm/new-business",  # suppressed
+    "trend/heronsford/relet-days", "blurb/wrackhaven/paper-timetables",
 ])
 def test_every_kind_of_statement_page_renders(client: FlaskClient, slot: str) -> None:
     html = get(client, f"/statements/{slot}")

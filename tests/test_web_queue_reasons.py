@@ -12,10 +12,10 @@ from stetline import comments
 from stetline.web import create_app
 from stetline.workspace import Workspace
 
-HERONSFORD = "change/heronsford/recycling"  # a rewrite in recheck, numbers changed, clean proposal
-GORSE = "change/gorse-point/recycling"  # a rewrite whose proposal has conflict regions
-HIGH_FERROW = "standing/high-ferrow/bus-punctuality"  # an approval whose claims changed: no conflict
-SAMPHIRE = "change/samphire-reach/recycling"  # an expert's note whose claims changed
+HERONSFORD = "blurb/heronsford/parks-satisfaction"  # a rewrite in recheck, numbers changed, clean proposal
+GORSE = "blurb/gorse-point/recycling"  # a rewrite whose proposal has conflict regions
+HIGH_FERROW = "blurb/high-ferrow/bus-punctuality"  # an approval whose claims changed: no conflict
+SAMPHIRE = "blurb/samphire-reach/recycling"  # an expert's note whose claims changed
 NOTE = "A kerbside food-waste round started in Samphire Reach in September 2024."
 
 
@@ -47,7 +47,7 @@ def test_each_entry_says_why_it_waits_and_whose_work_it_carries(client: FlaskCli
     heronsford = item(html, HERONSFORD)
     assert '<span class="tag tag-rewrite">rewrite</span> by <strong>editor</strong>' in heronsford
     assert "numbers it shows changed; what it says still holds" in heronsford
-    gone = item(html, "standing/wrackhaven/paper-timetables")
+    gone = item(html, "blurb/wrackhaven/paper-timetables")
     assert "it no longer applies to the current edition" in gone
     assert "Printed timetables were withdrawn from Wrackhaven" in gone
 
@@ -67,7 +67,7 @@ def test_conflict_only_when_the_proposal_has_conflict_regions(client: FlaskClien
     assert html.count('class="merge merge-conflict"') == 1
     assert '<span class="merge merge-conflict">conflict</span>' in item(html, GORSE)
     assert "yours «climbed», new draft «fell by»" in item(html, GORSE)
-    for slot in (HIGH_FERROW, SAMPHIRE, "leaders/broadband"):  # claims changed, no conflict regions
+    for slot in (HIGH_FERROW, SAMPHIRE, "roundup/broadband"):  # claims changed, no conflict regions
         entry = item(html, slot)
         assert '<span class="merge merge-person">needs a person</span>' in entry and "conflict" not in entry
         assert "the proposed text is not taken in one click" in entry

@@ -20,8 +20,8 @@ pytestmark = [
         "ignore:Session-scoped fixtures defined as instance methods:pytest.PytestRemovedIn10Warning"),
 ]
 
-HERONSFORD = "change/heronsford/recycling"
-GORSE = "change/gorse-point/recycling"
+HERONSFORD = "blurb/heronsford/parks-satisfaction"
+GORSE = "blurb/gorse-point/recycling"
 
 
 def status(live: Live, slot: str) -> str:
