@@ -15,6 +15,7 @@ from typing import Any
 from sqlalchemy.orm import Session
 
 from stetline.errors import StetlineError
+from stetline.factwords import claim_name
 from stetline.reconcile import claim_changes
 from stetline.status import Status
 from stetline.store import ops
@@ -46,7 +47,7 @@ class Changelog:
         if self.flipped:
             lines += ["## Claims that flipped", ""]
             for f in self.flipped:
-                claims = "; ".join(f"{c['fact']}: {c['old']} → {c['new']}" for c in f["claims"])
+                claims = "; ".join(f"{claim_name(c['fact'])}: {c['old']} → {c['new']}" for c in f["claims"])
                 lines += [f"### {f['slot']}", "", f"{claims}", "", f"- before: {f['old_text']}",
                           f"- after: {f['new_text']}", ""]
         if self.numbers:

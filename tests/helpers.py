@@ -23,6 +23,14 @@ TEST_URL_VARIABLE = "STETLINE_TEST_DATABASE_URL"
 TEST_DATABASE_URL = os.environ.get(TEST_URL_VARIABLE)
 ON_POSTGRES = bool(TEST_DATABASE_URL)
 
+# A rewrite of a part-kind statement whose proposal after the second edition has a conflict region: the
+# 2025 draft rewords the same words the editor changed. Composed statements (blurbs, roundups) never
+# conflict (their proposals keep the rewrite's words with the new numbers), so this needs the part kinds on.
+CONFLICTED = "change/gorse-point/recycling"
+CONFLICTED_REWRITE = (
+    "Gorse Point's recycling rate climbed 1.4 percentage points to 41.5% in 2024, its best year since 2020."
+)
+
 
 class Cli:
     """Runs stetline commands against one workspace and decodes JSON output."""
