@@ -7,13 +7,14 @@ from __future__ import annotations
 import pytest
 from flask import Flask
 from flask.testing import FlaskClient
+from helpers import CONFLICTED
 
 from stetline import comments
 from stetline.web import create_app
 from stetline.workspace import Workspace
 
 HERONSFORD = "blurb/heronsford/parks-satisfaction"  # a rewrite in recheck, numbers changed, clean proposal
-GORSE = "blurb/gorse-point/recycling"  # a rewrite whose proposal has conflict regions
+GORSE = "blurb/gorse-point/recycling"  # a rewrite whose claims changed: a composed text, no conflict regions
 HIGH_FERROW = "blurb/high-ferrow/bus-punctuality"  # an approval whose claims changed: no conflict
 SAMPHIRE = "blurb/samphire-reach/recycling"  # an expert's note whose claims changed
 NOTE = "A kerbside food-waste round started in Samphire Reach in September 2024."
@@ -62,12 +63,15 @@ def test_the_latest_comment_shows_in_the_queue(client: FlaskClient, demo_ws: Wor
     assert "annual return" not in heronsford  # only the latest; the whole thread is on the statement's page
 
 
-def test_conflict_only_when_the_proposal_has_conflict_regions(client: FlaskClient) -> None:
+def test_conflict_only_when_the_proposal_has_conflict_regions(client: FlaskClient, conflict_ws: Workspace) -> None:
+    # a conflict needs a part kind's rewrite (composed statements keep the rewrite's words)
+    conflicted = get(create_app(conflict_ws, {"TESTING": True}).test_client(), "/recheck")
+    assert conflicted.count('class="merge merge-conflict"') == 1
+    assert '<span class="merge merge-conflict">conflict</span>' in item(conflicted, CONFLICTED)
+    assert "yours «climbed», new draft «fell by»" in item(conflicted, CONFLICTED)
     html = get(client, "/recheck")
-    assert html.count('class="merge merge-conflict"') == 1
-    assert '<span class="merge merge-conflict">conflict</span>' in item(html, GORSE)
-    assert "yours «climbed», new draft «fell by»" in item(html, GORSE)
-    for slot in (HIGH_FERROW, SAMPHIRE, "roundup/broadband"):  # claims changed, no conflict regions
+    assert "merge-conflict" not in html
+    for slot in (GORSE, HIGH_FERROW, SAMPHIRE, "roundup/broadband"):  # claims changed, no conflict regions
         entry = item(html, slot)
         assert '<span class="merge merge-person">needs a person</span>' in entry and "conflict" not in entry
         assert "the proposed text is not taken in one click" in entry
@@ -81,7 +85,7 @@ def test_empty_diffs_are_hidden(client: FlaskClient) -> None:
     samphire = item(html, SAMPHIRE)  # the note keeps the draft automatic: the proposal is the text itself
     assert "<dt>Changes" not in samphire and "The same as the text under review." in samphire
     heronsford = item(html, HERONSFORD)
-    assert "<dt>Changes" in heronsford and "<del>2.4</del><ins>0.3</ins>" in heronsford
+    assert "<dt>Changes" in heronsford and "<del>68%</del><ins>67%</ins>" in heronsford
     page = get(client, f"/statements/{SAMPHIRE}")
     assert "Changes from the text under review" not in page and "The same as the text under review." in page
 
@@ -89,11 +93,11 @@ def test_empty_diffs_are_hidden(client: FlaskClient) -> None:
 def test_approving_has_one_name_on_every_page(client: FlaskClient) -> None:
     html = get(client, "/recheck")
     assert "Approve as is" not in html
-    assert html.count(">Approve as it reads</button>") == 13  # every statement in the queue
+    assert html.count(">Approve as it reads</button>") == 14  # every statement in the queue
     assert f'aria-label="Approve as it reads: {HERONSFORD}"' in html  # the visible name starts the spoken one
-    assert "Approve all 13 shown as they read</button>" in html
+    assert "Approve all 14 shown as they read</button>" in html
     assert ">Approve as it reads</button>" in get(client, f"/statements/{HERONSFORD}")
     response = client.post("/bulk/confirm", data={"scope": "recheck", "action": "approve"})
     assert response.status_code == 200
     assert "as they read</button>" in response.get_data(as_text=True)
-    assert "Approve all 45 shown as they read</button>" in get(client, "/entities/heronsford")
+    assert "Approve all 12 shown as they read</button>" in get(client, "/entities/heronsford")
