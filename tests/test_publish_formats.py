@@ -29,7 +29,7 @@ TAMPERED_TEXT = '=1+2 <script>alert("x")</script> & North Quay recycled {{ value
 TAMPERED_SHOWN = '=1+2 <script>alert("x")</script> & North Quay recycled 46.5%; 999 bins.'
 NOTE = "The harbour regeneration opened two business parks in North Quay in 2023."
 WRACKHAVEN = "blurb/wrackhaven/recycling"
-WRACKHAVEN_TEXT = "The household recycling rate in Wrackhaven was 45.7% (provisional) in 2025"
+WRACKHAVEN_TEXT = "The household recycling rate in Wrackhaven has improved for four years in a row, to 45.7% (provisional)"
 
 
 @pytest.fixture(scope="module")
@@ -247,7 +247,7 @@ def test_html_sections_by_topic(published: dict[str, Any], tmp_path: Path, demo_
 def test_json_traces_numbers_and_gives_provenance(published: dict[str, Any]) -> None:
     items = {i["slot"]: i for i in json.loads(published["files"]["json"].read_text(encoding="utf-8"))}
     wrack = items[WRACKHAVEN]
-    assert wrack["entity"] == "wrackhaven" and wrack["topic"] == "recycling" and wrack["kind"] == "standing"
+    assert wrack["entity"] == "wrackhaven" and wrack["topic"] == "recycling" and wrack["kind"] == "blurb"
     assert {"text": "45.7%", "fact": "value"} in wrack["numbers"]
     assert {"text": "50.0%", "fact": "target"} in wrack["numbers"]
     assert wrack["provenance"]["edition"] == "2025"
