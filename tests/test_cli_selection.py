@@ -19,9 +19,9 @@ def test_annotate_a_selection_after_confirming_the_count(demo_cli: Cli) -> None:
 
 
 def test_suppress_a_selection_skips_what_is_already_suppressed(demo_cli: Cli) -> None:
-    out = demo_cli("suppress", "--entity", "puffin-holm", "--kind", "standing", "--by", "editor", "--yes")
+    out = demo_cli("suppress", "--entity", "puffin-holm", "--kind", "blurb", "--by", "editor", "--yes")
     assert "skipped blurb/puffin-holm/new-business: already suppressed" in out.stdout
-    assert all(i["suppressed"] for i in demo_cli.json("list", "--entity", "puffin-holm", "--kind", "standing"))
+    assert all(i["suppressed"] for i in demo_cli.json("list", "--entity", "puffin-holm", "--kind", "blurb"))
 
 
 def test_a_statement_and_a_selection_together_are_refused(demo_cli: Cli) -> None:

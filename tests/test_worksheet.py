@@ -51,7 +51,7 @@ def test_formula_like_text_is_written_as_text(demo_cli: Cli, tmp_path: Path) -> 
     demo_cli("rewrite", "blurb/tidemere/recycling", "=HYPERLINK(\"http://example.invalid\") recycling",
              "--by", "editor")
     path = tmp_path / "w.xlsx"
-    demo_cli("worksheet", "-o", str(path), "--entity", "tidemere", "--kind", "standing")
+    demo_cli("worksheet", "-o", str(path), "--entity", "tidemere", "--kind", "blurb")
     sheet = load_workbook(path)["statements"]
     cells = [c for row in sheet.iter_rows(min_row=2) for c in row
              if isinstance(c.value, str) and "HYPERLINK" in c.value]
