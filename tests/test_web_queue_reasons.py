@@ -43,6 +43,9 @@ def test_each_entry_says_why_it_waits_and_whose_work_it_carries(client: FlaskCli
     samphire = item(html, SAMPHIRE)
     assert "by <strong>expert</strong>" in samphire and f"“{NOTE}”" in samphire  # the note that put it there
     assert "what the statement says no longer holds with the new data" in samphire  # claim-changed, in words
+    # the blurb's claims are namespaced by their part (change.better); people read the claim in words
+    assert "<td>better or worse</td>" in samphire and "better: improved → worsened" in samphire
+    assert ">change.better" not in samphire and "change.better:" not in samphire
     ferrow = item(html, HIGH_FERROW)
     assert '<span class="tag tag-approval">approval</span> by <strong>reviewer</strong>' in ferrow
     heronsford = item(html, HERONSFORD)
