@@ -320,6 +320,16 @@ def test_settings_page_has_a_labelled_control_and_help_for_every_setting(client:
     assert "Redraft now" not in html  # the demo's drafts follow its house style
 
 
+def test_the_kinds_drafted_have_their_own_group_on_the_settings_page(client: FlaskClient) -> None:
+    html = get(client, "/settings")
+    sections = {re.search(r"<legend>([^<]+)</legend>", part).group(1): part  # type: ignore[union-attr]
+                for part in html.split('<fieldset class="settings-group">')[1:]}
+    assert "What is drafted" in sections
+    assert 'id="set-kinds"' in sections["What is drafted"]
+    assert 'id="set-kinds"' not in sections["House style: the wording of drafts"]
+    assert 'id="set-serial_comma"' in sections["House style: the wording of drafts"]
+
+
 def _settings_form(client: FlaskClient) -> dict[str, str]:
     html = get(client, "/settings")
     start = html.index('action="/settings"')
