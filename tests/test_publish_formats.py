@@ -29,7 +29,8 @@ TAMPERED_TEXT = '=1+2 <script>alert("x")</script> & North Quay recycled {{ value
 TAMPERED_SHOWN = '=1+2 <script>alert("x")</script> & North Quay recycled 46.5%; 999 bins.'
 NOTE = "The harbour regeneration opened two business parks in North Quay in 2023."
 WRACKHAVEN = "blurb/wrackhaven/recycling"
-WRACKHAVEN_TEXT = "The household recycling rate in Wrackhaven has improved for four years in a row, to 45.7% (provisional)"
+WRACKHAVEN_TEXT = ("The household recycling rate in Wrackhaven has improved for four years in a row, "
+                   "to 45.7% (provisional)")
 
 
 @pytest.fixture(scope="module")
