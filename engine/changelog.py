@@ -1,7 +1,8 @@
 """The edition changelog: what changed between two editions.
 
 Slots added and gone, claims that flipped (with the old and new text), the largest changes in
-shown values, and the human layers carried across with their outcome. A slot's draft in an
+shown values (each entity and topic's value once, however many statements show it), and the human
+layers carried across with their outcome. A slot's draft in an
 edition is its latest draft written at or before that edition (drafts are written only when
 something changed).
 """
@@ -14,6 +15,7 @@ from typing import Any
 from sqlalchemy.orm import Session
 
 from stetline.errors import StetlineError
+from stetline.factwords import claim_name
 from stetline.reconcile import claim_changes
 from stetline.status import Status
 from stetline.store import ops
@@ -45,7 +47,7 @@ class Changelog:
         if self.flipped:
             lines += ["## Claims that flipped", ""]
             for f in self.flipped:
-                claims = "; ".join(f"{c['fact']}: {c['old']} → {c['new']}" for c in f["claims"])
+                claims = "; ".join(f"{claim_name(c['fact'])}: {c['old']} → {c['new']}" for c in f["claims"])
                 lines += [f"### {f['slot']}", "", f"{claims}", "", f"- before: {f['old_text']}",
                           f"- after: {f['new_text']}", ""]
         if self.numbers:
@@ -84,6 +86,7 @@ def changes(session: Session, from_label: str | None = None, to_label: str | Non
     log = Changelog(from_e.label, to_e.label)
     log.added = sorted(s for s in after if s not in before)
     log.gone = sorted(s for s in before if s in gone_now)
+    valued: set[str] = set()  # an entity × topic value is listed once, whichever kinds state it
     for slot in sorted(set(before) & set(after)):
         old, new = before[slot], after[slot]
         if slot in gone_now:
@@ -94,7 +97,9 @@ def changes(session: Session, from_label: str | None = None, to_label: str | Non
         a, b = old.evidence.get("value", {}), new.evidence.get("value", {})
         if isinstance(a.get("value"), (int, float)) and isinstance(b.get("value"), (int, float)) and a["value"]:
             rel = (b["value"] - a["value"]) / abs(a["value"])
-            if a.get("shown") != b.get("shown"):
+            cell = slot.split("/", 1)[-1] if slot.count("/") == 2 else slot  # KIND/ENTITY/TOPIC → ENTITY/TOPIC
+            if a.get("shown") != b.get("shown") and cell not in valued:
+                valued.add(cell)
                 log.numbers.append({"slot": slot, "old": a["shown"], "new": b["shown"], "relative": rel})
     log.numbers = sorted(log.numbers, key=lambda n: -abs(n["relative"]))[:TOP_NUMBERS]
     layered = ops.layer_types_by_slot(session, before_edition_id=to_e.id)

@@ -9,7 +9,7 @@ from __future__ import annotations
 from collections.abc import Collection
 from typing import Any
 
-from stetline import reconcile
+from stetline import factwords, reconcile
 from stetline.errors import StetlineError
 from stetline.reconcile import Basis
 from stetline.status import Reason
@@ -31,8 +31,9 @@ def _word(value: Any) -> str:
 
 
 def claim_words(change: dict[str, Any]) -> str:
-    """One contradicted claim in words: ``direction: up → down``."""
-    return f"{str(change['fact']).replace('_', ' ')}: {_word(change['old'])} → {_word(change['new'])}"
+    """One contradicted claim in words: ``direction: up → down`` (for ``direction`` or ``change.direction``)."""
+    name = factwords.claim_name(str(change["fact"]))
+    return f"{name.replace('_', ' ')}: {_word(change['old'])} → {_word(change['new'])}"
 
 
 def contradicted_claims(slot: Slot, draft: Draft, layers: list[Layer],

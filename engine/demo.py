@@ -1,9 +1,9 @@
 """The demo: a fictional council's scorecard in two editions, with example human work.
 
 Builds a workspace from the invented files in ``seed_data``: loads the first edition, adds the
-kind of work an editorial team does (rewrites with typed numbers, a rewrite with live fields,
-pins, an expert's notes, a suppression, approvals), loads the second edition and so shows
-rechecks of every reason, then changes a house-style setting and redrafts.
+kind of work an editorial team does on the statements a report prints (rewrites with typed numbers,
+rewrites with live fields, pins, an expert's notes, comments, a suppression, approvals), loads the
+second edition and so shows rechecks of every reason, then changes a house-style setting and redrafts.
 """
 
 from __future__ import annotations
@@ -14,7 +14,7 @@ from collections.abc import Callable
 from importlib import resources
 from pathlib import Path
 
-from stetline import accounts, actions, loading
+from stetline import accounts, actions, comments, loading
 from stetline.store import ops
 from stetline.workspace import Workspace, init_workspace, is_workspace
 
@@ -24,36 +24,65 @@ TITLE = "Kestrel Sound Regional Council: Service Scorecard"
 
 EDITOR, EXPERT, REVIEWER, ADMIN = "editor", "expert", "reviewer", "admin"
 
+# The human work sits on the statements a report prints (blurbs, roundups, the headline and a profile),
+# chosen by what the second edition changes (seed_data/README.md): some rechecks for a contradicted claim,
+# some for new numbers only, two for a discontinued indicator, one for a live field that no longer renders.
 REWRITES = {
-    "change/heronsford/recycling": (
-        "Heronsford kept its lead on recycling: the household recycling rate improved from 56.6% in "
-        "2023 to 59.0% in 2024, a rise of 2.4 percentage points."
-    ),
-    "standing/tidemere/recycling": (
-        "Tidemere was 4th best of 14 towns for household recycling in 2024, at 53.5%, comfortably "
-        "above the 50.0% target."
-    ),
-    "change/gorse-point/recycling": (
+    # 2025 contradicts it: Gorse Point's recycling rate turns from rising to falling (claim-changed)
+    "blurb/gorse-point/recycling": (
         "Gorse Point's recycling rate climbed 1.4 percentage points to 41.5% in 2024, its best year since 2020."
     ),
-    "standing/larkholt/recycling": (
-        "Larkholt recycles {{ value }} of its household waste, {{ rank }} best of {{ rank_of }} towns."
+    # only the numbers move in 2025 (numbers-changed, with a clean proposal); a reviewer approves it too
+    "blurb/heronsford/parks-satisfaction": (
+        "Heronsford residents remain among the most satisfied with their parks: 82% in 2024, well above the "
+        "Estuary average of 68%."
     ),
-    "leaders/paper-timetables": (
+    "roundup/parks-satisfaction": (
+        "Satisfaction with local parks ranged from 86% in Cairnbrook to 58% in Samphire Reach in 2024, a gap of "
+        "28 percentage points."
+    ),
+    # live fields: the text follows the new figures by itself (no recheck) …
+    "blurb/little-thrift/parks-satisfaction": (
+        "In {{ period }}, {{ value }} of Little Thrift's residents were satisfied with their local parks, "
+        "{{ rank }} of {{ rank_of }} towns."
+    ),
+    # … until a field names a fact the new draft no longer has: the run of longer re-let times ends in 2025
+    # (claim-changed, and render-failed for the streak)
+    "blurb/puffin-holm/relet-days": (
+        "Re-let times in Puffin Holm have lengthened for {{ streak }} years in a row, to {{ value }} in "
+        "{{ period }}, the longest of {{ rank_of }} towns."
+    ),
+    # Larkholt is renamed Larkholt Vale in 2025 (seed_data/renames-2025.csv): the rewrite moves to the new key
+    # with its history, and stays edited, since no claim of this quarterly statement changes in 2025
+    "blurb/larkholt/library-visits": (
+        "Library visits in the town ran at {{ value }} in {{ period }}, {{ rank }} of {{ rank_of }} towns."
+    ),
+    # paper timetable requests are discontinued in 2025 (slot-gone)
+    "roundup/paper-timetables": (
         "Requests for paper timetables ranged from 19.7 per 1,000 residents in Puffin Holm to 8.8 in Tidemere."
     ),
 }
-PINS = ("leaders/broadband", "standing/north-quay/broadband")
+#: North Quay takes the broadband lead from Wrackhaven, and its four-year run becomes five (claim-changed)
+PINS = ("roundup/broadband", "blurb/north-quay/broadband")
 NOTES = {
-    "change/samphire-reach/recycling": "A kerbside food-waste round started in Samphire Reach in September 2024.",
+    "blurb/samphire-reach/recycling": "A kerbside food-waste round started in Samphire Reach in September 2024.",
     "profile/north-quay": "The harbour regeneration opened two business parks in North Quay in 2023.",
-    "standing/wrackhaven/paper-timetables": "Printed timetables were withdrawn from Wrackhaven's library in 2024.",
+    "blurb/wrackhaven/paper-timetables": "Printed timetables were withdrawn from Wrackhaven's library in 2024.",
+}
+COMMENTS = {
+    "blurb/gorse-point/recycling": (
+        (EXPERT, "The 2024 rise follows the new garden-waste collections; worth a clause if there is room."),
+        (EDITOR, "Kept it short for the summary page; the collections are in the Environment chapter."),
+    ),
+    "blurb/high-ferrow/bus-punctuality": (
+        (REVIEWER, "Checked against the operator's monitoring returns before approving."),
+    ),
 }
 APPROVALS = (
-    "standing/high-ferrow/bus-punctuality", "leaders/recycling", "headline", "change/cairnbrook/recycling",
-    "change/heronsford/recycling",
+    "blurb/high-ferrow/bus-punctuality", "roundup/recycling", "headline", "roundup/bathing-water",
+    "blurb/heronsford/parks-satisfaction",
 )
-SUPPRESS = ("standing/puffin-holm/new-business",)
+SUPPRESS = ("blurb/puffin-holm/new-business",)
 #: a quarterly statement approved on the first edition: the second turns its change on a year earlier round
 SEASONAL_APPROVALS = ("blurb/heronsford/library-visits",)
 
@@ -117,6 +146,9 @@ def build(path: Path, echo: Callable[[str], None] = print) -> Workspace:
             actions.pin(s, slot, by=EDITOR)
         for slot, text in NOTES.items():
             actions.annotate(s, slot, text, by=EXPERT)
+        for slot, thread in COMMENTS.items():
+            for author, text in thread:
+                comments.add_comment(s, slot, text, by=author)
         for slot in SUPPRESS:
             actions.suppress(s, slot, by=EDITOR)
         for slot in APPROVALS:

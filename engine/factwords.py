@@ -120,9 +120,19 @@ def fact_words(key: str) -> str:
     return FACT_WORDS.get(key) or _as_words(key)
 
 
+def claim_name(key: str) -> str:
+    """A claim's own name without the part that states it: ``better`` for ``change.better``.
+
+    Blurbs and roundups compose parts and namespace each part's claims by its kind (``change.better``,
+    ``trend.record``); people read the claim itself, so its words are those of the part's own claim.
+    """
+    return key.rsplit(".", 1)[-1] if "." in key else key
+
+
 def claim_words(key: str) -> str:
-    """The words for one claim, e.g. "place in the ranking" for ``rank_band``."""
-    return CLAIM_WORDS.get(key) or _as_words(key)
+    """The words for one claim, e.g. "place in the ranking" for ``rank_band`` or ``standing.rank_band``."""
+    name = claim_name(key)
+    return CLAIM_WORDS.get(name) or _as_words(name)
 
 
 def claim_value(value: Any, names: Mapping[str, str] | None = None) -> str:

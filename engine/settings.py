@@ -15,6 +15,8 @@ ALL_KINDS = ("headline", "profile", "standing", "change", "trend", "blurb", "lea
 OPT_IN_KINDS = ("breakdown",)
 #: what a workspace made before the `kinds` setting drafted (migration 0008 stores it for them)
 EARLIER_KINDS = ("headline", "profile", "standing", "change", "trend", "leaders", "movement")
+#: what a new workspace drafts: the composed statements a report prints; the part kinds are added by choice
+DEFAULT_KINDS = ("headline", "profile", "roundup", "blurb")
 
 
 @dataclass(frozen=True)
@@ -72,10 +74,11 @@ SETTINGS: tuple[SettingSpec, ...] = (
     SettingSpec("possessive_after_s", "Possessive of a name ending in s", "'",
                 "How a name ending in s takes the possessive: ' (Harris' score) or 's (Harris's score).",
                 ("'", "'s")),
-    SettingSpec("kinds", "Statement kinds drafted", ",".join(k for k in ALL_KINDS if k not in OPT_IN_KINDS),
+    SettingSpec("kinds", "Statement kinds drafted", ",".join(DEFAULT_KINDS),
                 "Which statement kinds the workspace drafts, separated by commas; run `stetline redraft` after a "
-                "change. Turning a kind off keeps its human work: those statements wait in recheck as gone. The "
-                "breakdown kind (breakdowns by group) is drafted only when named here."),
+                "change. Add standing,change,trend,leaders,movement to annotate single figures. Turning a kind "
+                "off keeps its human work: those statements wait in recheck as gone. The breakdown kind (breakdowns by "
+                "group) is drafted only when named here."),
     SettingSpec("evaluative_words", "Evaluative words", False,
                 "Open a statement of an entity's own change that improved or worsened with 'Fortunately' or "
                 "'Unfortunately' (never a gap between subgroups)."),

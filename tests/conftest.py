@@ -15,7 +15,7 @@ import uuid
 from pathlib import Path
 
 import pytest
-from helpers import ON_POSTGRES, TEST_DATABASE_URL, Cli
+from helpers import CONFLICTED, CONFLICTED_REWRITE, ON_POSTGRES, TEST_DATABASE_URL, Cli
 from sqlalchemy import Engine, create_engine, delete, text
 from sqlalchemy.engine import make_url
 
@@ -142,6 +142,37 @@ def demo_template(tmp_path_factory: pytest.TempPathFactory) -> Path:
     path = tmp_path_factory.mktemp("demo-template") / "ws"
     demo.build(path, echo=lambda _line: None).close()
     return path
+
+
+@pytest.fixture(scope="session")
+def conflict_template(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """A workspace drafting every kind, with an editor's rewrite whose proposal conflicts (copy it first)."""
+    from stetline import actions, loading
+    from stetline import settings as declared
+    from stetline.store import ops
+
+    path = tmp_path_factory.mktemp("conflict-template") / "ws"
+    ws = init_workspace(path)
+    with ws.session() as s:
+        ops.put_setting(s, "kinds", ",".join(declared.ALL_KINDS))
+        ops.put_setting(s, "entity_noun", "town")
+    loading.load_edition(ws, demo.data_file("observations-2024.csv"), demo.data_file("topics.csv"),
+                         demo.data_file("entities.csv"), by="admin")
+    with ws.session() as s:
+        actions.rewrite(s, CONFLICTED, CONFLICTED_REWRITE, by="editor")
+    loading.load_edition(ws, demo.data_file("observations-2025.csv"), by="admin")
+    ws.close()
+    return path
+
+
+@pytest.fixture
+def conflict_ws(conflict_template: Path, tmp_path: Path) -> Workspace:
+    """A private copy of the conflict workspace, open: ``CONFLICTED`` waits in recheck with a conflict."""
+    path = tmp_path / "conflict"
+    shutil.copytree(conflict_template, path)
+    ws = open_workspace(path)
+    yield ws
+    ws.close()
 
 
 @pytest.fixture

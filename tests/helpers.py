@@ -23,6 +23,14 @@ TEST_URL_VARIABLE = "STETLINE_TEST_DATABASE_URL"
 TEST_DATABASE_URL = os.environ.get(TEST_URL_VARIABLE)
 ON_POSTGRES = bool(TEST_DATABASE_URL)
 
+# A rewrite of a part-kind statement whose proposal after the second edition has a conflict region: the
+# 2025 draft rewords the same words the editor changed. Composed statements (blurbs, roundups) never
+# conflict (their proposals keep the rewrite's words with the new numbers), so this needs the part kinds on.
+CONFLICTED = "change/gorse-point/recycling"
+CONFLICTED_REWRITE = (
+    "Gorse Point's recycling rate climbed 1.4 percentage points to 41.5% in 2024, its best year since 2020."
+)
+
 
 class Cli:
     """Runs stetline commands against one workspace and decodes JSON output."""
@@ -45,12 +53,30 @@ class Cli:
         return json.loads(self(*args, "--json").stdout)
 
 
+def every_kind(path: Path) -> None:
+    """Turn every statement kind on in a workspace (the part kinds too) and redraft its current edition.
+
+    A new workspace drafts only headline, profile, roundup and blurb; tests about the behaviour of a
+    part kind (standing, change, trend, leaders, movement) on a workspace turn the part kinds on first.
+    """
+    from stetline import settings as declared
+
+    cli = Cli(path)
+    cli("settings", "kinds", ",".join(declared.ALL_KINDS), "--by", "admin")
+    if cli.json("status").get("edition"):
+        cli("redraft", "--by", "admin")
+
+
 def resolve_every_recheck(cli: Cli) -> None:
     """Resolve every recheck as a reviewer would: accept clean proposals, approve the rest as they are
-    (confirming the contradicted claims of claim-changed ones, as the reviewer who read them)."""
+    (confirming the contradicted claims of claim-changed ones, as the reviewer who read them). A rewrite
+    whose live fields no longer render cannot be approved: its editor reverts it to the draft first."""
     for item in cli.json("list", "--status", "recheck"):
         recheck = item["recheck"]
-        if recheck["clean"] and recheck["proposed"]:
+        if "render-failed" in recheck["reasons"]:
+            cli("revert", item["slot"], "--by", "editor")
+            cli("approve", item["slot"], "--confirm-claims", "--by", "reviewer")
+        elif recheck["clean"] and recheck["proposed"]:
             cli("approve", item["slot"], "--accept-proposed", "--by", "reviewer")
         elif recheck["contradicted"]:
             cli("approve", item["slot"], "--confirm-claims", "--by", "reviewer")

@@ -24,7 +24,7 @@ from stetline.store.models import Event
 from stetline.workspace import DB_FILE, Workspace, open_workspace
 
 LATER = "A sentence written after the backup, which the restore must take away."
-SLOT = "standing/tidemere/recycling"
+SLOT = "blurb/little-thrift/parks-satisfaction"  # the demo's editor rewrote it (with live fields)
 
 
 def snapshot(path: Path) -> dict[str, object]:

@@ -59,7 +59,7 @@ def test_an_unexpected_error_is_one_line_and_exit_code_1(demo_cli: Cli, monkeypa
 
 
 def test_an_engine_error_keeps_its_message(demo_cli: Cli) -> None:
-    result = demo_cli("show", "standing/nowhere/recycling", ok=False)
+    result = demo_cli("show", "blurb/nowhere/recycling", ok=False)
     assert result.exit_code == 1
     assert result.stderr.startswith("Error: ") and result.stderr.count("\n") == 1
     assert "unexpected" not in result.stderr
@@ -74,20 +74,22 @@ def test_an_unknown_kind_is_refused_naming_the_kinds(demo_cli: Cli) -> None:
 
 
 def test_a_suppressed_statement_says_so(demo_cli: Cli) -> None:
-    out = demo_cli("show", "standing/puffin-holm/new-business").stdout
+    out = demo_cli("show", "blurb/puffin-holm/new-business").stdout
     assert "[suppressed]" in out
     assert "suppressed: left out of the publication" in out
     assert "None" not in out
-    assert "draft: Puffin Holm was" in out  # the text it would have
+    assert "draft: The new business registration rate in Puffin Holm was" in out  # the text it would have
 
 
 def test_evidence_shows_a_status_as_a_word(demo_cli: Cli) -> None:
-    out = demo_cli("show", "change/heronsford/recycling").stdout
+    out = demo_cli("show", "blurb/heronsford/recycling").stdout
     assert "    status of the figure (status): final\n" in out and "()" not in out
     # a fact in words with its live-field name, and its value as shown, never the raw float
     assert "    value this period (value): 59.3%\n" in out
-    assert "    average change of all (mean_change): 0.1 percentage points\n" in out
-    assert "    direction of the change: up\n" in out  # claims in words too
+    assert "    change since the period before (change): 0.3 percentage points\n" in out
+    # claims in words too, without the part that states them (change.direction, standing.vs_group)
+    assert "    direction of the change: up\n" in out and "    against the group average: above\n" in out
+    assert "change." not in out and "standing." not in out
 
 
 def test_settings_are_checked_like_the_web_app(demo_cli: Cli) -> None:

@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
-from helpers import Cli, resolve_every_recheck
+from helpers import Cli, every_kind, resolve_every_recheck
 
 from stetline.store import ops
 from stetline.workspace import open_workspace
@@ -23,6 +23,7 @@ def test_status_after_demo_shows_two_editions_and_every_recheck_reason(demo_cli:
     assert reasons["claim-changed"] > 0
     assert reasons["numbers-changed"] > 0
     assert reasons["slot-gone"] == 2
+    assert reasons["render-failed"] == 1
     assert reasons["wording-changed"] == 1
     assert status["slots"] == sum(status["by_status"].values())
     assert set(status["by_status"]) == {"draft", "edited", "approved", "recheck", "suppressed"}
@@ -49,20 +50,50 @@ def test_the_renamed_town_keeps_its_work_with_its_history(demo_cli: Cli) -> None
             f"moved from {slot.replace('/larkholt-vale', '/larkholt', 1)} on load of edition 2025")
 
 
+def test_the_demo_queue_shows_every_reason_on_the_statements_a_report_prints(demo_cli: Cli) -> None:
+    # the demo's human work sits on blurbs, roundups, the headline and a profile, and the second
+    # edition sends them to recheck for every reason; a contradicted claim on blurbs of several towns
+    from stetline.status import REASONS
+
+    waiting = demo_cli.json("list", "--status", "recheck")
+    assert {item["kind"] for item in waiting} == {"headline", "profile", "roundup", "blurb"}
+    # every reason but `merged`: the demo's second edition renames one town and merges none
+    # (seed_data/renames-2025.csv); tests/test_renames.py raises `merged`
+    assert {r for item in waiting for r in item["recheck"]["reasons"]} == set(REASONS) - {"merged"}
+    contradicted = {item["entity"] for item in waiting
+                    if item["kind"] == "blurb" and "claim-changed" in item["recheck"]["reasons"]}
+    assert {"gorse-point", "high-ferrow", "samphire-reach", "north-quay", "puffin-holm"} <= contradicted
+    for reason in REASONS:  # each reason is raised on a blurb or a roundup at least once
+        if reason not in ("wording-changed", "merged"):
+            assert any(reason in item["recheck"]["reasons"] for item in waiting
+                       if item["kind"] in ("blurb", "roundup")), reason
+    # a new workspace drafts no part kind: nothing of them is listed
+    assert {item["kind"] for item in demo_cli.json("list")} == {"headline", "profile", "roundup", "blurb"}
+
+
 def test_every_layer_of_the_first_edition_survives_the_refresh(demo_cli: Cli) -> None:
     from stetline import demo
 
     items = by_slot(demo_cli.json("list"))
     # the demo's human work (stetline.demo), listed here so that emptying it fails this test
     assert set(demo.REWRITES) == {
-        "change/heronsford/recycling", "standing/tidemere/recycling", "change/gorse-point/recycling",
-        "standing/larkholt/recycling", "leaders/paper-timetables",
+        "blurb/gorse-point/recycling", "blurb/heronsford/parks-satisfaction", "roundup/parks-satisfaction",
+        "blurb/little-thrift/parks-satisfaction", "blurb/puffin-holm/relet-days", "blurb/larkholt/library-visits",
+        "roundup/paper-timetables",
     }
-    assert set(demo.PINS) == {"leaders/broadband", "standing/north-quay/broadband"}
+    assert set(demo.PINS) == {"roundup/broadband", "blurb/north-quay/broadband"}
     assert set(demo.NOTES) == {
-        "change/samphire-reach/recycling", "profile/north-quay", "standing/wrackhaven/paper-timetables",
+        "blurb/samphire-reach/recycling", "profile/north-quay", "blurb/wrackhaven/paper-timetables",
     }
-    assert set(demo.SUPPRESS) == {"standing/puffin-holm/new-business"}
+    assert set(demo.SUPPRESS) == {"blurb/puffin-holm/new-business"}
+    assert set(demo.COMMENTS) == {"blurb/gorse-point/recycling", "blurb/high-ferrow/bus-punctuality"}
+    from stetline import comments
+
+    ws = open_workspace(demo_cli.path)
+    with ws.session() as s:
+        for slot, thread in demo.COMMENTS.items():
+            assert [(c.by, c.text) for c in comments.thread(s, slot)] == list(thread)
+    ws.close()
     for slot, text in demo.REWRITES.items():
         slot = renamed(slot)
         assert items[slot]["layer"] == {**items[slot]["layer"], "type": "rewrite", "text": text, "by": "editor"}
@@ -79,17 +110,18 @@ def test_every_layer_of_the_first_edition_survives_the_refresh(demo_cli: Cli) ->
 
 
 def test_numbers_changed_rewrite_gets_a_clean_proposal_with_the_new_numbers(demo_cli: Cli) -> None:
-    item = demo_cli.json("show", "change/heronsford/recycling")
+    item = demo_cli.json("show", "blurb/heronsford/parks-satisfaction")
     assert item["status"] == "recheck"
     recheck = item["recheck"]
     assert recheck["reasons"] == ["numbers-changed"]
     assert recheck["clean"] is True
     # the editor's own words are kept, the numbers are the 2025 edition's
-    assert recheck["proposed"].startswith("Heronsford kept its lead on recycling:")
-    assert "from 59.0% in 2024 to 59.3% in 2025, a rise of 0.3 percentage points" in recheck["proposed"]
+    assert recheck["proposed"] == (
+        "Heronsford residents remain among the most satisfied with their parks: 81% in 2025, well above the "
+        "Estuary average of 67%.")
     changes = {c["fact"]: (c["old"], c["new"]) for c in recheck["changes"]}
-    assert changes["value"] == ("59.0%", "59.3%")
-    assert changes["change"] == ("2.4 percentage points", "0.3 percentage points")
+    assert changes["value"] == ("82%", "81%")
+    assert changes["group_mean"] == ("68%", "67%")
 
 
 def test_each_numbers_changed_rewrite_proposes_every_new_number(demo_cli: Cli) -> None:
@@ -104,45 +136,57 @@ def test_each_numbers_changed_rewrite_proposes_every_new_number(demo_cli: Cli) -
                 assert new in recheck["proposed"], (item["slot"], change)
                 checked[item["slot"]] = checked.get(item["slot"], 0) + 1
     # the demo's two rewrites whose only recheck reason is new numbers, and the numbers their
-    # editor's text quotes: Heronsford's 2.4 points, 56.6% and 59.0% with their three years;
-    # Tidemere's 53.5% and its year
-    assert checked == {"change/heronsford/recycling": 5, "standing/tidemere/recycling": 2}
+    # editor's text quotes: Heronsford's 82%, the Estuary's 68% and the year; the parks roundup's
+    # best figure (86%), the gap (28 points) and the year (the worst, 58%, is unchanged)
+    assert checked == {"blurb/heronsford/parks-satisfaction": 3, "roundup/parks-satisfaction": 3}
 
 
 def test_claim_change_lists_each_claim_old_to_new(demo_cli: Cli) -> None:
-    item = demo_cli.json("show", "change/gorse-point/recycling")
+    item = demo_cli.json("show", "blurb/gorse-point/recycling")
     recheck = item["recheck"]
     assert recheck["reasons"][0] == "claim-changed"
     changes = {c["fact"]: (c["old"], c["new"]) for c in recheck["changes"]}
-    assert changes["direction"] == ("up", "down")
-    assert changes["better"] == ("improved", "worsened")
-    # the editor changed the same words the new draft changes: a conflict, never resolved silently
+    # the rewrite said the rate climbed; in 2025 it fell
+    assert changes["change.direction"] == ("up", "down")
+    assert changes["change.better"] == ("improved", "worsened")
+    # a contradicted claim is never resolved silently: the proposal is not clean
     assert recheck["clean"] is False
-    assert "yours «climbed»" in recheck["proposed"]
+    assert {c["fact"] for c in recheck["contradicted"]} >= {"change.direction", "change.better"}
 
 
 def test_approved_draft_whose_claims_changed_goes_to_recheck(demo_cli: Cli) -> None:
-    item = demo_cli.json("show", "standing/high-ferrow/bus-punctuality")
+    item = demo_cli.json("show", "blurb/high-ferrow/bus-punctuality")
     changes = {c["fact"]: (c["old"], c["new"]) for c in item["recheck"]["changes"]}
-    assert changes["rank_band"] == ("top", "lower")
-    assert changes["target"] == ("met", "missed")
+    assert changes["standing.rank_band"] == ("top", "lower")
+    assert changes["standing.target"] == ("met", "missed")
 
 
 def test_gone_slot_keeps_its_layers(demo_cli: Cli) -> None:
-    item = demo_cli.json("show", "leaders/paper-timetables")
+    item = demo_cli.json("show", "roundup/paper-timetables")
     assert item["status"] == "recheck"
     assert item["recheck"]["reasons"] == ["slot-gone"]
     assert item["layer"]["type"] == "rewrite"
-    note = demo_cli.json("show", "standing/wrackhaven/paper-timetables")
+    note = demo_cli.json("show", "blurb/wrackhaven/paper-timetables")
     assert note["recheck"]["reasons"] == ["slot-gone"]
     assert len(note["notes"]) == 1
 
 
 def test_live_field_rewrite_updates_itself_without_recheck(demo_cli: Cli) -> None:
-    item = demo_cli.json("show", "standing/larkholt-vale/recycling")  # moved with the town's new key
+    item = demo_cli.json("show", "blurb/little-thrift/parks-satisfaction")
     assert item["status"] == "edited"
-    assert item["text"] == "Larkholt recycles 56.2% of its household waste, 3rd best of 14 towns."
-    assert item["layer"]["text"].startswith("Larkholt recycles {{ value }}")
+    assert item["text"] == (
+        "In 2025, 67% of Little Thrift's residents were satisfied with their local parks, 8th of 14 towns.")
+    assert item["layer"]["text"].startswith("In {{ period }}, {{ value }} of Little Thrift's")
+
+
+def test_a_live_field_the_new_draft_lacks_fails_to_render_and_waits(demo_cli: Cli) -> None:
+    # Puffin Holm's re-let time stopped lengthening in 2025: the blurb no longer states a streak, so the
+    # rewrite's {{ streak }} cannot render; the rewrite is kept as written, and the page shows the draft
+    item = demo_cli.json("show", "blurb/puffin-holm/relet-days")
+    assert item["recheck"]["reasons"][:2] == ["claim-changed", "render-failed"]
+    assert "'streak' is undefined" in item["render_error"]
+    assert item["current"].startswith("Re-let times in Puffin Holm have lengthened for {{ streak }} years")
+    assert item["text"] == item["draft"] and "63 days in 2025" in item["draft"]
 
 
 def test_wording_change_of_an_approved_draft(demo_cli: Cli) -> None:
@@ -153,6 +197,7 @@ def test_wording_change_of_an_approved_draft(demo_cli: Cli) -> None:
 
 
 def test_json_shapes_follow_the_contract(demo_cli: Cli) -> None:
+    every_kind(demo_cli.path)  # the part kinds too, so that every kind's shape is checked
     items = demo_cli.json("list")
     keys = {"slot", "kind", "entity", "topic", "status", "text", "draft", "layer", "notes", "suppressed",
             "recheck", "evidence", "claims"}
@@ -170,15 +215,22 @@ def test_json_shapes_follow_the_contract(demo_cli: Cli) -> None:
             assert {"rank", "rank_of"} <= set(item["evidence"])
         if item["kind"] == "change":
             assert {"previous", "previous_period", "change"} <= set(item["evidence"])
+        if item["kind"] == "blurb" and item["evidence"]["value"]["value"] is not None:
+            assert {"rank", "rank_of"} <= set(item["evidence"])
+            assert all("." in claim for claim in item["claims"])  # namespaced by the part kind
+    # every kind, the breakdowns too: the demo's data hold breakdowns by age group (seed_data/README.md)
+    assert {item["kind"] for item in items} == {"headline", "profile", "standing", "change", "trend", "blurb",
+                                                "leaders", "movement", "roundup", "breakdown"}
     shown = demo_cli.json("show", "profile/north-quay")
     assert [h["action"] for h in shown["history"]][:2] == ["annotate", "recheck"]
     assert {"composite", "composite_rank"} <= set(shown["evidence"])
 
 
 def test_list_filters(demo_cli: Cli) -> None:
-    items = demo_cli.json("list", "--entity", "tidemere", "--kind", "standing")
-    assert {i["slot"] for i in items} == {f"standing/tidemere/{t}" for t in {i["topic"] for i in items}}
-    assert len(items) == 12  # 11 yearly topics still reported (paper timetables stopped) and one quarterly
+    items = demo_cli.json("list", "--entity", "tidemere", "--kind", "blurb")
+    assert {i["slot"] for i in items} == {f"blurb/tidemere/{t}" for t in {i["topic"] for i in items}}
+    # seed_data/topics.csv: 11 yearly topics still reported (paper timetables stopped) and one quarterly
+    assert len(items) == 12
     assert all(i["status"] == "recheck" for i in demo_cli.json("list", "--status", "recheck"))
 
 
@@ -269,21 +321,21 @@ def test_first_load_needs_metadata(cli: Cli, demo_files: Path) -> None:
 def test_resolving_every_recheck_opens_the_gate(demo_cli: Cli, tmp_path: Path) -> None:
     refused = demo_cli("publish", "--format", "md", "--by", "admin", ok=False)
     assert "publishing refused" in refused.stderr
-    assert "change/heronsford/recycling" in refused.stderr
+    assert "blurb/heronsford/parks-satisfaction" in refused.stderr
     resolve_every_recheck(demo_cli)
     out = tmp_path / "report.md"
     demo_cli("publish", "--format", "md", "-o", str(out), "--by", "admin")
     report = out.read_text(encoding="utf-8")
     assert report.startswith("# Kestrel Sound Regional Council: Service Scorecard")
     assert "qualified person must check" in report
-    assert ("Heronsford kept its lead on recycling: the household recycling rate improved from 59.0% in 2024 "
-            "to 59.3% in 2025") in report
+    assert ("Heronsford residents remain among the most satisfied with their parks: 81% in 2025, well above "
+            "the Estuary average of 67%.") in report
     assert "Printed timetables were withdrawn" not in report  # gone slots are not published
     assert "Puffin Holm's 2025 figure" not in report
 
 
 def test_rewrite_actions_and_revert(demo_cli: Cli) -> None:
-    slot = "standing/north-quay/recycling"
+    slot = "blurb/north-quay/recycling"
     demo_cli("rewrite", slot, "North Quay recycled {{ value }} of household waste in {{ period }}.", "--by", "editor")
     item = demo_cli.json("show", slot)
     assert item["status"] == "edited"
@@ -304,7 +356,7 @@ def test_rewrite_actions_and_revert(demo_cli: Cli) -> None:
     ("{{ value ", "syntax error"),
 ])
 def test_rewrite_with_a_bad_live_field_is_refused(demo_cli: Cli, text: str, message: str) -> None:
-    slot = "standing/north-quay/recycling"
+    slot = "blurb/north-quay/recycling"
     before = demo_cli.json("show", slot)
     result = demo_cli("rewrite", slot, text, "--by", "editor", ok=False)
     assert result.exit_code == 1
@@ -338,10 +390,10 @@ def test_a_redraft_sees_the_revisions_its_load_saw(demo_cli: Cli, demo_files: Pa
 
     reload = ["load", str(demo_files / "observations-2025.csv"), "--json", "--by", "admin"]
     assert json.loads(demo_cli(*reload).stdout)["drafts_written"] == 0
-    revised = demo_cli.json("show", "change/shellby-sands/recycling")
+    revised = demo_cli.json("show", "blurb/shellby-sands/recycling")
     assert "revised_from" in revised["evidence"]
     for _ in range(2):
         redrafted = json.loads(demo_cli("redraft", "--json", "--by", "admin").stdout)
         assert redrafted["drafts_written"] == 0 and redrafted["sent_to_recheck"] == 0
         assert json.loads(demo_cli(*reload).stdout)["drafts_written"] == 0
-    assert demo_cli.json("show", "change/shellby-sands/recycling")["evidence"] == revised["evidence"]
+    assert demo_cli.json("show", "blurb/shellby-sands/recycling")["evidence"] == revised["evidence"]

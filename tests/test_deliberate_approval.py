@@ -16,7 +16,7 @@ from typing import Any
 import pytest
 from flask import Flask
 from flask.testing import FlaskClient
-from helpers import Cli
+from helpers import CONFLICTED, Cli
 from werkzeug.datastructures import MultiDict
 
 from stetline import actions, bulk
@@ -26,12 +26,16 @@ from stetline.web import create_app
 from stetline.workspace import Workspace
 
 # The demo after its second edition (see engine/demo.py):
-SAMPHIRE = "change/samphire-reach/recycling"  # approved draft whose direction flipped: claim-changed
-SAMPHIRE_CLAIMS = ["better: improved → worsened", "direction: up → down"]
-GORSE = "change/gorse-point/recycling"  # a rewrite whose claims flipped; its proposal has a conflict
-HIGH_FERROW = "standing/high-ferrow/bus-punctuality"  # approved draft: rank band, target and group flipped
-HERONSFORD = "change/heronsford/recycling"  # a rewrite whose numbers changed; clean proposal, same claims
-GONE = "standing/wrackhaven/paper-timetables"  # its indicator left the data: slot-gone
+SAMPHIRE = "blurb/samphire-reach/recycling"  # approved draft whose direction flipped: claim-changed
+# its claims, namespaced by the part of the paragraph that states them, and in the words the refusal uses
+SAMPHIRE_KEYS = ["change.better", "change.direction", "trend.record", "trend.streak"]
+SAMPHIRE_CLAIMS = ["better: improved → worsened", "direction: up → down",
+                   "record: highest-on-record → lowest-since:2021", "streak: improved:4 → none"]
+GORSE = "blurb/gorse-point/recycling"  # a rewrite whose claims flipped
+ROUNDUP = "roundup/recycling"  # approved roundup whose exceptions changed: claim-changed
+HIGH_FERROW = "blurb/high-ferrow/bus-punctuality"  # approved draft: rank band, target and group flipped
+HERONSFORD = "blurb/heronsford/parks-satisfaction"  # a rewrite whose numbers changed; clean proposal, same claims
+GONE = "blurb/wrackhaven/paper-timetables"  # its indicator left the data: slot-gone
 
 
 @pytest.fixture
@@ -79,7 +83,8 @@ def test_cli_refuses_a_claim_changed_approval_listing_the_claims_until_confirmed
 def test_accepting_the_proposal_of_a_claim_changed_statement_also_needs_the_confirmation(demo_cli: Cli) -> None:
     item = demo_cli.json("show", HIGH_FERROW)
     assert item["recheck"]["proposed"] and [c["fact"] for c in item["recheck"]["contradicted"]] == [
-        "rank_band", "target", "vs_group"]
+        "change.better", "change.direction", "standing.rank_band", "standing.target", "standing.vs_group",
+        "trend.record", "trend.streak"]
     refused = demo_cli("approve", HIGH_FERROW, "--accept-proposed", "--by", "reviewer", ok=False)
     assert "rank band: top → lower" in refused.stderr and "target: met → missed" in refused.stderr
     assert demo_cli.json("show", HIGH_FERROW)["status"] == "recheck"
@@ -99,23 +104,23 @@ def test_cli_approves_a_selection_after_asking_and_skips_what_needs_reading(demo
         slot: i["status"] for slot, i in listed.items()}  # answering no changes nothing
 
     out = demo_cli("approve", "--topic", "recycling", "--by", "reviewer", "--yes").stdout
-    assert f"skipped {GORSE}: the new data contradict its claims" in out
-    assert f"skipped {SAMPHIRE}: the new data contradict its claims" in out
+    for slot in (GORSE, SAMPHIRE, ROUNDUP):
+        assert f"skipped {slot}: the new data contradict its claims" in out
     n_done, n_skipped = map(int, re.search(r"(\d+) statement\(s\): approve done; (\d+) skipped", out).groups())
     assert n_done + n_skipped == len(listed) and n_skipped == out.count("skipped ")
     after = {i["slot"]: i for i in demo_cli.json("list", "--topic", "recycling")}
-    assert after[GORSE]["status"] == after[SAMPHIRE]["status"] == "recheck"
-    assert after[HERONSFORD]["status"] == "approved"
+    assert after[GORSE]["status"] == after[SAMPHIRE]["status"] == after[ROUNDUP]["status"] == "recheck"
+    assert after["blurb/tidemere/recycling"]["status"] == "approved"  # a draft nobody had approved yet
     waiting = [s for s, i in after.items() if i["status"] not in ("approved", "suppressed")]
-    assert sorted(waiting) == [GORSE, SAMPHIRE]
+    assert sorted(waiting) == [GORSE, SAMPHIRE, ROUNDUP]
 
 
 def test_cli_selection_by_kind_skips_gone_and_claim_changed_statements(demo_cli: Cli) -> None:
-    out = demo_cli("approve", "--kind", "standing", "--by", "reviewer", "--yes").stdout
+    out = demo_cli("approve", "--kind", "blurb", "--by", "reviewer", "--yes").stdout
     assert f"skipped {GONE}: it no longer applies to the current edition" in out
     assert f"skipped {HIGH_FERROW}: the new data contradict its claims" in out
     assert demo_cli.json("show", GONE)["status"] == demo_cli.json("show", HIGH_FERROW)["status"] == "recheck"
-    assert demo_cli.json("show", "standing/tidemere/recycling")["status"] == "approved"  # numbers changed only
+    assert demo_cli.json("show", "blurb/tidemere/recycling")["status"] == "approved"  # numbers changed only
 
 
 def test_cli_approve_refuses_mixed_requests(demo_cli: Cli) -> None:
@@ -136,14 +141,15 @@ def test_bulk_apply_refuses_a_claim_changed_statement_even_when_a_list_names_it(
     assert state(demo_ws, HERONSFORD)["status"] == "recheck"  # the whole list was refused, nothing approved
 
 
-def test_bulk_plan_skips_a_conflicting_proposal(demo_ws: Workspace) -> None:
-    # The demo has no conflict without a claim change; the rule is checked on a copy of gorse-point's
-    # recheck with the claim change taken out (a detached slot, never stored).
-    with demo_ws.reading() as s:
-        v = actions.view(s, GORSE)
+def test_bulk_plan_skips_a_conflicting_proposal(conflict_ws: Workspace) -> None:
+    # A conflict needs a part kind (composed statements never conflict), and comes with a claim change;
+    # the rule is checked on a copy of that recheck with the claim change taken out (a detached slot,
+    # never stored).
+    with conflict_ws.reading() as s:
+        v = actions.view(s, CONFLICTED)
         assert v.slot.recheck and v.slot.recheck["conflicts"]
         recheck = {**v.slot.recheck, "reasons": ["numbers-changed"]}
-        alone = actions.SlotView(Slot(id=GORSE, kind="change", status="recheck", gone=False, recheck=recheck,
+        alone = actions.SlotView(Slot(id=CONFLICTED, kind="change", status="recheck", gone=False, recheck=recheck,
                                       version=v.slot.version), v.draft, v.layers, v.approval)
         planned = bulk.plan("approve", [alone])
     assert planned.todo == [] and [why for _v, why in planned.skipped] == [
@@ -156,7 +162,7 @@ def test_statement_page_asks_to_tick_each_contradicted_claim(client: FlaskClient
     html = client.get(f"/statements/{SAMPHIRE}").get_data(as_text=True)
     form = approve_form(html, SAMPHIRE)
     boxes = re.findall(r'<input type="checkbox" id="([^"]+)" name="confirm_claim" value="([^"]+)" required>', form)
-    assert [value for _id, value in boxes] == ["better", "direction"]
+    assert [value for _id, value in boxes] == SAMPHIRE_KEYS
     labels = [html_mod.unescape(re.search(f'<label for="{box_id}">([^<]+)</label>', form).group(1))  # type: ignore[union-attr]
               for box_id, _v in boxes]
     assert labels == SAMPHIRE_CLAIMS
@@ -172,8 +178,8 @@ def test_web_refuses_a_claim_changed_approval_unless_every_claim_is_ticked(clien
     assert crafted.status_code == 400
     html = html_mod.unescape(crafted.get_data(as_text=True))
     assert "Nothing was changed" in html and all(claim in html for claim in SAMPHIRE_CLAIMS)
-    half = client.post(f"/statements/{SAMPHIRE}/approve",
-                       data=MultiDict([("version", version), ("confirm_claim", "direction")]))
+    half = client.post(f"/statements/{SAMPHIRE}/approve", data=MultiDict(
+        [("version", version)] + [("confirm_claim", key) for key in SAMPHIRE_KEYS if key != "change.better"]))
     assert half.status_code == 400
     error = re.search(r'id="approve-error" class="field-error">([^<]+)<', half.get_data(as_text=True))
     assert error and "better: improved → worsened" in html_mod.unescape(error.group(1))
@@ -182,7 +188,7 @@ def test_web_refuses_a_claim_changed_approval_unless_every_claim_is_ticked(clien
     assert (after["status"], after["version"], after["history"]) == ("recheck", before["version"], before["history"])
 
     done = client.post(f"/statements/{SAMPHIRE}/approve", data=MultiDict(
-        [("version", version), ("confirm_claim", "better"), ("confirm_claim", "direction"), ("by", "reviewer")]))
+        [("version", version), *[("confirm_claim", key) for key in SAMPHIRE_KEYS], ("by", "reviewer")]))
     assert done.status_code == 303
     approved = state(demo_ws, SAMPHIRE)
     assert approved["status"] == "approved"
@@ -193,8 +199,8 @@ def test_web_refuses_a_claim_changed_approval_unless_every_claim_is_ticked(clien
 def test_recheck_queue_puts_the_claim_checkboxes_in_the_approve_forms(client: FlaskClient) -> None:
     html = client.get("/recheck").get_data(as_text=True)
     samphire = approve_form(html, SAMPHIRE)
-    assert samphire.count('name="confirm_claim"') == 2 and "direction: up → down" in html_mod.unescape(samphire)
-    assert approve_form(html, HIGH_FERROW).count('name="confirm_claim"') == 3
+    assert samphire.count('name="confirm_claim"') == 4 and "direction: up → down" in html_mod.unescape(samphire)
+    assert approve_form(html, HIGH_FERROW).count('name="confirm_claim"') == 7
     assert "confirm_claim" not in approve_form(html, HERONSFORD)
     ids = re.findall(r'id="([^"]+-claim-\d+)"', html)
     assert ids and len(ids) == len(set(ids))  # every checkbox has its own label target

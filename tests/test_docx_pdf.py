@@ -15,7 +15,7 @@ from stetline.demo import TITLE
 from stetline.formats import FIGURE_NOTES
 
 TOOLS = {"soffice": "libreoffice-writer-nogui", "pdftotext": "poppler-utils", "pdftohtml": "poppler-utils"}
-HERONSFORD = "Heronsford kept its lead on recycling"  # the demo's rewrite, opening words
+HERONSFORD = "Heronsford residents remain among the most satisfied"  # the demo's rewrite, opening words
 
 
 def _tool(name: str) -> str:

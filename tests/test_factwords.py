@@ -16,6 +16,22 @@ def test_an_undeclared_key_reads_as_its_words_not_as_an_identifier() -> None:
     assert factwords.claim_words("first-time") == "first time"
 
 
+def test_a_claim_namespaced_by_its_part_reads_as_the_parts_own_claim() -> None:
+    # blurbs and roundups namespace each part's claims by its kind (change.better, leaders.leader)
+    assert factwords.claim_words("change.better") == factwords.claim_words("better") == "better or worse"
+    assert factwords.claim_words("standing.rank_band") == "place in the ranking"
+    assert factwords.change_words("trend.record") == "record"  # a list of changes names claims alike
+    assert factwords.claim_words("leaders.first_time") == "first time"  # undeclared: still words, no prefix
+
+
+def test_a_contradicted_namespaced_claim_is_said_without_its_part() -> None:
+    from stetline.claimcheck import claim_words
+
+    assert claim_words({"fact": "change.better", "old": "worsened", "new": "steady"}) == "better: worsened → steady"
+    assert claim_words({"fact": "standing.vs_group", "old": "above", "new": "below"}) == "vs group: above → below"
+    assert claim_words({"fact": "direction", "old": "up", "new": "down"}) == "direction: up → down"
+
+
 def test_claim_values_name_entities_and_topics_and_join_lists() -> None:
     names = {"heronsford": "Heronsford", "recycling": "Household recycling rate"}
     assert factwords.claim_value("heronsford", names) == "Heronsford"

@@ -27,7 +27,7 @@ from stetline.textmerge import word_diff
 from stetline.web import create_app
 from stetline.workspace import Workspace, open_workspace
 
-SLOT = "standing/cairnbrook/recycling"
+SLOT = "blurb/cairnbrook/recycling"
 STETLINE = str(Path(sys.executable).parent / "stetline")  # the installed command, run as a subprocess
 WORDS = ["Cairnbrook", "recycles", "more", "than", "most", "districts", "and", "the", "rate", "rose", "fell", "of"]
 

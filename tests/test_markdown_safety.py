@@ -50,10 +50,10 @@ def test_markdown_shows_html_from_the_data_and_rewrites_as_text(tmp_path: Path, 
     stetline(ws, "init")
     stetline(ws, "load", str(demo_files / "observations-2025.csv"), "--topics", str(topics),
              "--entities", str(entities), "--edition", "2025<iframe src=x>", "--by", "ed")
-    stetline(ws, "rewrite", "standing/cairnbrook/recycling",
+    stetline(ws, "rewrite", "blurb/cairnbrook/recycling",
              "**Cairnbrook** <img src=x onerror=alert('rewrite')> see [the council](https://example.org) "
              "or [this](javascript:alert('link')).", "--by", "ed")
-    stetline(ws, "annotate", "standing/cairnbrook/recycling", "A note <style>body{display:none}</style>", "--by", "ed")
+    stetline(ws, "annotate", "blurb/cairnbrook/recycling", "A note <style>body{display:none}</style>", "--by", "ed")
     out = tmp_path / "report.md"
     stetline(ws, "publish", "--format", "md", "-o", str(out), "--by", "ed", "--allow-recheck")
     text = out.read_text(encoding="utf-8")

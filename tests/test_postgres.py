@@ -18,7 +18,7 @@ from stetline.workspace import Workspace
 
 pytestmark = pytest.mark.skipif(not ON_POSTGRES, reason=f"needs PostgreSQL: set {TEST_URL_VARIABLE}")
 
-SLOT = "change/heronsford/recycling"
+SLOT = "blurb/heronsford/parks-satisfaction"
 
 
 def test_two_concurrent_saves_of_one_version_one_wins_the_other_conflicts(demo_ws: Workspace) -> None:

@@ -24,12 +24,13 @@ from stetline.store.models import Event
 from stetline.workspace import open_workspace
 
 FORMATS = ("md", "html", "json", "csv", "docx")
-TAMPERED = "standing/north-quay/recycling"
+TAMPERED = "blurb/north-quay/recycling"
 TAMPERED_TEXT = '=1+2 <script>alert("x")</script> & North Quay recycled {{ value }}; 999 bins.'
 TAMPERED_SHOWN = '=1+2 <script>alert("x")</script> & North Quay recycled 46.5%; 999 bins.'
 NOTE = "The harbour regeneration opened two business parks in North Quay in 2023."
-WRACKHAVEN = "standing/wrackhaven/recycling"
-WRACKHAVEN_TEXT = "The household recycling rate in Wrackhaven was 45.7% (provisional) in 2025"
+WRACKHAVEN = "blurb/wrackhaven/recycling"
+WRACKHAVEN_TEXT = ("The household recycling rate in Wrackhaven has improved for four years in a row, "
+                   "to 45.7% (provisional)")
 
 
 @pytest.fixture(scope="module")
@@ -257,7 +258,7 @@ def test_html_sections_by_topic(published: dict[str, Any], tmp_path: Path, demo_
 def test_json_traces_numbers_and_gives_provenance(published: dict[str, Any]) -> None:
     items = {i["slot"]: i for i in json.loads(published["files"]["json"].read_text(encoding="utf-8"))}
     wrack = items[WRACKHAVEN]
-    assert wrack["entity"] == "wrackhaven" and wrack["topic"] == "recycling" and wrack["kind"] == "standing"
+    assert wrack["entity"] == "wrackhaven" and wrack["topic"] == "recycling" and wrack["kind"] == "blurb"
     assert {"text": "45.7%", "fact": "value"} in wrack["numbers"]
     assert {"text": "50.0%", "fact": "target"} in wrack["numbers"]
     assert wrack["provenance"]["edition"] == "2025"
@@ -271,7 +272,7 @@ def test_json_traces_numbers_and_gives_provenance(published: dict[str, Any]) -> 
     assert {"text": "999", "fact": None} in tampered["numbers"]
     assert tampered["provenance"]["written_by"] == "editor"
     assert tampered["provenance"]["approved_by"] is None
-    pinned = items["leaders/broadband"]
+    pinned = items["roundup/broadband"]
     assert pinned["provenance"]["written_by"] == "editor"
     approved = [i for i in items.values() if i["status"] == "approved"]
     assert approved and all(i["provenance"]["approved_by"] == "reviewer" for i in approved)
@@ -378,7 +379,7 @@ def test_the_gate_refuses_every_format_while_a_recheck_is_open(demo_cli: Cli, tm
     refused = demo_cli("publish", "--format", fmt, "-o", str(out), "--by", "admin", ok=False)
     assert refused.exit_code == 1
     assert "publishing refused" in refused.stderr
-    assert "change/heronsford/recycling" in refused.stderr
+    assert "blurb/heronsford/parks-satisfaction" in refused.stderr
     assert not out.exists()
 
 

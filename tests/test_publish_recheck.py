@@ -21,9 +21,9 @@ from stetline.store import ops
 from stetline.workspace import open_workspace
 
 FORMATS = ("md", "html", "json", "csv", "docx")
-GONE = "standing/wrackhaven/paper-timetables"  # its topic left the data; a person had worked on it
-CLAIMS = "standing/high-ferrow/bus-punctuality"  # claim-changed: the earlier approved text is contradicted
-NUMBERS = "change/heronsford/recycling"  # numbers-changed with a clean proposal
+GONE = "blurb/wrackhaven/paper-timetables"  # its topic left the data; a person had worked on it
+CLAIMS = "blurb/high-ferrow/bus-punctuality"  # claim-changed: the earlier approved text is contradicted
+NUMBERS = "blurb/heronsford/parks-satisfaction"  # numbers-changed with a clean proposal
 
 
 @pytest.fixture(scope="module")

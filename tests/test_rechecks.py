@@ -4,74 +4,72 @@ from __future__ import annotations
 
 import json
 
-from helpers import Cli
+from helpers import Cli, resolve_every_recheck
 
 
 def test_audit_names_every_untraced_number_of_the_demo(demo_cli: Cli) -> None:
     # the audit reads what a publication would print: while their rechecks wait, the stale rewrite
     # and note are not printed (the new drafts are), so their typed numbers are not audited
     waiting = {a["slot"]: a for a in demo_cli.json("audit")}
-    assert waiting["change/gorse-point/recycling"]["untraced"] == []
+    assert waiting["blurb/gorse-point/recycling"]["untraced"] == []
     assert waiting["profile/north-quay"]["untraced"] == []
-    for slot in ("change/gorse-point/recycling", "profile/north-quay"):
+    for slot in ("blurb/gorse-point/recycling", "profile/north-quay"):
         demo_cli("approve", slot, "--confirm-claims", "--by", "reviewer")
     results = {a["slot"]: a for a in demo_cli.json("audit")}
     # a typed year no fact backs, in an editor's rewrite and in an expert's note
-    assert "2020" in results["change/gorse-point/recycling"]["untraced"]
+    assert "2020" in results["blurb/gorse-point/recycling"]["untraced"]
     assert results["profile/north-quay"]["untraced"] == ["2023"]
     # machine drafts trace completely: every number comes from a fact or a label
     drafted = [a for slot, a in results.items() if a["untraced"] and not slot.startswith(
-        ("change/gorse-point", "profile/north-quay", "change/heronsford", "standing/tidemere/recycling",
-         "standing/north-quay/broadband", "leaders/broadband"))]
+        ("blurb/gorse-point", "profile/north-quay"))]
     assert drafted == []
-    units = [n for n in results["standing/heronsford/new-business"]["numbers"] if n["text"] == "1,000"]
+    units = [n for n in results["blurb/heronsford/new-business"]["numbers"] if n["text"] == "1,000"]
     assert units and all(n["fact"] is not None for n in units)  # part of a shown value or the unit label
 
 
 def test_accept_all_clean_asks_first_then_records_one_event_each(demo_cli: Cli) -> None:
     refused = demo_cli("approve", "--all-clean", "--by", "reviewer", input="n\n", ok=False)
     assert refused.exit_code == 1
-    assert demo_cli.json("show", "change/heronsford/recycling")["status"] == "recheck"
+    assert demo_cli.json("show", "blurb/heronsford/parks-satisfaction")["status"] == "recheck"
     out = demo_cli("approve", "--all-clean", "--yes", "--by", "reviewer")
-    assert "5 statement(s) approved" in out.stdout
-    item = demo_cli.json("show", "change/heronsford/recycling")
+    assert "3 statement(s) approved" in out.stdout  # two rewrites and an approved roundup: numbers only
+    item = demo_cli.json("show", "blurb/heronsford/parks-satisfaction")
     assert item["status"] == "approved"
-    assert item["text"].startswith("Heronsford kept its lead on recycling")
+    assert item["text"].startswith("Heronsford residents remain among the most satisfied with their parks: 81%")
     assert item["history"][-1]["action"] == "accept"
     # claim changes and conflicts are never accepted in bulk
-    assert demo_cli.json("show", "change/gorse-point/recycling")["status"] == "recheck"
-    assert demo_cli.json("show", "standing/high-ferrow/bus-punctuality")["status"] == "recheck"
+    assert demo_cli.json("show", "blurb/gorse-point/recycling")["status"] == "recheck"
+    assert demo_cli.json("show", "blurb/high-ferrow/bus-punctuality")["status"] == "recheck"
 
 
-def test_a_conflicting_proposal_cannot_be_accepted_as_it_is(demo_cli: Cli) -> None:
-    result = demo_cli("approve", "change/gorse-point/recycling", "--accept-proposed", "--by", "reviewer", ok=False)
-    assert "has a conflict" in result.stderr
+def test_a_contradicted_proposal_cannot_be_accepted_as_it_is(demo_cli: Cli) -> None:
+    result = demo_cli("approve", "blurb/gorse-point/recycling", "--accept-proposed", "--by", "reviewer", ok=False)
+    assert result.exit_code == 1 and "the new data contradict" in result.stderr
+    assert demo_cli.json("show", "blurb/gorse-point/recycling")["status"] == "recheck"
 
 
 def test_changelog_between_the_two_demo_editions(demo_cli: Cli) -> None:
     log = json.loads(demo_cli("changes", "--format", "json").stdout)
     assert (log["from_edition"], log["to_edition"]) == ("2024", "2025")
-    assert "leaders/paper-timetables" in log["gone"]
+    assert "roundup/paper-timetables" in log["gone"] and "blurb/wrackhaven/paper-timetables" in log["gone"]
     # gone: the discontinued indicator's statements, and those of Larkholt's old key (renamed larkholt-vale)
     assert all("paper-timetables" in s or "/larkholt/" in s or s.endswith("/larkholt") for s in log["gone"])
     assert "profile/larkholt" in log["gone"] and "profile/larkholt-vale" in log["added"]
     flipped = {f["slot"]: f for f in log["flipped"]}
-    gorse = flipped["change/gorse-point/recycling"]
-    assert {"fact": "direction", "old": "up", "new": "down"} in gorse["claims"]
+    gorse = flipped["blurb/gorse-point/recycling"]
+    assert {"fact": "change.direction", "old": "up", "new": "down"} in gorse["claims"]
     assert "fell by 1.1 percentage points" in gorse["new_text"]
     carried = {c["slot"]: c for c in log["carried"]}
-    assert carried["change/heronsford/recycling"]["layers"] == ["rewrite"]
-    assert carried["change/heronsford/recycling"]["outcome"] == "recheck: numbers-changed"
+    assert carried["blurb/heronsford/parks-satisfaction"]["layers"] == ["rewrite"]
+    assert carried["blurb/heronsford/parks-satisfaction"]["outcome"] == "recheck: numbers-changed"
     md = demo_cli("changes").stdout
     assert md.startswith("# Changes from edition 2024 to 2025")
 
 
 def test_publish_warns_on_untraced_numbers_and_can_refuse_them(demo_cli: Cli, tmp_path) -> None:
-    demo_cli("approve", "--all-clean", "--yes", "--by", "reviewer")
-    for item in demo_cli.json("list", "--status", "recheck"):
-        demo_cli("approve", item["slot"], "--confirm-claims", "--by", "reviewer")
+    resolve_every_recheck(demo_cli)  # keeps the Gorse Point rewrite, whose claims the reviewer confirms
     out = demo_cli("publish", "-o", str(tmp_path / "r.md"), "--by", "admin")
-    assert "change/gorse-point/recycling: untraced number(s) 1.4, 2020" in out.stderr
+    assert "blurb/gorse-point/recycling: untraced number(s) 1.4, 2020" in out.stderr
     demo_cli("settings", "untraced_numbers", "refuse", "--by", "admin")
     refused = demo_cli("publish", "-o", str(tmp_path / "r2.md"), "--by", "admin", ok=False)
     assert "numbers that match no fact" in refused.stderr

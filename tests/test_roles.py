@@ -13,7 +13,7 @@ from stetline.cli import main
 from stetline.errors import StetlineError
 from stetline.workspace import init_workspace, open_workspace
 
-SLOT = "standing/tidemere/population"
+SLOT = "blurb/tidemere/population"
 ROLES = ("editor", "expert", "reviewer", "admin")
 
 

@@ -26,7 +26,7 @@ from stetline import actions
 from stetline.web import create_app
 from stetline.workspace import Workspace, open_workspace
 
-SLOT = "standing/cairnbrook/recycling"
+SLOT = "blurb/cairnbrook/recycling"
 DOUBLING = "{% set a = 'xxxxxxxxxx' %}" + "{% set a = a ~ a %}" * 30 + "Cairnbrook."
 DOUBLING_PLUS = "{% set a = 'xxxxxxxxxx' %}" + "{% set a = a + a %}" * 30 + "Cairnbrook."
 SILENT_LOOPS = "{% for a in range(100000) %}{% for b in range(100000) %}{% endfor %}{% endfor %}Cairnbrook."

@@ -34,7 +34,7 @@ from stetline.store import db, ops
 from stetline.web import create_app
 from stetline.workspace import Workspace, open_workspace
 
-SLOT = "standing/cairnbrook/recycling"  # a draft nobody worked on; the new edition revises its value
+SLOT = "blurb/cairnbrook/recycling"  # a draft nobody worked on; the new edition revises its value
 REWRITE = "Cairnbrook recycles {{ value }} of its household waste."
 LABEL = "2025-r2"
 WAIT = 20.0  # seconds: only reached when something is broken
@@ -311,7 +311,7 @@ def test_every_cli_command_closes_the_workspace_it_opens(
         ("choose", ["choose", "headline", "--draft"], None),
         ("pin", ["pin", SLOT], None),
         ("annotate", ["annotate", SLOT, "The depot reopened in May."], None),
-        ("suppress", ["suppress", "leaders/recycling"], None),
+        ("suppress", ["suppress", "roundup/recycling"], None),
         ("approve", ["approve", "headline"], None),
         ("audit", ["audit", "--untraced"], None),
         ("changes", ["changes"], None),

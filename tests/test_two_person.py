@@ -10,6 +10,7 @@ the statement is left as it was.
 from __future__ import annotations
 
 import html as html_mod
+import re
 import subprocess
 from collections.abc import Iterator
 from pathlib import Path
@@ -19,12 +20,13 @@ from flask import Flask
 from flask.testing import FlaskClient
 from helpers import run_stetline, signed_in
 from openpyxl import load_workbook
+from werkzeug.datastructures import MultiDict
 
 from stetline import actions
 from stetline.web import create_app
 from stetline.workspace import Workspace, open_workspace
 
-SLOT = "standing/cairnbrook/recycling"  # a draft nobody worked on in the demo
+SLOT = "blurb/cairnbrook/recycling"  # a draft nobody worked on in the demo
 
 
 @pytest.fixture
@@ -57,7 +59,10 @@ def post(client: FlaskClient, ws: Workspace, action: str, slot: str = SLOT, **fo
 
 def refused_approval(client: FlaskClient, ws: Workspace, author: str, slot: str = SLOT) -> None:
     before = state(ws, slot)
-    response = client.post(f"/statements/{slot}/approve", data={"version": str(before[1])})
+    page = client.get(f"/statements/{slot}").get_data(as_text=True)
+    ticked = [("confirm_claim", c) for c in re.findall(r'name="confirm_claim" value="([^"]+)"', page)]
+    # every contradicted claim ticked, as the author would: the refusal is the two-person rule's alone
+    response = client.post(f"/statements/{slot}/approve", data=MultiDict([("version", str(before[1])), *ticked]))
     body = html_mod.unescape(response.get_data(as_text=True))
     assert response.status_code == 403, body[:2000]
     assert f"{author} wrote this text and may not also approve it (two-person rule" in body
@@ -127,14 +132,17 @@ def test_a_worksheet_cell_holding_an_earlier_rewrite_keeps_its_author(app: Flask
 
 def test_an_accepted_proposal_keeps_the_rewrites_author(app: Flask, team: Workspace, team_path: Path,
                                                          demo_files: Path) -> None:
-    reviewer, admin = signed_in(app, "reviewer"), signed_in(app, "admin")
+    reviewer = signed_in(app, "reviewer")
     with team.reading() as s:
         draft = actions.view(s, SLOT).draft.text
     assert post(reviewer, team, "rewrite", text=draft + " A steady performer.") == 303
     older = stetline(team_path, "load", str(demo_files / "observations-2024.csv"), "--by", "admin")
     assert older.returncode == 0, older.stderr
     assert state(team)[0] == "recheck"
-    assert post(admin, team, "accept") == 303  # the admin takes the merged proposal and approves it
+    # the older data contradict the blurb's claims, so the proposal is not offered in one click on the web;
+    # the admin reads it, confirms the claims and takes the proposal with its numbers
+    accepted = stetline(team_path, "approve", SLOT, "--accept-proposed", "--confirm-claims", "--by", "admin")
+    assert accepted.returncode == 0, accepted.stderr
     assert state(team)[0] == "approved"
     newer = stetline(team_path, "load", str(demo_files / "observations-2025.csv"), "--by", "admin")
     assert newer.returncode == 0, newer.stderr

@@ -15,8 +15,8 @@ from stetline.store import ops
 from stetline.web import create_app
 from stetline.workspace import Workspace
 
-HERONSFORD = "change/heronsford/recycling"
-GORSE = "change/gorse-point/recycling"
+HERONSFORD = "blurb/heronsford/parks-satisfaction"
+GORSE = "blurb/gorse-point/recycling"
 PASSWORDS = {"ada": "ada-password-1", "eve": "eve-password-1", "rex": "rex-password-1", "max": "max-password-1"}
 
 
@@ -102,7 +102,8 @@ def test_actions_run_under_the_account_and_its_role(app: Flask, team: Workspace)
     response = rex.post(f"/statements/{GORSE}/send-back", data={"version": str(v + 1), "text": "Say which year."})
     assert response.status_code == 303
     with team.session() as s:
-        assert [(c.by, c.kind) for c in ops.comments_for(s, GORSE)] == [("ada", "comment"), ("rex", "send-back")]
+        # after the demo's own thread on this statement, the two that went through, under their accounts
+        assert [(c.by, c.kind) for c in ops.comments_for(s, GORSE)][-2:] == [("ada", "comment"), ("rex", "send-back")]
 
 
 def test_settings_are_refused_to_other_roles(app: Flask, team: Workspace) -> None:
@@ -157,6 +158,6 @@ def test_my_statements_lists_what_is_assigned_and_waits(app: Flask, team: Worksp
     with team.session() as s:
         accounts.assign(s, "eve", entity="tidemere", by="max")
     page = signed_in(app, "eve").get("/mine").get_data(as_text=True)
-    assert "Tidemere" in page and "standing/tidemere/recycling" in page
-    assert "standing/north-quay/recycling" not in page
+    assert "Tidemere" in page and "blurb/tidemere/recycling" in page
+    assert "blurb/north-quay/recycling" not in page
     assert "Nothing is assigned to rex" in signed_in(app, "rex").get("/mine").get_data(as_text=True)

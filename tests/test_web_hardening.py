@@ -20,7 +20,7 @@ from stetline.web import auth as web_auth
 from stetline.web import create_app
 from stetline.workspace import Workspace, open_workspace
 
-SLOT = "change/gorse-point/recycling"
+SLOT = "blurb/gorse-point/recycling"
 PASSWORDS = {"max": "max-password-1", "eve": "eve-password-1"}
 LONG = ("lou-" * 50)[:passwords.MAX_PASSWORD]  # the longest password accepted
 STETLINE = str(Path(sys.executable).with_name("stetline"))  # the installed command, run as its own process
@@ -94,8 +94,8 @@ def test_forms_never_redirect_off_site(demo_ws: Workspace, target: str) -> None:
 
 def test_a_path_on_the_site_is_still_followed(app: Flask) -> None:
     response = app.test_client().post("/login", data={"name": "eve", "password": PASSWORDS["eve"],
-                                                       "next": "/statements/change/gorse-point/recycling?x=1"})
-    assert response.headers["Location"] == "/statements/change/gorse-point/recycling?x=1"
+                                                       "next": "/statements/blurb/gorse-point/recycling?x=1"})
+    assert response.headers["Location"] == "/statements/blurb/gorse-point/recycling?x=1"
 
 
 # 5. sessions end ---------------------------------------------------------------------------------

@@ -18,6 +18,7 @@ import pytest
 from alembic import command
 from flask import Flask
 from flask.testing import FlaskClient
+from helpers import every_kind
 from markupsafe import escape
 from sqlalchemy import inspect
 
@@ -26,10 +27,10 @@ from stetline.errors import NotFound, StetlineError
 from stetline.store import ops
 from stetline.store.db import alembic_config
 from stetline.web import create_app
-from stetline.workspace import Workspace
+from stetline.workspace import Workspace, open_workspace
 
-HERONSFORD = "change/heronsford/recycling"
-GORSE = "change/gorse-point/recycling"
+HERONSFORD = "blurb/heronsford/parks-satisfaction"
+GORSE = "blurb/gorse-point/recycling"
 
 
 @pytest.fixture
@@ -247,12 +248,12 @@ def test_the_first_edition_loads_into_an_empty_workspace(ws: Workspace) -> None:
 def test_publish_page_shows_the_blocks_the_untraced_numbers_and_the_caution(client: FlaskClient,
                                                                            demo_ws: Workspace) -> None:
     with demo_ws.session() as s:  # a typed number no fact backs, in a statement that would be printed
-        actions.rewrite(s, "standing/cairnbrook/recycling", "Cairnbrook recycled 61.2% of its waste.", by="editor")
+        actions.rewrite(s, "blurb/cairnbrook/recycling", "Cairnbrook recycled 61.2% of its waste.", by="editor")
     html = get(client, "/publish")
     assert "14 statements wait in recheck" in html and f'href="/statements/{HERONSFORD}"' in html
     assert "Numbers no fact backs" in html and "61.2%" in html
     # the stale rewrite of a statement in recheck is not printed, so its old figure is not audited
-    assert "56.6%" not in html
+    assert "68%" not in html
     assert "drafts computed from the loaded data" in html and "qualified person must check" in html
     assert "release policy or code of practice comes first" in html
     for fmt in ("md", "html", "json", "csv", "docx"):
@@ -318,6 +319,16 @@ def test_settings_page_has_a_labelled_control_and_help_for_every_setting(client:
         else:
             assert f'<input type="text" id="set-{spec.key}" name="{spec.key}"' in html
     assert "Redraft now" not in html  # the demo's drafts follow its house style
+
+
+def test_the_kinds_drafted_have_their_own_group_on_the_settings_page(client: FlaskClient) -> None:
+    html = get(client, "/settings")
+    sections = {re.search(r"<legend>([^<]+)</legend>", part).group(1): part  # type: ignore[union-attr]
+                for part in html.split('<fieldset class="settings-group">')[1:]}
+    assert "What is drafted" in sections
+    assert 'id="set-kinds"' in sections["What is drafted"]
+    assert 'id="set-kinds"' not in sections["House style: the wording of drafts"]
+    assert 'id="set-serial_comma"' in sections["House style: the wording of drafts"]
 
 
 def _settings_form(client: FlaskClient) -> dict[str, str]:
@@ -389,13 +400,13 @@ def test_nothing_changed_says_so(client: FlaskClient) -> None:
 
 def test_search_finds_notes_and_marks_the_words(client: FlaskClient) -> None:
     html = get(client, "/search?q=Food-Waste+kerbside")
-    assert "1 result for" in html and 'href="/statements/change/samphire-reach/recycling"' in html
+    assert "1 result for" in html and 'href="/statements/blurb/samphire-reach/recycling"' in html
     assert '<span class="tag tag-note">note</span>' in html and "by expert" in html
     assert "<mark>kerbside</mark> <mark>food-waste</mark>" in html
 
 
 def test_search_finds_rewrites_pins_and_comments(client: FlaskClient, demo_ws: Workspace) -> None:
-    html = get(client, "/search?q=kept+its+lead")
+    html = get(client, "/search?q=most+satisfied+with+their+parks")
     assert '<span class="tag tag-rewrite">rewrite</span>' in html and HERONSFORD in html
     with demo_ws.session() as s:
         comments.add_comment(s, GORSE, "Ask the waste team about the glass round", "Ada")
@@ -437,7 +448,7 @@ def test_comments_form_a_thread_in_markdown_without_scripts(client: FlaskClient,
 
 
 def test_send_back_records_an_event_and_keeps_the_status(client: FlaskClient, demo_ws: Workspace) -> None:
-    slot = "standing/larkholt-vale/recycling"  # Larkholt is renamed at the demo's second load
+    slot = "blurb/larkholt-vale/recycling"  # Larkholt is renamed at the demo's second load
     before = state(demo_ws, slot)
     response = client.post(f"/statements/{slot}/send-back", data={
         "version": str(before["version"]), "text": "Say which year the rank is for.", "by": "reviewer"})
@@ -465,7 +476,7 @@ def test_an_empty_comment_is_refused_next_to_its_field(client: FlaskClient, demo
 def test_the_engine_refuses_comments_on_unknown_statements(demo_ws: Workspace) -> None:
     with demo_ws.session() as s:
         with pytest.raises(NotFound):
-            comments.add_comment(s, "change/atlantis/recycling", "hello", "Ada")
+            comments.add_comment(s, "blurb/atlantis/recycling", "hello", "Ada")
         with pytest.raises(StetlineError, match="limit"):
             comments.send_back(s, HERONSFORD, "x" * 6000, "Ada")
         entry = comments.add_comment(s, HERONSFORD, "  fine  ", "Ada")
@@ -502,15 +513,16 @@ def test_restoring_from_a_stale_page_is_a_conflict(client: FlaskClient, demo_ws:
 
 def test_entity_page_filters_by_status_and_offers_bulk_work(client: FlaskClient) -> None:
     html = get(client, "/entities/heronsford")
-    assert "Approve all 49 shown" in html and "Suppress all 49 shown" in html and "Annotate all 49 shown" in html
-    # 12 topics x (standing, change, trend, blurb) and the profile
-    assert '<label for="bulk-note">Note for all 49 shown</label>' in html and '<label for="f-status">' in html
+    assert "Approve all 13 shown" in html and "Suppress all 13 shown" in html and "Annotate all 13 shown" in html
+    # a blurb for each of its 12 topics (seed_data/topics.csv: 11 yearly still reported, one quarterly) and the profile
+    assert '<label for="bulk-note">Note for all 13 shown</label>' in html and '<label for="f-status">' in html
     html = get(client, "/entities/heronsford?status=recheck")
-    # the recycling change rewritten and approved, and the approved quarterly blurb (seed_data/README.md)
-    assert "2 of 49 statements" in html and "Approve all 2 shown" in html
+    # the parks rewrite whose numbers changed, and the approved quarterly blurb (stetline.demo, seed_data/README.md)
+    assert "2 of 13 statements" in html and "Approve all 2 shown" in html
     assert sorted(re.findall(r'<a href="/statements/([^"]+)"><code>', html)) == sorted(
         [HERONSFORD, "blurb/heronsford/library-visits"])
-    assert "Approve all 1 shown" in get(client, "/topics/recycling?status=edited")
+    assert "Approve all 1 shown" in get(client, "/topics/parks-satisfaction?status=edited")  # Little Thrift's
+    assert "Approve all 1 shown" in get(client, "/topics/library-visits?status=edited")  # the renamed town's
 
 
 def test_bulk_approve_confirms_the_count_then_approves_exactly_those(client: FlaskClient, demo_ws: Workspace) -> None:
@@ -518,20 +530,21 @@ def test_bulk_approve_confirms_the_count_then_approves_exactly_those(client: Fla
                                                   "status": "draft"})
     assert response.status_code == 200
     html = response.get_data(as_text=True)
-    assert "<h1>Approve 47 statements?</h1>" in html and "Yes, approve all 47" in html
+    # Heronsford's 13 statements but the 2 in recheck (test_entity_page_filters_by_status_and_offers_bulk_work)
+    assert "<h1>Approve 11 statements?</h1>" in html and "Yes, approve all 11" in html
     assert "Proposed texts in recheck" not in html  # none of these is in recheck
     fields = form_fields(html, "/bulk/apply")
     slots = [v for n, v in fields if n == "slot"]
-    assert len(slots) == 47 and HERONSFORD not in slots
+    assert len(slots) == 11 and HERONSFORD not in slots
     with demo_ws.session() as s:
         assert all(v.slot.status == "draft"
                    for v in actions.views(s, ops.SlotFilter(entity="heronsford", status="draft")))
     response = client.post("/bulk/apply", data=_multi([(n, "reviewer" if n == "by" else v) for n, v in fields]))
     assert response.status_code == 303 and response.headers["Location"].endswith("/entities/heronsford?status=draft")
     html = get(client, "/entities/heronsford?status=draft")
-    assert "Approved 47 statements." in html and "No statements with this filter" in html
+    assert "Approved 11 statements." in html and "No statements with this filter" in html
     with demo_ws.session() as s:
-        assert ops.status_counts_by(s, "entity")["heronsford"] == {"approved": 47, "recheck": 2}
+        assert ops.status_counts_by(s, "entity")["heronsford"] == {"approved": 11, "recheck": 2}
         assert sorted(e.slot_id for e in ops.recent_events(s, 200) if e.action == "approve" and e.by == "reviewer"
                       and e.slot_id in slots) == sorted(slots)
 
@@ -551,16 +564,17 @@ def test_bulk_annotate_on_the_recheck_queue(client: FlaskClient, demo_ws: Worksp
     assert "<h1>Annotate 2 statements?</h1>" in html and "Indicator discontinued in 2025." in html
     response = client.post("/bulk/apply", data=_multi(form_fields(html, "/bulk/apply")))
     assert response.status_code == 303 and response.headers["Location"].endswith("/recheck?reason=slot-gone")
-    for slot in ("leaders/paper-timetables", "standing/wrackhaven/paper-timetables"):
+    for slot in ("roundup/paper-timetables", "blurb/wrackhaven/paper-timetables"):
         assert "Indicator discontinued in 2025." in [n["text"] for n in state(demo_ws, slot)["notes"]]
 
 
 def test_bulk_approve_in_the_recheck_queue_says_proposals_are_not_taken(client: FlaskClient) -> None:
     html = client.post("/bulk/confirm", data={"action": "approve", "scope": "recheck", "reason": "numbers-changed"}
                        ).get_data(as_text=True)
-    # of the 11 whose numbers changed, the 6 whose claims the new data also contradict are left alone
-    assert "<h1>Approve 5 statements?</h1>" in html and "Proposed texts in recheck are <em>not</em> taken" in html
-    assert "Left as they are (6)" in html and html.count("the new data contradict its claims") == 6
+    # of the 12 whose numbers changed (`stetline list --status recheck` on the demo), the 9 whose claims the new
+    # data also contradict are left alone
+    assert "<h1>Approve 3 statements?</h1>" in html and "Proposed texts in recheck are <em>not</em> taken" in html
+    assert "Left as they are (9)" in html and html.count("the new data contradict its claims") == 9
 
 
 def test_bulk_annotate_needs_a_note(client: FlaskClient) -> None:
@@ -583,7 +597,7 @@ def test_bulk_apply_changes_nothing_when_a_statement_changed_since(client: Flask
         as_text=True)
     fields = form_fields(html, "/bulk/apply")
     with demo_ws.session() as s:
-        actions.pin(s, "standing/heronsford/recycling", by="someone")
+        actions.pin(s, "blurb/heronsford/recycling", by="someone")
     before = {slot: state(demo_ws, slot)["status"] for n, slot in fields if n == "slot"}
     response = client.post("/bulk/apply", data=_multi(fields))
     assert response.status_code == 409
@@ -657,7 +671,7 @@ def test_the_app_brings_an_older_workspace_up_to_date(demo_ws: Workspace) -> Non
 # -- every form carries a CSRF token, every control a label -----------------------------------
 
 PAGES = ("/", "/entities", "/entities/heronsford", "/topics/recycling", f"/statements/{HERONSFORD}",
-         "/statements/leaders/recycling", "/recheck", "/publish", "/data", "/settings", "/search?q=recycling")
+         "/statements/roundup/recycling", "/recheck", "/publish", "/data", "/settings", "/search?q=recycling")
 
 
 def test_every_post_form_carries_a_csrf_token(demo_ws: Workspace) -> None:
@@ -689,10 +703,23 @@ def test_every_control_has_a_label(client: FlaskClient) -> None:
 
 
 @pytest.mark.parametrize("slot", [
-    "headline", "profile/north-quay", "movement/recycling", "leaders/paper-timetables",  # gone, in recheck
-    "standing/puffin-holm/new-business",  # suppressed
-    "trend/heronsford/relet-days", "standing/wrackhaven/paper-timetables",
+    "headline", "profile/north-quay", "roundup/recycling", "roundup/paper-timetables",  # gone, in recheck
+    "blurb/puffin-holm/new-business",  # suppressed
+    "blurb/heronsford/relet-days", "blurb/wrackhaven/paper-timetables",
 ])
 def test_every_kind_of_statement_page_renders(client: FlaskClient, slot: str) -> None:
     html = get(client, f"/statements/{slot}")
     assert "What the next publication prints</h2>" in html and 'id="thread-h"' in html and 'id="history-h"' in html
+
+
+def test_every_part_kind_of_statement_page_renders(demo_path: Path) -> None:
+    every_kind(demo_path)  # the part kinds are drafted only when the kinds setting names them
+    ws = open_workspace(demo_path)
+    try:
+        client = create_app(ws, {"TESTING": True, "WTF_CSRF_ENABLED": False}).test_client()
+        for slot in ("standing/heronsford/recycling", "change/heronsford/recycling", "trend/heronsford/relet-days",
+                     "leaders/recycling", "movement/recycling"):
+            html = get(client, f"/statements/{slot}")
+            assert "What the next publication prints</h2>" in html and 'id="history-h"' in html, slot
+    finally:
+        ws.close()

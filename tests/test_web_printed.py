@@ -13,9 +13,9 @@ from stetline.publication import RECHECK_MARK
 from stetline.web import create_app
 from stetline.workspace import Workspace
 
-CLAIMS = "standing/high-ferrow/bus-punctuality"  # claim-changed: the reviewer's approved text is contradicted
-NUMBERS = "change/heronsford/recycling"  # numbers-changed: a rewrite with a clean proposed update
-GONE = "standing/wrackhaven/paper-timetables"  # slot-gone
+CLAIMS = "blurb/high-ferrow/bus-punctuality"  # claim-changed: the reviewer's approved text is contradicted
+NUMBERS = "blurb/heronsford/parks-satisfaction"  # numbers-changed: a rewrite with a clean proposed update
+GONE = "blurb/wrackhaven/paper-timetables"  # slot-gone
 
 
 @pytest.fixture
@@ -64,7 +64,7 @@ def test_the_page_of_a_statement_in_recheck_shows_what_will_be_printed(client: F
 
 
 def test_a_statement_nobody_approved_says_so(client: FlaskClient) -> None:
-    c = card(client, "standing/cairnbrook/recycling")
+    c = card(client, "blurb/cairnbrook/recycling")
     assert "Never approved: nobody has signed it off yet." in str(c["box"])
     assert c["reason"] == "Prints the draft of the current edition, not approved."
     assert "Publishing is refused" not in str(c["box"])

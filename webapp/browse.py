@@ -1,5 +1,11 @@
 """Browsing pages: the entities and topics, each with its statements in interest order, a status
-filter, and bulk work on the statements shown."""
+filter, and bulk work on the statements shown.
+
+A page's statements are grouped as a report reads: an entity's by topic category (its profile
+first), a topic's into the topic as a whole (the roundup) and its entities (the blurbs). Part
+statements (standing, change, trend; leaders, movement), when the workspace drafts them, fold
+beneath the blurb or roundup they are part of when it is on the same page. Each page is still read
+with LIMIT and OFFSET in interest order; the grouping only arranges the page's rows."""
 
 from __future__ import annotations
 
@@ -9,6 +15,7 @@ from flask import Blueprint, abort, render_template, request
 from sqlalchemy.orm import Session
 
 from stetline import actions, nesting
+from stetline.kinds import blurb, roundup
 from stetline.livefields import LiveFields
 from stetline.loading import house_style
 from stetline.status import Status
@@ -16,6 +23,7 @@ from stetline.store import ops
 from stetline.web.db import session
 from stetline.web.paging import current_page
 from stetline.web.selection import Selection
+from stetline.web.wording import entity_nouns
 
 bp = Blueprint("browse", __name__)
 
@@ -96,9 +104,54 @@ def _listing(s: Session, sel: Selection, title: str, subtitle: str, **nav: Any) 
     status = sel.filters.get("status")
     page = current_page(every.get(status, 0) if status else sum(every.values()))
     items = sel.views(s, limit=page.size, offset=page.offset)
+    rows = _rows(s, items)
     return render_template("browse/statements.html", what=sel.scope, title=title, subtitle=subtitle,
-                           rows=_rows(s, items), selection=sel, statuses=actions.STATUSES, every=every,
-                           total=sum(every.values()), page=page, up=nav.get("up", []), down=nav.get("down", []))
+                           rows=rows, groups=_groups(s, sel.scope, rows), selection=sel, statuses=actions.STATUSES,
+                           every=every, total=sum(every.values()), page=page, up=nav.get("up", []),
+                           down=nav.get("down", []))
+
+
+#: the statement each part kind folds beneath: its slot id from the part's entity and topic
+_WHOLE = {**{k: blurb.KIND for k in blurb.PARTS}, **{k: roundup.KIND for k in roundup.PARTS}}
+
+
+def _whole_of(row: dict[str, Any]) -> str | None:
+    whole = _WHOLE.get(row["kind"])
+    if whole is None:
+        return None
+    return f"{whole}/{row['entity']}/{row['topic']}" if row["entity"] else f"{whole}/{row['topic']}"
+
+
+def _groups(s: Session, scope: str, rows: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """The page's rows in headed groups, interest order kept within each; parts beneath their whole."""
+    on_page = {r["slot"]: r for r in rows}
+    for r in rows:
+        r["parts"] = []
+    shown: list[dict[str, Any]] = []
+    for r in rows:
+        whole = on_page.get(_whole_of(r) or "")
+        if whole is not None:
+            whole["parts"].append(r)
+        else:
+            shown.append(r)
+    if scope == "entity":
+        topics = ops.topic_rows(s)
+        category = {t.key: t.category or "Other indicators" for t in topics}
+        order = ["Overall", *dict.fromkeys(category[t.key] for t in topics)]
+
+        def heading(r: dict[str, Any]) -> str:
+            return category.get(r["topic"], "Other indicators") if r["topic"] else "Overall"
+    else:
+        each = entity_nouns()
+        order = ["The topic as a whole", each]
+
+        def heading(r: dict[str, Any]) -> str:
+            return each if r["entity"] else "The topic as a whole"
+    groups: dict[str, list[dict[str, Any]]] = {}
+    for r in shown:
+        groups.setdefault(heading(r), []).append(r)
+    known = [h for h in order if h in groups] + [h for h in groups if h not in order]
+    return [{"heading": h, "rows": groups[h]} for h in known]
 
 
 def _rows(s: Session, items: list[actions.SlotView]) -> list[dict[str, Any]]:

@@ -18,7 +18,7 @@ from stetline.web.db import session
 from stetline.web.paging import current_page
 from stetline.web.selection import Selection
 from stetline.web.statement import review_texts
-from stetline.web.wording import web_message
+from stetline.web.wording import entity_noun, web_message
 
 bp = Blueprint("recheck", __name__)
 
@@ -127,7 +127,7 @@ def accept_clean() -> Any:
 
 @bp.get("/changes")
 def changes() -> Any:
-    """What changed between two editions (default: the last two)."""
+    """What changed between two editions (default: the last two), grouped by entity and topic."""
     from stetline.changelog import changes as changelog
     from stetline.errors import StetlineError
 
@@ -137,4 +137,56 @@ def changes() -> Any:
         log = changelog(s, request.args.get("from") or None, request.args.get("to") or None)
     except StetlineError as exc:
         return render_template("recheck/changes.html", log=None, error=web_message(exc), labels=labels), 200
-    return render_template("recheck/changes.html", log=log, error=None, labels=labels)
+    return render_template("recheck/changes.html", log=log, error=None, labels=labels, places=_places(s, log),
+                           noun=entity_noun())
+
+
+#: the statement of a cell whose text the changes page quotes, when several of the cell's changed
+_QUOTED_FIRST = ("blurb", "roundup", "profile", "headline")
+
+
+def _places(s: Any, log: Any) -> list[dict[str, Any]]:
+    """The flipped claims and changed values by entity, then topic: each value and claim listed once.
+
+    Every statement of one entity and topic (a blurb and, when drafted, its parts) states the same
+    value and shares its claims, so a cell lists the value's change once, the claims once (by the
+    fact they are about, whichever kind states them), and quotes one statement's text before and
+    after (the composed one when it changed), with links to all of them.
+    """
+    names = {e.key: e.name for e in ops.entity_rows(s)}
+    topics = {t.key: t.label for t in ops.topic_rows(s)}
+    entity_order = {k: i for i, k in enumerate(names)}
+    topic_order = {k: i for i, k in enumerate(topics)}
+    cells: dict[tuple[str | None, str | None], dict[str, Any]] = {}
+
+    def cell(slot: str) -> dict[str, Any]:
+        parts = slot.split("/")
+        entity = parts[1] if len(parts) == 3 or (len(parts) == 2 and parts[0] == "profile") else None
+        topic = parts[-1] if len(parts) == 3 or (len(parts) == 2 and parts[0] != "profile") else None
+        return cells.setdefault((entity, topic), {
+            "entity": entity, "topic": topic, "label": topics.get(topic or "", "All indicators"),
+            "slots": [], "claims": [], "value": None, "quoted": None})
+
+    for f in log.flipped:
+        c = cell(f["slot"])
+        c["slots"].append(f["slot"])
+        for claim in f["claims"]:
+            entry = (claim["fact"].split(".")[-1], claim["old"], claim["new"])
+            if entry not in c["claims"]:
+                c["claims"].append(entry)
+        kind = f["slot"].split("/")[0]
+        rank = _QUOTED_FIRST.index(kind) if kind in _QUOTED_FIRST else len(_QUOTED_FIRST)
+        if c["quoted"] is None or rank < c["quoted"][0]:
+            c["quoted"] = (rank, f)
+    for n in log.numbers:
+        c = cell(n["slot"])
+        if n["slot"] not in c["slots"]:
+            c["slots"].append(n["slot"])
+        if c["value"] is None:
+            c["value"] = n
+    grouped: dict[str | None, list[dict[str, Any]]] = {}
+    for (entity, _topic), c in sorted(cells.items(), key=lambda kv: (
+            kv[0][0] is not None, entity_order.get(kv[0][0] or "", 0), topic_order.get(kv[0][1] or "", -1))):
+        c["quoted"] = c["quoted"][1] if c["quoted"] else None
+        grouped.setdefault(entity, []).append(c)
+    return [{"entity": e, "name": names.get(e, e) if e else "Across all", "cells": cs} for e, cs in grouped.items()]

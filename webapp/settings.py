@@ -18,11 +18,13 @@ from stetline.web.wording import web_message
 
 bp = Blueprint("settings", __name__)
 
-GROUPS = (("publication", "The publication"), ("style", "House style: the wording of drafts"),
-          ("rules", "Rules and the web app"))
+GROUPS = (("publication", "The publication"), ("drafted", "What is drafted"),
+          ("style", "House style: the wording of drafts"), ("rules", "Rules and the web app"))
 
 
 def _group(key: str) -> str:
+    if key == "kinds":  # which statements exist, not how they are worded (a redraft follows it all the same)
+        return "drafted"
     if key in settings_mod.STYLE_KEYS:
         return "style"
     return "publication" if key == "title" else "rules"

@@ -40,7 +40,10 @@ def settings_(key: str | None, value: str | None, workspace: Path | None, by: st
         changes = configure.save(session, {key: value}, by=by)
         now = declared.with_defaults(ops.get_settings(session))[key]
     click.echo(f"{key} = {json.dumps(now)}" + ("" if changes else " (unchanged)"))
-    if changes and key in declared.STYLE_KEYS:
+    if changes and key == "kinds":
+        click.echo("this setting changes which statements are drafted: run `stetline redraft` to apply it "
+                   "(statements of a kind turned off keep their human work and wait in recheck as gone)")
+    elif changes and key in declared.STYLE_KEYS:
         click.echo("this setting changes the wording of drafts: run `stetline redraft` to apply it")
 
 

@@ -31,8 +31,8 @@ from stetline import demo
 from stetline.store import ops
 from stetline.workspace import open_workspace
 
-SLOTS = ("standing/tidemere/recycling", "change/north-quay/broadband", "standing/larkholt-vale/population",
-         "trend/heronsford/recycling", "profile/cairnbrook")
+SLOTS = ("blurb/tidemere/recycling", "blurb/north-quay/broadband", "blurb/larkholt-vale/population",
+         "roundup/recycling", "profile/cairnbrook")  # statements the demo drafts with its default kinds
 PAGES = ("/", "/entities/tidemere", "/recheck", "/topics/recycling")
 TOKEN = re.compile(r'name="csrf_token" value="([^"]+)"')
 VERSION = re.compile(r'action="[^"]*/annotate"[^>]*>.*?name="version" value="(\d+)"', re.S)

@@ -14,8 +14,10 @@ from typing import Any
 import pytest
 
 from stetline import loading, workers
+from stetline import settings as declared
 from stetline.dataset import load_dataset
 from stetline.errors import StetlineError
+from stetline.store import ops
 from stetline.workspace import init_workspace
 
 from .test_noop_fast_path import _dump, _human_work, _synthetic
@@ -23,6 +25,8 @@ from .test_noop_fast_path import _dump, _human_work, _synthetic
 
 def _journey(path: Path, data: dict[str, Path]) -> tuple[list[dict[str, Any]], dict[str, list[tuple[Any, ...]]]]:
     ws = init_workspace(path)
+    with ws.session() as s:  # every kind, the part kinds too: the workers draft them all
+        ops.put_setting(s, "kinds", ",".join(declared.ALL_KINDS))
     try:
         summaries = [loading.load_edition(ws, data["observations"], data["topics"], data["entities"], by="a")]
         _human_work(ws)
@@ -88,6 +92,7 @@ def test_a_template_that_fails_in_a_worker_stops_drafting_with_the_same_message(
     data = _synthetic().write(tmp_path / "data", 12, 4, 3)
     dataset = load_dataset(data["observations"], data["topics"], data["entities"])
     with ws.session() as session:
+        ops.put_setting(session, "kinds", ",".join(declared.ALL_KINDS))  # trend statements are a part kind
         ctx = loading.edition_context(session, dataset.observations, dataset.topics, dataset.entities, None, "x")
     phrasing = tmp_path / "phrasing"
     phrasing.mkdir()

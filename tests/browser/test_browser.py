@@ -20,8 +20,8 @@ pytestmark = [
         "ignore:Session-scoped fixtures defined as instance methods:pytest.PytestRemovedIn10Warning"),
 ]
 
-HERONSFORD = "change/heronsford/recycling"
-GORSE = "change/gorse-point/recycling"
+HERONSFORD = "blurb/heronsford/parks-satisfaction"
+GORSE = "blurb/gorse-point/recycling"
 
 
 def status(live: Live, slot: str) -> str:
@@ -91,7 +91,7 @@ def test_a_bad_upload_shows_the_problems_table(page: Page, live: Live) -> None:
 def test_publishing_markdown_downloads_the_file(page: Page, live: Live, tmp_path: Path) -> None:
     page.goto(live("/publish"))
     expect(page.locator(".caution")).to_contain_text("A qualified person must check them before release")
-    expect(page.get_by_role("heading", name=re.compile("13 statements wait in recheck"))).to_be_visible()
+    expect(page.get_by_role("heading", name=re.compile("14 statements wait in recheck"))).to_be_visible()
     page.get_by_label("Markdown").check()
     page.get_by_label("Publish even though statements wait in recheck").check()
     with page.expect_download() as info:
