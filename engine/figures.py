@@ -364,13 +364,14 @@ def values_shown(xs: Sequence[float], unit: str, decimals: int, style: HouseStyl
 
     The topic's pattern (percent sign and its place, the locale's signs) is worked out once and the
     column rounded by :func:`stetline.rounding.round_half_up_array`, which gives round_half_up's
-    numbers; values it cannot write so (money, counts scaled in words, a locale that does not
-    group in threes, figures too long for a float to hold every digit) go through :func:`value`.
+    numbers; values it cannot write so (money, a unit with a currency sign, counts scaled in words, a
+    locale that does not group in threes, figures too long for a float to hold every digit) go through :func:`value`.
     """
     check_decimals(decimals)
     nums = _locale_numbers(style.locale)
     percent_unit = unit in ("percent", "%")
-    if nums.fallback_pattern is not None or (not percent_unit and is_currency_unit(unit)) or decimals > 15:
+    money_unit = not percent_unit and (is_currency_unit(unit) or bool(currency_in(unit)[0]))  # "USD", "million US$"
+    if nums.fallback_pattern is not None or money_unit or decimals > 15:
         return [value(x, unit, decimals, style) for x in xs]
     raw = np.asarray(xs, dtype="float64")
     rounded = round_half_up_array(raw, decimals).tolist()

@@ -20,7 +20,8 @@ from stetline import figures
 from stetline.figures import HouseStyle
 
 LOCALES = ("en_GB", "en_US", "de_DE", "fr_FR", "hi_IN", "tr_TR")
-UNITS = ("percent", "%", "", "tonnes", "years", "USD", "GBP")
+# units with a currency sign ("million US$", "€") are written sign first (figures.value): the column must match
+UNITS = ("percent", "%", "", "tonnes", "years", "USD", "GBP", "million US$", "€")
 
 styles = st.builds(
     HouseStyle, locale=st.sampled_from(LOCALES), percent_word=st.sampled_from(figures.PERCENT_WORDS),
