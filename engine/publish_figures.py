@@ -89,17 +89,19 @@ def topic_data(session: Session, style: HouseStyle, noun: str) -> dict[str, Topi
                 change_text(float(c.change), float(c.prev_value), unit, decimals, mode, style, bool(c.change_zero))
                 if known else "",
                 fmt(float(c.prev_value)) if known else "", "" if _missing(c.prev_period) else str(c.prev_period))
-            if usable:
+            if usable and int(c.depth) == facts.main_depth:  # the topic ranks the main level: towns, not districts
                 latest.append((entity, float(c.value), float(c.rank)))
         latest.sort(key=lambda t: (t[2], order.get(t[0], 0)))
         period = topic_periods[-1]
         label = str(meta.label)
         entry_lines = [(e, names.get(e, e), lines[e]) for e in sorted(lines, key=lambda e: order.get(e, 0))]
+        depth_of = {str(c.entity): int(c.depth) for c in cells.itertuples(index=False)}
         data = TopicData(key, label, unit, str(meta.category or ""), str(meta.better), period, topic_periods,
                          lines, [(e, v) for e, v, _r in latest], figures)
         data.ranking = charts.ranking_spec(label, unit, period, [(e, names.get(e, e), v) for e, v, _r in latest],
                                            None, fmt, noun, data.better)
-        for entity in lines:
-            data.series_charts[entity] = charts.series_spec(label, unit, topic_periods, entry_lines, entity, fmt, noun)
+        for entity in lines:  # an entity's series among the entities of its own level
+            level = [line for line in entry_lines if depth_of.get(line[0], 0) == depth_of.get(entity, 0)]
+            data.series_charts[entity] = charts.series_spec(label, unit, topic_periods, level, entity, fmt, noun)
         out[key] = data
     return out

@@ -17,7 +17,7 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from stetline import charts, phrasing
+from stetline import charts, nesting, phrasing
 from stetline.actions import SlotView
 from stetline.loading import house_style
 from stetline.store import ops
@@ -34,23 +34,40 @@ def _build(s: Session, v: SlotView) -> dict[str, Any]:
     if topic is None:
         return out
     style, values = house_style(s)
-    noun = str(values["entity_noun"])
 
     def fmt(x: float) -> str:
         return phrasing.value(x, topic.unit, topic.decimals, style)
 
-    names = {e.key: e.name for e in ops.entity_rows(s)}
+    rows = ops.entity_rows(s)
+    names = {e.key: e.name for e in rows}
+    parents = {e.key: e.parent for e in rows}
     period, latest = ops.latest_values(s, topic.key)
+    depth = _depth_shown(v, parents, [k for k, _x in latest])
+    noun = nesting.level_noun(nesting.nouns_of(str(values["level_nouns"])), depth, str(values["entity_noun"]))
+
+    def level(key: str) -> bool:  # a chart compares the entities of one level: towns with towns
+        return len(nesting.ancestors(parents, key)) == depth
+
     if v.slot.entity:
         lines, periods = ops.topic_series(s, topic.key)
         out["series"] = charts.series_spec(
-            topic.label, topic.unit, periods, [(k, names.get(k, k), vs) for k, vs in lines.items()],
+            topic.label, topic.unit, periods, [(k, names.get(k, k), vs) for k, vs in lines.items() if level(k)],
             v.slot.entity, fmt, noun)
     if period is not None:
         out["ranking"] = charts.ranking_spec(topic.label, topic.unit, period,
-                                             [(k, names.get(k, k), x) for k, x in latest], v.slot.entity, fmt,
-                                             noun, topic.better)
+                                             [(k, names.get(k, k), x) for k, x in latest if level(k)],
+                                             v.slot.entity, fmt, noun, topic.better)
     return out
+
+
+def _depth_shown(v: SlotView, parents: dict[str, str], with_data: list[str]) -> int:
+    """The level a statement's charts compare: its entity's, its slot's level token's, else the deepest with data."""
+    if v.slot.entity:
+        return len(nesting.ancestors(parents, v.slot.entity))
+    token = next((part for part in v.slot.id.split("/") if part.startswith(nesting.LEVEL_PREFIX)), "")
+    if token[len(nesting.LEVEL_PREFIX):].isdigit():
+        return int(token[len(nesting.LEVEL_PREFIX):]) - 1
+    return max((len(nesting.ancestors(parents, k)) for k in with_data), default=0)
 
 
 def statement_charts(s: Session, v: SlotView, workspace_key: str) -> dict[str, Any]:
