@@ -94,7 +94,7 @@ def gather(session: Session, *, sections: str = "entity", allow_recheck: bool = 
     noun = str(values["entity_noun"])
     return Publication(str(values["title"]), edition.label, date.today().isoformat(), out_sections, warnings, sources,
                        {k: e.name for k, e in entities.items()}, {k: t.label for k, t in topics.items()}, waiting,
-                       topic_data(session, style, noun), noun, sections)
+                       topic_data(session, style, noun, nesting.nouns_of(str(values["level_nouns"]))), noun, sections)
 
 
 def waiting_warning(slot_id: str, reason: str) -> str:

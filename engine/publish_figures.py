@@ -12,7 +12,7 @@ from typing import Any
 import pandas as pd
 from sqlalchemy.orm import Session
 
-from stetline import charts, periods, phrasing
+from stetline import charts, nesting, periods, phrasing
 from stetline.facts import compute_facts
 from stetline.phrasing import HouseStyle
 from stetline.publication import Figures, TopicData
@@ -47,8 +47,12 @@ def change_text(change: float, previous: float, unit: str, decimals: int, mode: 
     return ("+" if change > 0 else "−") + size
 
 
-def topic_data(session: Session, style: HouseStyle, noun: str) -> dict[str, TopicData]:
-    """Every topic's periods, series, ranked latest values, figures and charts (topic order)."""
+def topic_data(session: Session, style: HouseStyle, noun: str,
+               level_nouns: tuple[str, ...] = ()) -> dict[str, TopicData]:
+    """Every topic's periods, series, ranked latest values, figures and charts (topic order).
+
+    ``level_nouns`` names an entity of each level, top first (the `level_nouns` setting): a district's
+    series is drawn among the other districts and called so."""
     frames = _frames(session)
     if frames is None:
         return {}
@@ -101,7 +105,9 @@ def topic_data(session: Session, style: HouseStyle, noun: str) -> dict[str, Topi
         data.ranking = charts.ranking_spec(label, unit, period, [(e, names.get(e, e), v) for e, v, _r in latest],
                                            None, fmt, noun, data.better)
         for entity in lines:  # an entity's series among the entities of its own level
-            level = [line for line in entry_lines if depth_of.get(line[0], 0) == depth_of.get(entity, 0)]
-            data.series_charts[entity] = charts.series_spec(label, unit, topic_periods, level, entity, fmt, noun)
+            depth = depth_of.get(entity, 0)
+            level = [line for line in entry_lines if depth_of.get(line[0], 0) == depth]
+            data.series_charts[entity] = charts.series_spec(label, unit, topic_periods, level, entity, fmt,
+                                                            nesting.level_noun(level_nouns, depth, noun))
         out[key] = data
     return out

@@ -144,3 +144,20 @@ def test_a_topic_where_every_value_is_the_same_still_draws(entities: int) -> Non
         fig = charts.figure(spec)
         fig.draw_without_rendering()
         assert _texts_outside(fig) == []
+
+
+def test_the_report_charts_compare_the_entities_of_one_level(demo_path: Any) -> None:
+    # the demo's towns lie in three districts that report recycling too (seed_data/README.md): a town's
+    # chart compares the 14 towns, a district's the three districts, and the topic ranks the towns
+    from stetline.publish import gather
+    from stetline.workspace import open_workspace
+
+    ws = open_workspace(demo_path)
+    with ws.session() as s:
+        data = gather(s, allow_recheck=True).topics["recycling"]
+    ws.close()
+    assert len(data.latest) == 14 and data.ranking is not None and "14 towns ranked" in data.ranking.caption
+    town, district = data.series_charts["heronsford"], data.series_charts["westreach"]
+    assert town is not None and "The other 13 towns ranged from" in town.caption
+    assert district is not None and "The other 2 districts ranged from" in district.caption
+    assert {key for key, _name, _values in district.lines} == {"westreach", "eastmarch", "sound-isles"}
