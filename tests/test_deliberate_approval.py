@@ -27,13 +27,14 @@ from stetline.workspace import Workspace
 
 # The demo after its second edition (see engine/demo.py):
 SAMPHIRE = "blurb/samphire-reach/recycling"  # approved draft whose direction flipped: claim-changed
-# its claims, namespaced by the part of the paragraph that states them, and in the words the refusal uses
-SAMPHIRE_KEYS = ["change.better", "change.direction", "trend.record", "trend.streak"]
-SAMPHIRE_CLAIMS = ["better: improved → worsened", "direction: up → down",
+# its claims, namespaced by the part of the paragraph that states them, and in the words the refusal uses;
+# the sibling band is its place among the towns of its district (Eastmarch District, seed_data/entities.csv)
+SAMPHIRE_KEYS = ["change.better", "change.direction", "standing.sibling_band", "trend.record", "trend.streak"]
+SAMPHIRE_CLAIMS = ["better: improved → worsened", "direction: up → down", "sibling band: lower → bottom",
                    "record: highest-on-record → lowest-since:2021", "streak: improved:4 → none"]
 GORSE = "blurb/gorse-point/recycling"  # a rewrite whose claims flipped
 ROUNDUP = "roundup/recycling"  # approved roundup whose exceptions changed: claim-changed
-HIGH_FERROW = "blurb/high-ferrow/bus-punctuality"  # approved draft: rank band, target and group flipped
+HIGH_FERROW = "blurb/high-ferrow/bus-punctuality"  # approved draft: rank band, target, group and district flipped
 HERONSFORD = "blurb/heronsford/parks-satisfaction"  # a rewrite whose numbers changed; clean proposal, same claims
 GONE = "blurb/wrackhaven/paper-timetables"  # its indicator left the data: slot-gone
 
@@ -83,8 +84,8 @@ def test_cli_refuses_a_claim_changed_approval_listing_the_claims_until_confirmed
 def test_accepting_the_proposal_of_a_claim_changed_statement_also_needs_the_confirmation(demo_cli: Cli) -> None:
     item = demo_cli.json("show", HIGH_FERROW)
     assert item["recheck"]["proposed"] and [c["fact"] for c in item["recheck"]["contradicted"]] == [
-        "change.better", "change.direction", "standing.rank_band", "standing.target", "standing.vs_group",
-        "trend.record", "trend.streak"]
+        "change.better", "change.direction", "standing.rank_band", "standing.sibling_band", "standing.target",
+        "standing.vs_group", "standing.vs_parent", "trend.record", "trend.streak"]
     refused = demo_cli("approve", HIGH_FERROW, "--accept-proposed", "--by", "reviewer", ok=False)
     assert "rank band: top → lower" in refused.stderr and "target: met → missed" in refused.stderr
     assert demo_cli.json("show", HIGH_FERROW)["status"] == "recheck"
@@ -199,8 +200,9 @@ def test_web_refuses_a_claim_changed_approval_unless_every_claim_is_ticked(clien
 def test_recheck_queue_puts_the_claim_checkboxes_in_the_approve_forms(client: FlaskClient) -> None:
     html = client.get("/recheck").get_data(as_text=True)
     samphire = approve_form(html, SAMPHIRE)
-    assert samphire.count('name="confirm_claim"') == 4 and "direction: up → down" in html_mod.unescape(samphire)
-    assert approve_form(html, HIGH_FERROW).count('name="confirm_claim"') == 7
+    assert samphire.count('name="confirm_claim"') == len(SAMPHIRE_KEYS)
+    assert "direction: up → down" in html_mod.unescape(samphire)
+    assert approve_form(html, HIGH_FERROW).count('name="confirm_claim"') == 9  # the nine facts listed above
     assert "confirm_claim" not in approve_form(html, HERONSFORD)
     ids = re.findall(r'id="([^"]+-claim-\d+)"', html)
     assert ids and len(ids) == len(set(ids))  # every checkbox has its own label target
