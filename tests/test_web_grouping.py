@@ -67,10 +67,16 @@ def test_an_entity_page_groups_its_statements_by_topic_category(client: FlaskCli
 
 def test_a_topic_page_puts_the_topic_as_a_whole_before_its_towns(client: FlaskClient) -> None:
     sections = groups(get(client, "/topics/recycling"))
-    assert list(sections) == ["The topic as a whole", "Towns"]  # the demo's entity noun, in the plural
-    assert ROW_LINK.findall(sections["The topic as a whole"]) == ["roundup/recycling"]
+    # the demo's level nouns (district,town) in the plural: its three districts report recycling too
+    # (seed_data/README.md), the top level first, as the towns' roundup and the districts' (level-1) lead
+    assert list(sections) == ["The topic as a whole", "Districts", "Towns"]
+    assert sorted(ROW_LINK.findall(sections["The topic as a whole"])) == ["roundup/level-1/recycling",
+                                                                          "roundup/recycling"]
     towns = ROW_LINK.findall(sections["Towns"])
     assert len(towns) == 14 and all(slot.startswith("blurb/") for slot in towns)
+    assert sorted(ROW_LINK.findall(sections["Districts"])) == [
+        "blurb/eastmarch/recycling", "blurb/sound-isles/recycling", "blurb/westreach/recycling"]
+    assert list(groups(get(client, "/topics/broadband"))) == ["The topic as a whole", "Towns"]  # towns only
     assert 'class="parts"' not in "".join(sections.values())  # no part kinds drafted: nothing to fold
 
 

@@ -14,7 +14,7 @@ from typing import Any
 from flask import Blueprint, abort, render_template, request
 from sqlalchemy.orm import Session
 
-from stetline import actions, nesting
+from stetline import actions, nesting, words
 from stetline.kinds import blurb, roundup
 from stetline.livefields import LiveFields
 from stetline.loading import house_style
@@ -23,7 +23,7 @@ from stetline.store import ops
 from stetline.web.db import session
 from stetline.web.paging import current_page
 from stetline.web.selection import Selection
-from stetline.web.wording import entity_nouns
+from stetline.web.wording import entity_noun, entity_nouns
 
 bp = Blueprint("browse", __name__)
 
@@ -141,12 +141,16 @@ def _groups(s: Session, scope: str, rows: list[dict[str, Any]]) -> list[dict[str
 
         def heading(r: dict[str, Any]) -> str:
             return category.get(r["topic"], "Other indicators") if r["topic"] else "Overall"
-    else:
-        each = entity_nouns()
-        order = ["The topic as a whole", each]
+    else:  # the entities under their level's noun, top level first: "Districts", then "Towns"
+        parents = {e.key: e.parent for e in ops.entity_rows(s)}
+        nouns = nesting.nouns_of(str(house_style(s)[1]["level_nouns"]))
+        depths = sorted({len(nesting.ancestors(parents, r["entity"])) for r in shown if r["entity"]})
+        each = {d: words.capitalise(words.noun_plural(nesting.level_noun(nouns, d, entity_noun()), 2))
+                for d in depths} if nouns else {d: entity_nouns() for d in depths}
+        order = ["The topic as a whole", *dict.fromkeys(each.values())]
 
         def heading(r: dict[str, Any]) -> str:
-            return each if r["entity"] else "The topic as a whole"
+            return each[len(nesting.ancestors(parents, r["entity"]))] if r["entity"] else "The topic as a whole"
     groups: dict[str, list[dict[str, Any]]] = {}
     for r in shown:
         groups.setdefault(heading(r), []).append(r)
