@@ -288,6 +288,23 @@ class Route:
 
 GORSE_TEXT = demo.REWRITES[REWRITTEN]
 NEW_TEXT = "Cairnbrook recycles {{ value }} of its household waste."
+MERGED_TEXT = "Cairnbrook and its old neighbour together recycled {{ value }} of their household waste."
+
+
+def merged_form(ws: Workspace) -> dict[str, str]:
+    """Put PLAIN in recheck as a load merging two areas does (stetline.renames.mark_merged), then choose text 1.
+
+    The demo merges no town (seed_data/renames-2025.csv only renames one), so the merged recheck is set here."""
+    with ws.session() as s:
+        slot = ops.get_slot(s, PLAIN, lock=True)
+        assert slot is not None
+        slot.status = "recheck"
+        slot.recheck = {"reasons": ["merged"], "changes": [], "proposed": None, "conflicts": [], "clean": False,
+                        "severity": 2, "merged": [{"slot": "blurb/old-cairnbrook/recycling", "type": "rewrite",
+                                                   "text": MERGED_TEXT, "by": "editor", "author": "editor",
+                                                   "approved": False}]}
+        slot.version += 1
+        return {"version": str(slot.version), "pick": "1"}
 
 ROUTES: tuple[Route, ...] = (
     Route("rewrite", "statement.rewrite", f"/statements/{PLAIN}/rewrite", "rewrite",
@@ -311,6 +328,8 @@ ROUTES: tuple[Route, ...] = (
     Route("restore", "statement.restore", f"/statements/{REWRITTEN}/restore", "rewrite",
           lambda ws, _a, _r: {"version": version(ws, REWRITTEN), "text": GORSE_TEXT},
           rewritten(REWRITTEN, GORSE_TEXT)),
+    Route("choose", "statement.choose", f"/statements/{PLAIN}/choose", "rewrite",
+          lambda ws, _a, _r: merged_form(ws), rewritten(PLAIN, MERGED_TEXT)),
     Route("comment", "statement.comment", f"/statements/{PLAIN}/comment", "comment",
           lambda ws, _a, _r: {"version": version(ws, PLAIN), "text": "Which year does the depot figure cover?"},
           commented("comment")),
