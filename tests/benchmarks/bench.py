@@ -118,10 +118,15 @@ def floor_main(observations: str, slots: int, db_path: str) -> None:
         }
         text = template.render(variables, p=i % 2, ev={k: v["shown"] for k, v in evidence.items()})
         out.append((f"standing/{entity}/{topic}/{i}", text.strip(), json.dumps(evidence)))
+    _write_floor_rows(db_path, out)
+
+
+def _write_floor_rows(db_path: str, rows: list[tuple[str, str, str]]) -> None:
+    """Insert the floors' drafts into a one-index table, in one transaction (what both floors write)."""
     con = sqlite3.connect(db_path, isolation_level=None)
     con.execute("CREATE TABLE draft (slot_id TEXT PRIMARY KEY, text TEXT, evidence TEXT)")
     con.execute("BEGIN")
-    con.executemany("INSERT INTO draft VALUES (?, ?, ?)", out)
+    con.executemany("INSERT INTO draft VALUES (?, ?, ?)", rows)
     con.execute("COMMIT")
     con.close()
 
@@ -143,12 +148,7 @@ def bare_floor_main(observations: str, slots: int, db_path: str) -> None:
         text = template.render(name=entity, label=topic, value=value, period=period)
         facts = {"value": {"value": value, "shown": str(value)}, "period": {"value": period, "shown": str(period)}}
         out.append((f"standing/{entity}/{topic}/{i}", text, json.dumps(facts)))
-    con = sqlite3.connect(db_path, isolation_level=None)
-    con.execute("CREATE TABLE draft (slot_id TEXT PRIMARY KEY, text TEXT, evidence TEXT)")
-    con.execute("BEGIN")
-    con.executemany("INSERT INTO draft VALUES (?, ?, ?)", out)
-    con.execute("COMMIT")
-    con.close()
+    _write_floor_rows(db_path, out)
 
 
 # -- running and timing subprocesses --------------------------------------------------------
