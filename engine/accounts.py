@@ -32,6 +32,9 @@ PERMISSIONS: dict[str, frozenset[str]] = {
     "approve": REVIEWING, "accept": REVIEWING, "send-back": REVIEWING,
     "load": ADMIN, "redraft": ADMIN, "publish": ADMIN, "settings": ADMIN,
     "backup": ADMIN, "restore": ADMIN, "accounts": ADMIN, "assign": ADMIN,
+    # reading, not acting: the recheck queue's "worth a data check" lines (datachecks.py), for the
+    # people who fix or sign off statements
+    "data-check": EDITING,
 }
 MAX_NAME = 100
 #: the one answer to a failed sign-in, whatever failed (so it names no account)

@@ -120,3 +120,29 @@ def stetline_env(path: Path) -> dict[str, str]:
     import stetline.workspace as workspace_module
 
     return {**os.environ, "STETLINE_DATABASE_URL": workspace_module._url_for(path, None)}
+
+
+#: the towns and topics of a small built workspace in which one town may go against the others
+PATTERN_TOWNS = ("ashby", "brill", "colne", "dunmere", "eske", "fordham", "garth", "holm")
+PATTERN_TOPICS = "topic,label,unit,better,decimals,category,target\n" + "".join(
+    f"{key},{label},percent,higher,1,,\n" for key, label in
+    (("parks", "Parks satisfaction"), ("recycling", "Recycling rate"), ("broadband", "Broadband coverage")))
+
+
+def pattern_workspace(path: Path, against: str | None = "colne") -> Cli:
+    """A new workspace of eight towns and three topics over 2024-2025 in which every town rises by two
+    points on every topic except ``against``, which falls by two on all three (None: nobody does)."""
+    path.mkdir(parents=True, exist_ok=True)
+    (path.parent / "pattern-topics.csv").write_text(PATTERN_TOPICS, encoding="utf-8")
+    (path.parent / "pattern-entities.csv").write_text(
+        "entity,name,group\n" + "".join(f"{k},{k.title()},Coast\n" for k in PATTERN_TOWNS), encoding="utf-8")
+    rows = ["entity,topic,period,value"]
+    for t in ("parks", "recycling", "broadband"):
+        for i, town in enumerate(PATTERN_TOWNS):
+            rows += [f"{town},{t},2024,{50 + i}", f"{town},{t},2025,{50 + i + (-2 if town == against else 2)}"]
+    (path.parent / "pattern-obs.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
+    cli = Cli(path / "ws")
+    cli("init")
+    cli("load", str(path.parent / "pattern-obs.csv"), "--topics", str(path.parent / "pattern-topics.csv"),
+        "--entities", str(path.parent / "pattern-entities.csv"), "--by", "admin")
+    return cli

@@ -8,11 +8,12 @@ from typing import Any
 
 from flask import Blueprint, render_template, request
 
-from stetline import actions, comments
+from stetline import actions, comments, datachecks
 from stetline.livefields import LiveFields
 from stetline.loading import house_style
 from stetline.reconcile import REASONS
 from stetline.store import ops
+from stetline.web.auth import may
 from stetline.web.common import diff
 from stetline.web.db import session
 from stetline.web.paging import current_page
@@ -80,11 +81,14 @@ def queue() -> str:
             "review_diff": changed if any(op != "same" for op, _ in changed) else None,  # an empty diff is hidden
             "proposal": proposal_state(data["recheck"]), "work": human_work(v, data, comments.thread(s, v.slot.id)),
         })
+    # entities the drafts flag as worth a data check: a line each, in recheck or not; never printed
+    checks = datachecks.data_checks(s) if may("data-check") else []
     options = {"reason": [(r, r) for r in REASONS]}
     options.update((field, ops.recheck_options(s, field)) for field in ("kind", "entity", "topic"))
     return render_template("recheck/queue.html", items=items, total=total, chosen=chosen, page=page,
                            options=options, back_to=request.full_path.rstrip("?"), selection=selection,
-                           reason_text=REASON_TEXT)
+                           reason_text=REASON_TEXT, checks=checks, checks_title=datachecks.TITLE,
+                           checks_note=datachecks.NOTE)
 
 
 @bp.get("/recheck/accept-clean")

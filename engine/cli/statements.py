@@ -46,19 +46,26 @@ def status(as_json: bool, workspace: Path | None) -> None:
 @workspace_option
 def list_(kind: str | None, entity: str | None, topic: str | None, status_: str | None,
           as_json: bool, workspace: Path | None) -> None:
-    """List statements with their status and text."""
-    from stetline import actions
+    """List statements with their status and text; then, unless another status is asked for, the entities
+    worth a data check (a note for reviewers, never printed)."""
+    from stetline import actions, datachecks
     from stetline.store import ops
 
     with open_ws(workspace).reading() as session:
         rows = actions.views(session, ops.SlotFilter(kind=kind, entity=entity, topic=topic, status=status_))
         data = [v.to_json(session) for v in rows]
+        checks = datachecks.data_checks(session) if not as_json and status_ in (None, "recheck") else []
     if as_json:
         echo_json(data)
         return
     for item in data:
         click.echo(f"{item['slot']}  [{item['status']}]")
         click.echo(f"    {item['text'] if item['text'] is not None else '(suppressed)'}")
+    checks = [c for c in checks if entity is None or c.entity == entity]
+    for c in checks:
+        click.echo(f"{datachecks.TITLE}: {c.name} ({c.entity}) {c.summary()}; see {c.slot}")
+    if checks:
+        click.echo(f"    {datachecks.NOTE}")
 
 
 def _evidence_line(name: str, fact: dict[str, Any]) -> str:

@@ -9,7 +9,8 @@ importing only the ones listed before it:
   IN (...), rows to frames
 - editions: settings, editions, entity and topic metadata, observations
 - slots: a slot, its draft, layers and approvals
-- listing: the listed predicate, slot filters, listings and status counts, recheck choices
+- listing: the listed predicate, slot filters, listings and status counts, recheck choices, the current
+  drafts of a kind (claims and evidence)
 - refresh: slot states for reconcile, a refresh's decisions written in bulk
 - history: events, comment threads, drafts and layers as of an edition
 - moves: human work given from one slot to another (renamed and merged entities)
@@ -61,8 +62,10 @@ from stetline.store.ops.history import (
 )
 from stetline.store.ops.listing import (
     Counts,
+    CurrentDraft,
     SlotFilter,
     count_slots,
+    current_of_kind,
     describe_totals,
     list_slots,
     listed,
@@ -124,7 +127,7 @@ __all__ = [
     "add_layer", "drop", "add_approval", "layers_for", "approvals_for", "all_active_layers",
     "all_active_approvals", "slot_statuses", "listed", "SlotFilter", "list_slots", "count_slots",
     "status_counts", "status_counts_by", "status_counts_of", "recheck_options", "recheck_reason_counts",
-    "Counts", "describe_totals", "workspace_counts",
+    "Counts", "describe_totals", "workspace_counts", "CurrentDraft", "current_of_kind",
     "indexes_deferred", "hold_writers", "slot_states", "current_drafts", "Applied", "apply_decisions", "slot_versions",
     "table_counts",
     "add_event", "events_for", "recent_events", "events_by_action", "latest_event", "events_after", "first_edition_of",

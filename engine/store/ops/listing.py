@@ -11,6 +11,7 @@ included; recheck *reasons* are counted per statement, and one statement may car
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -19,6 +20,7 @@ from sqlalchemy.orm import Session
 
 from stetline.status import REASONS, Status
 from stetline.store.models import Draft, Entity, Slot, Topic
+from stetline.store.ops.bulk import id_chunks
 
 
 def listed() -> ColumnElement[bool]:
@@ -125,6 +127,28 @@ def recheck_options(session: Session, field: str) -> list[tuple[str, str]]:
     else:
         q = select(Topic.key, Topic.label).where(Topic.key.in_(waiting)).order_by(Topic.position)
     return [(str(k), str(n)) for k, n in session.execute(q)]
+
+
+@dataclass(frozen=True)
+class CurrentDraft:
+    """What a slot's current draft claims and shows (its text left out)."""
+
+    slot: str
+    entity: str | None
+    claims: dict[str, Any]
+    evidence: dict[str, Any]
+
+
+def current_of_kind(session: Session, kind: str, entities: Sequence[str] | None = None) -> list[CurrentDraft]:
+    """The claims and evidence of the current drafts of a kind's slots that still apply, by slot id;
+    only these entities' slots when ``entities`` is given."""
+    q = (select(Slot.id, Slot.entity, Draft.claims, Draft.evidence).join(Draft, Draft.id == Slot.draft_id)
+         .where(Slot.kind == kind, Slot.gone.is_(False)).order_by(Slot.id))
+    if entities is None:
+        return [CurrentDraft(*row) for row in session.execute(q)]
+    out = [CurrentDraft(*row) for chunk in id_chunks(entities)
+           for row in session.execute(q.where(Slot.entity.in_(chunk)))]
+    return sorted(out, key=lambda d: d.slot)
 
 
 @dataclass(frozen=True)
