@@ -11,10 +11,12 @@ import os
 import shutil
 import threading
 from collections.abc import Iterator
+from contextlib import contextmanager
 from pathlib import Path
 from typing import Any
 
 import pytest
+from helpers import pattern_workspace
 from werkzeug.serving import make_server
 
 from browser.livesite import Live, QuietHandler
@@ -40,11 +42,9 @@ def browser_type_launch_args(browser_type_launch_args: dict[str, Any]) -> dict[s
     return {**browser_type_launch_args, "executable_path": str(CHROMIUM), "args": CHROMIUM_ARGS}
 
 
-@pytest.fixture
-def live(demo_template: Path, tmp_path: Path) -> Iterator[Live]:
-    """The web app on a private copy of the demo workspace, served in a daemon thread."""
-    path = tmp_path / "workspace"
-    shutil.copytree(demo_template, path)
+@contextmanager
+def served(path: Path) -> Iterator[Live]:
+    """The web app on the workspace at ``path``, served in a daemon thread until the block ends."""
     ws = open_workspace(path)
     server = make_server("127.0.0.1", 0, create_app(ws), threaded=True, request_handler=QuietHandler)
     thread = threading.Thread(target=server.serve_forever, name="stetline-web", daemon=True)
@@ -55,6 +55,29 @@ def live(demo_template: Path, tmp_path: Path) -> Iterator[Live]:
         server.shutdown()
         thread.join(timeout=10)
         ws.close()
+
+
+@pytest.fixture
+def live(demo_template: Path, tmp_path: Path) -> Iterator[Live]:
+    """The web app on a private copy of the demo workspace, served in a daemon thread."""
+    path = tmp_path / "workspace"
+    shutil.copytree(demo_template, path)
+    with served(path) as site:
+        yield site
+
+
+@pytest.fixture
+def pattern_live(tmp_path: Path) -> Iterator[Live]:
+    """The web app on a small one-person workspace in which one town went against the others on every
+    topic (helpers.pattern_workspace), with an editor's rewrite waiting in recheck after a second load."""
+    cli = pattern_workspace(tmp_path / "pattern")
+    cli("rewrite", "blurb/ashby/parks", "Ashby's parks satisfaction rose to 52.0% in 2025.", "--by", "editor")
+    obs = tmp_path / "obs2.csv"
+    obs.write_text((tmp_path / "pattern-obs.csv").read_text(encoding="utf-8")
+                   .replace("ashby,parks,2025,52", "ashby,parks,2025,53.5"), encoding="utf-8")
+    cli("load", str(obs), "--by", "admin")
+    with served(cli.path) as site:
+        yield site
 
 
 @pytest.fixture(scope="session")

@@ -126,3 +126,16 @@ def test_each_role_sees_the_queue_and_a_statement_fit_a_phone(browser: Any, live
             wide += too_wide(page, f"{name}-{role}", "390", screens)
         page.close()
     assert not wide, "\n".join(wide)
+
+
+@pytest.mark.parametrize("size,viewport", SIZES, ids=[s for s, _ in SIZES])
+def test_the_queue_with_a_data_check_fits_the_screen(browser: Any, pattern_live: Live, screens: Path, size: str,
+                                                     viewport: dict[str, int]) -> None:
+    page = browser.new_page(viewport=viewport)
+    page.goto(pattern_live("/recheck"))
+    checks = page.get_by_role("region", name="Worth a data check")
+    expect(checks).to_contain_text("Colne went against most others on 3 of 3 indicators compared")
+    expect(page.get_by_role("link", name="Read the profile that says it of Colne")).to_be_visible()
+    wide = too_wide(page, "recheck-queue-data-check", size, screens)
+    page.close()
+    assert not wide, "\n".join(wide)
