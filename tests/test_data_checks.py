@@ -39,7 +39,8 @@ def test_the_queue_names_the_entity_its_topics_and_links_its_profile(tmp_path: P
     page = queue_page(cli.path)
     assert "Nothing waits in recheck." in page
     assert LINE in page
-    assert '<a href="/statements/profile/colne">Read its profile</a>' in page
+    assert ('<a href="/statements/profile/colne" aria-label="Read the profile that says it of Colne">'
+            'Read its profile</a>') in page
     assert "it is never printed" in page
     # the CLI's list shows the same line, under the statements, for the queue and for the whole list
     for args in (("list", "--status", "recheck"), ("list",), ("list", "--entity", "colne")):
