@@ -95,6 +95,7 @@ def compute_facts(
     cells["decimals"] = cells["topic"].map(meta["decimals"]).astype("int64")
     cells["better"] = cells["topic"].map(meta["better"])
     cells["unit"] = cells["topic"].map(meta["unit"])
+    cells["change_mode"] = cells["topic"].map(meta["change"]).fillna("") if "change" in meta else ""
     cells["target"] = cells["topic"].map(meta["target"])
     cells["sign"] = _sign(cells["better"])
     depth = nesting.depths(entities)
@@ -163,15 +164,17 @@ def _ranks(cells: pd.DataFrame) -> None:
     cells["worst"] = (cells["worst_rank"] == 1) & (cells["rank_of"] > 1)
 
 
-def printed_change_is_zero(change: pd.Series, change_rel: pd.Series, unit: pd.Series, decimals: pd.Series) -> pd.Series:
+def printed_change_is_zero(change: pd.Series, change_rel: pd.Series, unit: pd.Series, decimals: pd.Series,
+                           mode: pd.Series | str = "") -> pd.Series:
     """True where a change, rounded as the statement prints it, is zero (DESIGN "Numbers and words").
 
     Percent topics print the change in percentage points at the topic's decimals; other topics
     print the relative change in whole per cent from 10% and to one decimal below (the absolute
-    change at the topic's decimals when there is no base to compare with). The change itself is
-    rounded, never the two values it comes from.
+    change at the topic's decimals when there is no base to compare with); a topic's `change`
+    column (``mode``) overrides either (figures.change_in). The change itself is rounded, never the
+    two values it comes from.
     """
-    points = (unit == "percent") | change_rel.isna()
+    points = ((mode == "absolute") | ((unit == "percent") & (mode != "relative"))) | change_rel.isna()
     absolute = round_half_up_array(change.abs(), decimals)
     # a relative change under 10% prints in per cent to one decimal: the fraction at three places
     relative = round_half_up_array(change_rel.abs().fillna(0.0), 3)
@@ -207,7 +210,8 @@ def compare(now: pd.DataFrame, before: pd.Series, before_margin: pd.Series, know
     significant = significance(out["change"], now["margin"], before_margin)
     significant[~known.astype("bool")] = pd.NA
     out["significant"] = significant
-    out["change_zero"] = printed_change_is_zero(out["change"], out["change_rel"], now["unit"], now["decimals"])
+    out["change_zero"] = printed_change_is_zero(out["change"], out["change_rel"], now["unit"], now["decimals"],
+                                                now["change_mode"])
     flat = out["change_zero"] | (significant.fillna(True) == False)  # noqa: E712
     step = np.where(flat, 0.0, np.sign(out["change"]))
     direction = pd.Series(np.select([step > 0, step < 0], ["up", "down"], "flat"), index=now.index)
@@ -390,7 +394,7 @@ def trend_facts(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
     like ``cells``.
     """
     keys = ["entity", "topic"]
-    extra = cells[keys + ["decimals", "sign", "time", "unit"]].rename(columns={"time": "latest_time"})
+    extra = cells[keys + ["decimals", "sign", "time", "unit", "change_mode"]].rename(columns={"time": "latest_time"})
     s = series.merge(extra, on=keys).sort_values(keys + ["time"], kind="stable")
     s["spacing"] = s["topic"].map(series_spacing(series)).fillna(np.inf)
     s["prev_any_time"] = s.groupby(keys, sort=False)["time"].shift(1)
@@ -404,7 +408,7 @@ def trend_facts(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
     gap = prev_time.notna() & ((prev_time != s["prev_any_time"]) | (distance > s["spacing"] + TIME_EPS))
     change = s["value"] - prev_value
     rel = (change / prev_value.abs()).where(prev_value.abs() > 0)
-    zero = printed_change_is_zero(change, rel, s["unit"], s["decimals"])
+    zero = printed_change_is_zero(change, rel, s["unit"], s["decimals"], s["change_mode"])
     within = change.abs() <= np.sqrt(s["margin"] ** 2 + prev_margin ** 2)
     moved = prev_value.notna() & ~gap & ~zero & ~within
     direction = np.where(s["sign"] == 0, 1.0, s["sign"])
