@@ -9,13 +9,16 @@ from __future__ import annotations
 import gc
 import json
 import os
+import random
 import subprocess
 import sys
 import time
+from decimal import ROUND_HALF_UP, Decimal
 from pathlib import Path
 from typing import Any
 
 from click.testing import CliRunner, Result
+from hypothesis import strategies as st
 
 from stetline.cli import main
 
@@ -146,3 +149,134 @@ def pattern_workspace(path: Path, against: str | None = "colne") -> Cli:
     cli("load", str(path.parent / "pattern-obs.csv"), "--topics", str(path.parent / "pattern-topics.csv"),
         "--entities", str(path.parent / "pattern-entities.csv"), "--by", "admin")
     return cli
+
+
+# ---- generated panels for the property tests (hypothesis) --------------------------------------------
+# One generator for every property test over panels (tests/test_claims_properties.py,
+# tests/test_periods_compare.py), so that each covers what issue 14 asks of them: readings one, two and
+# five years apart, quarters and months; ties; missing, withheld and absent readings, breaks; changes that
+# round to zero at display precision; percent and other units, changes sized in points, per cent or the
+# unit (the topics' `change` column); 2 to 200 entities. The recomputations stay in the test modules.
+
+SPACINGS = ("year1", "year2", "year5", "quarter", "month")
+PER_YEAR = {"year": 1, "quarter": 4, "month": 12}
+
+
+def period_labels(spacing: str, n: int) -> tuple[list[str], str]:
+    """n period labels of a spacing ("year1", "year2", "year5", "quarter", "month"), oldest first, and their format."""
+    if spacing.startswith("year"):
+        step = int(spacing[4:])
+        return [str(1990 + step * i) for i in range(n)], "year"
+    if spacing == "quarter":
+        return [f"{2019 + (i // 4)}-Q{i % 4 + 1}" for i in range(n)], "quarter"
+    return [f"{2019 + (i // 12)}-{i % 12 + 1:02d}" for i in range(n)], "month"
+
+
+@st.composite
+def panels(draw: st.DrawFn, spacings: tuple[str, ...] = SPACINGS, periods: tuple[int, int] = (2, 6),
+            in_years: bool = False, entities: tuple[int, int] = (2, 200), topics: tuple[int, int] = (1, 3)) -> dict:
+    """A generated panel: its rows (entity, topic, period, value, margin, status), its topics' metadata
+    (dicts, with the `change` column), the period format, the labels and the number of entities.
+
+    ``periods`` bounds the number of readings (in whole years when ``in_years``: from one reading more
+    than the shorter span up to the longer span), ``entities`` and ``topics`` bound their numbers.
+    """
+    # the values come from a seeded generator: hypothesis picks the seed and the panel's shape
+    rnd = random.Random(draw(st.integers(0, 2**32 - 1)))
+    spacing = draw(st.sampled_from(spacings))
+    fmt = period_labels(spacing, 1)[1]
+    lo, hi = periods
+    if in_years:  # a span in whole years: one more reading than the shortest span, up to the longest
+        lo, hi = PER_YEAR[fmt] * lo + 1, PER_YEAR[fmt] * hi
+    labels, fmt = period_labels(spacing, draw(st.integers(lo, hi)))
+    few = min(entities[1], 12)
+    n_entities = draw(st.one_of(st.integers(entities[0], few), st.integers(few, entities[1])))
+    model = draw(st.sampled_from(["walk", "level"]))  # each reading moves from the last, or sits near a level
+    seasonal = fmt != "year" and rnd.random() < 0.5  # the third quarter (or July) runs higher
+    with_margins = rnd.random() < 0.3
+    holes = rnd.choice([0.0, 0.04, 0.15])  # how often a reading is absent or missing
+    ties = rnd.choice([0.0, 0.1, 0.3])  # how often a reading repeats the one before it in the file
+    topic_rows, rows = [], []
+    for k in range(draw(st.integers(*topics))):
+        unit = rnd.choice(["percent", "tonnes"])
+        decimals = rnd.choice([0, 1, 2])
+        step = 10.0 ** -decimals
+        key = f"t{k}"
+        topic_rows.append({"topic": key, "label": f"Topic {k}", "unit": unit,
+                           "better": rnd.choice(["higher", "lower", "neutral"]), "decimals": decimals,
+                           "change": rnd.choice(["", "", "relative", "absolute"]), "category": "",
+                           "target": float("nan"), "weight": 1.0, "source": "", "position": k})
+        last: dict[str, float] = {}  # the latest reading written, by period: a tie copies it
+        for e in range(n_entities):
+            level = round(rnd.uniform(20, 80) if unit == "percent" else rnd.uniform(1, 900), decimals + 2)
+            if rnd.random() < 0.2:
+                level = 50.0  # ties at the start
+            value = level
+            for i, label in enumerate(labels):
+                base = value if model == "walk" else level
+                if i:
+                    kind = rnd.random()
+                    if kind < 0.25:
+                        move = 0.0  # no change at all
+                    elif kind < 0.45:  # below half a display step: rounds to zero in points or the unit
+                        move = rnd.choice([-1, 1]) * 0.4 * step
+                    elif kind < 0.6:  # a relative change that prints as 0.0% or 0.1%
+                        move = rnd.choice([-1, 1]) * base * rnd.choice([0.0004, 0.0006])
+                    elif kind < 0.75:
+                        move = rnd.choice([-1, 1]) * step
+                    else:
+                        move = rnd.uniform(-8, 8)
+                    value = min(100.0, max(0.0, base + move)) if unit == "percent" else max(0.5, base + move)
+                reading = value + (3.0 if seasonal and label.endswith(("Q3", "-07")) else 0.0)
+                reading = min(100.0, reading) if unit == "percent" else reading
+                if i and rnd.random() < holes:
+                    continue  # a gap: no row for this period
+                if label in last and rnd.random() < ties:
+                    reading = last[label]  # the same reading as the entity before it: a tie
+                last[label] = reading
+                status = rnd.choices(["", "provisional", "break", "confidential"], [90, 4, 3, 3])[0]
+                shown = float("nan") if rnd.random() < holes else reading
+                margin = rnd.uniform(0.1, 3.0) if with_margins and unit == "percent" else float("nan")
+                rows.append((f"e{e:03d}", key, label, shown, margin, status))
+    return {"rows": rows, "topics": topic_rows, "fmt": fmt, "labels": labels, "n_entities": n_entities}
+
+
+def panel_frames(panel: dict) -> tuple[Any, Any, Any]:
+    """A generated panel's observations, topics and entities as the engine reads them (pandas frames)."""
+    import pandas as pd
+
+    from stetline import periods
+
+    obs = pd.DataFrame(panel["rows"], columns=["entity", "topic", "period", "value", "margin", "status"])
+    obs["period"] = obs["period"].astype("str")
+    obs["value"] = obs["value"].astype("float64")
+    obs["margin"] = obs["margin"].astype("float64")
+    obs["time"] = periods.times(obs["period"], panel["fmt"])
+    obs["row"] = range(2, len(obs) + 2)
+    n = panel["n_entities"]
+    entities = pd.DataFrame({"entity": [f"e{e:03d}" for e in range(n)], "name": [f"Place {e}" for e in range(n)],
+                             "group": ["North" if e % 2 else "South" for e in range(n)], "position": range(n)})
+    return obs, pd.DataFrame(panel["topics"]), entities
+
+
+# ---- the recomputations' rounding rules (plain Python, never the engine's functions) -----------------
+
+def half_up(x: float, places: int) -> Decimal:
+    """x as written (its repr), rounded half-up (Eurostat Statistics Explained, "Tutorial: Rounding of
+    numbers": round at the last step)."""
+    return Decimal(repr(x)).quantize(Decimal(1).scaleb(-places), rounding=ROUND_HALF_UP)
+
+
+def prints_as_zero(change: float, before: float, unit: str, decimals: int, mode: str = "") -> bool:
+    """Whether a change prints as zero, in the unit the statement prints it in.
+
+    Percentage points at the topic's decimals for percentages (ONS Service Manual, "Percentages"), the
+    topic's own unit at its decimals when its `change` column says ``absolute``, otherwise per cent:
+    whole from 10%, one decimal below (DESIGN "Numbers and words"; issue 14, point 6, for the column).
+    A relative change with no base to divide by prints the difference itself.
+    """
+    relative = mode == "relative" or (mode != "absolute" and unit != "percent")
+    if not relative or before == 0:
+        return half_up(abs(change), decimals) == 0
+    size = abs(change) / abs(before)
+    return size < 0.1 and half_up(size * 100, 1) == 0

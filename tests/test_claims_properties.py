@@ -1,16 +1,19 @@
 """Every claim of every kind against a recomputation written here in plain Python (hypothesis).
 
-The panels vary: readings one, two or five years apart, quarters and months; ties; missing and
-withheld values, breaks in series and gaps; changes that round to zero at display precision;
-percent and other units; 2 to 200 entities. Each claim is recomputed from the rows with Python's
-``decimal`` module (never with the engine's own functions) and compared with the draft.
+The panels (tests/helpers.py, ``panels``, shared with tests/test_periods_compare.py) vary: readings
+one, two or five years apart, quarters and months; ties; missing and withheld values, breaks in
+series and gaps; changes that round to zero at display precision; percent and other units, changes
+sized in points, per cent or the topic's own unit (its `change` column); 2 to 200 entities. Each
+claim is recomputed from the rows with Python's ``decimal`` module (never with the engine's own
+functions; the rounding rules are helpers.half_up and helpers.prints_as_zero) and compared with the draft.
 
 References for the rules checked:
 - steady is decided on the change as it prints, never on two rounded values: DESIGN, "Numbers and
   words" (the project's own rule); the printed change is in percentage points for percentages
   (ONS Service Manual, "Percentages") and in per cent otherwise, whole from 10%, one decimal below
-  (DESIGN); rounding half-up at the last step (Eurostat Statistics Explained, "Tutorial: Rounding
-  of numbers");
+  (DESIGN), the topic's `change` column choosing points or the unit (`absolute`) or per cent
+  (`relative`) instead (issue 14, point 6); rounding half-up at the last step (Eurostat Statistics
+  Explained, "Tutorial: Rounding of numbers");
 - a change is significant when it exceeds sqrt(m1² + m2²) of the 95% half-widths: the usual rule
   for two independent estimates (common practice);
 - compound annual growth (end / start) ** (1 / years) - 1 over the real time between periods
@@ -21,14 +24,12 @@ References for the rules checked:
 from __future__ import annotations
 
 import math
-import random
 import re
 from collections import Counter
-from decimal import ROUND_HALF_UP, Decimal
 
 import pandas as pd
+from helpers import panel_frames, panels, prints_as_zero
 from hypothesis import HealthCheck, given, settings
-from hypothesis import strategies as st
 
 from stetline import periods
 from stetline.audit import audit_text
@@ -38,7 +39,6 @@ from stetline.kinds import KINDS
 from stetline.phrasing import HouseStyle
 from stetline.rendering import Renderer
 
-SPACINGS = ("year1", "year2", "year5", "quarter", "month")
 SETTINGS = settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 # a zero change said as a rise or a fall: "a fall of 0.0%", "rose by 0", "down 0.0", "(0 tonnes)"
 ZERO_MOVE = re.compile(
@@ -48,84 +48,14 @@ ZERO_MOVE = re.compile(
 ZERO_COUNT = re.compile(r"\b(in|on|of) 0(?![.,]?\d)(?! out of)")  # a composite "score of 0 out of 100" is a score
 
 
-def labels_for(spacing: str, n: int) -> tuple[list[str], str]:
-    """n period labels of a spacing, oldest first, and their format name."""
-    if spacing.startswith("year"):
-        step = int(spacing[4:])
-        return [str(1990 + step * i) for i in range(n)], "year"
-    if spacing == "quarter":
-        return [f"{2019 + (i // 4)}-Q{i % 4 + 1}" for i in range(n)], "quarter"
-    return [f"{2019 + (i // 12)}-{i % 12 + 1:02d}" for i in range(n)], "month"
-
-
-@st.composite
-def panels(draw: st.DrawFn) -> dict:
-    """A small dataset: observations, topics and entities, with the format of its periods."""
-    # the values come from a seeded generator: hypothesis picks the seed and the panel's shape
-    rnd = random.Random(draw(st.integers(0, 2**32 - 1)))
-    n_entities = draw(st.one_of(st.integers(2, 12), st.integers(13, 200)))
-    n_periods = draw(st.integers(2, 6))
-    spacing = rnd.choice(SPACINGS)
-    labels, fmt = labels_for(spacing, n_periods)
-    n_topics = draw(st.integers(1, 3))
-    with_margins = rnd.random() < 0.3
-    holes = rnd.choice([0.0, 0.04, 0.15])  # how often a reading is absent or missing
-    topics, rows = [], []
-    for k in range(n_topics):
-        unit = rnd.choice(["percent", "tonnes"])
-        decimals = rnd.choice([0, 1, 2])
-        unit_step = 10.0 ** -decimals
-        key = f"t{k}"
-        better = rnd.choice(["higher", "lower", "neutral"])
-        topics.append({"topic": key, "label": f"Topic {k}", "unit": unit, "better": better, "decimals": decimals,
-                       "category": "", "target": float("nan"), "weight": 1.0, "source": "",
-                       "position": k})
-        for e in range(n_entities):
-            value = round(rnd.uniform(20, 80) if unit == "percent" else rnd.uniform(1, 900), decimals + 2)
-            if rnd.random() < 0.2:
-                value = 50.0  # ties
-            for i, label in enumerate(labels):
-                if i:
-                    kind = rnd.random()
-                    if kind < 0.25:
-                        pass  # no change at all
-                    elif kind < 0.45:  # below half a display step: rounds to zero in points
-                        value += rnd.choice([-1, 1]) * 0.4 * unit_step
-                    elif kind < 0.6:  # a relative change that prints as 0.0% or 0.1%
-                        value += rnd.choice([-1, 1]) * value * rnd.choice([0.0004, 0.0006])
-                    elif kind < 0.75:
-                        value += rnd.choice([-1, 1]) * unit_step
-                    else:
-                        value += rnd.uniform(-8, 8)
-                    value = min(100.0, max(0.0, value)) if unit == "percent" else max(0.5, value)
-                if i and rnd.random() < holes:
-                    continue  # a gap: no row for this period
-                status = rnd.choices(["", "provisional", "break", "confidential"], [90, 4, 3, 3])[0]
-                shown = float("nan") if rnd.random() < holes else value
-                margin = rnd.uniform(0.1, 3.0) if with_margins and unit == "percent" else float("nan")
-                rows.append((f"e{e:03d}", key, label, shown, margin, status))
-    obs = pd.DataFrame(rows, columns=["entity", "topic", "period", "value", "margin", "status"])
-    obs["period"] = obs["period"].astype("str")
-    obs["value"] = obs["value"].astype("float64")
-    obs["margin"] = obs["margin"].astype("float64")
-    obs["time"] = periods.times(obs["period"], fmt)
-    obs["row"] = range(2, len(obs) + 2)
-    entities = pd.DataFrame({"entity": [f"e{e:03d}" for e in range(n_entities)],
-                             "name": [f"Place {e}" for e in range(n_entities)],
-                             "group": ["North" if e % 2 else "South" for e in range(n_entities)],
-                             "position": range(n_entities)})
-    return {"obs": obs, "topics": pd.DataFrame(topics), "entities": entities, "fmt": fmt, "rows": rows,
-            "labels": labels}
-
-
 def drafts_of(panel: dict, compare_with: str = "previous") -> dict[str, tuple[str, dict, dict]]:
     """Draft every slot of a panel through the engine's real path (facts, kinds, templates).
 
     The previous period leads a change statement here (the claims recomputed below are those);
     tests/test_periods_compare.py checks quarters and months led by the same period a year earlier.
     """
-    t, entities = panel["topics"], panel["entities"]
-    facts = compute_facts(panel["obs"], t, entities)
+    obs, t, entities = panel_frames(panel)
+    facts = compute_facts(obs, t, entities)
     style = HouseStyle()
     ctx = Context(facts, t.set_index("topic").to_dict("index"), entities.set_index("entity").to_dict("index"),
                   style, "town", kinds=tuple(k.KIND for k in KINDS), compare_with=compare_with)
@@ -133,18 +63,6 @@ def drafts_of(panel: dict, compare_with: str = "previous") -> dict[str, tuple[st
 
 
 # ---- the recomputation: plain Python over the rows ----------------------------------------------
-
-def half_up(x: float, places: int) -> Decimal:
-    """x as written (its repr), rounded half-up (Eurostat rounding tutorial: at the last step)."""
-    return Decimal(repr(x)).quantize(Decimal(1).scaleb(-places), rounding=ROUND_HALF_UP)
-
-
-def prints_as_zero(change: float, before: float, unit: str, decimals: int) -> bool:
-    """Whether a change prints as zero: points at the topic's decimals, else per cent to one decimal."""
-    if unit == "percent" or before == 0:
-        return half_up(abs(change), decimals) == 0
-    return half_up(abs(change) / abs(before) * 100, 1) == 0 if abs(change) / abs(before) < 0.1 else False
-
 
 def series_of(panel: dict) -> dict[tuple[str, str], list[tuple]]:
     """Each entity × topic's rows, oldest first: (period, time, value, margin, status)."""
@@ -167,7 +85,7 @@ def expected_change(rows: list[tuple], latest: float, meta: dict) -> tuple[str, 
     if not usable(now) or not usable(before) or now[4] == "break":
         return None
     change = now[2] - before[2]
-    flat = prints_as_zero(change, before[2], meta["unit"], meta["decimals"])
+    flat = prints_as_zero(change, before[2], meta["unit"], meta["decimals"], meta["change"])
     if not math.isnan(now[3]) and not math.isnan(before[3]):
         flat = flat or abs(change) <= math.sqrt(now[3] ** 2 + before[3] ** 2)
     direction = "flat" if flat else ("up" if change > 0 else "down")
@@ -199,7 +117,7 @@ def expected_streak(rows: list[tuple], meta: dict, spacing: float, natural: floa
         if not usable(now) or not usable(before) or now[1] - before[1] > spacing + 1e-6:
             break
         change = now[2] - before[2]
-        zero = prints_as_zero(change, before[2], meta["unit"], meta["decimals"])
+        zero = prints_as_zero(change, before[2], meta["unit"], meta["decimals"], meta["change"])
         if not math.isnan(now[3]) and not math.isnan(before[3]):
             zero = zero or abs(change) <= math.sqrt(now[3] ** 2 + before[3] ** 2)
         sign = 0 if zero else (1 if change > 0 else -1) * direction
@@ -223,7 +141,7 @@ def expected_streak(rows: list[tuple], meta: dict, spacing: float, natural: floa
 def test_change_and_movement_claims_match_a_recomputation(panel: dict) -> None:
     drafts = drafts_of(panel)
     series = series_of(panel)
-    metas = panel["topics"].set_index("topic").to_dict("index")
+    metas = {t["topic"]: t for t in panel["topics"]}
     for topic, meta in metas.items():
         latest = max(r[1] for (_e, t), rows in series.items() if t == topic for r in rows)
         moves = {}
@@ -271,7 +189,7 @@ def test_change_and_movement_claims_match_a_recomputation(panel: dict) -> None:
 def test_trend_streaks_are_counted_in_the_series_own_spacing(panel: dict) -> None:
     drafts = drafts_of(panel)
     series = series_of(panel)
-    metas = panel["topics"].set_index("topic").to_dict("index")
+    metas = {t["topic"]: t for t in panel["topics"]}
     natural = {"year": 1.0, "quarter": 0.25, "month": 1 / 12}[panel["fmt"]]
     unit_word = {"year": "years", "quarter": "quarters", "month": "months"}[panel["fmt"]]
     for (e, t), rows in series.items():
@@ -296,7 +214,7 @@ def test_trend_streaks_are_counted_in_the_series_own_spacing(panel: dict) -> Non
 def test_headline_majorities_and_wording_match_a_recomputation(panel: dict) -> None:
     drafts = drafts_of(panel)
     series = series_of(panel)
-    metas = panel["topics"].set_index("topic").to_dict("index")
+    metas = {t["topic"]: t for t in panel["topics"]}
     improving, worsening = [], []
     for topic, meta in metas.items():
         if meta["better"] == "neutral":
@@ -319,7 +237,8 @@ def test_headline_majorities_and_wording_match_a_recomputation(panel: dict) -> N
 @given(panels())
 def test_every_number_of_every_draft_is_traced(panel: dict) -> None:
     drafts = drafts_of(panel)
-    labels = list(panel["topics"]["label"]) + list(panel["topics"]["unit"]) + list(panel["entities"]["name"])
+    _obs, topics, entities = panel_frames(panel)
+    labels = list(topics["label"]) + list(topics["unit"]) + list(entities["name"])
     untraced = {slot: [u.text for u in audit_text(text, evidence, labels) if u.fact is None]
                 for slot, (text, evidence, _claims) in drafts.items()}
     assert {slot: found for slot, found in untraced.items() if found} == {}
@@ -347,9 +266,9 @@ def test_blurb_and_roundup_claims_match_a_recomputation(panel: dict) -> None:
     """The composed kinds claim what their parts would, recomputed here from the rows."""
     drafts = drafts_of(panel)
     series = series_of(panel)
-    metas = panel["topics"].set_index("topic").to_dict("index")
+    metas = {t["topic"]: t for t in panel["topics"]}
     natural = {"year": 1.0, "quarter": 0.25, "month": 1 / 12}[panel["fmt"]]
-    groups = dict(zip(panel["entities"]["entity"], panel["entities"]["group"]))
+    groups = {f"e{e:03d}": "North" if e % 2 else "South" for e in range(panel["n_entities"])}
     latest = {t: max(r[1] for (_e, k), rows in series.items() if k == t for r in rows) for t in metas}
     for (e, t), rows in series.items():
         slot = f"blurb/{e}/{t}"
@@ -491,3 +410,20 @@ def test_a_first_edition_with_one_period_says_what_it_covers() -> None:
     text = yearly(rows, [LIFE])["headline"][0]
     assert text.startswith("The 2025 figures cover one indicator for three towns; there is no earlier period")
     assert "no indicator moved" not in text
+
+
+def test_steady_follows_the_unit_the_topic_change_column_prints_in() -> None:
+    # +0.04 on 42.324%: 0.0 percentage points at one decimal, but 0.0945% (prints "0.1%") as a relative change
+    rate = {"topic": "rate", "label": "Take-up rate", "unit": "percent", "better": "higher", "decimals": 1}
+    rows = [("e0", "rate", 2024, 42.324), ("e0", "rate", 2025, 42.364), ("e1", "rate", 2024, 50.0),
+            ("e1", "rate", 2025, 51.0), ("e2", "rate", 2024, 60.0), ("e2", "rate", 2025, 61.0)]
+    assert yearly(rows, [rate])["change/e0/rate"][2]["direction"] == "flat"
+    text, _e, claims = yearly(rows, [{**rate, "change": "relative"}])["change/e0/rate"]
+    assert claims["direction"] == "up" and "rose by 0.1%" in text
+    # +0.04 on 900 tonnes: 0.0044% (prints "0.0%"), but 0.04 tonnes at two decimals in the topic's own unit
+    waste = {"topic": "w", "label": "Waste", "unit": "tonnes", "better": "lower", "decimals": 2}
+    rows = [("e0", "w", 2024, 900.0), ("e0", "w", 2025, 900.04), ("e1", "w", 2024, 500.0),
+            ("e1", "w", 2025, 510.0), ("e2", "w", 2024, 600.0), ("e2", "w", 2025, 610.0)]
+    assert yearly(rows, [waste])["change/e0/w"][2]["direction"] == "flat"
+    text, _e, claims = yearly(rows, [{**waste, "change": "absolute"}])["change/e0/w"]
+    assert claims["better"] == "worsened" and "a rise of 0.04 tonnes" in text
