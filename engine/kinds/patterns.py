@@ -4,7 +4,8 @@ An entity is named an exception in a topic's ``movement`` when at least three qu
 entities that moved went the other way. When one entity is an exception on more than half of the
 topics with a movement (two at least), that is a pattern worth saying in its profile and in the
 headline, and worth a data check before publication: the profile and headline claim it
-(``data_check``), which the reviewer sees beside the text and in the recheck queue's changes.
+(``data_check``), and the recheck queue shows each such entity on a line of its own
+(datachecks.py reads the claims back), never in the printed text.
 Nothing here renders text.
 """
 
