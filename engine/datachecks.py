@@ -39,9 +39,9 @@ class DataCheck:
     def summary(self) -> str:
         """What the entity did, in words: "went against most others on 3 of 4 indicators compared: A, B and C"."""
         labels = [label for _key, label in self.topics]
-        listed = labels[0] if len(labels) == 1 else ", ".join(labels[:-1]) + " and " + labels[-1]
-        if not labels:
+        if not labels:  # only the headline names it: its profile is not drafted
             return "went against most others on most indicators compared"
+        listed = labels[0] if len(labels) == 1 else ", ".join(labels[:-1]) + " and " + labels[-1]
         of = f" of {self.compared}" if self.compared else ""
         noun = "indicator" if self.compared == 1 or (not self.compared and len(labels) == 1) else "indicators"
         return f"went against most others on {len(labels)}{of} {noun} compared: {listed}"

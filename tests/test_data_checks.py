@@ -104,3 +104,17 @@ def test_cli_list_narrowed_to_the_entity(tmp_path: Path) -> None:
     out = cli("list", "--entity", "colne", "--status", "recheck").output
     assert out.splitlines()[0] == CLI_LINE  # nothing of colne waits in recheck: the line alone, then its note
     assert "it is never printed" in out.splitlines()[1]
+
+
+def test_without_a_headline_or_a_profile_the_other_draft_names_it(tmp_path: Path) -> None:
+    cli = pattern_workspace(tmp_path / "against")
+    cli("settings", "kinds", "profile,blurb", "--by", "admin")  # no headline: the profiles are read
+    cli("redraft", "--by", "admin")
+    assert CLI_LINE in cli("list").output
+    cli("settings", "kinds", "headline,roundup", "--by", "admin")  # no profile: the headline names it
+    cli("redraft", "--by", "admin")
+    out = cli("list").output
+    assert "Worth a data check: Colne (colne) went against most others on most indicators compared; see headline" in out
+    page = queue_page(cli.path)
+    assert "Colne went against most others on most indicators compared." in page
+    assert 'aria-label="Read the headline that says it of Colne">Read the headline</a>' in page
