@@ -32,7 +32,7 @@ from stetline.kinds.common import caveat, cell_wide, missing, status_shown
 from stetline.seasons import year_earlier_facts
 
 KIND = "change"
-PHRASINGS = 2
+PHRASINGS = 4
 #: wordings of the sentence on the average, picked per slot like the phrasing
 AVERAGE_WORDINGS = 3
 
