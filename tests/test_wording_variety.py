@@ -163,7 +163,7 @@ def shift_rows(unit_topic: dict) -> list[tuple]:
     # percent: the mean of the changes, in percentage points (ONS Service Manual, "Percentages")
     ("percent", "", "rose by 3.5 percentage points on average"),
     # another unit, relative by default: the mean of the relative changes, recomputed here
-    ("tonnes", "", "rose by {:.1f}% on average".format(statistics.mean([4 / 40, 3 / 42, 5 / 44, 2 / 46]) * 100)),
+    ("tonnes", "", f"rose by {statistics.mean([4 / 40, 3 / 42, 5 / 44, 2 / 46]) * 100:.1f}% on average"),
     # the topic's change column says absolute: the mean change in its own unit
     ("tonnes", "absolute", "rose by 3.5 tonnes on average"),
 ])

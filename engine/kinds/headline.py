@@ -5,8 +5,9 @@ one entity it names that entity instead, and with two it says "one or both … a
 majority of one or two is no majority. It names which entity leads the composite score (not when
 there is only one), and the biggest shift: the topic whose average change is largest measured
 against the gap between its best and worst entity, said in those words and in the topic's change
-unit (percentage points, per cent or its own unit, as the topic's ``change`` column says). When no change can be compared (a first edition of data with a single period), it says what
-the edition covers instead. Claims: ``composite_leader`` (entity key or sorted keys), ``improving`` (topics where
+unit (percentage points, per cent or its own unit, as the topic's ``change`` column says). When no
+change can be compared (a first edition of data with a single period), it says what the edition
+covers instead. Claims: ``composite_leader`` (entity key or sorted keys), ``improving`` (topics where
 the majority improved, sorted), ``worsening`` (likewise), ``biggest_shift`` (a topic key, when
 the shift shows), ``data_check`` (entities that went against most others on most topics, sorted:
 said, and worth a check of the data; see kinds.patterns), ``compared_with`` (``year-earlier`` when
@@ -126,7 +127,8 @@ def _biggest_shift(ctx: Context, t: pd.DataFrame, lead: pd.DataFrame, evidence: 
     relative = ctx.change_in(topic) == "relative" and bool(len(known))
     if relative:
         mean = float(known.mean())
-    evidence["biggest_shift"] = ev(mean, phrasing.relative(abs(mean), ctx.style) if relative else ctx.amount(topic, mean))
+    shown = phrasing.relative(abs(mean), ctx.style) if relative else ctx.amount(topic, mean)
+    evidence["biggest_shift"] = ev(mean, shown)
     if prints_as_zero(ctx, topic, mean, relative):  # the average prints as zero: no shift
         return "", ""
     claims["biggest_shift"] = topic
