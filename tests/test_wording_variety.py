@@ -193,13 +193,13 @@ def test_the_pattern_of_going_against_the_others_is_said_in_plain_prose() -> Non
     # two towns, each against the others on two of three indicators
     out = draft_texts(against_rows({"alpha": {"e5", "e6"}, "beta": {"e5"}, "gamma": {"e6"}}), TOPICS, PLACES)
     headline = out["headline"][0]
-    assert ("On two of the three indicators compared, Colne and Dunmere each moved the opposite way to most other "
-            "towns.") in headline
+    assert ("Colne and Dunmere each moved the opposite way to most other towns on two of the three indicators "
+            "compared.") in headline
     assert "On two of the three indicators compared, it moved the opposite way to most other towns." in (
         out["profile/e5"][0])
     # one on all three, one on two: "at least" the fewer
     out = draft_texts(against_rows({"alpha": {"e5", "e6"}, "beta": {"e5", "e6"}, "gamma": {"e6"}}), TOPICS, PLACES)
-    assert ("On at least two of the three indicators compared, Colne and Dunmere each moved the opposite way to most "
-            "other towns.") in out["headline"][0]
+    assert ("Colne and Dunmere each moved the opposite way to most other towns on at least two of the three "
+            "indicators compared.") in out["headline"][0]
     for text, _e, _c in out.values():
         assert "went against most" not in text and "on most of the" not in text, text
