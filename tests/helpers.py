@@ -27,11 +27,13 @@ TEST_DATABASE_URL = os.environ.get(TEST_URL_VARIABLE)
 ON_POSTGRES = bool(TEST_DATABASE_URL)
 
 # A rewrite of a part-kind statement whose proposal after the second edition has a conflict region: the
-# 2025 draft rewords the same words the editor changed. Composed statements (blurbs, roundups) never
-# conflict (their proposals keep the rewrite's words with the new numbers), so this needs the part kinds on.
+# editor changed "went up by" of the 2024 draft to "climbed", and the 2025 draft rewords the same words
+# ("went down by"). Composed statements (blurbs, roundups) never conflict (their proposals keep the
+# rewrite's words with the new numbers), so this needs the part kinds on.
 CONFLICTED = "change/gorse-point/recycling"
 CONFLICTED_REWRITE = (
-    "Gorse Point's recycling rate climbed 1.4 percentage points to 41.5% in 2024, its best year since 2020."
+    "The household recycling rate in Gorse Point climbed 1.4 percentage points between 2023 and 2024, from 40.1% "
+    "to 41.5%, which is an improvement."
 )
 
 

@@ -397,7 +397,10 @@ def test_the_headline_says_none_both_and_what_its_biggest_shift_measures() -> No
     text = yearly(rows, topics)["headline"][0]
     assert "most towns improved on both indicators." in text
     assert "They include" not in text and " 0 " not in text
-    assert "Measured against the gap between the best and the worst of the towns" in text
+    # Beta rose by 2 years in each town against a gap of 2 years between the best and the worst; life
+    # expectancy in years changes in per cent by default (the topic's `change` column): (2/60 + 2/61 + 2/62) / 3
+    assert "Measured against the gap between its best and worst towns, Beta moved most" in text
+    assert "it rose by 3.3% on average across the towns" in text
     rows = [(f"e{i}", t, y, 60.0 + i + (y - 2024) * (1 if t == "a" else 0)) for i in range(3) for t in "ab"
             for y in (2024, 2025)]
     text = yearly(rows, topics)["headline"][0]

@@ -53,10 +53,12 @@ def base() -> dict[str, Draft]:
 def test_blurbs_state_standing_and_change_in_one_paragraph(base: dict[str, Draft]) -> None:
     # the most newsworthy first: Ashby is the best of all and meets the target, so its standing leads
     # and its rise follows as "it"; Colne's change rounds to zero as printed and is said as unchanged
-    # (DESIGN: steady by the rounded change), joined to the lead by a semicolon in this slot's phrasing
+    # (DESIGN: steady by the rounded change), joined to the lead by a semicolon in this slot's phrasing;
+    # the change clause takes the wording this slot's stable hash picks (one of four)
     assert base["blurb/a/recycling"].text == (
         "The recycling rate in Ashby was 52.0% in 2025, the best of six towns, above the North average (42.0%), "
-        "and it met the target of 50.0%. It rose by 12.0 percentage points from 40.0% in 2024, an improvement.")
+        "and it met the target of 50.0%. It rose by 12.0 percentage points on the 2024 figure of 40.0%, "
+        "an improvement.")
     assert base["blurb/c/recycling"].text == (
         "In 2025, the recycling rate in Colne stood at 30.0%: the worst of six towns, below the North average "
         "(42.0%), and it missed the target of 50.0% by 20.0 percentage points; it was unchanged from 2024.")

@@ -90,7 +90,7 @@ def base() -> dict:
     ("change/a/recycling", "12.0 percentage points"),
     # a change that rounds to nothing at display precision is no change (Eurostat rounding tutorial)
     ("change/c/recycling", "was unchanged at 30.0% in 2025"),
-    ("change/b/recycling", "worsened"),
+    ("change/b/recycling", "a deterioration"),
     ("leaders/recycling", "22.0 percentage points apart"),
 ])
 def test_sentences(base: dict, slot: str, expected: str) -> None:

@@ -83,8 +83,8 @@ def test_each_topic_names_its_own_periods(mixed: Cli) -> None:
     assert "2025" in text(mixed, "change/a/recycling") and "quarter" not in text(mixed, "change/a/recycling")
     change = text(mixed, "change/a/visits")
     # Avonby: 2024-Q3 = 500 + 30 + 5 = 535; 2025-Q3 = 500 + 30 + 10 - 20 = 520; 2025-Q2 = 500 + 10 + 10 - 20 = 500
-    assert "from 535 per 1,000 residents in the third quarter of 2024 to 520" in change
-    assert "in the third quarter of 2025" in change
+    assert "535 per 1,000 residents in the third quarter of 2024" in change and "520 per 1,000 residents" in change
+    assert "the third quarter of 2025" in change and "2025-Q3" not in change
     assert "Against the second quarter of 2025 (500 per 1,000 residents), it rose" in change
     trend = text(mixed, "trend/c/visits")
     assert "third quarter of 2025" in trend and "2025-Q3" not in trend
@@ -187,7 +187,7 @@ def test_the_demo_quarterly_indicator_names_quarters_and_its_year_earlier_change
     assert recheck["status"] == "recheck" and "claim-changed" in recheck["recheck"]["reasons"]
     changes = {c["fact"]: (c["old"], c["new"]) for c in recheck["recheck"]["changes"]}
     assert changes["change.year_earlier.better"] == ("improved", "worsened")
-    assert "It fell by 4.1% from 1,034 per 1,000 residents in the third quarter of 2024" in recheck["text"]
+    assert "1,034 per 1,000 residents in the third quarter of 2024, it was down 4.1%" in recheck["text"]
     assert "blurb/heronsford/library-visits" in {i["slot"] for i in demo_cli.json("list", "--status", "recheck")}
     roundup = text(demo_cli, "roundup/library-visits")
     assert roundup.startswith("Between the third quarter of 2024 and the third quarter of 2025, ")

@@ -58,7 +58,7 @@ def test_changelog_between_the_two_demo_editions(demo_cli: Cli) -> None:
     flipped = {f["slot"]: f for f in log["flipped"]}
     gorse = flipped["blurb/gorse-point/recycling"]
     assert {"fact": "change.direction", "old": "up", "new": "down"} in gorse["claims"]
-    assert "fell by 1.1 percentage points" in gorse["new_text"]
+    assert "down 1.1 percentage points" in gorse["new_text"]
     carried = {c["slot"]: c for c in log["carried"]}
     assert carried["blurb/heronsford/parks-satisfaction"]["layers"] == ["rewrite"]
     assert carried["blurb/heronsford/parks-satisfaction"]["outcome"] == "recheck: numbers-changed"

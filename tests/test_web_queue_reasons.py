@@ -71,7 +71,7 @@ def test_conflict_only_when_the_proposal_has_conflict_regions(client: FlaskClien
     conflicted = get(create_app(conflict_ws, {"TESTING": True}).test_client(), "/recheck")
     assert conflicted.count('class="merge merge-conflict"') == 1
     assert '<span class="merge merge-conflict">conflict</span>' in item(conflicted, CONFLICTED)
-    assert "yours «climbed», new draft «fell by»" in item(conflicted, CONFLICTED)
+    assert "yours «climbed», new draft «went down by»" in item(conflicted, CONFLICTED)
     html = get(client, "/recheck")
     assert "merge-conflict" not in html
     for slot in (GORSE, HIGH_FERROW, SAMPHIRE, "roundup/broadband"):  # claims changed, no conflict regions

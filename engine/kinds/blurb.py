@@ -14,13 +14,15 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
-from stetline.drafting import Candidate, Context, slot_id
+from stetline.drafting import Candidate, Context, phrasing_index, slot_id
 from stetline.kinds import change, parts, standing, trend
 
 KIND = "blurb"
 #: the kinds whose facts it states
 PARTS = ("standing", "change", "trend")
 PHRASINGS = 3
+#: wordings of the change clause (a rise or a fall), picked per slot apart from the lead's phrasing
+CHANGE_WORDINGS = 4
 #: change states that say a change (the others say why none can be given)
 STATED_CHANGES = ("up", "down", "flat", "not_significant")
 #: the evidence of each part a blurb can print (its claims are all stated)
@@ -35,8 +37,8 @@ PRINTED = {
 #: the average of all is printed only when there is no group to compare with
 _ALL_MEAN = ("all_mean", "all_gap")
 #: what the template reads of a part that a cell lacks
-_NO_CHANGE = {"state": "", "improved": False, "worsened": False, "prev_period": "", "revised": "", "evaluative": "",
-              "lead": "previous"}
+_NO_CHANGE = {"state": "", "improved": False, "worsened": False, "prev_period": "", "prev_period_adj": "",
+              "revised": "", "evaluative": "", "lead": "previous"}
 _NO_TREND = {"streak": 0, "record": "none", "since": "", "participle": "", "periods_word": "", "natural": True,
              "run_since": "", "season": ""}
 
@@ -67,6 +69,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "caveat": s.variables["caveat"], "order": [p.kind for p in chosen],
             "s": s.variables, "ch": {**_NO_CHANGE, **(ch.variables if ch is not None else {})},
             "tr": {**_NO_TREND, **(tr.variables if tr is not None else {})},
+            "p_change": phrasing_index(slot_id(KIND, s.entity, s.topic) + "#change", CHANGE_WORDINGS),
         }
         yield Candidate(slot_id(KIND, s.entity, s.topic), KIND, s.entity, s.topic, evidence, claims,
                         max(p.interest for p in chosen), variables, facts)

@@ -28,11 +28,11 @@ from collections.abc import Iterator
 
 from stetline import phrasing
 from stetline.drafting import Candidate, Context, ev, phrasing_index, slot_id
-from stetline.kinds.common import caveat, cell_wide, missing, status_shown
+from stetline.kinds.common import caveat, cell_wide, missing, prints_as_zero, status_shown
 from stetline.seasons import year_earlier_facts
 
 KIND = "change"
-PHRASINGS = 2
+PHRASINGS = 4
 #: wordings of the sentence on the average, picked per slot like the phrasing
 AVERAGE_WORDINGS = 3
 
@@ -134,8 +134,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         if compared >= 3 and mean_change is not None and not missing(mean_change):
             mean = float(mean_change)
             shown = phrasing.relative(abs(mean), style) if relative else ctx.amount(c.topic, mean, wide)
-            shown_zero = not any(ch in "123456789" for ch in shown)
-            average_move = "flat" if shown_zero else ("up" if mean > 0 else "down")
+            average_move = "flat" if prints_as_zero(ctx, c.topic, mean, relative) else ("up" if mean > 0 else "down")
             # the average is the topic's context, said in its movement statement; an entity's change
             # says it only when the entity went another way than the average (common practice)
             if variables["state"] in ("up", "down", "flat") and average_move != variables["state"]:

@@ -8,6 +8,7 @@ from typing import TYPE_CHECKING, Any
 import pandas as pd
 
 from stetline import phrasing
+from stetline.rounding import to_decimal
 from stetline.seasons import leading_changes
 
 if TYPE_CHECKING:
@@ -77,6 +78,17 @@ def band_note(rank: int, of: int, tied: int = 1) -> str:
         return ""
     _top, where = place(rank, of, tied)
     return f" (in the {quarter} quarter)" if where >= BAND_FROM_PLACE else ""
+
+
+def prints_as_zero(ctx: Context, topic: str, x: float, relative: bool) -> bool:
+    """True when a change (a fraction when ``relative``, else in the topic's own terms) prints as zero.
+
+    A relative change prints as a per cent with one decimal below 10%; any other prints at the
+    topic's decimals. Decided on the number, not on the text (a unit can hold digits: "per 1,000").
+    """
+    if relative:
+        return phrasing.round_half_up(to_decimal(x).copy_abs() * 100, 1) == 0  # as figures.relative multiplies
+    return phrasing.round_half_up(abs(x), int(ctx.topics[topic]["decimals"])) == 0
 
 
 def caveat(status: str) -> str:

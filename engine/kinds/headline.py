@@ -1,10 +1,13 @@
 """``headline`` (dataset): the edition at a glance.
 
-Says on how many topics most entities improved or worsened (a count of zero is said "none"),
-which entity leads the composite score, and the biggest shift: the topic whose average change
-is largest measured against the gap between its best and worst entity, said in those words.
-When no change can be compared (a first edition of data with a single period), it says what
-the edition covers instead. Claims: ``composite_leader`` (entity key or sorted keys), ``improving`` (topics where
+Says on how many topics most entities improved or worsened (a count of zero is said "none"). With
+one entity it names that entity instead, and with two it says "one or both … and neither …": a
+majority of one or two is no majority. It names which entity leads the composite score (not when
+there is only one), and the biggest shift: the topic whose average change is largest measured
+against the gap between its best and worst entity, said in those words and in the topic's change
+unit (percentage points, per cent or its own unit, as the topic's ``change`` column says). When no
+change can be compared (a first edition of data with a single period), it says what the edition
+covers instead. Claims: ``composite_leader`` (entity key or sorted keys), ``improving`` (topics where
 the majority improved, sorted), ``worsening`` (likewise), ``biggest_shift`` (a topic key, when
 the shift shows), ``data_check`` (entities that went against most others on most topics, sorted:
 said, and worth a check of the data; see kinds.patterns), ``compared_with`` (``year-earlier`` when
@@ -16,10 +19,12 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
+import pandas as pd
+
 from stetline import periods, phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
 from stetline.kinds import patterns
-from stetline.kinds.common import missing, with_leading_changes
+from stetline.kinds.common import missing, prints_as_zero, with_leading_changes
 from stetline.seasons import topic_moves
 
 KIND = "headline"
@@ -46,7 +51,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     e = ctx.facts.entities
     if "depth" in e:  # the edition at a glance is about the main level's entities (see nesting)
         e = e.loc[e["depth"] == ctx.facts.main_depth]
-    leaders = sorted(e.index[e["composite_rank"] == 1]) if "composite_rank" in e else []
+    # the highest score of one entity says nothing: a leader needs others to lead
+    leaders = sorted(e.index[e["composite_rank"] == 1]) if "composite_rank" in e and len(e) > 1 else []
     period = ctx.facts.latest_period
     evidence = {
         "period": ev(period, period),
@@ -61,18 +67,7 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         "composite_leader": (leaders[0] if len(leaders) == 1 else leaders) if leaders else None,
         "improving": improving, "worsening": worsening,
     }
-    # the biggest shift: the topic whose average change is largest against its spread
-    shift_move, shift_label = "", ""
-    spread = (t["best_value"] - t["worst_value"]).abs()
-    sized = (t["mean_change"].abs() / spread.where(spread > 0)).dropna()
-    if len(sized):
-        topic = str(sized.idxmax())
-        mean = float(t.at[topic, "mean_change"])
-        evidence["biggest_shift"] = ev(mean, ctx.amount(topic, mean))
-        # the average change prints in the topic's own terms at its decimals: a zero is no shift
-        if phrasing.round_half_up(abs(mean), int(ctx.topics[topic]["decimals"])) != 0:
-            shift_move, shift_label = ("up" if mean > 0 else "down"), ctx.the_label(topic)
-            claims["biggest_shift"] = topic
+    shift_move, shift_label = _biggest_shift(ctx, t, lead, evidence, claims)
     if seasonal:
         claims["compared_with"] = "year-earlier"
     against = patterns.exceptions_by_entity(ctx)  # who went against most others on most topics
@@ -80,8 +75,8 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         claims["data_check"] = sorted(against)
         first = against[min(against)]
         evidence["topics_compared"] = ev(first.of, phrasing.count(first.of, style))
-        if len(against) == 1:
-            evidence["exception_topics"] = ev(len(first.topics), phrasing.count(len(first.topics), style))
+        fewest = min(len(a.topics) for a in against.values())  # each went the other way on at least this many
+        evidence["exception_topics"] = ev(fewest, phrasing.count(fewest, style))
     if not int(t["compared"].sum()):  # nothing to compare: the statement says what the edition covers
         evidence["entities"] = ev(len(e), phrasing.count(len(e), style))
         evidence["all_topics"] = ev(len(t), phrasing.count(len(t), style))
@@ -91,10 +86,12 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         "n_topics": len(directed),
         "leaders": ctx.names(leaders), "n_leaders": len(leaders),
         "against": ctx.names(sorted(against)), "n_against": len(against),
-        "against_all": len(against) == 1 and all(len(a.topics) == a.of for a in against.values()),
+        "against_all": all(len(a.topics) == a.of for a in against.values()),
+        "against_same": len({len(a.topics) for a in against.values()}) == 1,
+        "only": ctx.name(str(e.index[0])) if len(e) == 1 else "",
         "improving_labels": phrasing.join([ctx.the_label(k) for k in improving][:3], style),
         "n_improving": len(improving), "n_worsening": len(worsening),
-        "compared": int(t["compared"].sum()), "n_entities": len(e),
+        "compared": int(t["compared"].sum()), "n_entities": len(e), "noun": ctx.entity_noun,
         "year_earlier_note": _year_earlier_note(ctx, seasonal),
         "entities_counted": ctx.of_n(len(e)), "topics_counted": phrasing.plural(len(t), "indicator", style),
     }
@@ -109,3 +106,30 @@ def _year_earlier_note(ctx: Context, seasonal: list[str]) -> str:
     words = [w for f, w in (("quarter", "quarterly"), ("month", "monthly")) if f in kinds]
     same = " or ".join(f for f in ("quarter", "month") if f in kinds)
     return f"{' and '.join(words).capitalize()} indicators are compared with the same {same} a year earlier."
+
+
+def _biggest_shift(ctx: Context, t: pd.DataFrame, lead: pd.DataFrame, evidence: dict[str, dict[str, object]],
+                   claims: dict[str, object]) -> tuple[str, str]:
+    """The topic whose average change is largest against the gap between its best and worst entity.
+
+    Returns (up or down, the topic's label), or ("", "") when none shows. The average is said in the
+    topic's change unit (figures.change_in): percentage points for a percent topic, per cent (the
+    average of the entities' relative changes) for a relative one, the topic's unit for an absolute
+    one; an average that prints as zero is no shift.
+    """
+    spread = (t["best_value"] - t["worst_value"]).abs()
+    sized = (t["mean_change"].abs() / spread.where(spread > 0)).dropna()
+    if not len(sized):
+        return "", ""
+    topic = str(sized.idxmax())
+    mean = float(t.at[topic, "mean_change"])
+    known = lead.loc[lead["change_known"].astype("bool") & (lead["topic"] == topic), "change_rel"].dropna()
+    relative = ctx.change_in(topic) == "relative" and bool(len(known))
+    if relative:
+        mean = float(known.mean())
+    shown = phrasing.relative(abs(mean), ctx.style) if relative else ctx.amount(topic, mean)
+    evidence["biggest_shift"] = ev(mean, shown)
+    if prints_as_zero(ctx, topic, mean, relative):  # the average prints as zero: no shift
+        return "", ""
+    claims["biggest_shift"] = topic
+    return ("up" if mean > 0 else "down"), ctx.the_label(topic)
