@@ -148,10 +148,18 @@ def test_a_missing_quarter_breaks_a_streak() -> None:
     quarters = [f"{y}-Q{q}" for y in (2024, 2025) for q in range(1, 5)]
     rows = [(e, "rate", q, 40.0 + k + (e == "b")) for e in "ab" for k, q in enumerate(quarters)
             if not (e == "a" and q == "2025-Q1")]
-    out = draft(rows, RATE, "quarter")
+    out = draft(rows, RATE, "quarter", compare_with="previous")
     assert out["trend/b/rate"].claims["streak"] == "improved:7"
     assert out["trend/a/rate"].claims["streak"] == "improved:2"  # 2025-Q2 to Q4 only: 2025-Q1 is absent
-    assert "two quarters" in out["trend/a/rate"].text
+    text = out["trend/a/rate"].text
+    assert "improved quarter on quarter" in text and "two quarters" in text  # the comparison is named
+    # against a year earlier: b's four quarters of 2025 each beat 2024's; a has no 2025-Q1 to compare
+    out = draft(rows, RATE, "quarter")
+    assert out["trend/b/rate"].claims["streak"] == "improved:4:year-earlier"
+    assert out["trend/a/rate"].claims["streak"] == "improved:3:year-earlier"
+    text = out["trend/a/rate"].text
+    assert "better than in the same quarter a year earlier" in text and "three quarters" in text
+    assert "quarter on quarter" not in text
 
 
 # ---- records by season ----------------------------------------------------------------------------
