@@ -523,7 +523,8 @@ def test_entity_page_filters_by_status_and_offers_bulk_work(client: FlaskClient)
     assert sorted(re.findall(r'<a href="/statements/([^"]+)"><code>', html)) == sorted(
         [HERONSFORD, "blurb/heronsford/library-visits"])
     assert "Approve all 1 shown" in get(client, "/topics/parks-satisfaction?status=edited")  # Little Thrift's
-    assert "Approve all 1 shown" in get(client, "/topics/library-visits?status=edited")  # the renamed town's
+    # the renamed town's rewrite, whose quarterly run grew (stetline.demo), beside Heronsford's approval
+    assert "Approve all 2 shown" in get(client, "/topics/library-visits?status=recheck")
 
 
 def test_bulk_approve_confirms_the_count_then_approves_exactly_those(client: FlaskClient, demo_ws: Workspace) -> None:
