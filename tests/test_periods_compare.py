@@ -218,18 +218,24 @@ def prints_as_zero(change: float, before: float, unit: str, decimals: int) -> bo
     return abs(change) / abs(before) < 0.1 and half_up(abs(change) / abs(before) * 100, 1) == 0
 
 
-@st.composite
-def panels(draw: st.DrawFn) -> dict:
-    """A quarterly or monthly panel with gaps, missing, withheld and broken readings, and ties."""
+def panel_frame(draw: st.DrawFn, extra: tuple[int, int]) -> tuple[random.Random, str, int, list[str], dict]:
+    """A generated panel's randomness, format, periods a year, labels (from 2019, a year and ``extra[0]``
+    to ``extra[1]`` more periods) and topic (a percentage or tonnes, any direction, 0 or 1 decimals)."""
     rnd = random.Random(draw(st.integers(0, 2**32 - 1)))
     fmt = draw(st.sampled_from(["quarter", "month"]))
     per_year = 4 if fmt == "quarter" else 12
-    n = draw(st.integers(per_year + 1, 4 * per_year))
-    labels = [f"{2019 + i // per_year}-Q{i % 4 + 1}" if fmt == "quarter" else f"{2019 + i // 12}-{i % 12 + 1:02d}"
+    n = draw(st.integers(per_year + extra[0], per_year + extra[1] * per_year // 4))
+    labels = [f"{2019 + i // 4}-Q{i % 4 + 1}" if fmt == "quarter" else f"{2019 + i // 12}-{i % 12 + 1:02d}"
               for i in range(n)]
-    unit = rnd.choice(["percent", "tonnes"])
-    topic = {"topic": "t", "label": "Topic", "unit": unit, "better": rnd.choice(["higher", "lower", "neutral"]),
-             "decimals": rnd.choice([0, 1])}
+    topic = {"topic": "t", "label": "Topic", "unit": rnd.choice(["percent", "tonnes"]),
+             "better": rnd.choice(["higher", "lower", "neutral"]), "decimals": rnd.choice([0, 1])}
+    return rnd, fmt, per_year, labels, topic
+
+
+@st.composite
+def panels(draw: st.DrawFn) -> dict:
+    """A quarterly or monthly panel with gaps, missing, withheld and broken readings, and ties."""
+    rnd, fmt, _per_year, labels, topic = panel_frame(draw, (1, 12))
     margins = rnd.random() < 0.3
     rows = []
     for e in range(draw(st.integers(2, 8))):

@@ -24,11 +24,10 @@ References:
 from __future__ import annotations
 
 import math
-import random
 
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-from test_periods_compare import RATE, TONNES, draft, prints_as_zero
+from test_periods_compare import RATE, TONNES, draft, panel_frame, prints_as_zero
 
 from stetline import periods, phrasing
 
@@ -92,15 +91,7 @@ def test_a_monthly_run_against_the_same_month_a_year_earlier_and_a_gap() -> None
 def drifting_panels(draw: st.DrawFn) -> dict:
     """A quarterly or monthly panel whose entities drift up or down with a season, with gaps, missing,
     withheld and broken readings, and margins on some."""
-    rnd = random.Random(draw(st.integers(0, 2**32 - 1)))
-    fmt = draw(st.sampled_from(["quarter", "month"]))
-    per_year = 4 if fmt == "quarter" else 12
-    n = draw(st.integers(per_year + 3, 3 * per_year + 2))
-    labels = [f"{2020 + i // 4}-Q{i % 4 + 1}" if fmt == "quarter" else f"{2020 + i // 12}-{i % 12 + 1:02d}"
-              for i in range(n)]
-    unit = rnd.choice(["percent", "tonnes"])
-    topic = {"topic": "t", "label": "Topic", "unit": unit, "better": rnd.choice(["higher", "lower", "neutral"]),
-             "decimals": rnd.choice([0, 1])}
+    rnd, fmt, per_year, labels, topic = panel_frame(draw, (3, 8))
     margins = rnd.random() < 0.25
     rows = []
     for e in range(draw(st.integers(2, 6))):
