@@ -2,7 +2,10 @@
 
 ``series_spec`` and ``ranking_spec`` build a ChartSpec (labels, axis ticks in the house style,
 values, and the caption that states the numbers, used as the text alternative); stetline.charts
-draws it. A spec's digest fingerprints everything drawn, so drawings are cached by it.
+draws it. Quarters and months are labelled in their short form on the axis, in the title and in the
+figures' table ("Q3 2025", "Mar 2025") and in their long form in the caption, which is prose ("in
+the third quarter of 2025"); both come from stetline.periods.period_label. Years print as written.
+A spec's digest fingerprints everything drawn, so drawings are cached by it.
 """
 
 from __future__ import annotations
@@ -14,6 +17,7 @@ from dataclasses import asdict, dataclass, field
 from functools import cached_property
 
 from stetline import phrasing
+from stetline.periods import period_label
 
 Format = Callable[[float], str]
 MANY = 40  # a ranking of more entities than this is a dot strip (bars would be too thin to read)
@@ -29,7 +33,7 @@ class ChartSpec:
     caption: str
     unit_label: str  # the unit as the axis shows it ("" when every tick label carries it)
     ticks: tuple[tuple[float, str], ...]  # value axis ticks and their labels (units included when short)
-    periods: tuple[str, ...] = ()
+    periods: tuple[str, ...] = ()  # the x axis' labels, as printed ("Q3 2025")
     lines: tuple[tuple[str, str, tuple[float | None, ...]], ...] = ()  # key, name, value per period
     bars: tuple[tuple[str, str, float, str], ...] = ()  # key, name, value, shown; ranked, best first
     marked: str | None = None
@@ -71,8 +75,16 @@ def _axis(values: list[float], unit: str, fmt: Format) -> tuple[str, tuple[tuple
 
 
 def series_spec(label: str, unit: str, periods: list[str], lines: list[tuple[str, str, list[float | None]]],
-                marked: str, fmt: Format, noun: str) -> ChartSpec | None:
-    """A topic's series over the periods, one line per entity, the marked entity drawn dark and labelled."""
+                marked: str, fmt: Format, noun: str, locale: str = "en_GB") -> ChartSpec | None:
+    """A topic's series over the periods, one line per entity, the marked entity drawn dark and labelled.
+
+    ``periods`` are the labels as the data hold them ("2025-Q3"); ``locale`` is the house style's."""
+    def short(p: str) -> str:
+        return period_label(p, "short", locale)
+
+    def long(p: str) -> str:
+        return period_label(p, "long", locale)
+
     mine = next((ln for ln in lines if ln[0] == marked), None)
     known = [(p, v) for p, v in zip(periods, mine[2]) if v is not None] if mine else []
     values = [v for _k, _n, vs in lines for v in vs if v is not None]
@@ -81,27 +93,30 @@ def series_spec(label: str, unit: str, periods: list[str], lines: list[tuple[str
     name = mine[1]
     first, last = known[0], known[-1]
     if len(known) == 1:
-        caption = f"{label} in {name}: {fmt(last[1])} in {last[0]}."
+        caption = f"{label} in {name}: {fmt(last[1])} in {long(last[0])}."
     else:
         how = "up from" if last[1] > first[1] else "down from" if last[1] < first[1] else "the same as"
-        caption = f"{label} in {name}: {fmt(last[1])} in {last[0]}, {how} {fmt(first[1])} in {first[0]}."
+        caption = f"{label} in {name}: {fmt(last[1])} in {long(last[0])}, {how} {fmt(first[1])} in {long(first[0])}."
     others = [vs[periods.index(last[0])] for k, _n, vs in lines if k != marked]
     others_known = [v for v in others if v is not None]
     if others_known:
         many = phrasing.noun_plural(noun, len(others_known))
         caption += (f" The other {len(others_known)} {many} ranged from {fmt(min(others_known))} "
-                    f"to {fmt(max(others_known))} in {last[0]}.")
+                    f"to {fmt(max(others_known))} in {long(last[0])}.")
     unit_label, ticks = _axis(values, unit, fmt)
-    rows = tuple((p, fmt(v), i == len(known) - 1) for i, (p, v) in enumerate(known))
+    rows = tuple((short(p), fmt(v), i == len(known) - 1) for i, (p, v) in enumerate(known))
     n_others = len(lines) - 1
     others_key = f"the other {n_others} {phrasing.noun_plural(noun, n_others)}" if n_others else ""
-    return ChartSpec("series", f"{label} in {name}, {first[0]} to {last[0]}", caption, unit_label, ticks,
-                     tuple(periods), tuple((k, n, tuple(vs)) for k, n, vs in lines), (), marked, rows, others_key)
+    return ChartSpec("series", f"{label} in {name}, {short(first[0])} to {short(last[0])}", caption, unit_label,
+                     ticks, tuple(short(p) for p in periods), tuple((k, n, tuple(vs)) for k, n, vs in lines), (),
+                     marked, rows, others_key)
 
 
 def ranking_spec(label: str, unit: str, period: str, values: list[tuple[str, str, float]], marked: str | None,
-                 fmt: Format, noun: str, better: str = "higher") -> ChartSpec | None:
-    """Every entity's value in one period as ranked bars (best first), the marked entity drawn dark."""
+                 fmt: Format, noun: str, better: str = "higher", locale: str = "en_GB") -> ChartSpec | None:
+    """Every entity's value in one period as ranked bars (best first), the marked entity drawn dark.
+
+    ``period`` is the label as the data hold it; the title shows its short form, the caption its long one."""
     if not values:
         return None
     ranked = sorted(values, key=lambda t: (t[2] if better == "lower" else -t[2], t[1]))
@@ -109,7 +124,8 @@ def ranking_spec(label: str, unit: str, period: str, values: list[tuple[str, str
     many = phrasing.noun_plural(noun, n)
     top, bottom = ranked[0], ranked[-1]
     word = ("best", "worst") if better in ("higher", "lower") else ("highest", "lowest")
-    caption = f"{label} in {period}, {n} {many} ranked: {word[0]} {top[1]} ({fmt(top[2])})"
+    caption = f"{label} in {period_label(period, 'long', locale)}, {n} {many} ranked: "
+    caption += f"{word[0]} {top[1]} ({fmt(top[2])})"
     caption += f", {word[1]} {bottom[1]} ({fmt(bottom[2])})." if n > 1 else "."
     if marked is not None and any(k == marked for k, _n, _v in ranked):
         name, v = next((nm, v) for k, nm, v in ranked if k == marked)
@@ -120,5 +136,6 @@ def ranking_spec(label: str, unit: str, period: str, values: list[tuple[str, str
     unit_label, ticks = _axis(drawn + [0.0] if bars_from_zero else drawn, unit, fmt)
     bars = tuple((k, nm, v, fmt(v)) for k, nm, v in ranked)
     rows = tuple((nm, shown, k == marked) for k, nm, _v, shown in bars)
-    return ChartSpec("ranking", f"{label}, {period}: every {noun}", caption, unit_label, ticks,
-                     (period,), (), bars, marked, rows)
+    shown = period_label(period, "short", locale)
+    return ChartSpec("ranking", f"{label}, {shown}: every {noun}", caption, unit_label, ticks,
+                     (shown,), (), bars, marked, rows)

@@ -53,7 +53,8 @@ REWRITES = {
         "{{ period }}, the longest of {{ rank_of }} towns."
     ),
     # Larkholt is renamed Larkholt Vale in 2025 (seed_data/renames-2025.csv): the rewrite moves to the new key
-    # with its history, and stays edited, since no claim of this quarterly statement changes in 2025
+    # with its history; it waits in recheck because one claim it rests on changed: its run above the same
+    # quarter a year earlier grew from seven quarters to 11 (claim-changed)
     "blurb/larkholt/library-visits": (
         "Library visits in the town ran at {{ value }} in {{ period }}, {{ rank }} of {{ rank_of }} towns."
     ),

@@ -2,10 +2,13 @@
 
 A rewrite may embed any fact of its slot's evidence by name; it shows as the fact is shown
 (``{{ value }}`` → "45.2%"). Filters reformat the raw value: ``number(d)``, ``percent(d)``,
-``points(d)``, ``relative``, ``ordinal``, ``count``. The text renders in Jinja2's immutable
-sandbox with strict undefined names (``stetline.sandbox``: no ``*`` on strings, no ``**``, and
-every render capped in steps, size and time) and a cap on output length. Rendering never raises
-anything but ``LiveFieldError``: whatever goes wrong becomes its message.
+``points(d)``, ``relative``, ``ordinal``, ``count``, ``short``. A quarter or a month shows as prose
+names it (``{{ period }}`` → "the third quarter of 2025", "March 2025"); ``short`` gives the form
+of tables ("Q3 2025"); both from stetline.periods.period_label; a year shows as written. The text
+renders in Jinja2's immutable sandbox with strict undefined names (``stetline.sandbox``: no ``*``
+on strings, no ``**``, and every render capped in steps, size and time) and a cap on output
+length. Rendering never raises anything but ``LiveFieldError``: whatever goes wrong becomes its
+message.
 """
 
 from __future__ import annotations
@@ -17,7 +20,7 @@ from typing import Any
 import jinja2
 from jinja2.sandbox import SecurityError
 
-from stetline import phrasing
+from stetline import periods, phrasing
 from stetline.errors import StetlineError
 from stetline.phrasing import HouseStyle
 from stetline.sandbox import CappedSandbox
@@ -60,7 +63,23 @@ def _filters(style: HouseStyle) -> dict[str, Callable[..., Any]]:
         "relative": lambda x: phrasing.relative(abs(_number_arg(x)), style),
         "ordinal": lambda x: phrasing.ordinal(int(_number_arg(x))),
         "count": lambda x: phrasing.count(int(_number_arg(x)), style),
+        "short": lambda x: periods.period_label(_period_arg(x), "short", style.locale),
     }
+
+
+def _period_arg(x: Any) -> str:
+    raw = _raw(x)
+    if not isinstance(raw, str) or periods.period_format(raw) is None:
+        raise LiveFieldError(f"this filter needs a period, not {str(x)!r}")
+    return raw
+
+
+def _field(entry: dict[str, Any], locale: str) -> Field:
+    """One evidence fact as a live field: a quarter or a month shown as prose names it, else as shown."""
+    value, shown = entry.get("value"), str(entry.get("shown"))
+    if isinstance(value, str) and shown == value and periods.is_within_year(value):
+        shown = periods.period_label(value, "long", locale)
+    return Field(value, shown)
 
 
 FILTER_HELP = {
@@ -70,6 +89,8 @@ FILTER_HELP = {
     "relative": "a relative change given as a fraction, as per cent: {{ change | relative }}",
     "ordinal": "a rank as an ordinal: {{ rank | ordinal }}",
     "count": "a whole number, small ones in words when house style says so: {{ rank_of | count }}",
+    "short": "a quarter or a month as tables print it: {{ period | short }} (Q3 2025, where prose says the third "
+             "quarter of 2025)",
 }
 
 
@@ -81,6 +102,7 @@ class LiveFields:
         self.env.filters = {k: v for k, v in self.env.filters.items() if k.startswith("stetline ")}
         self.env.add_filters(_filters(style))
         self._cache: dict[str, jinja2.Template] = {}
+        self.locale = style.locale
 
     def render(self, text: str, evidence: dict[str, dict[str, Any]]) -> str:
         """Render a rewrite against evidence; raise LiveFieldError with a clear message."""
@@ -89,7 +111,7 @@ class LiveFields:
         try:
             template = self._cache.get(text) or self.env.from_string(text)
             self._cache[text] = template
-            fields = {name: Field(e.get("value"), str(e.get("shown"))) for name, e in evidence.items()}
+            fields = {name: _field(e, self.locale) for name, e in evidence.items()}
             out = template.render(fields)
         except jinja2.UndefinedError as exc:
             known = ", ".join(sorted(evidence))

@@ -8,6 +8,7 @@ periods of an unevenly spaced series.
 from __future__ import annotations
 
 import re
+from functools import lru_cache
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:  # pandas is imported where a frame is read: `stetline status` never needs it
@@ -147,6 +148,34 @@ def period_name(label: str, locale: str = "en_GB") -> str:
     if fmt == "month":
         return f"{season_name(label, locale)} {label[:4]}"
     return label
+
+
+#: the CLDR skeletons of the short forms (babel.dates.format_skeleton): "Q3 2025", "Mar 2025" in English
+SHORT_SKELETONS = {"quarter": "yQQQ", "month": "yMMM"}
+
+
+def period_label(label: str, form: str = "long", locale: str = "en_GB") -> str:
+    """A period as it is printed: the one place that says how.
+
+    ``short`` for tables, chart axes and headings ("Q3 2025", "Mar 2025": CLDR's own patterns, through
+    Babel, in the house-style locale); ``long`` in prose ("the third quarter of 2025", "March 2025",
+    :func:`period_name`). A year, or a label no format matches, is printed as written in both.
+    """
+    fmt = period_format(label)
+    if fmt not in SHORT_SKELETONS:
+        return label
+    return period_name(label, locale) if form == "long" else _short(label, fmt, locale)
+
+
+@lru_cache(maxsize=4096)
+def _short(label: str, fmt: str, locale: str) -> str:
+    """The short form of a quarter or a month, from CLDR (a report prints the same few many times)."""
+    from datetime import date
+
+    from babel.dates import format_skeleton
+
+    month = (int(label[-1]) - 1) * 3 + 1 if fmt == "quarter" else int(label[5:7])
+    return str(format_skeleton(SHORT_SKELETONS[fmt], date(int(label[:4]), month, 1), locale=locale))
 
 
 def period_adjective(label: str, locale: str = "en_GB") -> str:

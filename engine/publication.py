@@ -46,6 +46,10 @@ class Figures:
     change: str  # signed, in the topic's proper unit ("+0.8 percentage points"), or "" when not known
     previous: str  # the previous value, or ""
     previous_period: str
+    #: the periods as a table prints them ("Q3 2025", stetline.periods.period_label); the fields above hold
+    #: them as the data do ("2025-Q3"), for the machine-readable formats
+    period_shown: str = ""
+    previous_period_shown: str = ""
 
 
 @dataclass
@@ -57,13 +61,14 @@ class TopicData:
     unit: str
     category: str
     better: str
-    period: str  # the topic's latest period
+    period: str  # the topic's latest period, as the data hold it ("2025-Q3")
     periods: list[str]
     series: dict[str, list[float | None]]  # entity → value per period (None when missing or withheld)
     latest: list[tuple[str, float]]  # (entity, value) in the latest period, ranked best first
     figures: dict[str, Figures]  # entity → its figures
     ranking: Any = None  # the ranked chart of every entity (a stetline.charts.ChartSpec), or None
     series_charts: dict[str, Any] = field(default_factory=dict)  # entity → its series chart (ChartSpec)
+    period_shown: str = ""  # the latest period as a table's heading prints it ("Q3 2025")
 
 
 @dataclass

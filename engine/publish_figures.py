@@ -87,12 +87,15 @@ def topic_data(session: Session, style: HouseStyle, noun: str,
             usable = bool(c.usable) and not _missing(c.value)
             known = usable and bool(c.change_known)
             absent = "withheld" if c.status == "confidential" else "missing"
+            prev_period = "" if _missing(c.prev_period) else str(c.prev_period)
             figures[entity] = Figures(
                 str(c.period), fmt(float(c.value)) if usable else absent,
                 None if _missing(c.rank) else int(c.rank), int(c.rank_of) if usable else None,
                 change_text(float(c.change), float(c.prev_value), unit, decimals, mode, style, bool(c.change_zero))
                 if known else "",
-                fmt(float(c.prev_value)) if known else "", "" if _missing(c.prev_period) else str(c.prev_period))
+                fmt(float(c.prev_value)) if known else "", prev_period,
+                periods.period_label(str(c.period), "short", style.locale),
+                periods.period_label(prev_period, "short", style.locale))
             if usable and int(c.depth) == facts.main_depth:  # the topic ranks the main level: towns, not districts
                 latest.append((entity, float(c.value), float(c.rank)))
         latest.sort(key=lambda t: (t[2], order.get(t[0], 0)))
@@ -101,13 +104,14 @@ def topic_data(session: Session, style: HouseStyle, noun: str,
         entry_lines = [(e, names.get(e, e), lines[e]) for e in sorted(lines, key=lambda e: order.get(e, 0))]
         depth_of = {str(c.entity): int(c.depth) for c in cells.itertuples(index=False)}
         data = TopicData(key, label, unit, str(meta.category or ""), str(meta.better), period, topic_periods,
-                         lines, [(e, v) for e, v, _r in latest], figures)
+                         lines, [(e, v) for e, v, _r in latest], figures,
+                         period_shown=periods.period_label(period, "short", style.locale))
         data.ranking = charts.ranking_spec(label, unit, period, [(e, names.get(e, e), v) for e, v, _r in latest],
-                                           None, fmt, noun, data.better)
+                                           None, fmt, noun, data.better, style.locale)
         for entity in lines:  # an entity's series among the entities of its own level
             depth = depth_of.get(entity, 0)
             level = [line for line in entry_lines if depth_of.get(line[0], 0) == depth]
             data.series_charts[entity] = charts.series_spec(label, unit, topic_periods, level, entity, fmt,
-                                                            nesting.level_noun(level_nouns, depth, noun))
+                                                            nesting.level_noun(level_nouns, depth, noun), style.locale)
         out[key] = data
     return out

@@ -102,7 +102,7 @@ def _topic_section(pub: Publication, key: str, lead: list[Statement]) -> Section
     data = pub.topics.get(key)
     section = Section(key, pub.topic_labels.get(key, key), "topic", sorted(lead, key=_kind_key))
     if data is not None:
-        section.table_period = data.period
+        section.table_period = data.period_shown or data.period
         for entity, _value in data.latest:
             f = data.figures[entity]
             rank = f"{f.rank}" if f.rank is not None else ""
@@ -197,9 +197,11 @@ def sources_line(sources: list[str]) -> str:
 
 
 def figure_headers(figures: Figures) -> list[str]:
-    """The headings of an item's figure table: the period, the rank, the change and the previous period."""
-    change = f"Change since {figures.previous_period}" if figures.previous_period else "Change"
-    return [figures.period, "Rank", change, figures.previous_period or "Previous"]
+    """The headings of an item's figure table: the period, the rank, the change and the previous period
+    (quarters and months in their short form, "Q3 2025")."""
+    previous = figures.previous_period_shown or figures.previous_period
+    change = f"Change since {previous}" if previous else "Change"
+    return [figures.period_shown or figures.period, "Rank", change, previous or "Previous"]
 
 
 def figure_cells(figures: Figures) -> list[str]:

@@ -2,8 +2,10 @@
 
 A quarter or a month is compared with the same quarter or month a year earlier as well as with the
 previous period of its series, and its record is judged against the same quarter or month of
-earlier years ("the highest third quarter since 2019"). Yearly series have neither: their rows here
-say ``none``. Nothing here formats text or touches the database.
+earlier years ("the highest third quarter since 2019"). A run of periods is counted against the same
+comparison ("worse than in the same quarter a year earlier for three quarters in a row"), and a yearly
+rate is taken between readings of the same season, whole years apart. Yearly series have none of
+these: their rows here say ``none``. Nothing here formats text or touches the database.
 """
 
 from __future__ import annotations
@@ -11,7 +13,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from stetline.facts import BREAK, TIME_EPS, WITHHELD, compare
+from stetline.facts import BREAK, TIME_EPS, WITHHELD, compare, natural_step
 from stetline.rounding import round_half_up_array
 
 KEYS = ["entity", "topic"]
@@ -96,10 +98,51 @@ def season_records(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
     out["season_readings"] = by.size()
     out["season_first"] = by["time"].min()
     earliest = same.groupby(KEYS)["time"].min()
+    base = readings.loc[readings.groupby(KEYS)["time"].idxmin()].set_index(KEYS)
+    out["season_base_time"] = base["time"]
+    out["season_base_value"] = base["value"]
     out["season_complete"] = (out["season_first"] - earliest).abs() < TIME_EPS
     out = out.reindex(pd.MultiIndex.from_frame(cells[KEYS]))
     out["season_readings"] = out["season_readings"].fillna(0).astype("int64")
     out["season_complete"] = out["season_complete"].astype("boolean").fillna(False).astype("bool")
+    out.index = cells.index
+    return out
+
+
+def year_earlier_streaks(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFrame:
+    """Per cell of a quarterly or monthly series: the run of periods, ending at the latest, in which the
+    value moved the same way against the same period a year earlier, indexed like ``cells``.
+
+    Every period of the series is compared with the same period a year earlier exactly as the
+    change statement compares the latest one (:func:`year_earlier_facts`: as the change prints,
+    beyond the margins when both readings carry them, never across a break nor from a missing or
+    withheld figure). A period that cannot be compared, or one absent from the file (a gap),
+    ends the run. ``year_streak`` counts the periods of the run (0 when the latest did not move
+    or is no quarter or month); ``year_streak_sign`` is +1 when it improved (rose, for neutral
+    topics) and -1 when it worsened (fell); ``year_state`` is the latest period's comparison state.
+    """
+    extra = cells[KEYS + ["decimals", "sign", "unit", "time"]].rename(columns={"time": "latest_time"})
+    s = series.loc[_within_year(series["period"])].merge(extra, on=KEYS)
+    s = s.loc[s["time"] <= s["latest_time"] + TIME_EPS].sort_values(KEYS + ["time"], kind="stable")
+    s = s.reset_index(drop=True)
+    years = year_earlier_facts(s, series)
+    direction = np.where(s["sign"] == 0, 1.0, s["sign"])
+    s["step"] = years["year_direction"].map({"up": 1.0, "down": -1.0}).fillna(0.0).astype("float64") * direction
+    s["year_state"] = years["year_state"]
+    by = s.groupby(KEYS, sort=False)
+    apart = s["time"] - by["time"].shift(1)
+    gap = ~((apart - natural_step(s["period"])).abs() < TIME_EPS)  # the first period, or one after a gap
+    run_id = ((s["step"] != by["step"].shift(1)) | gap).cumsum()
+    s["run"] = s.groupby(run_id).cumcount() + 1
+    latest = s.loc[(s["time"] - s["latest_time"]).abs() < TIME_EPS].set_index(KEYS)
+    out = pd.DataFrame(index=pd.MultiIndex.from_frame(cells[KEYS]))
+    out["year_streak"] = latest["run"].where(latest["step"] != 0, 0)
+    out["year_streak_sign"] = latest["step"]
+    out["year_state"] = latest["year_state"]
+    out = out.reindex(pd.MultiIndex.from_frame(cells[KEYS]))
+    out["year_streak"] = out["year_streak"].fillna(0).astype("int64")
+    out["year_streak_sign"] = out["year_streak_sign"].fillna(0.0).astype("float64")
+    out["year_state"] = out["year_state"].fillna("none").astype("str")
     out.index = cells.index
     return out
 

@@ -40,8 +40,13 @@ def test_the_renamed_town_keeps_its_work_with_its_history(demo_cli: Cli) -> None
     items = by_slot(demo_cli.json("list", "--entity", "larkholt-vale"))
     edited = {slot: item for slot, item in items.items() if item["layer"] is not None}
     assert edited and all(item["layer"]["by"] == "editor" for item in edited.values())
-    assert all(item["status"] == "edited" for item in edited.values())  # nothing the new figures contradict
     for slot in edited:
+        # the rename itself sends nothing to recheck: only a claim that changed does (stetline.demo), here the
+        # quarterly run against the same quarter a year earlier, seven quarters long in 2024 and 11 in 2025
+        shown = demo_cli.json("show", slot)
+        assert shown["status"] == "recheck" and shown["recheck"]["reasons"] == ["claim-changed", "numbers-changed"]
+        assert [c for c in shown["recheck"]["changes"] if "." in c["fact"]] == [
+            {"fact": "trend.streak", "old": "improved:7:year-earlier", "new": "improved:11:year-earlier"}]
         old = demo_cli.json("show", slot.replace("/larkholt-vale", "/larkholt", 1))
         assert old["layer"] is None and old["gone"] is True
         history = demo_cli.json("history", slot)

@@ -46,12 +46,13 @@ def draft_texts(rows: list[tuple], topics: list[dict], entities: pd.DataFrame = 
 
 def draft_panel(full: list[tuple], topics: list[dict], entities: pd.DataFrame = ENTITIES,
                 earlier: pd.DataFrame | None = None, noun: str = "town") -> list[Draft]:
-    """Every draft of every kind for rows (entity, topic, period, value, margin, status), yearly periods."""
+    """Every draft of every kind for rows (entity, topic, period, value, margin, status); periods are years,
+    quarters or months, each label read in its own format."""
     obs = pd.DataFrame(full, columns=["entity", "topic", "period", "value", "margin", "status"])
     obs["period"] = obs["period"].astype("str")
     obs["value"] = obs["value"].astype("float64")
     obs["margin"] = obs["margin"].astype("float64")
-    obs["time"] = periods.times(obs["period"], "year")
+    obs["time"] = periods.times(obs["period"])
     obs["row"] = range(2, len(obs) + 2)
     t = pd.DataFrame(topics)
     t["position"] = range(len(t))

@@ -17,6 +17,7 @@ References:
 from __future__ import annotations
 
 import math
+import random
 from decimal import Decimal
 
 import pandas as pd
@@ -148,10 +149,18 @@ def test_a_missing_quarter_breaks_a_streak() -> None:
     quarters = [f"{y}-Q{q}" for y in (2024, 2025) for q in range(1, 5)]
     rows = [(e, "rate", q, 40.0 + k + (e == "b")) for e in "ab" for k, q in enumerate(quarters)
             if not (e == "a" and q == "2025-Q1")]
-    out = draft(rows, RATE, "quarter")
+    out = draft(rows, RATE, "quarter", compare_with="previous")
     assert out["trend/b/rate"].claims["streak"] == "improved:7"
     assert out["trend/a/rate"].claims["streak"] == "improved:2"  # 2025-Q2 to Q4 only: 2025-Q1 is absent
-    assert "two quarters" in out["trend/a/rate"].text
+    text = out["trend/a/rate"].text
+    assert "improved quarter on quarter" in text and "two quarters" in text  # the comparison is named
+    # against a year earlier: b's four quarters of 2025 each beat 2024's; a has no 2025-Q1 to compare
+    out = draft(rows, RATE, "quarter")
+    assert out["trend/b/rate"].claims["streak"] == "improved:4:year-earlier"
+    assert out["trend/a/rate"].claims["streak"] == "improved:3:year-earlier"
+    text = out["trend/a/rate"].text
+    assert "better than in the same quarter a year earlier" in text and "three quarters" in text
+    assert "quarter on quarter" not in text
 
 
 # ---- records by season ----------------------------------------------------------------------------
@@ -197,6 +206,20 @@ def test_a_changed_year_earlier_claim_sends_human_work_to_recheck() -> None:
 
 
 # ---- properties over generated quarterly and monthly panels ----------------------------------------
+
+def panel_frame(draw: st.DrawFn, extra: tuple[int, int]) -> tuple[random.Random, str, int, list[str], dict]:
+    """A generated panel's randomness, format, periods a year, labels (from 2019, a year and ``extra[0]``
+    to ``extra[1]`` more periods) and topic (a percentage or tonnes, any direction, 0 or 1 decimals)."""
+    rnd = random.Random(draw(st.integers(0, 2**32 - 1)))
+    fmt = draw(st.sampled_from(["quarter", "month"]))
+    per_year = 4 if fmt == "quarter" else 12
+    n = draw(st.integers(per_year + extra[0], per_year + extra[1] * per_year // 4))
+    labels = [f"{2019 + i // 4}-Q{i % 4 + 1}" if fmt == "quarter" else f"{2019 + i // 12}-{i % 12 + 1:02d}"
+              for i in range(n)]
+    topic = {"topic": "t", "label": "Topic", "unit": rnd.choice(["percent", "tonnes"]),
+             "better": rnd.choice(["higher", "lower", "neutral"]), "decimals": rnd.choice([0, 1])}
+    return rnd, fmt, per_year, labels, topic
+
 
 def expected_year_earlier(rows: list[tuple], latest: str, meta: dict) -> tuple[str, str]:
     """(direction, better) against the same period a year earlier, recomputed from the rows."""

@@ -52,11 +52,11 @@ def _build(s: Session, v: SlotView) -> dict[str, Any]:
         lines, periods = ops.topic_series(s, topic.key)
         out["series"] = charts.series_spec(
             topic.label, topic.unit, periods, [(k, names.get(k, k), vs) for k, vs in lines.items() if level(k)],
-            v.slot.entity, fmt, noun)
+            v.slot.entity, fmt, noun, style.locale)
     if period is not None:
         out["ranking"] = charts.ranking_spec(topic.label, topic.unit, period,
                                              [(k, names.get(k, k), x) for k, x in latest if level(k)],
-                                             v.slot.entity, fmt, noun, topic.better)
+                                             v.slot.entity, fmt, noun, topic.better, style.locale)
     return out
 
 

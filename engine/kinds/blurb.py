@@ -40,7 +40,7 @@ _ALL_MEAN = ("all_mean", "all_gap")
 _NO_CHANGE = {"state": "", "improved": False, "worsened": False, "prev_period": "", "prev_period_adj": "",
               "revised": "", "evaluative": "", "lead": "previous"}
 _NO_TREND = {"streak": 0, "record": "none", "since": "", "participle": "", "periods_word": "", "natural": True,
-             "run_since": "", "season": ""}
+             "run_since": "", "season": "", "against": "", "versus": "", "step_words": ""}
 
 
 def stated(part: Candidate) -> bool:

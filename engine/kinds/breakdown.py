@@ -74,7 +74,7 @@ def _one(ctx: Context, b: Any) -> Candidate:
     neutral = b.better == "neutral"
     variables: dict[str, Any] = {
         "scope": "entity", "name": ctx.name(b.entity), "label": ctx.label(b.topic), "the_label": ctx.the_label(b.topic),
-        "lower_label": ctx.lower_label(b.topic), "period": b.period, "breakdown": b.breakdown,
+        "lower_label": ctx.lower_label(b.topic), "period": ctx.when(b.period), "breakdown": b.breakdown,
         "best": phrasing.join_names(best, style), "worst": phrasing.join_names(worst, style),
         "groups_best": "groups" if len(best) > 1 else "group", "groups_worst": "groups" if len(worst) > 1 else "group",
         "top": best_word(b.better, True), "bottom": best_word(b.better, False), "neutral": neutral,
@@ -107,7 +107,7 @@ def _roundup(ctx: Context, topic: str, rows: Any) -> Candidate:
     }
     claims = {"widest": keys(widest), "narrowest": keys(narrowest)}
     variables = {
-        "scope": "topic", "label": ctx.label(topic), "the_label": ctx.the_label(topic), "period": period,
+        "scope": "topic", "label": ctx.label(topic), "the_label": ctx.the_label(topic), "period": ctx.when(period),
         "widest": where(widest), "narrowest": where(narrowest), "same": bool(size.max() == size.min()),
         "no_gap": bool(narrowest["gap_zero"].all()),
     }

@@ -11,10 +11,19 @@ of earlier years ("the highest third quarter since 2019"; seasons.py), read back
 until a year without a usable figure. A step is judged on its change as it would print; a break in series, a
 missing value or a gap wider than the topic's usual spacing ends a run.
 
+A quarter or a month counts its run against the comparison its change statement leads with: with
+the ``compare_with`` setting at ``year-earlier`` (the default) and a change on a year earlier to
+state, each period of the run is compared with the same period a year earlier ("worse than in the
+same quarter a year earlier for three quarters in a row"); otherwise with the period before, said
+plainly ("improved quarter on quarter for two quarters in a row"). A missing or absent period ends
+either run. Its yearly rate runs between readings of the same season, whole years apart (never from
+a first quarter to a third, which would read the season's swing as growth); none without one.
+
 Claims: ``streak`` ("improved:3", "worsened:2", "rose:4", "fell:2" for runs of two or more
-periods; "improved:3:readings" when counted in readings; else "none"), ``record``
-("highest-on-record", "lowest-on-record", "highest-since:2021", "lowest-since:2021" or "none"; for
-quarters and months against the same season: "highest-since:2019-Q3").
+periods on the period before; "improved:3:readings" when counted in readings;
+"worsened:3:year-earlier" when counted against the same period a year earlier; else "none"),
+``record`` ("highest-on-record", "lowest-on-record", "highest-since:2021", "lowest-since:2021" or
+"none"; for quarters and months against the same season: "highest-since:2019-Q3").
 """
 
 from __future__ import annotations
@@ -27,7 +36,7 @@ from stetline import periods, phrasing
 from stetline.drafting import Candidate, Context, ev, slot_id
 from stetline.facts import trend_facts
 from stetline.kinds.common import caveat, cell_wide, missing
-from stetline.seasons import season_records
+from stetline.seasons import season_records, year_earlier_streaks
 
 KIND = "trend"
 PHRASINGS = 2
@@ -58,9 +67,10 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
     trends = trend_facts(cells, ctx.facts.series)
     by_format = _labels_by_format(ctx.facts.series)
     seasons = season_records(cells, ctx.facts.series)
+    yearly = year_earlier_streaks(cells, ctx.facts.series)
     ctx.write_values(cells["topic"], trends["first_value"])  # the series' first values, a column at a time
-    for c, t, r in zip(cells.itertuples(index=False), trends.itertuples(index=False),
-                       seasons.itertuples(index=False)):
+    for c, t, r, y in zip(cells.itertuples(index=False), trends.itertuples(index=False),
+                          seasons.itertuples(index=False), yearly.itertuples(index=False)):
         if not c.usable or missing(t.points) or int(t.points) < MIN_POINTS:
             continue
         meta = ctx.topics[c.topic]
@@ -68,14 +78,19 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         labels = by_format.get(periods.period_format(str(c.period)) or "", {})
         neutral = c.better == "neutral"
         value = float(c.value)
-        streak = 0 if missing(t.streak) else int(t.streak)
-        up = (t.streak_sign or 0) > 0
+        season = ctx.when(c.period, "season")
+        # the run is counted against the comparison the change statement leads with
+        against = "year-earlier" if ctx.compare_with == "year-earlier" and y.year_state == "stated" else (
+            "previous" if season else "")
+        if against == "year-earlier":
+            streak, up = int(y.year_streak), float(y.year_streak_sign) > 0
+        else:
+            streak, up = (0 if missing(t.streak) else int(t.streak)), (t.streak_sign or 0) > 0
         words = ("rose", "fell") if neutral else ("improved", "worsened")
         word = words[0] if up else words[1]
         record = "none"
         since = ""
         prev_time = None if missing(c.prev_time) else float(c.prev_time)
-        season = ctx.when(c.period, "season")
         if season:
             record, since = _season_record(r, float(c.time), labels)
         elif missing(t.higher_before):
@@ -88,29 +103,35 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
         elif prev_time is not None and float(t.lower_before) < prev_time:
             since = labels.get(float(t.lower_before), "")
             record = f"lowest-since:{since}"
+        start_period, start_value, start_time = str(t.first_period), float(t.first_value), float(t.first_time)
+        if season:  # a yearly rate between readings of the same season, whole years apart (none without one)
+            based = not missing(r.season_base_time)
+            start_time = float(r.season_base_time) if based else float(c.time)
+            start_value = float(r.season_base_value) if based else value
+            start_period = labels.get(start_time, "") if based else str(c.period)
         evidence = {
             "period": ev(c.period, str(c.period)),
             "value": ev(value, ctx.value(c.topic, value, wide)),
-            "first_period": ev(str(t.first_period), str(t.first_period)),
-            "first_value": ev(float(t.first_value), ctx.value(c.topic, float(t.first_value), wide)),
+            "first_period": ev(start_period, start_period),
+            "first_value": ev(start_value, ctx.value(c.topic, start_value, wide)),
             "streak": ev(streak, phrasing.count(streak, style)),
         }
         if since:
             evidence["record_since"] = ev(since, since)
             since = since[:4] if season else ctx.when(since)  # a season's record names the year only
-        years = float(c.time) - float(t.first_time)
+        years = float(c.time) - start_time
         rate_text = ""
         if years > 0:
             if meta["unit"] == "percent":
-                per_year = (value - float(t.first_value)) / years
+                per_year = (value - start_value) / years
                 evidence["yearly_change"] = ev(per_year, ctx.amount(c.topic, per_year, wide))
                 if phrasing.round_half_up(abs(per_year), int(meta["decimals"])) == 0:
                     rate_text = "changed little on average"
                 else:
                     moved = "risen" if per_year > 0 else "fallen"
                     rate_text = f"{moved} by an average of {evidence['yearly_change']['shown']} a year"
-            elif float(t.first_value) > 0 and value > 0:
-                cagr = (value / float(t.first_value)) ** (1 / years) - 1
+            elif start_value > 0 and value > 0:
+                cagr = (value / start_value) ** (1 / years) - 1
                 evidence["yearly_growth"] = ev(cagr, phrasing.relative(abs(cagr), style))
                 shown = evidence["yearly_growth"]["shown"]
                 rate_text = (
@@ -121,8 +142,12 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                     rate_text = "changed little on average"
         natural = bool(t.streak_natural) if not missing(t.streak_natural) else False
         run_since = "" if missing(t.streak_since) else labels.get(float(t.streak_since), "")
+        if against == "year-earlier":  # every period of the run is one step after the last: no gap
+            natural, run_since = True, ""
         # a run of readings further apart than the calendar's own step is counted in readings
         streak_claim = f"{word}:{streak}" if natural else f"{word}:{streak}:readings"
+        if against == "year-earlier":
+            streak_claim = f"{word}:{streak}:year-earlier"
         if streak >= 2 and not natural and run_since:
             evidence["streak_since"] = ev(run_since, run_since)
         claims = {
@@ -137,11 +162,26 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "run_since": ctx.when(run_since), "season": season,
             "participle": {"rose": "risen", "fell": "fallen"}.get(word, word),
             "record": record.split(":")[0], "since": since, "rate_text": rate_text,
-            "first_period": ctx.when(t.first_period),
+            "first_period": ctx.when(start_period), **_against_words(against, str(c.period), up, neutral),
         }
         interest = 0.25 + 0.05 * min(streak, 5) + (0.25 if record != "none" else 0.0)
         yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest,
                         variables)
+
+
+def _against_words(against: str, period: str, up: bool, neutral: bool) -> dict[str, str]:
+    """What a run is counted against, as the templates say it.
+
+    ``versus`` for a run against a year earlier ("worse than in the same quarter a year earlier");
+    ``step_words`` for a quarter's or a month's run on the period before ("quarter on quarter").
+    """
+    unit = "quarter" if "-Q" in period else "month"
+    if against == "year-earlier":
+        word = ("higher" if up else "lower") if neutral else ("better" if up else "worse")
+        return {"against": against, "versus": f"{word} than in the same {unit} a year earlier", "step_words": ""}
+    if against == "previous":
+        return {"against": against, "versus": "", "step_words": f"{unit} on {unit}"}
+    return {"against": "", "versus": "", "step_words": ""}
 
 
 def _season_record(r: object, now: float, labels: dict[float, str]) -> tuple[str, str]:
