@@ -32,12 +32,15 @@ from stetline.kinds.common import (
     rank_phrase,
     status_shown,
 )
+from stetline.words import with_the
 
 KIND = "standing"
 PHRASINGS = 4
 #: wordings of the comparison with the group average and of the target, picked per slot like the phrasing
 _GROUP_WORDINGS = 3
 _TARGET_WORDINGS = 2
+#: a quarter band is said beside a placing only past this share of the ranked from the nearer end (common practice)
+BAND_PAST_SHARE = 0.1
 
 
 def _group_text(wording: int, where: str, group: str, mean: str, gap: str) -> str:
@@ -72,7 +75,7 @@ def _parent_part(ctx: Context, c: Any, tied: int, evidence: dict[str, Any], clai
         evidence["sibling_rank"] = ev(rank, phrasing.ordinal(rank))
         evidence["sibling_rank_of"] = ev(of, phrasing.count(of, ctx.style))
         claims["sibling_band"] = band(rank, of)
-        rank_text = f"{rank_phrase(rank, of, tied, c.better, ctx.of_level(of, depth), ctx.style)} in {parent}"
+        rank_text = f"{with_the(rank_phrase(rank, of, tied, c.better, ctx.of_level(of, depth), ctx.style))} in {parent}"
     compare = ""
     if c.parent_basis and not missing(c.parent_gap):
         ref = float(c.parent_ref)
@@ -139,10 +142,12 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             claims["rank_band"] = band(rank, of)
             variables["ranked"] = True
             shared = tied.get((c.topic, int(c.depth), float(rank)), 1)
-            variables["rank_text"] = rank_phrase(rank, of, shared, c.better, ctx.of_level(of, int(c.depth)),
-                                                 style) + band_note(
-                rank, of, shared)
             _top, counted = place(rank, of, shared)
+            # "the fourth worst of 50 countries": a placing said after "was" or a comma takes "the"; the quarter
+            # is said only past the first tenth ("sixth worst of 142" says it already)
+            note = band_note(rank, of, shared) if counted > BAND_PAST_SHARE * of else ""
+            variables["rank_text"] = with_the(rank_phrase(rank, of, shared, c.better, ctx.of_level(of, int(c.depth)),
+                                                          style)) + note
             if counted not in (1, rank):  # counted from the nearer end: "28th worst" is a fact too
                 evidence["place"] = ev(counted, phrasing.ordinal_word(counted, style))
             if rank == 1 or bool(c.worst):
