@@ -281,6 +281,9 @@ def test_every_draft_of_a_quarterly_series_reads_cleanly(tmp_path) -> None:
     assert all("quarters" in i["draft"] for i in runs)
     assert sweep_problems(items, untraced, re.compile(r"\byears? in a row|each of the last \S+ years|readings"),
                           ["United States", "Real GDP"]) == []
+    # a season's record is a figure, not the quarter itself ("the lowest third quarter since 2007")
+    said = " ".join(i["draft"] for i in items)
+    assert "third-quarter figure" in said and not re.search(r"(?:highest|lowest) \w+ quarter (?:on|since)", said)
 
 
 def test_every_draft_of_a_monthly_panel_reads_cleanly(tmp_path) -> None:
@@ -305,6 +308,8 @@ def test_every_draft_of_a_monthly_panel_reads_cleanly(tmp_path) -> None:
     # five ranked: no quarter band anywhere, and each company is placed from its nearer end
     assert not any("quarter)" in i["draft"] for i in items)
     assert any("the second highest of five companies" in i["draft"] for i in items if i["kind"] == "blurb")
+    assert not re.search(r"(?:highest|lowest) (?:January|February|March|April|May|June|July|August|September|"
+                         r"October|November|December) (?:on|since)", " ".join(i["draft"] for i in items))
 
 
 def test_every_draft_of_a_wide_yearly_panel_reads_cleanly(tmp_path) -> None:

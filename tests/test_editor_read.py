@@ -9,6 +9,7 @@ from __future__ import annotations
 import pandas as pd
 import pytest
 from test_kinds import ENTITIES, draft_texts, topic
+from test_periods_compare import RATE, draft
 
 from stetline.words import join_names, name_in_sentence, with_the, without_the
 
@@ -56,6 +57,37 @@ def test_no_quarter_band_beside_a_placing_in_the_first_tenth(rank: int, band: bo
     rows, ents = _ranked(50)
     text = draft_texts(rows, [topic("recycling")], ents)[f"standing/t{rank}/recycling"][0]
     assert ("(in the top quarter)" in text) is band, text
+
+
+# --- records of a season -------------------------------------------------------------------------
+
+def _quarters(third: dict[int, float], last: dict[str, float]) -> list[tuple]:
+    """A quarterly rate: third quarters by year, every other quarter at 60.0, then the quarters in ``last``."""
+    rows = [("a", "rate", f"{y}-Q{q}", third[y] if q == 3 else 60.0) for y in sorted(third) for q in range(1, 5)]
+    return [r for r in rows if r[2] not in last] + [("a", "rate", p, v) for p, v in last.items()]
+
+
+def test_a_seasons_record_is_a_figure_not_a_quarter() -> None:
+    # "the highest March on record", "the lowest third quarter since 2007": the quarter itself was not lowest
+    out = draft(_quarters({2019: 70.0, 2020: 60.0, 2021: 61.0, 2022: 62.0, 2023: 63.0},
+                          {"2023-Q4": 60.0, "2024-Q1": 60.0, "2024-Q2": 60.0, "2024-Q3": 66.0}), RATE, "quarter")
+    for slot in ("trend/a/rate", "blurb/a/rate"):
+        assert "the highest third-quarter figure since 2019" in out[slot].text or (
+            "its highest third-quarter figure since 2019" in out[slot].text), out[slot].text
+
+
+def test_a_run_one_way_that_ends_on_a_seasons_low_says_though() -> None:
+    # "has risen for three quarters in a row, to 216.39 points …, the lowest third quarter since 2007"
+    third = {2019: 40.0, 2020: 60.0, 2021: 60.0, 2022: 60.0, 2023: 60.0, 2024: 60.0}
+    out = draft(_quarters(third, {"2024-Q4": 42.0, "2025-Q1": 44.0, "2025-Q2": 47.0, "2025-Q3": 50.0}),
+                RATE, "quarter")
+    trend = out["trend/a/rate"]
+    assert trend.claims["streak"] == "improved:3" and trend.claims["record"] == "lowest-since:2019-Q3"
+    assert ", though that was the lowest third-quarter figure since 2019" in trend.text
+    blurb = out["blurb/a/rate"].text
+    assert "though that was the lowest third-quarter figure since 2019" in blurb or (
+        "though it was the lowest third-quarter figure since 2019" in blurb), blurb
+    assert ", the lowest third" not in blurb and "to its lowest" not in blurb
 
 
 # --- names ------------------------------------------------------------------------------------------

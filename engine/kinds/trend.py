@@ -139,6 +139,11 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "record": record.split(":")[0], "since": since, "rate_text": rate_text,
             "first_period": ctx.when(t.first_period),
         }
+        # a run of quarters or months may end on a figure that is low for its season: "has risen for three
+        # quarters in a row, to 216.39 points …, though that was the lowest third-quarter figure since 2007"
+        value_up = up if c.better != "lower" else not up
+        variables["contrary"] = streak >= 2 and record.startswith("lowest" if value_up else "highest")
+        variables["season_adj"] = season.replace(" quarter", "-quarter")  # "third-quarter figure", "March figure"
         interest = 0.25 + 0.05 * min(streak, 5) + (0.25 if record != "none" else 0.0)
         yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest,
                         variables)
