@@ -54,6 +54,17 @@ def _group_text(wording: int, where: str, group: str, mean: str, gap: str) -> st
     return f"{gap} {where} the {group} average of {mean}"
 
 
+def _all_text(wording: int, where: str, everyone: str, mean: str, gap: str) -> str:
+    """Against the average of every entity ranked, in one of three wordings (a page of them reads less like a form)."""
+    if where == "level":
+        return f"level with {everyone}, {mean}"
+    if wording == 0:
+        return f"{where} {everyone}, {mean}"
+    if wording == 1:
+        return f"{where} {everyone} ({mean})"
+    return f"{gap} {where} {everyone} ({mean})"
+
+
 def _target_text(wording: int, met: bool, target: str, gap: str) -> str:
     if wording == 0:
         return f"meeting the target of {target}" if met else f"missing the target of {target} by {gap}"
@@ -170,11 +181,10 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             if not variables["group_text"] and int(c.rank_of) >= 2:
                 gap = float(c.all_gap)
                 where = "level" if phrasing.round_half_up(abs(gap), d) == 0 else ("above" if gap > 0 else "below")
-                mean = evidence["all_mean"]["shown"]
-                everyone = f"the average of all {ctx.of_level(int(c.rank_of), int(c.depth))}"
-                variables["group_text"] = (
-                    f"level with {everyone}, {mean}" if where == "level" else f"{where} {everyone}, {mean}"
-                )
+                variables["group_text"] = _all_text(
+                    phrasing_index(slot_id(KIND, c.entity, c.topic) + "#group", _GROUP_WORDINGS), where,
+                    f"the average of all {ctx.of_level(int(c.rank_of), int(c.depth))}", evidence["all_mean"]["shown"],
+                    evidence["all_gap"]["shown"])
         if not missing(c.target):
             target = float(c.target)
             gap = value - target
