@@ -90,6 +90,16 @@ def test_a_run_one_way_that_ends_on_a_seasons_low_says_though() -> None:
     assert ", the lowest third" not in blurb and "to its lowest" not in blurb
 
 
+def test_a_run_of_readings_says_since_once_without_last() -> None:
+    # "has improved at each of the last 11 readings, since 1952, to 79.44 years": "last" and "since" said it twice
+    rows = [(f"e{i}", "recycling", y, 50.0 + i + k) for i in range(3) for k, y in enumerate(range(1990, 2011, 5))]
+    ents = ENTITIES.iloc[:3].assign(entity=["e0", "e1", "e2"])
+    out = draft_texts(rows, [topic("recycling")], ents)
+    for slot in ("trend/e0/recycling", "blurb/e0/recycling"):
+        text = out[slot][0]
+        assert "at each of the four readings since 1990" in text and "last" not in text, text
+
+
 # --- names ------------------------------------------------------------------------------------------
 
 @pytest.mark.parametrize(("name", "article", "said"), [

@@ -2,7 +2,7 @@
 
 Says how many periods in a row the value improved or worsened (rose or fell for neutral topics):
 in years, quarters or months when every step of the run is one such period, else in readings
-with the period the run started from ("at each of the last three readings, since 1992"). Says
+with the period the run started from ("at each of the three readings since 1992"). Says
 whether the latest value is the highest or lowest since some earlier period, and the yearly rate
 since the start of the series (or its last break), over the real time between the periods: the
 compound annual growth rate for counts and amounts, the average yearly change in percentage
