@@ -92,8 +92,8 @@ MIN_KIND = 20
 
 
 # "best" or "highest" with an ordinal in the lower half: "47th best of 50" (ranks count from the nearer end)
-ORDINAL_PLACE = re.compile(r"\b(?:joint )?(first|second|third|fourth|fifth|sixth|seventh|eighth|ninth|\d+(?:st|nd|rd|th)) "
-                           r"(?:best|highest) of (\d+)\b")
+ORDINAL_PLACE = re.compile(r"\b(?:joint )?(first|second|third|fourth|fifth|sixth|seventh|eighth|ninth|"
+                           r"\d+(?:st|nd|rd|th)) (?:best|highest) of (\d+)\b")
 PLACE_WORDS = {w: i for i, w in enumerate("zeroth first second third fourth fifth sixth seventh eighth ninth".split())}
 # a quarter band and the count ranked before it: "of 142 countries (in the top quarter)"
 BAND = re.compile(r"\bof (\d+) [^().;]*?\(in the (?:top|bottom) quarter\)")

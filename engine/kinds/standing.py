@@ -43,26 +43,16 @@ _TARGET_WORDINGS = 2
 BAND_PAST_SHARE = 0.1
 
 
-def _group_text(wording: int, where: str, group: str, mean: str, gap: str) -> str:
+def _average_text(wording: int, where: str, average: str, mean: str, gap: str, joined: str = " of ") -> str:
+    """Against an average ("the North average", "the average of all 14 towns"), in one of three wordings picked
+    per slot, so that a page of them reads less like a form; ``joined`` puts the mean after the average's name."""
     if where == "level":
-        shown = f"({mean})" if wording == 1 else f"of {mean}"
-        return f"level with the {group} average {shown}"
+        return f"level with {average} ({mean})" if wording == 1 else f"level with {average}{joined}{mean}"
     if wording == 0:
-        return f"{where} the {group} average of {mean}"
+        return f"{where} {average}{joined}{mean}"
     if wording == 1:
-        return f"{where} the {group} average ({mean})"
-    return f"{gap} {where} the {group} average of {mean}"
-
-
-def _all_text(wording: int, where: str, everyone: str, mean: str, gap: str) -> str:
-    """Against the average of every entity ranked, in one of three wordings (a page of them reads less like a form)."""
-    if where == "level":
-        return f"level with {everyone}, {mean}"
-    if wording == 0:
-        return f"{where} {everyone}, {mean}"
-    if wording == 1:
-        return f"{where} {everyone} ({mean})"
-    return f"{gap} {where} {everyone} ({mean})"
+        return f"{where} {average} ({mean})"
+    return f"{gap} {where} {average}{joined}{mean}" if joined == " of " else f"{gap} {where} {average} ({mean})"
 
 
 def _target_text(wording: int, met: bool, target: str, gap: str) -> str:
@@ -172,19 +162,19 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             claims["vs_group"] = where
             evidence["group_mean"] = ev(float(c.group_mean), ctx.value(c.topic, float(c.group_mean), wide))
             evidence["group_gap"] = ev(gap, ctx.amount(c.topic, gap, wide))
-            variables["group_text"] = _group_text(
-                phrasing_index(slot_id(KIND, c.entity, c.topic) + "#group", _GROUP_WORDINGS), where, str(c.group),
-                evidence["group_mean"]["shown"], evidence["group_gap"]["shown"])
+            variables["group_text"] = _average_text(
+                phrasing_index(slot_id(KIND, c.entity, c.topic) + "#group", _GROUP_WORDINGS), where,
+                f"the {c.group} average", evidence["group_mean"]["shown"], evidence["group_gap"]["shown"])
         if not missing(c.all_mean):
             evidence["all_mean"] = ev(float(c.all_mean), ctx.value(c.topic, float(c.all_mean), wide))
             evidence["all_gap"] = ev(float(c.all_gap), ctx.amount(c.topic, float(c.all_gap), wide))
             if not variables["group_text"] and int(c.rank_of) >= 2:
                 gap = float(c.all_gap)
                 where = "level" if phrasing.round_half_up(abs(gap), d) == 0 else ("above" if gap > 0 else "below")
-                variables["group_text"] = _all_text(
+                variables["group_text"] = _average_text(
                     phrasing_index(slot_id(KIND, c.entity, c.topic) + "#group", _GROUP_WORDINGS), where,
                     f"the average of all {ctx.of_level(int(c.rank_of), int(c.depth))}", evidence["all_mean"]["shown"],
-                    evidence["all_gap"]["shown"])
+                    evidence["all_gap"]["shown"], ", ")
         if not missing(c.target):
             target = float(c.target)
             gap = value - target
