@@ -223,7 +223,7 @@ def join_names(
     parts = [str(n) for n in names]
     folded = others_count(len(parts), limit)
     if folded:
-        parts = parts[: limit - 1] + [f"{folded} others"]
+        parts = parts[: limit - 1] + [plural(folded, "other", style)]  # "and seven others" (ONS: one to nine)
     if any("," in p for p in parts) and len(parts) > 1:
         last_sep = "; " if style.serial_comma or len(parts) > 2 else " "
         return f"{'; '.join(parts[:-1])}{last_sep}{conj} {parts[-1]}"
@@ -349,9 +349,30 @@ def name_needs_the(name: str) -> bool:
     return words[-1] in _THE_NAME_WORDS or (len(words) > 2 and words[0] in _THE_NAME_WORDS and words[1] == "of")
 
 
+#: a name in listing order with its article put last ("Gambia, The"): common practice in catalogues
+_INVERTED_THE: Final = re.compile(r"^(?P<name>.+?),\s*the$", re.IGNORECASE)
+
+
 def name_in_sentence(name: str, article: str = "") -> str:
-    """A proper name mid-sentence, with "the" where it needs one (``article``: "the", "none" or "" to guess)."""
+    """A proper name mid-sentence, with "the" where it needs one (``article``: "the", "none" or "" to guess).
+
+    A name listed with its article last ("Gambia, The") is said in running order: "the Gambia".
+    """
     text = str(name).strip()
     chosen = str(article or "").strip().lower()
+    inverted = _INVERTED_THE.match(text)
+    if inverted:
+        text = inverted.group("name").strip()
+        return text if chosen == "none" else f"the {text}"
     wants = chosen == "the" if chosen else name_needs_the(text)
     return f"the {text}" if wants else text
+
+
+def with_the(placing: str) -> str:
+    """A placing said after "was" or a comma: "the fourth worst of 50 countries", "the joint best"."""
+    return placing if placing.startswith("the ") else f"the {placing}"
+
+
+def without_the(placing: str) -> str:
+    """A placing said after "ranks" or in brackets: "ranks best of 11 firms", "(fourth worst)"."""
+    return placing[4:] if placing.startswith("the ") else placing

@@ -86,8 +86,8 @@ def test_roundup_states_leaders_and_movement(base: dict[str, Draft]) -> None:
     roundup = base["roundup/recycling"]
     assert roundup.text == (
         "Between 2024 and 2025, the recycling rate improved in three, worsened in one and held steady in two of "
-        "six towns, Brill being the exception; the biggest improvement was in Ashby (12.0 percentage points), "
-        "the biggest deterioration in "
+        "six towns; the biggest improvement was in Ashby (12.0 percentage points), "
+        "the only deterioration in "
         "Brill (1.0 percentage points). The average change was a rise of 2.3 percentage points. Ashby had the best "
         "figure (52.0%) and Colne the worst (30.0%), 22.0 percentage points apart.")
     # the topic's average change is said here, once, not in every change statement: (12 - 1 + 0.04 + 1.5 + 0 + 1) / 6
@@ -137,7 +137,7 @@ def test_only_a_new_lead_rechecks_approvals_not_rewrites(work: str) -> None:
     old = drafts(panel(LATEST, earlier))["blurb/d/recycling"]
     assert old.text.startswith("The recycling rate in Dunmere rose by 6.5 percentage points to 36.5% in 2025")
     led = drafts(panel({**LATEST, "c": 0.0}, earlier))["blurb/d/recycling"]
-    assert led.text.startswith("In 2025, the recycling rate in Dunmere stood at 36.5%: third worst of six towns")
+    assert led.text.startswith("In 2025, the recycling rate in Dunmere stood at 36.5%: the third worst of six towns")
     assert led.text.endswith("; it rose by 6.5 percentage points from 30.0% in 2024, an improvement.")
     assert led.claims == old.claims
     assert _decide(work, old, led) == (("edited", []) if work == "rewrite" else ("recheck", ["wording-changed"]))

@@ -11,6 +11,7 @@ import pytest
 from helpers import Cli, every_kind
 
 from stetline.phrasing import sentences, starts_with_figure
+from stetline.words import in_sentence
 
 BAD = [
     (re.compile(r"\bnan\b|\bNone\b|\binf\b|<NA>"), "a missing value leaked into the text"),
@@ -90,6 +91,41 @@ RECUR_SHARE = 0.10
 MIN_KIND = 20
 
 
+# "best" or "highest" with an ordinal in the lower half: "47th best of 50" (ranks count from the nearer end)
+ORDINAL_PLACE = re.compile(r"\b(?:joint )?(first|second|third|fourth|fifth|sixth|seventh|eighth|ninth|"
+                           r"\d+(?:st|nd|rd|th)) (?:best|highest) of (\d+)\b")
+PLACE_WORDS = {w: i for i, w in enumerate("zeroth first second third fourth fifth sixth seventh eighth ninth".split())}
+# a quarter band and the count ranked before it: "of 142 countries (in the top quarter)"
+BAND = re.compile(r"\bof (\d+) [^().;]*?\(in the (?:top|bottom) quarter\)")
+#: quarters mean something from this many ranked (issue 14, common practice)
+MIN_QUARTERS = 12
+
+
+def rank_problems(items: list[dict]) -> list[str]:
+    """A placing counted from the far end ("47th best of 50") or a quarter band with fewer than 12 ranked."""
+    problems = []
+    for item in items:
+        for m in ORDINAL_PLACE.finditer(item["draft"]):
+            where = PLACE_WORDS.get(m.group(1)) or int(re.sub(r"\D", "", m.group(1)))
+            if 2 * where > int(m.group(2)) + 1:
+                problems.append(f"{item['slot']}: 'best' with an ordinal in the lower half: {m.group(0)}")
+        problems += [f"{item['slot']}: a quarter band with {m.group(1)} ranked: {m.group(0)}"
+                     for m in BAND.finditer(item["draft"]) if int(m.group(1)) < MIN_QUARTERS]
+    return problems
+
+
+def lost_capitals(items: list[dict], propers: list[str]) -> list[str]:
+    """Names and labels whose capital was lowered mid-sentence ("gDP", "general Motors", "aAPL")."""
+    problems = []
+    for proper in propers:
+        if in_sentence(proper) != proper or not proper[:1].isupper():
+            continue  # an ordinary label ("Gross investment") is lowered mid-sentence on purpose
+        lowered = re.compile(r"(?<![\w-])" + re.escape(proper[0].lower() + proper[1:]) + r"\b")
+        problems += [f"{i['slot']}: capitals of {proper!r} lost: {i['draft']}" for i in items
+                     if lowered.search(i["draft"])]
+    return problems
+
+
 def recurring_sentences(items: list[dict]) -> list[str]:
     """Sentences that recur in more than a tenth of the statements of their kind (a page reading like a form)."""
     by_kind: dict[str, list[str]] = {}
@@ -124,8 +160,10 @@ def load_open_dataset(tmp_path, obs: pd.DataFrame, topics_csv: str, entities: pd
     return cli.json("list"), cli.json("audit", "--untraced")
 
 
-def sweep_problems(items: list[dict], untraced: list[dict], wrong_units: re.Pattern[str] | None) -> list[str]:
-    """What no draft of an untouched workspace may hold, one line per problem found."""
+def sweep_problems(items: list[dict], untraced: list[dict], wrong_units: re.Pattern[str] | None,
+                   propers: list[str] | None = None) -> list[str]:
+    """What no draft of an untouched workspace may hold, one line per problem found (``propers``: the
+    dataset's names and labels, whose capitals must survive mid-sentence)."""
     problems = []
     for item in items:
         text = item["draft"]
@@ -144,7 +182,7 @@ def sweep_problems(items: list[dict], untraced: list[dict], wrong_units: re.Patt
         if SCALED.search(text) and PLAIN_LARGE.search(text):
             problems.append(f"{item['slot']}: scaled and unscaled figures in one statement: {text}")
     problems += [f"{a['slot']}: untraced numbers {a['untraced']}" for a in untraced]
-    return problems + recurring_sentences(items)
+    return problems + rank_problems(items) + lost_capitals(items, propers or []) + recurring_sentences(items)
 
 
 def test_every_draft_of_an_open_dataset_reads_cleanly(tmp_path) -> None:
@@ -175,7 +213,7 @@ def test_every_draft_of_an_open_dataset_reads_cleanly(tmp_path) -> None:
     assert runs and all(i["claims"]["streak"].endswith(":readings") for i in runs)
     assert any("readings" in i["draft"] for i in runs)
     wrong = re.compile(r"in a row|each of the last \S+ years|every year")
-    assert sweep_problems(items, untraced, wrong) == []
+    assert sweep_problems(items, untraced, wrong, [*ents["name"], "GDP per person", "Life expectancy at birth"]) == []
     # names that are plural or name a union of parts read with "the" mid-sentence (common practice)
     bare = re.compile(r"(?<!the )(?<!The )\b(Netherlands|United States|United Kingdom|Czech Republic|Slovak Republic|"
                       r"Dominican Republic|Central African Republic|Philippines)\b")
@@ -210,7 +248,7 @@ def test_every_draft_of_a_yearly_panel_reads_cleanly(tmp_path) -> None:
     runs = [i for i in items if i["kind"] == "trend" and i["claims"]["streak"] != "none"]
     # one reading a year: a run is said in years, never in readings
     assert runs and not any(i["claims"]["streak"].endswith(":readings") for i in runs)
-    assert sweep_problems(items, untraced, re.compile(r"\breadings\b|quarters|months")) == []
+    assert sweep_problems(items, untraced, re.compile(r"\breadings\b|quarters|months"), list(ents["name"])) == []
     # the preposition follows the entity noun in every kind: "at a firm", never "in General Motors"
     firms = "|".join(re.escape(n) for n in ents["name"])
     assert [i["draft"] for i in items if re.search(rf"\bin (?:{firms})\b", i["draft"])] == []
@@ -241,7 +279,69 @@ def test_every_draft_of_a_quarterly_series_reads_cleanly(tmp_path) -> None:
     runs = [i for i in trends if i["claims"]["streak"] != "none"]
     # quarters are named as quarters, never as years or readings
     assert all("quarters" in i["draft"] for i in runs)
-    assert sweep_problems(items, untraced, re.compile(r"\byears? in a row|each of the last \S+ years|readings")) == []
+    assert sweep_problems(items, untraced, re.compile(r"\byears? in a row|each of the last \S+ years|readings"),
+                          ["United States", "Real GDP"]) == []
+    # a season's record is a figure, not the quarter itself ("the lowest third quarter since 2007")
+    said = " ".join(i["draft"] for i in items)
+    assert "third-quarter figure" in said and not re.search(r"(?:highest|lowest) \w+ quarter (?:on|since)", said)
+
+
+def test_every_draft_of_a_monthly_panel_reads_cleanly(tmp_path) -> None:
+    """Monthly share prices of five companies (vega_datasets' local "stocks" table, shipped in the PyPI
+    package `vega-datasets`): one reading a month, 2000-01 to 2010-03, one series starting in 2004; the names
+    are ticker symbols, all capitals."""
+    from vega_datasets import local_data
+
+    s = local_data.stocks()
+    obs = pd.DataFrame({"entity": s["symbol"].str.lower(), "topic": "price",
+                        "period": s["date"].dt.strftime("%Y-%m"), "value": s["price"]})
+    topics = "topic,label,unit,better,decimals,category,target\nprice,Share price,US$,neutral,2,Markets,\n"
+    names = list(s["symbol"].unique())
+    ents = pd.DataFrame({"entity": [n.lower() for n in names], "name": names, "group": ""})
+    items, untraced = load_open_dataset(tmp_path, obs, topics, ents, noun="company")
+    assert {i["entity"] for i in items if i["kind"] == "blurb"} == {"msft", "amzn", "ibm", "goog", "aapl"}
+    runs = [i for i in items if i["kind"] == "trend" and i["claims"]["streak"] != "none"]
+    # one reading a month: a run is said in months, never in years, quarters or readings
+    assert runs and all("months" in i["draft"] for i in runs)
+    wrong = re.compile(r"\b(?:years?|quarters?|readings) in a row|each of the last \S+ (?:years|quarters|readings)")
+    assert sweep_problems(items, untraced, wrong, [*names, "Share price"]) == []
+    # five ranked: no quarter band anywhere, and each company is placed from its nearer end
+    assert not any("quarter)" in i["draft"] for i in items)
+    assert any("the second highest of five companies" in i["draft"] for i in items if i["kind"] == "blurb")
+    assert not re.search(r"(?:highest|lowest) (?:January|February|March|April|May|June|July|August|September|"
+                         r"October|November|December) (?:on|since)", " ".join(i["draft"] for i in items))
+
+
+def test_every_draft_of_a_wide_yearly_panel_reads_cleanly(tmp_path) -> None:
+    """World Bank fertility rates (statsmodels.datasets.fertility): one reading a year 1960-2011 for up to
+    219 countries and areas, some series starting late or ending early; names in listing form, some holding
+    commas ("Korea, Rep.") or an article put last ("Gambia, The")."""
+    from statsmodels.datasets import fertility
+
+    d = fertility.load_pandas().data
+    years = [c for c in d.columns if c.isdigit()]
+    obs = d.melt(id_vars=["Country Code"], value_vars=years, var_name="period", value_name="value").dropna()
+    obs = obs.assign(entity=obs["Country Code"].str.lower(), topic="fertility")
+    topics = ("topic,label,unit,better,decimals,category,target\n"
+              "fertility,Fertility rate,births per woman,neutral,2,Population,\n")
+    ents = pd.DataFrame({"entity": d["Country Code"].str.lower(), "name": d["Country Name"], "group": ""})
+    items, untraced = load_open_dataset(tmp_path, obs, topics, ents, noun="country")
+    assert sum(1 for i in items if i["kind"] == "blurb") == obs["entity"].nunique() > 200
+    runs = [i for i in items if i["kind"] == "trend" and i["claims"]["streak"] != "none"]
+    assert runs and not any(i["claims"]["streak"].endswith(":readings") for i in runs)
+    assert sweep_problems(items, untraced, re.compile(r"\breadings\b|quarters|months"), list(ents["name"])) == []
+    # 202 ranked: quarter bands appear, but not beside a placing in the first tenth ("the 10th highest of 202")
+    assert any("(in the top quarter)" in i["draft"] for i in items)
+    banded = re.compile(r"\b(\w+) (?:highest|lowest) of 202 countries \(in the")
+    places = [m.group(1) for i in items for m in banded.finditer(i["draft"])]
+    assert places and all(re.fullmatch(r"\d+(?:st|nd|rd|th)", p) and int(p[:-2]) > 20 for p in places), places
+    # a name listed with its article last is said in running order, and none holding a comma takes "'s"
+    texts = " ".join(i["draft"] for i in items)
+    assert "Gambia, The" not in texts and "in the Gambia" in texts and "in the Bahamas" in texts
+    listed = [n for n in ents["name"] if "," in n]
+    # the change kind is worded elsewhere: its possessive is left to its own clauses
+    worded_here = " ".join(i["draft"] for i in items if i["kind"] != "change")
+    assert len(listed) > 10 and [n for n in listed if f"{n}'s" in worded_here] == []
 
 
 def test_the_sweep_catches_a_sentence_said_in_most_statements_of_a_kind() -> None:
@@ -251,3 +351,13 @@ def test_the_sweep_catches_a_sentence_said_in_most_statements_of_a_kind() -> Non
     items = [{"kind": "change", "draft": f"Place {k} rose by {k}.0%."} for k in range(25)]
     assert recurring_sentences(items) == []
     assert recurring_sentences(items[:5] + [{"kind": "roundup", "draft": same}] * 5) == []  # too few to judge
+
+
+def test_the_sweep_catches_placings_bands_and_lost_capitals() -> None:
+    # each check finds the slip it is written for, and passes the sentence an editor would print
+    said = [{"slot": "a", "draft": "It was the 47th best of 50 countries."},
+            {"slot": "b", "draft": "It was the sixth highest of 11 firms (in the top quarter)."},
+            {"slot": "c", "draft": "The share price at aAPL rose."}]
+    assert len(rank_problems(said)) == 2 and len(lost_capitals(said, ["AAPL"])) == 1
+    fine = [{"slot": "d", "draft": "It was the fourth worst of 50 countries (in the bottom quarter) at AAPL."}]
+    assert rank_problems(fine) == [] and lost_capitals(fine, ["AAPL", "Gross investment"]) == []

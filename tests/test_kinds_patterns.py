@@ -55,8 +55,10 @@ def test_exceptions_all_in_one_group_are_said_to_be() -> None:
     out = draft_texts(rows({"alpha": {"e0", "e1"}}), TOPICS, PLACES)
     text, _e, claims = out["movement/alpha"]
     assert claims["exceptions"] == ["e0", "e1"] and claims["exceptions_group"] == "Coast"
-    assert "The exceptions were the Netherlands and the Czech Republic, all in the Coast group." in text
-    assert "(all in the Coast group)" in out["roundup/alpha"][0]
+    # named in the order of their names (Czech Republic, Netherlands), not of their keys (e0, e1)
+    assert "The exceptions were the Czech Republic and the Netherlands, all in the Coast group." in text
+    assert "The two that worsened, all in the Coast group, were the Czech Republic and the Netherlands." in (
+        out["roundup/alpha"][0])
     out = draft_texts(rows({"alpha": {"e0", "e7"}}), TOPICS, PLACES)
     assert "exceptions_group" not in out["movement/alpha"][2] and "group" not in out["movement/alpha"][0]
 

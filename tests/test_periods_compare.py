@@ -177,18 +177,18 @@ def test_the_highest_third_quarter_since_2019() -> None:
                 RATE, "quarter")
     trend = out["trend/a/rate"]
     assert trend.claims["record"] == "highest-since:2019-Q3"
-    assert "the highest third quarter since 2019" in trend.text
+    assert "the highest third-quarter figure since 2019" in trend.text
     # the second quarter of 2025 (70.0%) is higher: a record that ignored the season would say lowest
 
 
 def test_a_season_on_record_and_a_year_without_a_figure() -> None:
     out = draft(seasonal({2021: 52.0, 2022: 51.0, 2023: 55.0, 2024: 56.0, 2025: 58.0}), RATE, "quarter")
     assert out["trend/a/rate"].claims["record"] == "highest-on-record"
-    assert "the highest third quarter on record (since 2021)" in out["trend/a/rate"].text
+    assert "the highest third-quarter figure on record (since 2021)" in out["trend/a/rate"].text
     # 2022's third quarter is absent: no record reaches back across it
     out = draft(seasonal({2019: 60.0, 2020: 50.0, 2021: 52.0, 2023: 55.0, 2024: 56.0, 2025: 58.0}), RATE, "quarter")
     assert out["trend/a/rate"].claims["record"] == "none"
-    assert "third quarter since" not in out["trend/a/rate"].text
+    assert "third-quarter figure since" not in out["trend/a/rate"].text
 
 
 # ---- rechecks -------------------------------------------------------------------------------------

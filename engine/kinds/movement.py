@@ -125,13 +125,15 @@ def _level(ctx: Context, level: str) -> Iterator[Candidate]:
             "period": ctx.when(t["period"]),
             "prev_period": ctx.when(prev_period), "neutral": neutral, "words": words,
             "n_up": n_up, "n_down": n_down, "steady": steady, "nouns": ctx.of_n(len(frame)),
-            "exceptions": ctx.names(exceptions), "n_exceptions": len(exceptions),
+            # named in the order of their names, not of their keys ("Albania, Barbados, Belarus …")
+            "exceptions": ctx.names(sorted(exceptions, key=lambda k: str(ctx.entities.get(k, {}).get("name") or k))),
+            "n_exceptions": len(exceptions),
             "best_mover": "", "worst_mover": "", "prep": ctx.preposition, "exceptions_group": "",
             "average_move": "", "p_average": phrasing_index(topic_slot(KIND, topic, level) + "#average", 2),
         }
         folded = others_count(len(exceptions))
         if folded:  # "… and 5 others": the count the list folds away is a fact like the rest
-            evidence["other_exceptions"] = ev(folded, str(folded))
+            evidence["other_exceptions"] = ev(folded, phrasing.count(folded, ctx.style))  # "and seven others"
         if top_up is not None:
             evidence["biggest_up"] = ev(float(top_up["change_rel" if relative else "change"]), size(top_up))
             variables["best_mover"] = ctx.name(str(top_up["entity"]))

@@ -32,6 +32,7 @@ from stetline.drafting import Candidate, Context, ev, slot_id
 from stetline.facts import biggest_moves
 from stetline.kinds import patterns
 from stetline.kinds.common import MIN_RANKED, band, missing, rank_phrase, with_leading_changes
+from stetline.words import with_the, without_the
 
 KIND = "profile"
 PHRASINGS = 3
@@ -144,6 +145,11 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
                     variables[f"{which}_since"] = f" on {ctx.when(since)}"
                 variables["improvement_up" if which == "improvement" else "setback_down"] = (
                     float(moved) > 0 if which == "improvement" else float(moved) < 0)
+        # a placing after "is" or a comma takes "the" ("the second lowest of 11 firms"), after "ranks" or in
+        # brackets it does not ("ranks best of 11 firms"); the evidence keeps the placing as computed
+        shown = {k: str(evidence[k]["shown"]) for k in ("composite_rank", "strongest_rank", "weakest_rank")}
+        variables["the_placing"] = {k: with_the(v) for k, v in shown.items()}
+        variables["placing"] = {k: without_the(v) for k, v in shown.items()}
         variables.update(pattern="", pattern_all=False, nouns_all=ctx.entity_nouns)
         pattern = against.get(key)
         if pattern is not None:  # an exception on most topics: said as fact, and flagged for a data check

@@ -32,23 +32,27 @@ from stetline.kinds.common import (
     rank_phrase,
     status_shown,
 )
+from stetline.words import with_the
 
 KIND = "standing"
 PHRASINGS = 4
 #: wordings of the comparison with the group average and of the target, picked per slot like the phrasing
 _GROUP_WORDINGS = 3
 _TARGET_WORDINGS = 2
+#: a quarter band is said beside a placing only past this share of the ranked from the nearer end (common practice)
+BAND_PAST_SHARE = 0.1
 
 
-def _group_text(wording: int, where: str, group: str, mean: str, gap: str) -> str:
+def _average_text(wording: int, where: str, average: str, mean: str, gap: str, joined: str = " of ") -> str:
+    """Against an average ("the North average", "the average of all 14 towns"), in one of three wordings picked
+    per slot, so that a page of them reads less like a form; ``joined`` puts the mean after the average's name."""
     if where == "level":
-        shown = f"({mean})" if wording == 1 else f"of {mean}"
-        return f"level with the {group} average {shown}"
+        return f"level with {average} ({mean})" if wording == 1 else f"level with {average}{joined}{mean}"
     if wording == 0:
-        return f"{where} the {group} average of {mean}"
+        return f"{where} {average}{joined}{mean}"
     if wording == 1:
-        return f"{where} the {group} average ({mean})"
-    return f"{gap} {where} the {group} average of {mean}"
+        return f"{where} {average} ({mean})"
+    return f"{gap} {where} {average}{joined}{mean}" if joined == " of " else f"{gap} {where} {average} ({mean})"
 
 
 def _target_text(wording: int, met: bool, target: str, gap: str) -> str:
@@ -72,7 +76,7 @@ def _parent_part(ctx: Context, c: Any, tied: int, evidence: dict[str, Any], clai
         evidence["sibling_rank"] = ev(rank, phrasing.ordinal(rank))
         evidence["sibling_rank_of"] = ev(of, phrasing.count(of, ctx.style))
         claims["sibling_band"] = band(rank, of)
-        rank_text = f"{rank_phrase(rank, of, tied, c.better, ctx.of_level(of, depth), ctx.style)} in {parent}"
+        rank_text = f"{with_the(rank_phrase(rank, of, tied, c.better, ctx.of_level(of, depth), ctx.style))} in {parent}"
     compare = ""
     if c.parent_basis and not missing(c.parent_gap):
         ref = float(c.parent_ref)
@@ -139,10 +143,12 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             claims["rank_band"] = band(rank, of)
             variables["ranked"] = True
             shared = tied.get((c.topic, int(c.depth), float(rank)), 1)
-            variables["rank_text"] = rank_phrase(rank, of, shared, c.better, ctx.of_level(of, int(c.depth)),
-                                                 style) + band_note(
-                rank, of, shared)
             _top, counted = place(rank, of, shared)
+            # "the fourth worst of 50 countries": a placing said after "was" or a comma takes "the"; the quarter
+            # is said only past the first tenth ("sixth worst of 142" says it already)
+            note = band_note(rank, of, shared) if counted > BAND_PAST_SHARE * of else ""
+            variables["rank_text"] = with_the(rank_phrase(rank, of, shared, c.better, ctx.of_level(of, int(c.depth)),
+                                                          style)) + note
             if counted not in (1, rank):  # counted from the nearer end: "28th worst" is a fact too
                 evidence["place"] = ev(counted, phrasing.ordinal_word(counted, style))
             if rank == 1 or bool(c.worst):
@@ -156,20 +162,19 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             claims["vs_group"] = where
             evidence["group_mean"] = ev(float(c.group_mean), ctx.value(c.topic, float(c.group_mean), wide))
             evidence["group_gap"] = ev(gap, ctx.amount(c.topic, gap, wide))
-            variables["group_text"] = _group_text(
-                phrasing_index(slot_id(KIND, c.entity, c.topic) + "#group", _GROUP_WORDINGS), where, str(c.group),
-                evidence["group_mean"]["shown"], evidence["group_gap"]["shown"])
+            variables["group_text"] = _average_text(
+                phrasing_index(slot_id(KIND, c.entity, c.topic) + "#group", _GROUP_WORDINGS), where,
+                f"the {c.group} average", evidence["group_mean"]["shown"], evidence["group_gap"]["shown"])
         if not missing(c.all_mean):
             evidence["all_mean"] = ev(float(c.all_mean), ctx.value(c.topic, float(c.all_mean), wide))
             evidence["all_gap"] = ev(float(c.all_gap), ctx.amount(c.topic, float(c.all_gap), wide))
             if not variables["group_text"] and int(c.rank_of) >= 2:
                 gap = float(c.all_gap)
                 where = "level" if phrasing.round_half_up(abs(gap), d) == 0 else ("above" if gap > 0 else "below")
-                mean = evidence["all_mean"]["shown"]
-                everyone = f"the average of all {ctx.of_level(int(c.rank_of), int(c.depth))}"
-                variables["group_text"] = (
-                    f"level with {everyone}, {mean}" if where == "level" else f"{where} {everyone}, {mean}"
-                )
+                variables["group_text"] = _average_text(
+                    phrasing_index(slot_id(KIND, c.entity, c.topic) + "#group", _GROUP_WORDINGS), where,
+                    f"the average of all {ctx.of_level(int(c.rank_of), int(c.depth))}", evidence["all_mean"]["shown"],
+                    evidence["all_gap"]["shown"], ", ")
         if not missing(c.target):
             target = float(c.target)
             gap = value - target

@@ -2,7 +2,7 @@
 
 Says how many periods in a row the value improved or worsened (rose or fell for neutral topics):
 in years, quarters or months when every step of the run is one such period, else in readings
-with the period the run started from ("at each of the last three readings, since 1992"). Says
+with the period the run started from ("at each of the three readings since 1992"). Says
 whether the latest value is the highest or lowest since some earlier period, and the yearly rate
 since the start of the series (or its last break), over the real time between the periods: the
 compound annual growth rate for counts and amounts, the average yearly change in percentage
@@ -164,6 +164,11 @@ def candidates(ctx: Context) -> Iterator[Candidate]:
             "record": record.split(":")[0], "since": since, "rate_text": rate_text,
             "first_period": ctx.when(start_period), **_against_words(against, str(c.period), up, neutral),
         }
+        # a run of quarters or months may end on a figure that is low for its season: "has risen for three
+        # quarters in a row, to 216.39 points …, though that was the lowest third-quarter figure since 2007"
+        value_up = up if c.better != "lower" else not up
+        variables["contrary"] = streak >= 2 and record.startswith("lowest" if value_up else "highest")
+        variables["season_adj"] = season.replace(" quarter", "-quarter")  # "third-quarter figure", "March figure"
         interest = 0.25 + 0.05 * min(streak, 5) + (0.25 if record != "none" else 0.0)
         yield Candidate(slot_id(KIND, c.entity, c.topic), KIND, c.entity, c.topic, evidence, claims, interest,
                         variables)
