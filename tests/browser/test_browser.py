@@ -91,8 +91,8 @@ def test_a_bad_upload_shows_the_problems_table(page: Page, live: Live) -> None:
 def test_publishing_markdown_downloads_the_file(page: Page, live: Live, tmp_path: Path) -> None:
     page.goto(live("/publish"))
     expect(page.locator(".caution")).to_contain_text("A qualified person must check them before release")
-    # the demo's 15 (`stetline list --status recheck`), the approved quarterly blurb among them
-    expect(page.get_by_role("heading", name=re.compile("15 statements wait in recheck"))).to_be_visible()
+    # the demo's 17 (`stetline list --status recheck`), the approved quarterly blurb among them
+    expect(page.get_by_role("heading", name=re.compile("17 statements wait in recheck"))).to_be_visible()
     page.get_by_label("Markdown").check()
     page.get_by_label("Publish even though statements wait in recheck").check()
     with page.expect_download() as info:
