@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 from typing import Any
 
@@ -133,6 +134,12 @@ def test_a_rename_with_changed_numbers_sends_the_moved_work_to_recheck(started: 
         c["old"] == "74.0%" and c["new"] == "75.0%" for c in blurb["recheck"]["changes"])
     assert "75.0%" in blurb["recheck"]["proposed"]
     assert blurb["layer"]["by"] == "ann"
+    # the changelog lists the statement as moved, with its new number, not as one gone and one added
+    log = json.loads(started("changes", "--format", "json").stdout)
+    moved = {m["from"]: m for m in log["moved"]}["blurb/east/parks"]
+    assert (moved["to"], moved["names"], moved["value"]) == (
+        "blurb/east-vale/parks", "East → East Vale", {"old": "74.0%", "new": "75.0%"})
+    assert "blurb/east/parks" not in log["gone"] and "blurb/east-vale/parks" not in log["added"]
 
 
 def test_a_merger_shows_both_old_texts_for_a_person_to_choose(started: Cli, tmp_path: Path) -> None:

@@ -337,6 +337,9 @@ def test_the_changelog_page(client) -> None:
     assert "blurb/gorse-point/recycling" in page and "direction of the change: up → down" in page
     assert "Household recycling rate in Gorse Point — blurb</a>" in page
     assert "roundup/paper-timetables" in page
+    # Larkholt renamed Larkholt Vale: its statements are listed as moved, with the change in their value
+    assert "<code class=\"slot-id\">blurb/larkholt/library-visits → blurb/larkholt-vale/library-visits</code> " \
+           "(Larkholt → Larkholt Vale): value 1,214 per 1,000 residents → 1,236 per 1,000 residents" in page
 
 
 def test_two_people_saving_the_same_statement_the_second_sees_the_conflict(app, demo_ws) -> None:
