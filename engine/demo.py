@@ -2,8 +2,9 @@
 
 Builds a workspace from the invented files in ``seed_data``: loads the first edition, adds the
 kind of work an editorial team does on the statements a report prints (rewrites with typed numbers,
-rewrites with live fields, pins, an expert's notes, comments, a suppression, approvals), loads the
-second edition and so shows rechecks of every reason, then changes a house-style setting and redrafts.
+rewrites with live fields, pins, an expert's notes, comments, a suppression, approvals; on breakdowns
+by age band too), loads the second edition and so shows rechecks of every reason but ``merged``, then
+changes a house-style setting and redrafts.
 """
 
 from __future__ import annotations
