@@ -331,10 +331,11 @@ def choose(session: Session, slot_id: str, pick: int | None, *, by: str, version
     if slot is None:
         raise StetlineError(f"no statement {slot_id!r}")
     layer = merged_layer(session, slot_id)
+    choices: list[dict[str, Any]] = []
     if layer is not None:
         choices = merged_texts(layer.text)
-    else:  # a workspace merged before the choice was a layer keeps it in the recheck only
-        choices = (slot.recheck or {}).get("merged") if slot.status == Status.RECHECK else None
+    elif slot.status == Status.RECHECK:  # a workspace merged before the choice was a layer keeps it in the recheck
+        choices = list((slot.recheck or {}).get("merged") or [])
     if not choices:
         raise StetlineError(f"{slot_id} holds no merged texts to choose from")
     if version is not None and version != slot.version:
