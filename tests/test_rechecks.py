@@ -32,7 +32,9 @@ def test_accept_all_clean_asks_first_then_records_one_event_each(demo_cli: Cli) 
     assert refused.exit_code == 1
     assert demo_cli.json("show", "blurb/heronsford/parks-satisfaction")["status"] == "recheck"
     out = demo_cli("approve", "--all-clean", "--yes", "--by", "reviewer")
-    assert "3 statement(s) approved" in out.stdout  # two rewrites and an approved roundup: numbers only
+    # numbers only: two rewrites, an approved roundup and an approved breakdown (North Quay's gap widens)
+    assert "4 statement(s) approved" in out.stdout
+    assert "breakdown/north-quay/parks-satisfaction/age: approved (proposed text accepted)" in out.stdout
     item = demo_cli.json("show", "blurb/heronsford/parks-satisfaction")
     assert item["status"] == "approved"
     assert item["text"].startswith("Heronsford residents remain among the most satisfied with their parks: 81%")
@@ -40,6 +42,7 @@ def test_accept_all_clean_asks_first_then_records_one_event_each(demo_cli: Cli) 
     # claim changes and conflicts are never accepted in bulk
     assert demo_cli.json("show", "blurb/gorse-point/recycling")["status"] == "recheck"
     assert demo_cli.json("show", "blurb/high-ferrow/bus-punctuality")["status"] == "recheck"
+    assert demo_cli.json("show", "breakdown/tidemere/parks-satisfaction/age")["status"] == "recheck"
 
 
 def test_a_contradicted_proposal_cannot_be_accepted_as_it_is(demo_cli: Cli) -> None:
