@@ -572,10 +572,10 @@ def test_bulk_annotate_on_the_recheck_queue(client: FlaskClient, demo_ws: Worksp
 def test_bulk_approve_in_the_recheck_queue_says_proposals_are_not_taken(client: FlaskClient) -> None:
     html = client.post("/bulk/confirm", data={"action": "approve", "scope": "recheck", "reason": "numbers-changed"}
                        ).get_data(as_text=True)
-    # of the 12 whose numbers changed (`stetline list --status recheck` on the demo), the 9 whose claims the new
+    # of the 14 whose numbers changed (`stetline list --status recheck` on the demo), the 10 whose claims the new
     # data also contradict are left alone
-    assert "<h1>Approve 3 statements?</h1>" in html and "Proposed texts in recheck are <em>not</em> taken" in html
-    assert "Left as they are (9)" in html and html.count("the new data contradict its claims") == 9
+    assert "<h1>Approve 4 statements?</h1>" in html and "Proposed texts in recheck are <em>not</em> taken" in html
+    assert "Left as they are (10)" in html and html.count("the new data contradict its claims") == 10
 
 
 def test_bulk_annotate_needs_a_note(client: FlaskClient) -> None:
