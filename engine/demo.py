@@ -59,10 +59,12 @@ REWRITES = {
         "Library visits in the town ran at {{ value }} in {{ period }}, {{ rank }} of {{ rank_of }} towns."
     ),
     # by age band, Tidemere's best group turns from 65+ to 16-34 and its worst from 16-34 to 35-64 in 2025
-    # (claim-changed: the demo drafts the breakdown kind, KINDS)
+    # (claim-changed: the demo drafts the breakdown kind, KINDS); the editor reworded only the opening, so the
+    # proposal merges the new groups in without a conflict, for a person to check
     "breakdown/tidemere/parks-satisfaction/age": (
-        "Tidemere's residents aged 65+ were the most satisfied with their parks in 2024 (71%), those aged 16-34 "
-        "the least (62%)."
+        "In Tidemere, satisfaction with local parks differed by age in 2024 (67% overall): the 65+ group had the "
+        "best figure (71%) and the 16-34 group the worst (62%), 9 percentage points apart, within the margins of "
+        "error. The 65+ group makes up 15% of the whole and the 16-34 group 18%."
     ),
     # paper timetable requests are discontinued in 2025 (slot-gone)
     "roundup/paper-timetables": (
