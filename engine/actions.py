@@ -20,7 +20,7 @@ from stetline.claimcheck import check_claims, contradicted_claims
 from stetline.errors import Conflict, NotFound, StetlineError
 from stetline.livefields import MAX_TEXT, LiveFieldError, LiveFields, has_live_fields
 from stetline.printing import Printed, printed
-from stetline.slotstatus import house_style, marked_unrenderable, render_error, restatus
+from stetline.slotstatus import house_style, marked_unrenderable, merged_layer, render_error, restatus, set_aside
 from stetline.status import STATUSES as STATUSES  # re-exported: the CLI and the web app list them from here
 from stetline.status import Reason, Status
 from stetline.store import ops
@@ -173,6 +173,7 @@ def rewrite(session: Session, slot_id: str, text: str, *, by: str, version: int 
         ops.drop(session, old, by)
     ops.add_layer(session, slot_id, "rewrite", text, draft.text, _basis(draft), by).author = author
     _drop_approval(session, slot_id, by)
+    set_aside(session, slot_id, by, "rewrite")  # a text of one's own replaces the choice of merged texts
     session.flush()
     restatus(session, slot, draft)
     _touch(slot)
@@ -244,16 +245,18 @@ def suppress(session: Session, slot_id: str, *, by: str, lift: bool = False, ver
 
 
 def revert(session: Session, slot_id: str, *, by: str, version: int | None = None) -> Slot:
-    """Drop the slot's text layer (rewrite or pin): the draft shows again."""
+    """Drop the slot's text layer (rewrite or pin) and any merged texts to choose from: the draft shows again."""
     authorize(session, by, "revert")
     slot, draft = _slot(session, slot_id)
     _check_version(slot, version)
     layer = _text_layer(session, slot_id)
-    if layer is None:
+    if layer is None and merged_layer(session, slot_id) is None:
         raise StetlineError(f"{slot_id} has no rewrite or pin to revert")
-    before = layer.text  # as written, never rendered: a broken rewrite can always be reverted
-    ops.drop(session, layer, by)
+    before = draft.text if layer is None else layer.text  # as written: a broken rewrite can always be reverted
+    if layer is not None:
+        ops.drop(session, layer, by)
     _drop_approval(session, slot_id, by)
+    set_aside(session, slot_id, by, "revert")
     session.flush()
     restatus(session, slot, draft)
     _touch(slot)
@@ -275,6 +278,9 @@ def approve(session: Session, slot_id: str, *, by: str, accept_proposed: bool = 
     layers = ops.active_layers(session, slot_id)
     if any(x.type == "suppress" for x in layers):
         raise StetlineError(f"{slot_id} is suppressed: there is no text to approve")
+    if any(x.type == reconcile.MERGED_LAYER for x in layers):
+        raise StetlineError(f"several statements were merged into {slot_id}: choose a text first (stetline choose "
+                            f"{slot_id} --text N, or --draft), or write a rewrite")
     recheck = slot.recheck or {}
     proposed = recheck.get("proposed")
     if accept_proposed and not proposed:

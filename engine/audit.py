@@ -96,6 +96,7 @@ def audit(session: Session, f: ops.SlotFilter | None = None) -> list[SlotAudit]:
     live = LiveFields(style)
     topics = {t.key: t for t in ops.topic_rows(session)}
     entities = {e.key: e for e in ops.entity_rows(session)}
+    subgroups = _subgroup_names(session)
     out = []
     for v in views(session, f or ops.SlotFilter(), order="interest"):
         if v.slot.gone:
@@ -109,9 +110,22 @@ def audit(session: Session, f: ops.SlotFilter | None = None) -> list[SlotAudit]:
             labels += [topics[v.slot.topic].label, topics[v.slot.topic].unit]
         labels += [e.name for e in entities.values()] if v.slot.entity is None else []
         labels += [t.label for t in topics.values()] if v.slot.topic is None else []
+        labels += subgroups.get((v.slot.topic, v.slot.id.rsplit("/", 1)[-1]), []) if v.slot.kind == "breakdown" else []
         result = SlotAudit(v.slot.id, audit_text(text, v.draft.evidence, labels))
         for note in shown.notes:
             if note:
                 result.uses += audit_text(note, v.draft.evidence, labels, where="note")
         out.append(result)
+    return out
+
+
+def _subgroup_names(session: Session) -> dict[tuple[str | None, str], list[str]]:
+    """The subgroups' names (as written in the file) of each topic × breakdown in the current data."""
+    frame = ops.breakdowns_frame(session)
+    if frame is None or frame.empty:
+        return {}
+    names = frame.drop_duplicates(["topic", "breakdown", "subgroup"])
+    out: dict[tuple[str | None, str], list[str]] = {}
+    for topic, breakdown, subgroup in zip(names["topic"], names["breakdown"], names["subgroup"], strict=True):
+        out.setdefault((str(topic), str(breakdown)), []).append(str(subgroup))
     return out

@@ -1,6 +1,7 @@
 """The edition changelog: what changed between two editions.
 
-Slots added and gone, claims that flipped (with the old and new text), the largest changes in
+Slots added and gone, slots moved to a renamed or merged entity (with what changed in their
+numbers and claims, not as gone and added), claims that flipped (with the old and new text), the largest changes in
 shown values (each entity and topic's value once, however many statements show it), and the human
 layers carried across with their outcome. A slot's draft in an
 edition is its latest draft written at or before that edition (drafts are written only when
@@ -16,6 +17,7 @@ from sqlalchemy.orm import Session
 
 from stetline.errors import StetlineError
 from stetline.factwords import claim_name
+from stetline.numbers import shown_changes
 from stetline.reconcile import claim_changes
 from stetline.status import Status
 from stetline.store import ops
@@ -31,6 +33,7 @@ class Changelog:
     to_edition: str
     added: list[str] = field(default_factory=list)
     gone: list[str] = field(default_factory=list)
+    moved: list[dict[str, Any]] = field(default_factory=list)  # {from, to, names, value, numbers, claims}
     flipped: list[dict[str, Any]] = field(default_factory=list)
     numbers: list[dict[str, Any]] = field(default_factory=list)
     carried: list[dict[str, Any]] = field(default_factory=list)
@@ -43,6 +46,7 @@ class Changelog:
         """The changelog as a Markdown document."""
         lines = [f"# Changes from edition {self.from_edition} to {self.to_edition}", ""]
         lines += [f"- statements added: {len(self.added)}", f"- statements gone: {len(self.gone)}",
+                  f"- statements moved to a renamed or merged entity: {len(self.moved)}",
                   f"- claims flipped: {len(self.flipped)}", f"- human layers carried: {len(self.carried)}", ""]
         if self.flipped:
             lines += ["## Claims that flipped", ""]
@@ -60,6 +64,11 @@ class Changelog:
             lines += ["## Human layers carried", "", "| statement | layers | outcome |", "| --- | --- | --- |"]
             for c in self.carried:
                 lines.append(f"| {c['slot']} | {', '.join(c['layers'])} | {c['outcome']} |")
+            lines.append("")
+        if self.moved:
+            lines += ["## Statements moved", ""]
+            for m in self.moved:
+                lines.append(f"- {m['from']} → {m['to']} ({m['names']}): {_moved_words(m)}")
             lines.append("")
         if self.gone:
             lines += ["## Statements gone", ""] + [f"- {s}" for s in self.gone] + [""]
@@ -84,8 +93,11 @@ def changes(session: Session, from_label: str | None = None, to_label: str | Non
     after = ops.drafts_as_of(session, to_e.id)
     gone_now = ops.gone_as_of(session, to_e.id)
     log = Changelog(from_e.label, to_e.label)
-    log.added = sorted(s for s in after if s not in before)
-    log.gone = sorted(s for s in before if s in gone_now)
+    moves = {old: new for old, new in ops.moves_between(session, from_e.id, to_e.id).items()
+             if old in before and new in after}
+    log.moved = _moved(session, moves, before, after)
+    log.added = sorted(s for s in after if s not in before and s not in moves.values())
+    log.gone = sorted(s for s in before if s in gone_now and s not in moves)
     valued: set[str] = set()  # an entity × topic value is listed once, whichever kinds state it
     for slot in sorted(set(before) & set(after)):
         old, new = before[slot], after[slot]
@@ -109,3 +121,34 @@ def changes(session: Session, from_label: str | None = None, to_label: str | Non
         outcome = "recheck: " + ", ".join((recheck or {}).get("reasons", [])) if status == Status.RECHECK else status
         log.carried.append({"slot": slot, "layers": types, "outcome": outcome})
     return log
+
+
+def _count(n: int, what: str) -> str:
+    return f"{n} {what}" + ("" if n == 1 else "s")
+
+
+def _moved_words(m: dict[str, Any]) -> str:
+    """What changed on a moved statement, in a few words: its value, then how many claims and other numbers."""
+    value, others = m["value"], [c for c in m["numbers"] if c["fact"] != "value"]
+    words = [f"value {value['old']} → {value['new']}"] if value else []
+    words += [_count(len(m["claims"]), "claim") + " changed"] if m["claims"] else []
+    words += [_count(len(others), "other number" if value else "number") + " changed"] if others else []
+    return "; ".join(words) or "numbers and claims unchanged"
+
+
+def _moved(session: Session, moves: dict[str, str], before: dict[str, Any], after: dict[str, Any]
+           ) -> list[dict[str, Any]]:
+    """Each slot moved to a renamed or merged entity: its old and new ids, the entity's names old → new,
+    the change in its value as shown (None when the same or when it states none), every number shown
+    that differs ({fact, old, new}), and the claims that differ from its old draft."""
+    names = {e.key: e.name for e in ops.entity_rows(session)}
+    out = []
+    for old, new in sorted(moves.items()):
+        a, b = before[old], after[new]
+        keys = next(((x, y) for x, y in zip(old.split("/"), new.split("/"), strict=False) if x != y), (old, new))
+        was, now = a.evidence.get("value", {}).get("shown"), b.evidence.get("value", {}).get("shown")
+        out.append({"from": old, "to": new, "names": f"{names.get(keys[0], keys[0])} → {names.get(keys[1], keys[1])}",
+                    "value": None if was == now else {"old": was, "new": now},
+                    "numbers": shown_changes(a.evidence, b.evidence),
+                    "claims": claim_changes(a.claims, b.claims)})
+    return out

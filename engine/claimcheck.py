@@ -45,7 +45,8 @@ def contradicted_claims(slot: Slot, draft: Draft, layers: list[Layer],
     if Reason.CLAIM_CHANGED not in (slot.recheck or {}).get("reasons", []):
         return []
     found: dict[str, dict[str, Any]] = {}
-    bases = [x.basis for x in layers] + ([approval.basis] if approval is not None else [])
+    bases = [x.basis for x in layers if x.type != reconcile.MERGED_LAYER]  # texts to choose from claim nothing
+    bases += [approval.basis] if approval is not None else []
     for basis in bases:
         for change in reconcile.claim_changes(Basis.from_json(basis or {}).claims, draft.claims):
             found.setdefault(change["fact"], {**change, "words": claim_words(change)})

@@ -2,8 +2,9 @@
 
 Builds a workspace from the invented files in ``seed_data``: loads the first edition, adds the
 kind of work an editorial team does on the statements a report prints (rewrites with typed numbers,
-rewrites with live fields, pins, an expert's notes, comments, a suppression, approvals), loads the
-second edition and so shows rechecks of every reason, then changes a house-style setting and redrafts.
+rewrites with live fields, pins, an expert's notes, comments, a suppression, approvals; on breakdowns
+by age band too), loads the second edition and so shows rechecks of every reason but ``merged``, then
+changes a house-style setting and redrafts.
 """
 
 from __future__ import annotations
@@ -14,7 +15,7 @@ from collections.abc import Callable
 from importlib import resources
 from pathlib import Path
 
-from stetline import accounts, actions, comments, loading
+from stetline import accounts, actions, comments, loading, settings
 from stetline.store import ops
 from stetline.workspace import Workspace, init_workspace, is_workspace
 
@@ -58,6 +59,14 @@ REWRITES = {
     "blurb/larkholt/library-visits": (
         "Library visits in the town ran at {{ value }} in {{ period }}, {{ rank }} of {{ rank_of }} towns."
     ),
+    # by age band, Tidemere's best group turns from 65+ to 16-34 and its worst from 16-34 to 35-64 in 2025
+    # (claim-changed: the demo drafts the breakdown kind, KINDS); the editor reworded only the opening, so the
+    # proposal merges the new groups in without a conflict, for a person to check
+    "breakdown/tidemere/parks-satisfaction/age": (
+        "In Tidemere, satisfaction with local parks differed by age in 2024 (67% overall): the 65+ group had the "
+        "best figure (71%) and the 16-34 group the worst (62%), 9 percentage points apart, within the margins of "
+        "error. The 65+ group makes up 15% of the whole and the 16-34 group 18%."
+    ),
     # paper timetable requests are discontinued in 2025 (slot-gone)
     "roundup/paper-timetables": (
         "Requests for paper timetables ranged from 19.7 per 1,000 residents in Puffin Holm to 8.8 in Tidemere."
@@ -82,8 +91,12 @@ COMMENTS = {
 APPROVALS = (
     "blurb/high-ferrow/bus-punctuality", "roundup/recycling", "headline", "roundup/bathing-water",
     "blurb/heronsford/parks-satisfaction",
+    # North Quay's gap between age bands widens from 9 to 10 points in 2025, its groups unchanged (numbers-changed)
+    "breakdown/north-quay/parks-satisfaction/age",
 )
 SUPPRESS = ("blurb/puffin-holm/new-business",)
+#: the kinds the demo drafts: a new workspace's, and the breakdown kind for its parks satisfaction by age band
+KINDS = (*settings.DEFAULT_KINDS, "breakdown")
 #: a quarterly statement approved on the first edition: the second turns its change on a year earlier round
 SEASONAL_APPROVALS = ("blurb/heronsford/library-visits",)
 
@@ -130,6 +143,7 @@ def build(path: Path, echo: Callable[[str], None] = print) -> Workspace:
         ops.put_setting(s, "title", TITLE)
         ops.put_setting(s, "entity_noun", "town")
         ops.put_setting(s, "level_nouns", "district,town")
+        ops.put_setting(s, "kinds", ",".join(KINDS))
     passwords = create_accounts(ws)
     echo("demo accounts (name and role, password) — also in demo-accounts.txt in the workspace:")
     for name, password in passwords.items():

@@ -256,7 +256,7 @@ def load_edition(
             else:
                 ops.apply_decisions(session, edition.id, decisions, by_slot, by)
             if plan is not None:
-                rename_mod.move(session, plan)
+                rename_mod.move(session, plan, by)
             del decisions, by_slot, states, drafted  # the drafts are written: free them before the observations
             count_unrenderable(summary, recheck_unrenderable(session, by=by))
             progress("writing observations", 0, len(dataset.observations))

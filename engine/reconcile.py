@@ -8,6 +8,7 @@ only digits below display precision moved. No I/O happens here; nothing is ever 
 
 from __future__ import annotations
 
+import json
 from collections.abc import Collection, Iterable
 from dataclasses import dataclass, field
 from typing import Any
@@ -19,6 +20,9 @@ from stetline.status import REASONS as REASONS  # re-exported: callers import th
 from stetline.status import SEVERITY, Reason, Status
 
 TEXT_LAYERS = ("rewrite", "pin")
+#: the layer a merger leaves on its new slot: the merged texts (JSON) a person chooses between; it holds
+#: the slot in recheck (``merged``) until a choice, a rewrite or a revert drops it (stetline.renames)
+MERGED_LAYER = "merged"
 
 
 @dataclass(frozen=True)
@@ -49,7 +53,7 @@ class HumanWork:
     """One piece of human work with a basis: a layer (by id) or the approval."""
 
     id: int
-    type: str  # rewrite | pin | annotate | suppress | approval
+    type: str  # rewrite | pin | annotate | suppress | merged | approval
     text: str | None
     base_text: str | None
     basis: Basis
@@ -76,6 +80,12 @@ class SlotState:
         return any(w.type == "suppress" for w in self.work)
 
     @property
+    def merged(self) -> list[dict[str, Any]] | None:
+        """The merged texts still to choose from (a ``merged`` layer), if any."""
+        layer = next((w for w in self.work if w.type == MERGED_LAYER), None)
+        return None if layer is None else merged_texts(layer.text)
+
+    @property
     def text_layer(self) -> HumanWork | None:
         """The slot's rewrite or pin, if any."""
         return next((w for w in self.work if w.type in TEXT_LAYERS), None)
@@ -98,6 +108,11 @@ class Decision:
     def reasons(self) -> list[str]:
         """The recheck reasons, empty when the slot is not sent to recheck."""
         return list(self.recheck["reasons"]) if self.recheck else []
+
+
+def merged_texts(text: str | None) -> list[dict[str, Any]]:
+    """The texts to choose from that a ``merged`` layer holds."""
+    return list(json.loads(text or "[]"))
 
 
 def claim_changes(old: dict[str, Any], new: dict[str, Any]) -> list[dict[str, Any]]:
@@ -146,6 +161,8 @@ def judged(basis: Basis, draft: Draft) -> tuple[dict[str, Any], dict[str, dict[s
 
 
 def _compare(work: HumanWork, draft: Draft, has_text_layer: bool) -> tuple[set[Reason], list[dict[str, Any]]]:
+    if work.type == MERGED_LAYER:  # texts to choose from wait for a person, whatever the data say
+        return {Reason.MERGED}, []
     reasons: set[Reason] = set()
     changes: list[dict[str, Any]] = []
     new_claims, new_evidence = judged(work.basis, draft)
@@ -213,10 +230,12 @@ def decide(state: SlotState | None, draft: Draft | None) -> Decision | None:
         "reasons": ordered,
         "changes": list(changes.values()),
         "proposed": proposal["proposed"],
-        "clean": proposal["clean"] and Reason.CLAIM_CHANGED not in reasons,
+        "clean": proposal["clean"] and not reasons & {Reason.CLAIM_CHANGED, Reason.MERGED},
         "conflicts": proposal["conflicts"],
         "severity": severity,
     }
+    if state.merged is not None:
+        recheck["merged"] = state.merged
     return Decision(state.slot, Status.RECHECK, write_draft=changed, recheck=recheck, severity=severity, rebase=rebase)
 
 

@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import dataclasses
 import difflib
+import json
 import re
 from collections.abc import Collection
 from dataclasses import dataclass, field
@@ -37,7 +38,7 @@ from sqlalchemy.orm import Session
 
 from stetline.errors import Conflict, Problem, StetlineError, ValidationError
 from stetline.inputfiles import Source, read_csv_table
-from stetline.reconcile import TEXT_LAYERS, Basis, Decision, HumanWork, SlotState
+from stetline.reconcile import MERGED_LAYER, TEXT_LAYERS, Basis, Decision, HumanWork, SlotState, merged_texts
 from stetline.status import SEVERITY, Reason, Status
 from stetline.store import ops
 
@@ -308,26 +309,41 @@ def record(session: Session, result: Plan, edition_id: int, by: str) -> None:
             "words": f"moved from {m.old} on load of edition {result.label}"})
 
 
-def move(session: Session, result: Plan) -> None:
-    """After a load's decisions are written (the new slots exist): give the old slots' rows to the new."""
+def move(session: Session, result: Plan, by: str) -> None:
+    """After a load's decisions are written (the new slots exist): give the old slots' rows to the new,
+    and leave each merged slot a ``merged`` layer holding its texts to choose from."""
     ops.move_rows(session, [(m.old, m.new) for m in result.moves])
+    drafts = {d.slot: d for d in ops.current_drafts(session, list(result.merged))}
+    for target, choices in result.merged.items():
+        draft = drafts[target]
+        basis = {"evidence": draft.evidence, "claims": draft.claims, "text": draft.text}
+        ops.add_layer(session, target, MERGED_LAYER, json.dumps(choices), draft.text, basis, by)
 
 
 def choose(session: Session, slot_id: str, pick: int | None, *, by: str, version: int | None = None) -> None:
     """Resolve a merged slot: make one of its merged texts the rewrite (``pick``, from 0), or keep the draft."""
     from stetline import actions
     from stetline.accounts import authorize
-    from stetline.slotstatus import restatus
+    from stetline.slotstatus import merged_layer, restatus
 
     authorize(session, by, "rewrite")
     slot = ops.get_slot(session, slot_id, lock=True)
     if slot is None:
         raise StetlineError(f"no statement {slot_id!r}")
-    choices = (slot.recheck or {}).get("merged") if slot.status == Status.RECHECK else None
+    layer = merged_layer(session, slot_id)
+    choices: list[dict[str, Any]] = []
+    if layer is not None:
+        choices = merged_texts(layer.text)
+    elif slot.status == Status.RECHECK:  # a workspace merged before the choice was a layer keeps it in the recheck
+        choices = list((slot.recheck or {}).get("merged") or [])
     if not choices:
         raise StetlineError(f"{slot_id} holds no merged texts to choose from")
     if version is not None and version != slot.version:
         raise Conflict(f"{slot_id} changed since you opened it; reload and choose again")
+    if pick is not None and not 0 <= pick < len(choices):
+        raise StetlineError(f"{slot_id} has merged texts 1 to {len(choices)}; there is no text {pick + 1}")
+    if layer is not None:
+        ops.drop(session, layer, by)
     if pick is None:
         draft = ops.get_draft(session, slot.draft_id)
         assert draft is not None
@@ -337,8 +353,6 @@ def choose(session: Session, slot_id: str, pick: int | None, *, by: str, version
         slot.version += 1
         ops.add_event(session, by, "keep-draft", slot_id, after=draft.text, detail={"merged": choices})
         return
-    if not 0 <= pick < len(choices):
-        raise StetlineError(f"{slot_id} has merged texts 1 to {len(choices)}; there is no text {pick + 1}")
     chosen = choices[pick]
     actions.rewrite(session, slot_id, chosen["text"], by=by)
     ops.add_event(session, by, "choose-merged", slot_id, after=chosen["text"],

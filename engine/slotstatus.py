@@ -4,7 +4,9 @@ A rewrite's live fields are checked when it is saved, but a later load or settin
 make a branch of it run that never ran before, and that branch may fail (a macro that calls
 itself, a loop over too much). Such a slot goes to recheck with the reason ``render-failed`` and
 the error; until someone edits, reverts or suppresses it, its text is shown as written, with a
-warning, and never rendered again on a page. Nothing here imports ``actions`` or ``loading``.
+warning, and never rendered again on a page. A merged slot's texts to choose from are a layer too
+(``merged``, see stetline.renames): edits of other kinds keep it; a rewrite or a revert sets it
+aside (:func:`set_aside`). Nothing here imports ``actions`` or ``loading``.
 """
 
 from __future__ import annotations
@@ -18,7 +20,7 @@ from stetline import settings as settings_mod
 from stetline.drafting import Draft as DraftText
 from stetline.livefields import LiveFieldError, LiveFields, has_live_fields
 from stetline.phrasing import HouseStyle
-from stetline.reconcile import Basis, HumanWork, SlotState
+from stetline.reconcile import MERGED_LAYER, Basis, HumanWork, SlotState, merged_texts
 from stetline.status import Reason, Status
 from stetline.store import ops
 from stetline.store.models import Draft, Layer, Slot, utcnow
@@ -102,6 +104,8 @@ def restatus(session: Session, slot: Slot, draft: Draft, live: LiveFields | None
     decision = reconcile.decide(state, _as_text(draft))
     if decision is None:
         slot.status = Status.DRAFT if not work else slot.status
+        if not work:  # nothing of a person's is left to wait on (the last of it was set aside)
+            slot.recheck, slot.severity = None, 0
         if marked_unrenderable(slot):  # nothing else holds it in recheck
             slot.status = Status.DRAFT if not work else Status.APPROVED if approval is not None else Status.EDITED
             slot.recheck, slot.severity = None, 0
@@ -140,3 +144,21 @@ def recheck_unrenderable(session: Session, *, by: str) -> list[str]:
         if _mark(session, slot, error, by):
             sent.append(slot_id)
     return sent
+
+
+def merged_layer(session: Session, slot_id: str) -> Layer | None:
+    """The slot's ``merged`` layer (its texts to choose from), if it has one."""
+    return next((x for x in ops.active_layers(session, slot_id) if x.type == MERGED_LAYER), None)
+
+
+def set_aside(session: Session, slot_id: str, by: str, action: str) -> bool:
+    """Drop a slot's merged texts because a person's ``action`` (a rewrite, a revert) replaced the choice;
+    the history says so. False when the slot had none."""
+    layer = merged_layer(session, slot_id)
+    if layer is None:
+        return False
+    ops.drop(session, layer, by)
+    ops.add_event(session, by, "set-aside-merged", slot_id, detail={
+        "merged": merged_texts(layer.text), "by_action": action,
+        "words": f"the merged texts to choose from were set aside by a {action}"})
+    return True

@@ -23,7 +23,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import stats
 
-from stetline import configure, loading, periods
+from stetline import configure, demo, loading, periods
 from stetline.breakdowns import breakdown_facts
 from stetline.dataset import load_dataset
 from stetline.drafting import Context, Draft, draft_all
@@ -316,15 +316,17 @@ def test_a_workspace_suggests_the_kind_then_drafts_versions_and_rechecks_breakdo
     assert cli.json("show", "breakdown/nq/parks/age")["status"] == "approved"
 
 
-def test_the_data_page_suggests_the_kind_after_a_load_with_breakdowns(demo_ws: Workspace) -> None:
-    # the demo's observations hold parks satisfaction by age band; the demo does not draft the kind
-    html = create_app(demo_ws, {"TESTING": True}).test_client().get("/data?loaded=2025").get_data(as_text=True)
+def test_the_data_page_suggests_the_kind_after_a_load_with_breakdowns(ws: Workspace) -> None:
+    # the demo's observations hold parks satisfaction by age band; a new workspace does not draft the kind
+    loading.load_edition(ws, demo.data_file("observations-2025.csv"), demo.data_file("topics.csv"),
+                         demo.data_file("entities.csv"), by="admin")
+    html = create_app(ws, {"TESTING": True}).test_client().get("/data?loaded=2025").get_data(as_text=True)
     assert "The data hold breakdowns by group (age), but the <strong>breakdown</strong> kind is off" in html
     assert 'href="/settings#set-kinds"' in html
-    with demo_ws.session() as session:
+    with ws.session() as session:
         configure.save(session, {"kinds": "headline,roundup,breakdown"}, by="admin")
-    loading.redraft(demo_ws, by="admin")
-    client = create_app(demo_ws, {"TESTING": True}).test_client()
+    loading.redraft(ws, by="admin")
+    client = create_app(ws, {"TESTING": True}).test_client()
     page = client.get("/statements/breakdown/tidemere/parks-satisfaction/age")
     assert page.status_code == 200
     html = page.get_data(as_text=True)
@@ -341,7 +343,7 @@ def test_an_upload_changing_only_subgroups_is_not_called_the_same(demo_ws: Works
         as_text=True)
     text = demo_bytes("observations-2025.csv").decode()
     assert "tidemere,parks-satisfaction,2025,64,3.4,,age,35-64,67" in text
-    # the breakdown kind is off: no statement changes, yet the load would store a new subgroup value
+    # no breakdown statement carries this subgroup's value, yet the load would store it
     changed = text.replace("tidemere,parks-satisfaction,2025,64,3.4,,age,35-64,67",
                            "tidemere,parks-satisfaction,2025,63,3.4,,age,35-64,67")
     html = upload(client, {"observations": (changed.encode(), "b.csv")}).get_data(as_text=True)

@@ -224,13 +224,17 @@ def test_a_workspace_made_before_the_setting_keeps_its_kinds(demo_path: Path) ->
     # the demo as a workspace from before revision 0008: its database taken back to 0007 without the
     # setting; opening it upgrades it, and it drafts what it drafted before: no blurb, no roundup
     from alembic import command
+    from sqlalchemy import delete
 
     from stetline.store import db, ops
+    from stetline.store.models import Setting
     from stetline.workspace import open_workspace
 
     ws = open_workspace(demo_path)
+    with ws.session() as s:  # test set-up only: the demo stores its kinds, a workspace before 0008 had none
+        s.execute(delete(Setting).where(Setting.key == "kinds"))
     with ws.session() as s:
-        assert "kinds" not in ops.get_settings(s)  # the demo was made new: it takes the default
+        assert "kinds" not in ops.get_settings(s)
     command.downgrade(db.alembic_config(ws.url), "0007")
     ws.close()
     cli = Cli(demo_path)

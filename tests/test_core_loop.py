@@ -61,7 +61,7 @@ def test_the_demo_queue_shows_every_reason_on_the_statements_a_report_prints(dem
     from stetline.status import REASONS
 
     waiting = demo_cli.json("list", "--status", "recheck")
-    assert {item["kind"] for item in waiting} == {"headline", "profile", "roundup", "blurb"}
+    assert {item["kind"] for item in waiting} == {"headline", "profile", "roundup", "blurb", "breakdown"}
     # every reason but `merged`: the demo's second edition renames one town and merges none
     # (seed_data/renames-2025.csv); tests/test_renames.py raises `merged`
     assert {r for item in waiting for r in item["recheck"]["reasons"]} == set(REASONS) - {"merged"}
@@ -72,8 +72,25 @@ def test_the_demo_queue_shows_every_reason_on_the_statements_a_report_prints(dem
         if reason not in ("wording-changed", "merged"):
             assert any(reason in item["recheck"]["reasons"] for item in waiting
                        if item["kind"] in ("blurb", "roundup")), reason
-    # a new workspace drafts no part kind: nothing of them is listed
-    assert {item["kind"] for item in demo_cli.json("list")} == {"headline", "profile", "roundup", "blurb"}
+    # the demo drafts a new workspace's kinds and the breakdown kind; no part kind is listed
+    assert {item["kind"] for item in demo_cli.json("list")} == {"headline", "profile", "roundup", "blurb", "breakdown"}
+
+
+def test_the_demo_rechecks_its_breakdowns_by_age_band(demo_cli: Cli) -> None:
+    # seed_data/README.md: in 2025 Tidemere's best age band turns from 65+ to 16-34 and its worst from 16-34 to
+    # 35-64; North Quay's gap widens from 9 to 10 points with the same best and worst bands
+    tidemere = demo_cli.json("show", "breakdown/tidemere/parks-satisfaction/age")
+    assert tidemere["layer"]["type"] == "rewrite" and tidemere["recheck"]["reasons"][0] == "claim-changed"
+    changes = {c["fact"]: (c["old"], c["new"]) for c in tidemere["recheck"]["changes"]}
+    assert changes["best"] == (["65+"], ["16-34"]) and changes["worst"] == (["16-34"], ["35-64"])
+    assert tidemere["recheck"]["clean"] is False  # a contradicted claim needs a person
+    north_quay = demo_cli.json("show", "breakdown/north-quay/parks-satisfaction/age")
+    assert north_quay["recheck"]["reasons"] == ["numbers-changed"]  # approved on 2024; the same groups in 2025
+    changes = {c["fact"]: (c["old"], c["new"]) for c in north_quay["recheck"]["changes"]}
+    assert changes["gap"] == ("9 percentage points", "10 percentage points")
+    assert "best" not in changes and "worst" not in changes
+    # Cairnbrook's bands carry no human work: its new draft is written silently
+    assert demo_cli.json("show", "breakdown/cairnbrook/parks-satisfaction/age")["status"] == "draft"
 
 
 def test_every_layer_of_the_first_edition_survives_the_refresh(demo_cli: Cli) -> None:
@@ -84,7 +101,7 @@ def test_every_layer_of_the_first_edition_survives_the_refresh(demo_cli: Cli) ->
     assert set(demo.REWRITES) == {
         "blurb/gorse-point/recycling", "blurb/heronsford/parks-satisfaction", "roundup/parks-satisfaction",
         "blurb/little-thrift/parks-satisfaction", "blurb/puffin-holm/relet-days", "blurb/larkholt/library-visits",
-        "roundup/paper-timetables",
+        "roundup/paper-timetables", "breakdown/tidemere/parks-satisfaction/age",
     }
     assert set(demo.PINS) == {"roundup/broadband", "blurb/north-quay/broadband"}
     assert set(demo.NOTES) == {

@@ -32,7 +32,9 @@ def test_accept_all_clean_asks_first_then_records_one_event_each(demo_cli: Cli) 
     assert refused.exit_code == 1
     assert demo_cli.json("show", "blurb/heronsford/parks-satisfaction")["status"] == "recheck"
     out = demo_cli("approve", "--all-clean", "--yes", "--by", "reviewer")
-    assert "3 statement(s) approved" in out.stdout  # two rewrites and an approved roundup: numbers only
+    # numbers only: two rewrites, an approved roundup and an approved breakdown (North Quay's gap widens)
+    assert "4 statement(s) approved" in out.stdout
+    assert "breakdown/north-quay/parks-satisfaction/age: approved (proposed text accepted)" in out.stdout
     item = demo_cli.json("show", "blurb/heronsford/parks-satisfaction")
     assert item["status"] == "approved"
     assert item["text"].startswith("Heronsford residents remain among the most satisfied with their parks: 81%")
@@ -40,6 +42,7 @@ def test_accept_all_clean_asks_first_then_records_one_event_each(demo_cli: Cli) 
     # claim changes and conflicts are never accepted in bulk
     assert demo_cli.json("show", "blurb/gorse-point/recycling")["status"] == "recheck"
     assert demo_cli.json("show", "blurb/high-ferrow/bus-punctuality")["status"] == "recheck"
+    assert demo_cli.json("show", "breakdown/tidemere/parks-satisfaction/age")["status"] == "recheck"
 
 
 def test_a_contradicted_proposal_cannot_be_accepted_as_it_is(demo_cli: Cli) -> None:
@@ -52,9 +55,18 @@ def test_changelog_between_the_two_demo_editions(demo_cli: Cli) -> None:
     log = json.loads(demo_cli("changes", "--format", "json").stdout)
     assert (log["from_edition"], log["to_edition"]) == ("2024", "2025")
     assert "roundup/paper-timetables" in log["gone"] and "blurb/wrackhaven/paper-timetables" in log["gone"]
-    # gone: the discontinued indicator's statements, and those of Larkholt's old key (renamed larkholt-vale)
-    assert all("paper-timetables" in s or "/larkholt/" in s or s.endswith("/larkholt") for s in log["gone"])
-    assert "profile/larkholt" in log["gone"] and "profile/larkholt-vale" in log["added"]
+    # gone: the discontinued indicator's statements only
+    assert all("paper-timetables" in s for s in log["gone"])
+    # Larkholt is renamed Larkholt Vale (seed_data/renames-2025.csv): its statements moved, neither gone nor added
+    moved = {m["from"]: m for m in log["moved"]}
+    assert moved["profile/larkholt"]["to"] == "profile/larkholt-vale" and "profile/larkholt-vale" not in log["added"]
+    assert {m["names"] for m in log["moved"]} == {"Larkholt → Larkholt Vale"}
+    assert not any("larkholt" in s for s in log["added"])
+    assert "profile/larkholt" not in log["gone"]  # its paper timetables blurb is gone with the indicator
+    # with its change in numbers: the quarterly visits (observations-2025.csv, larkholt-vale 2025-Q3)
+    visits = moved["blurb/larkholt/library-visits"]
+    assert visits["to"] == "blurb/larkholt-vale/library-visits"
+    assert visits["value"] == {"old": "1,214 per 1,000 residents", "new": "1,236 per 1,000 residents"}
     flipped = {f["slot"]: f for f in log["flipped"]}
     gorse = flipped["blurb/gorse-point/recycling"]
     assert {"fact": "change.direction", "old": "up", "new": "down"} in gorse["claims"]
@@ -64,6 +76,8 @@ def test_changelog_between_the_two_demo_editions(demo_cli: Cli) -> None:
     assert carried["blurb/heronsford/parks-satisfaction"]["outcome"] == "recheck: numbers-changed"
     md = demo_cli("changes").stdout
     assert md.startswith("# Changes from edition 2024 to 2025")
+    assert ("- blurb/larkholt/library-visits → blurb/larkholt-vale/library-visits (Larkholt → Larkholt Vale): "
+            "value 1,214 per 1,000 residents → 1,236 per 1,000 residents") in md
 
 
 def test_publish_warns_on_untraced_numbers_and_can_refuse_them(demo_cli: Cli, tmp_path) -> None:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 from typing import Any
 
@@ -133,6 +134,12 @@ def test_a_rename_with_changed_numbers_sends_the_moved_work_to_recheck(started: 
         c["old"] == "74.0%" and c["new"] == "75.0%" for c in blurb["recheck"]["changes"])
     assert "75.0%" in blurb["recheck"]["proposed"]
     assert blurb["layer"]["by"] == "ann"
+    # the changelog lists the statement as moved, with its new number, not as one gone and one added
+    log = json.loads(started("changes", "--format", "json").stdout)
+    moved = {m["from"]: m for m in log["moved"]}["blurb/east/parks"]
+    assert (moved["to"], moved["names"], moved["value"]) == (
+        "blurb/east-vale/parks", "East → East Vale", {"old": "74.0%", "new": "75.0%"})
+    assert "blurb/east/parks" not in log["gone"] and "blurb/east-vale/parks" not in log["added"]
 
 
 def test_a_merger_shows_both_old_texts_for_a_person_to_choose(started: Cli, tmp_path: Path) -> None:
@@ -166,6 +173,53 @@ def test_a_merger_shows_both_old_texts_for_a_person_to_choose(started: Cli, tmp_
     profile = started.json("show", "profile/twin-towns")
     assert profile["notes"][0]["text"] == "The new lido opened in spring."
     assert "merged" not in (profile["recheck"] or {}).get("reasons", [])
+
+
+def test_the_texts_to_choose_from_outlast_every_other_edit_until_a_choice_rewrite_or_revert(
+        started: Cli, tmp_path: Path) -> None:
+    _merge(started, tmp_path)
+    slot = "blurb/twin-towns/parks"
+    choices = started.json("show", slot)["recheck"]["merged"]
+    # a note, a pin and a later load of the same data leave the choice waiting, with the same texts
+    started("annotate", slot, "The two towns share one parks team from 2025.", "--by", "exp")
+    started("pin", slot, "--by", "ed")
+    started("load", str(tmp_path / "obs2.csv"), "--by", "admin")
+    waiting = started.json("show", slot)
+    assert waiting["status"] == "recheck" and "merged" in waiting["recheck"]["reasons"]
+    assert waiting["recheck"]["merged"] == choices and waiting["layer"]["type"] == "pin"
+    # a reviewer cannot sign it off past the choice
+    refused = started("approve", slot, "--by", "rev", ok=False)
+    assert f"several statements were merged into {slot}: choose a text first" in refused.stderr
+    assert started.json("show", slot)["recheck"]["merged"] == choices
+    # the choice is made: the text chosen is the rewrite, the note stays, the texts to choose from are gone
+    started("choose", slot, "--text", "1", "--by", "ed")
+    chosen = started.json("show", slot)
+    assert chosen["text"] == "East is the town most content with its parks: 74.0% are satisfied."
+    assert chosen["status"] == "edited" and chosen["recheck"] is None
+    assert [n["text"] for n in chosen["notes"]] == ["The two towns share one parks team from 2025."]
+    # a rewrite of one's own replaces the choice, and the history says so
+    other = "blurb/twin-towns/recycling"
+    started("rewrite", other, "The twin towns recycle about half their household waste.", "--by", "ed")
+    rewritten = started.json("show", other)
+    assert rewritten["status"] == "edited" and rewritten["recheck"] is None
+    aside = next(h for h in rewritten["history"] if h["action"] == "set-aside-merged")
+    assert aside["detail"]["words"] == "the merged texts to choose from were set aside by a rewrite"
+    assert [c["slot"] for c in aside["detail"]["merged"]] == ["blurb/east/recycling", "blurb/west/recycling"]
+    refused = started("choose", other, "--text", "1", "--by", "ed", ok=False)
+    assert f"{other} holds no merged texts to choose from" in refused.stderr
+
+
+def test_a_revert_of_a_merged_statement_keeps_the_new_draft_and_says_why(started: Cli, tmp_path: Path) -> None:
+    _merge(started, tmp_path)
+    slot = "blurb/twin-towns/parks"
+    started("revert", slot, "--by", "ed")  # no rewrite or pin on it yet: the revert sets the merged texts aside
+    kept = started.json("show", slot)
+    assert (kept["status"], kept["recheck"], kept["text"]) == ("draft", None, kept["draft"])
+    aside = next(h for h in kept["history"] if h["action"] == "set-aside-merged")
+    assert aside["detail"]["words"] == "the merged texts to choose from were set aside by a revert"
+    # nothing is lost: the earlier texts stay in the history of the merged statement
+    texts = {h["after"] for h in kept["history"] if h["action"] == "rewrite"}
+    assert "West comes second on parks, at 61.0%." in texts
 
 
 BAD_MAPS = [

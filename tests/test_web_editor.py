@@ -251,9 +251,9 @@ def test_the_preview_script_sends_the_csrf_header(client: FlaskClient) -> None:
 def test_recheck_queue_lists_statements_by_severity_with_proposals(client: FlaskClient) -> None:
     html = page(client, "/recheck")
     listed = re.findall(r'<h2 id="item-\d+"><a href="/statements/([^"]+)">', html)
-    # 16 wait in recheck on the demo (`stetline list --status recheck`), the approved quarterly blurb and the
+    # 18 wait in recheck on the demo (`stetline list --status recheck`), the approved quarterly blurb and the
     # renamed town's rewrite among them
-    assert HERONSFORD in listed and GORSE in listed and len(listed) == 16
+    assert HERONSFORD in listed and GORSE in listed and len(listed) == 18
     severities = [int(n) for n in re.findall(r"<p>Severity (\d+)\.", html)]
     assert severities == sorted(severities, reverse=True)
     item = html[html.index(f'<a href="/statements/{HERONSFORD}">'):]
@@ -321,10 +321,11 @@ def test_entity_and_topic_lists_sort_and_filter(client) -> None:
 
 def test_accept_every_clean_proposal_after_confirming_the_count(client, demo_ws) -> None:
     page = client.get("/recheck/accept-clean").get_data(as_text=True)
-    assert "3 statements wait in recheck only because numbers changed" in page
-    stale = client.post("/recheck/accept-clean", data={"count": "2"})
+    # two rewrites, an approved roundup and an approved breakdown (tests/test_rechecks.py)
+    assert "4 statements wait in recheck only because numbers changed" in page
+    stale = client.post("/recheck/accept-clean", data={"count": "3"})
     assert stale.status_code == 409 and "changed since you confirmed" in stale.get_data(as_text=True)
-    done = client.post("/recheck/accept-clean", data={"count": "3"})
+    done = client.post("/recheck/accept-clean", data={"count": "4"})
     assert done.status_code == 303
     with demo_ws.session() as s:
         assert actions.view(s, "blurb/heronsford/parks-satisfaction").slot.status == "approved"
@@ -338,6 +339,9 @@ def test_the_changelog_page(client) -> None:
     assert "blurb/gorse-point/recycling" in page and "direction of the change: up → down" in page
     assert "Household recycling rate in Gorse Point — blurb</a>" in page
     assert "roundup/paper-timetables" in page
+    # Larkholt renamed Larkholt Vale: its statements are listed as moved, with the change in their value
+    assert "<code class=\"slot-id\">blurb/larkholt/library-visits → blurb/larkholt-vale/library-visits</code> " \
+           "(Larkholt → Larkholt Vale): value 1,214 per 1,000 residents → 1,236 per 1,000 residents" in page
 
 
 def test_two_people_saving_the_same_statement_the_second_sees_the_conflict(app, demo_ws) -> None:

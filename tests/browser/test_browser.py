@@ -91,9 +91,9 @@ def test_a_bad_upload_shows_the_problems_table(page: Page, live: Live) -> None:
 def test_publishing_markdown_downloads_the_file(page: Page, live: Live, tmp_path: Path) -> None:
     page.goto(live("/publish"))
     expect(page.locator(".caution")).to_contain_text("A qualified person must check them before release")
-    # the demo's 16 (`stetline list --status recheck`), the approved quarterly blurb and the renamed town's
+    # the demo's 18 (`stetline list --status recheck`), the approved quarterly blurb and the renamed town's
     # rewrite among them
-    expect(page.get_by_role("heading", name=re.compile("16 statements wait in recheck"))).to_be_visible()
+    expect(page.get_by_role("heading", name=re.compile("18 statements wait in recheck"))).to_be_visible()
     page.get_by_label("Markdown").check()
     page.get_by_label("Publish even though statements wait in recheck").check()
     with page.expect_download() as info:

@@ -58,6 +58,7 @@ from stetline.store.ops.history import (
     gone_as_of,
     latest_event,
     layer_types_by_slot,
+    moves_between,
     recent_events,
 )
 from stetline.store.ops.listing import (
@@ -132,6 +133,7 @@ __all__ = [
     "table_counts",
     "add_event", "events_for", "recent_events", "events_by_action", "latest_event", "events_after", "first_edition_of",
     "COMMENT_KINDS", "add_comment", "comments_for", "drafts_as_of", "gone_as_of", "layer_types_by_slot",
+    "moves_between",
     "entity_slots", "comment_counts", "move_rows", "write_bases", "drop_work", "layer_authors",
     "SEARCH_LIMIT", "MAX_SEARCH_TERMS", "SearchHit", "SearchPage", "search_terms", "search",
 ]

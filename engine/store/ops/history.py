@@ -96,6 +96,22 @@ def gone_as_of(session: Session, edition_id: int) -> set[str]:
     return set(session.scalars(q))
 
 
+def moves_between(session: Session, after_edition_id: int, to_edition_id: int) -> dict[str, str]:
+    """Where each slot moved at the loads after one edition up to another (renamed and merged entities):
+    old slot id → the slot id it ends as, a move at a later load followed on."""
+    q = select(Event.before, Event.after).where(
+        Event.action == "move", Event.edition_id > after_edition_id, Event.edition_id <= to_edition_id)
+    out: dict[str, str] = {}
+    for old, new in session.execute(q.order_by(Event.id)):
+        if old is None or new is None:
+            continue
+        for earlier, target in out.items():
+            if target == old:
+                out[earlier] = new
+        out[old] = new
+    return out
+
+
 def layer_types_by_slot(session: Session, before_edition_id: int) -> dict[str, list[str]]:
     """Active layers made before an edition was loaded, as the list of their types per slot."""
     loaded = session.scalar(select(Edition.loaded_at).where(Edition.id == before_edition_id))
