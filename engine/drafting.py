@@ -18,6 +18,7 @@ import pickle  # only drafts this process's own workers made are unpickled
 from collections import Counter
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field, replace
+from itertools import islice
 from typing import Any
 
 import jinja2
@@ -395,7 +396,7 @@ def draft_with_parts(ctx: Context, renderer: Renderer, composed: Any, parts: dic
     """Draft a composed kind and, as it reads them, its part kinds: each part draft goes to ``parts[kind]``.
 
     The composed kind reads every candidate of its parts once, in order, so each part's drafts
-    come out as drafting that kind alone gives them, and none is kept past its cell.
+    come out as drafting that kind alone gives them, and none is kept past its thousand cells.
     """
     def sink(kind: Any, send: Any) -> Any:
         template = renderer.template(kind.KIND)
@@ -408,10 +409,18 @@ def draft_with_parts(ctx: Context, renderer: Renderer, composed: Any, parts: dic
         ctx._tee = {}
 
 
+#: a part kind drafted as a composed kind reads it works this many cells at a time
+_TEE_CHUNK = 1_000
+
+
 def _teed(candidates: Iterable[Candidate], tee: Any) -> Iterator[Candidate]:
-    for c in candidates:
-        tee(c)
-        yield c
+    """The candidates, each sent to ``tee`` first, a thousand at a time: each kind's code runs over many
+    cells in a row (a cell at a time through four kinds and their templates took a quarter longer)."""
+    stream = iter(candidates)
+    while chunk := list(islice(stream, _TEE_CHUNK)):
+        for c in chunk:
+            tee(c)
+        yield from chunk
 
 
 def _draft_kinds(ctx: Context, renderer: Renderer, kinds: list[Any], shared: set[str]) -> Iterator[Draft]:
