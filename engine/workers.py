@@ -122,13 +122,13 @@ def _in_workers(ctx: Context, phrasing_dir: Path | None, kinds: tuple[Any, ...],
                 done, _ = wait(pending, return_when=FIRST_COMPLETED)
                 for future in done:
                     pending.remove(future)
-                    for index, sent, n in future.result():  # a worker's error (a template that fails) is raised here
-                        ready[index] = Path(sent)
+                    for index, name, n in future.result():  # a worker's error (a template that fails) is raised here
+                        ready[index] = Path(name)
                         drafted += n
                 progress("drafting statements", drafted, None)
                 while following in ready:
                     sent = ready.pop(following)
-                    batch = [SentDraft(row) for row in _rows_of(sent)]
+                    batch: list[Draft] = [SentDraft(row) for row in _rows_of(sent)]
                     sent.unlink()
                     yield batch
                     del batch
