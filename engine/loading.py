@@ -282,7 +282,8 @@ def _write_as_drafted(ws: Workspace, session: Session, ctx: Context, states: dic
     decisions: list[Decision] = []
     drafted: set[str] = set()
     versions = ops.slot_versions(session)
-    for batch in draft_each_kind(ctx, ws.phrasing_dir, worker_count(len(ctx.facts.cells)), progress):
+    human = [sid for sid, state in states.items() if state.human]  # only their composed facts are read
+    for batch in draft_each_kind(ctx, ws.phrasing_dir, worker_count(len(ctx.facts.cells)), progress, facts_for=human):
         some, by_slot = reconcile_drafted(states, batch)
         del batch
         ops.apply_decisions(session, edition_id, some, by_slot, by, versions)

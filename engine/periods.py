@@ -44,13 +44,20 @@ def period_time(label: str) -> float:
 
 
 def classify(labels: pd.Series) -> pd.Series:
-    """Return the format name of every label in a column (empty string where none matches)."""
+    """Return the format name of every label in a column (empty string where none matches).
+
+    Each distinct label is matched once (an edition's column of many thousand labels holds a few
+    dozen periods), then the names are spread back over the column.
+    """
+    import numpy as np
     import pandas as pd
 
-    out = pd.Series("", index=labels.index, dtype="str")
+    codes, _distinct = pd.factorize(labels, use_na_sentinel=False)
+    firsts = labels.iloc[np.unique(codes, return_index=True)[1]]  # the first row of each label, in code order
+    names = pd.Series("", index=firsts.index, dtype="str")
     for name, pattern in FORMATS.items():
-        out = out.mask(labels.str.match(pattern.pattern), name)
-    return out
+        names = names.mask(firsts.str.match(pattern.pattern), name)
+    return pd.Series(names.to_numpy()[codes], index=labels.index, dtype="str")
 
 
 #: what an edition's format is called when its topics use more than one (each topic keeps one)

@@ -61,10 +61,14 @@ def test_two_workers_store_exactly_what_one_process_stores(tmp_path: Path, monke
 
 
 @pytest.mark.parametrize("start", ["fork", "spawn"])
-def test_drafts_made_in_workers_equal_those_made_in_one_process(tmp_path: Path, ws: Any, start: str) -> None:
+@pytest.mark.parametrize("every_kind", [False, True])  # True: the blurbs' worker drafts their part kinds too
+def test_drafts_made_in_workers_equal_those_made_in_one_process(tmp_path: Path, ws: Any, start: str,
+                                                                every_kind: bool) -> None:
     data = _synthetic().write(tmp_path / "data", 20, 5, 3)
     dataset = load_dataset(data["observations"], data["topics"], data["entities"])
     with ws.session() as session:
+        if every_kind:
+            ops.put_setting(session, "kinds", ",".join(declared.ALL_KINDS))
         ctx = loading.edition_context(session, dataset.observations, dataset.topics, dataset.entities, None, "x")
     one = workers.draft_kinds(ctx, None, 1)
     heard: list[tuple[str, int, int | None]] = []
