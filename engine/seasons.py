@@ -121,7 +121,7 @@ def year_earlier_streaks(cells: pd.DataFrame, series: pd.DataFrame) -> pd.DataFr
     or is no quarter or month); ``year_streak_sign`` is +1 when it improved (rose, for neutral
     topics) and -1 when it worsened (fell); ``year_state`` is the latest period's comparison state.
     """
-    extra = cells[KEYS + ["decimals", "sign", "unit", "time"]].rename(columns={"time": "latest_time"})
+    extra = cells[KEYS + ["decimals", "sign", "unit", "change_mode", "time"]].rename(columns={"time": "latest_time"})
     s = series.loc[_within_year(series["period"])].merge(extra, on=KEYS)
     s = s.loc[s["time"] <= s["latest_time"] + TIME_EPS].sort_values(KEYS + ["time"], kind="stable")
     s = s.reset_index(drop=True)

@@ -573,10 +573,10 @@ def test_bulk_annotate_on_the_recheck_queue(client: FlaskClient, demo_ws: Worksp
 def test_bulk_approve_in_the_recheck_queue_says_proposals_are_not_taken(client: FlaskClient) -> None:
     html = client.post("/bulk/confirm", data={"action": "approve", "scope": "recheck", "reason": "numbers-changed"}
                        ).get_data(as_text=True)
-    # of the 13 whose numbers changed (`stetline list --status recheck` on the demo), the 10 whose claims the new
-    # data also contradict are left alone (the renamed town's quarterly rewrite among them)
-    assert "<h1>Approve 3 statements?</h1>" in html and "Proposed texts in recheck are <em>not</em> taken" in html
-    assert "Left as they are (10)" in html and html.count("the new data contradict its claims") == 10
+    # of the 15 whose numbers changed (`stetline list --status recheck` on the demo), the 11 whose claims the new
+    # data also contradict are left alone (the renamed town's quarterly rewrite and Tidemere's breakdown among them)
+    assert "<h1>Approve 4 statements?</h1>" in html and "Proposed texts in recheck are <em>not</em> taken" in html
+    assert "Left as they are (11)" in html and html.count("the new data contradict its claims") == 11
 
 
 def test_bulk_annotate_needs_a_note(client: FlaskClient) -> None:
