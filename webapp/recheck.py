@@ -142,7 +142,7 @@ def changes() -> Any:
     every = [(p["key"], p["name"]) for p in places]
     topics = {c["topic"]: c["label"] for p in places for c in p["cells"] if c["topic"]}
     shown = _filtered(places, entity, topic)
-    query = {"from": log.from_edition, "to": log.to_edition, "topic": topic or None}
+    query: dict[str, Any] = {"from": log.from_edition, "to": log.to_edition, "topic": topic or None}
     for place in shown:
         place["href"] = url_for("recheck.changes", **query, entity=place["key"]) + f"#place-{place['key']}"
     return render_template("recheck/changes.html", log=log, error=None, labels=labels, places=shown,
