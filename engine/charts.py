@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import hashlib
 import io
+import math
 import os
 import re
 import tempfile
@@ -39,7 +40,7 @@ from stetline.chartspecs import series_spec as series_spec
 FORMATS = ("svg", "png")
 CACHE_SIZE = 1024
 DISK_LIMIT = 5000  # files kept in a chart folder; the least recently used go first
-DRAWING = "3"  # bump when the drawing changes, so files drawn by older code are not reused
+DRAWING = "4"  # bump when the drawing changes, so files drawn by older code are not reused
 
 FONT_SIZE = 10.5  # points, on a figure WIDTH inches wide: 11 px or more on a phone, 15 px on a wide screen
 WIDTH = 4.4  # inches
@@ -159,19 +160,24 @@ def _draw_series(fig: Any, ax: Any, spec: ChartSpec, line: float) -> None:
     from matplotlib.collections import LineCollection
 
     xs = list(range(len(spec.periods)))
-    every = max(1, len(xs) // 6) if len(xs) > 8 else 1
-    shown = [(x, p) for x, p in zip(xs, spec.periods) if x % every == 0 or x == len(xs) - 1]
     left = PAD + _widest(s for _t, s in spec.ticks) + GAP
+    right = PAD + _widest(spec.periods[-1:]) / 2
+    slot = (WIDTH * 72 - left - right) / (len(xs) - 0.4)  # points between two periods
+    every = max(1, math.ceil((_widest(spec.periods) + 2 * GAP) / slot))  # labels never touch
+    shown = [(x, p) for x, p in zip(xs, spec.periods) if (len(xs) - 1 - x) % every == 0]  # the latest always
     mine = next(ln for ln in spec.lines if ln[0] == spec.marked)
     rows = _key_rows(mine[1], spec.others, line)
     top = PAD + 1.3 * line * rows + 0.7 * line + (1.3 * line if spec.unit_label else 0)  # the key, the unit
-    _place(fig, ax, left, PAD + line + GAP, PAD + _widest(p for _x, p in shown[-1:]) / 2, top)
+    _place(fig, ax, left, PAD + line + GAP, right, top)
     known = [v for _k, _n, vs in spec.lines for v in vs if v is not None]
     lo, hi = _span(min([spec.ticks[0][0], *known]), max([spec.ticks[-1][0], *known]))
     ax.set_xlim(-0.3, len(xs) - 0.7)
     ax.set_ylim(lo, hi)
     _grid(ax, spec, "y", (-0.3, len(xs) - 0.7))
-    ax.plot([-0.3, len(xs) - 0.7], [lo, lo], color=AXIS, linewidth=0.8)
+    if lo <= 0 <= hi:
+        ax.plot([-0.3, len(xs) - 0.7], [0, 0], color=AXIS, linewidth=0.8)  # the zero line
+    else:
+        _broken_base(fig, ax)
     place = _offset(ax, ax.get_xaxis_transform(), 0, -GAP)
     for x, p in shown:
         ax.text(x, 0, p, transform=place, ha="center", va="top", color=LABEL)
@@ -189,6 +195,17 @@ def _draw_series(fig: Any, ax: Any, spec: ChartSpec, line: float) -> None:
     ys = [float("nan") if v is None else v for v in mine[2]]
     ax.plot(xs, ys, color=MARK, linewidth=2.4, marker="o", markersize=4)
     _key(fig, ax, mine[1], spec.others, line)
+
+
+def _broken_base(fig: Any, ax: Any) -> None:
+    """The foot of a value axis that does not start at zero: a zigzag at its left end, then the line, so
+    that nobody reads the lowest grid line as zero (gid ``axis-break``, kept as an id in the SVG)."""
+    w, h = fig.get_size_inches() * 72
+    box = ax.get_position()
+    across, up = w * box.width, h * box.height  # points across and up the plotting area
+    zigzag = [(0, 0), (3, 0), (5, 3), (8, -3), (11, 3), (13, -3), (15, 0)]
+    xs, ys = [x / across for x, _y in zigzag] + [1.0], [y / up for _x, y in zigzag] + [0.0]
+    ax.plot(xs, ys, transform=ax.transAxes, color=AXIS, linewidth=0.8, clip_on=False, gid="axis-break")
 
 
 def _key_rows(name: str, others: str, line: float) -> int:

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import re
 from collections.abc import Callable
 from dataclasses import asdict, dataclass, field
 from functools import cached_property
@@ -22,6 +23,8 @@ from stetline.periods import period_label
 Format = Callable[[float], str]
 MANY = 40  # a ranking of more entities than this is a dot strip (bars would be too thin to read)
 LONG_UNIT = 8  # units longer than this go on the axis label instead of every tick label
+BLANK = 0.25  # a series axis that does not start at zero leaves at most this share of it blank below the data
+MAX_TICKS = 7  # value ticks of a series chart: more would crowd its labels (the plotting area is ~1.5 in tall)
 
 
 @dataclass(frozen=True)
@@ -64,13 +67,47 @@ def _nice_ticks(lo: float, hi: float, count: int = 4) -> list[float]:
     return ticks
 
 
-def _axis(values: list[float], unit: str, fmt: Format) -> tuple[str, tuple[tuple[float, str], ...]]:
+def _from_zero(lo: float, hi: float) -> bool:
+    """True when a series' value axis should start at zero: the values are all of one sign and zero lies
+    near enough that the data still fill at least half the axis, so their changes stay visible."""
+    return (lo >= 0 and lo < hi - lo) or (hi <= 0 and -hi < hi - lo)
+
+
+def _series_ticks(lo: float, hi: float) -> list[float]:
+    """The ticks of a series' value axis: from zero when zero is near the data (``_from_zero``), otherwise
+    from a round value just below the least value, so that the blank band under the lowest line takes
+    at most BLANK of the axis (finer steps are tried, up to MAX_TICKS ticks, before a coarser one is kept)."""
+    if _from_zero(lo, hi):
+        return _nice_ticks(min(lo, 0.0), max(hi, 0.0))
+    choices = [_nice_ticks(lo, hi, count) for count in (4, 5, 6)]
+    for ticks in choices:
+        bottom, top = ticks[0], max(ticks[-1], hi)
+        if len(ticks) <= MAX_TICKS and lo - bottom <= BLANK * (top - bottom):
+            return ticks
+    return choices[0]
+
+
+_WHOLE = re.compile(r"(?<=\d)\.0+(?!\d)")
+
+
+def _labels(ticks: list[float], fmt: Format) -> list[str]:
+    """The tick labels; when every tick is a whole number, without the ".0" the figures' decimals add."""
+    labels = [fmt(t) for t in ticks]
+    if all(t == int(t) and _WHOLE.search(label) for t, label in zip(ticks, labels)):
+        return [_WHOLE.sub("", label, count=1) for label in labels]
+    return labels
+
+
+def _axis(values: list[float], unit: str, fmt: Format,
+          series: bool = False) -> tuple[str, tuple[tuple[float, str], ...]]:
     """The unit label and the ticks of a value axis: short units on every tick, long ones on the axis."""
     lo, hi = min(values), max(values)
-    ticks = _nice_ticks(min(lo, 0.0) if lo >= 0 and lo < (hi - lo) else lo, hi)
+    ticks = _series_ticks(lo, hi) if series else _nice_ticks(
+        min(lo, 0.0) if lo >= 0 and lo < (hi - lo) else lo, hi)
+    labels = _labels(ticks, fmt)
     if len(unit) <= LONG_UNIT or unit in ("percent", "%"):
-        return "", tuple((t, fmt(t)) for t in ticks)
-    bare = [fmt(t).removesuffix(" " + unit) for t in ticks]
+        return "", tuple(zip(ticks, labels))
+    bare = [label.removesuffix(" " + unit) for label in labels]
     return unit, tuple(zip(ticks, bare))
 
 
@@ -103,7 +140,7 @@ def series_spec(label: str, unit: str, periods: list[str], lines: list[tuple[str
         many = phrasing.noun_plural(noun, len(others_known))
         caption += (f" The other {len(others_known)} {many} ranged from {fmt(min(others_known))} "
                     f"to {fmt(max(others_known))} in {long(last[0])}.")
-    unit_label, ticks = _axis(values, unit, fmt)
+    unit_label, ticks = _axis(values, unit, fmt, series=True)
     rows = tuple((short(p), fmt(v), i == len(known) - 1) for i, (p, v) in enumerate(known))
     n_others = len(lines) - 1
     others_key = f"the other {n_others} {phrasing.noun_plural(noun, n_others)}" if n_others else ""

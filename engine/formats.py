@@ -19,7 +19,7 @@ from typing import Any
 from stetline.numbers import find_numbers, trace
 from stetline.publication import FIGURE_NOTES as FIGURE_NOTES  # re-exported: one wording in every format
 from stetline.publication import Figures, Publication, Statement
-from stetline.publish_docx import TOC_INSTRUCTION as TOC_INSTRUCTION  # re-exported
+from stetline.publish_docx import PAGE_REFERENCE as PAGE_REFERENCE  # re-exported
 from stetline.publish_structure import Section, structure
 
 FORMATS = ("md", "html", "json", "csv", "docx")

@@ -51,11 +51,27 @@ def _chart(spec: Any, with_images: bool) -> dict[str, Any] | None:
             "src": Markup(charts.data_uri(spec)) if with_images else ""}
 
 
+_FIGURE = re.compile(r"([+\u2212-]?[\d.,]+)\s+(\S.*)")  # a figure and its unit: "+0.3 percentage points"
+
+
+def shared_unit(cells: list[str]) -> tuple[str, list[str]]:
+    """The unit every figure of a table column shares (its plural when both forms occur) and the cells
+    without it, so a narrow column shows "+0.3" under "Change (percentage points)"; ("", the cells) when
+    they do not share one unit. Figures with their unit joined ("59.3%") and words ("no change") stay whole."""
+    found = [m for m in (_FIGURE.fullmatch(c) for c in cells) if m]
+    if len({m.group(2).removesuffix("s") for m in found}) != 1:
+        return "", cells
+    unit = max((m.group(2) for m in found), key=len)
+    return unit, [m.group(1) if (m := _FIGURE.fullmatch(c)) else c for c in cells]
+
+
 def context(pub: Publication, *, with_images: bool = True) -> dict[str, Any]:
     """What a layout template sees: the publication as plain dicts and lists.
 
     Each section has ``lead`` statements, ``groups`` (heading, entries: heading, statements, figures
-    with headers and cells, chart with caption and src), a ranked ``table``, a ``chart`` and
+    with headers and cells, chart with caption and src), a ranked ``table`` (rows: rank, name, value, change,
+    and value_figure and change_figure: without the ``value_unit`` and ``change_unit`` every row shares, ""
+    when none), a ``chart`` and
     ``sources``; ``statements`` lists all of the section's statements in order (older layouts).
     """
     sections_ = structure(pub)
@@ -76,10 +92,14 @@ def context(pub: Publication, *, with_images: bool = True) -> dict[str, Any]:
                               "chart": _chart(item.chart, with_images)})
             groups.append({"heading": group.heading, "entries": items})
         flat = lead + [st for g in groups for item in g["entries"] for st in item["statements"]]
-        table = [{"rank": r.rank, "name": r.name, "value": r.value, "change": r.change} for r in sec.table]
+        value_unit, values = shared_unit([r.value for r in sec.table])
+        change_unit, changes = shared_unit([r.change for r in sec.table])
+        table = [{"rank": r.rank, "name": r.name, "value": r.value, "change": r.change, "value_figure": v,
+                  "change_figure": c} for r, v, c in zip(sec.table, values, changes)]
         sections.append({"key": sec.key, "heading": sec.heading, "kind": sec.kind, "anchor": f"section-{index}",
                          "lead": lead, "groups": groups, "statements": flat, "table": table,
-                         "table_period": sec.table_period, "noun": pub.entity_noun.capitalize(),
+                         "table_period": sec.table_period, "value_unit": value_unit,
+                         "change_unit": change_unit, "noun": pub.entity_noun.capitalize(),
                          "chart": _chart(sec.chart, with_images), "sources": sources_line(sec.sources)})
     return {"title": pub.title, "edition": pub.edition, "date": pub.date, "caution": CAUTION,
             "sections": sections, "footnotes": footnotes, "figure_notes": FIGURE_NOTES,

@@ -1,7 +1,7 @@
 """The Word report: the same structure as the HTML one, with real tables, charts as images and a contents list.
 
-Title, then the caution, then a contents list written from the section headings (inside a TOC
-field, so Word can refresh it with page numbers, and it shows the headings without refreshing).
+Title, then the caution, then a contents list written from the section headings, each line a link
+with a page reference field that the word processor fills in as it lays out the pages.
 Each section is a Heading 1; categories are Heading 2, topics Heading 3. Figure tables are Word
 tables; charts are PNG images (stetline.charts) whose alternative text is the caption stating the
 numbers. Text from the data or from editors goes into runs with characters XML cannot carry removed.
@@ -26,7 +26,7 @@ from stetline.publication import (
 )
 from stetline.publish_structure import figure_cells, figure_headers, footnotes, sources_line, structure
 
-TOC_INSTRUCTION = 'TOC \\o "1-1" \\h \\z \\u'
+PAGE_REFERENCE = "PAGEREF {name} \\h"  # a contents line's page number: the page of the heading's bookmark
 CONTENTS = "Contents"
 _NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
 
@@ -56,6 +56,7 @@ def _para(document: Any, style: str, text: str = "") -> Any:
 def _styles(document: Any) -> None:
     """Add the paragraph styles a designer restyles: Statement, Note, Source, Caution, Figure Note."""
     from docx.enum.style import WD_STYLE_TYPE
+    from docx.enum.text import WD_TAB_ALIGNMENT, WD_TAB_LEADER
     from docx.shared import Cm, Pt, RGBColor
 
     styles = document.styles
@@ -83,6 +84,9 @@ def _styles(document: Any) -> None:
     figure.font.size = Pt(9)
     entry = add("Contents Entry")
     entry.paragraph_format.space_after = Pt(2)
+    page = document.sections[0]
+    text_width = page.page_width - page.left_margin - page.right_margin  # page numbers at the right margin
+    entry.paragraph_format.tab_stops.add_tab_stop(text_width, WD_TAB_ALIGNMENT.RIGHT, WD_TAB_LEADER.DOTS)
     for style in (note, source, caution, figure):
         style.next_paragraph_style = statement
 
@@ -96,29 +100,58 @@ def _field_char(kind: str) -> Any:
     return char
 
 
-def _contents(document: Any, headings: list[str]) -> None:
-    """The contents: a TOC field whose shown result already lists the headings (Word refreshes it on opening)."""
+def _bookmark(paragraph: Any, name: str, number: int) -> None:
+    """Mark a whole paragraph (a section heading) with a bookmark the contents' page references point to."""
+    from docx.oxml import OxmlElement
+    from docx.oxml.ns import qn
+
+    start, end = OxmlElement("w:bookmarkStart"), OxmlElement("w:bookmarkEnd")
+    start.set(qn("w:id"), str(number))
+    start.set(qn("w:name"), name)
+    end.set(qn("w:id"), str(number))
+    paragraph._p.insert(1 if paragraph._p.pPr is not None else 0, start)
+    paragraph._p.append(end)
+
+
+def _field(paragraph: Any, instruction: str, shown: str = "") -> None:
+    """A complete field in a paragraph: its instruction and the result shown until it is updated."""
+    from docx.oxml import OxmlElement
+    from docx.oxml.ns import qn
+
+    paragraph.add_run()._r.append(_field_char("begin"))
+    instr = OxmlElement("w:instrText")
+    instr.set(qn("xml:space"), "preserve")
+    instr.text = f" {instruction} "
+    paragraph.add_run()._r.append(instr)
+    paragraph.add_run()._r.append(_field_char("separate"))
+    paragraph.add_run(shown)
+    paragraph.add_run()._r.append(_field_char("end"))
+
+
+def _contents(document: Any, headings: list[str]) -> list[str]:
+    """The contents: a line per heading, written from the headings (shown without refreshing anything),
+    each a link to its heading's bookmark followed by a PAGEREF field to it, so the word processor puts
+    in the page numbers as it lays the pages out. (LibreOffice keeps a TOC field's shown result as
+    plain text and drops the page references inside it, so the list is not wrapped in a TOC field.)
+    Returns the bookmark names, one per heading, for ``_bookmark``."""
     from docx.oxml import OxmlElement
     from docx.oxml.ns import qn
 
     _para(document, "TOC Heading", CONTENTS)
-    entries = headings or [""]
-    for i, heading in enumerate(entries):
+    names = [f"_Toc{n:06d}" for n in range(1, len(headings) + 1)]
+    for heading, name in zip(headings, names):
         paragraph = _para(document, "Contents Entry")
-        if i == 0:
-            begin = paragraph.add_run()._r
-            begin.append(_field_char("begin"))
-            instr = OxmlElement("w:instrText")
-            instr.set(qn("xml:space"), "preserve")
-            instr.text = TOC_INSTRUCTION
-            paragraph.add_run()._r.append(instr)
-            paragraph.add_run()._r.append(_field_char("separate"))
-        paragraph.add_run(_x(heading))
-        if i == len(entries) - 1:
-            paragraph.add_run()._r.append(_field_char("end"))
-    update = OxmlElement("w:updateFields")
+        link = OxmlElement("w:hyperlink")
+        link.set(qn("w:anchor"), name)
+        link.set(qn("w:history"), "1")
+        link.append(paragraph.add_run(_x(heading))._r)
+        paragraph._p.append(link)
+        paragraph.add_run("\t")
+        _field(paragraph, PAGE_REFERENCE.format(name=name))
+    update = OxmlElement("w:updateFields")  # Word offers to fill in the page numbers on opening
     update.set(qn("w:val"), "true")
     document.settings.element.append(update)
+    return names
 
 
 def _statement(document: Any, st: Statement, numbers: dict[int, int], printed: set[str]) -> None:
@@ -176,9 +209,14 @@ def to_docx(pub: Publication) -> bytes:
     _para(document, "Subtitle", _x(f"Edition {pub.edition} · {pub.date}"))
     _para(document, "Caution", _x(CAUTION))
     extra = ([FIGURE_NOTES] if notes else []) + ([WAITING_HEADING] if pub.waiting else [])
-    _contents(document, [s.heading for s in sections] + extra)
+    marks = iter(enumerate(_contents(document, [s.heading for s in sections] + extra), 1))
+
+    def heading(text: str) -> None:
+        number, name = next(marks)
+        _bookmark(_para(document, "Heading 1", text), name, number)
+
     for section in sections:
-        _para(document, "Heading 1", _x(section.heading))
+        heading(_x(section.heading))
         printed: set[str] = set()
         for st in section.lead:
             _statement(document, st, numbers, printed)
@@ -202,13 +240,13 @@ def to_docx(pub: Publication) -> bytes:
         if line:
             _para(document, "Source", _x(line))
     if notes:
-        _para(document, "Heading 1", FIGURE_NOTES)
+        heading(FIGURE_NOTES)
         for n, caveat in enumerate(notes, 1):
             p = _para(document, "Figure Note")
             p.add_run(str(n)).font.superscript = True
             p.add_run(" " + _x(caveat))
     if pub.waiting:
-        _para(document, "Heading 1", WAITING_HEADING)
+        heading(WAITING_HEADING)
         _para(document, "Figure Note", _x(WAITING_INTRO))
         for slot, reason in pub.waiting:
             p = _para(document, "List Bullet")

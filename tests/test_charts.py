@@ -161,3 +161,61 @@ def test_the_report_charts_compare_the_entities_of_one_level(demo_path: Any) -> 
     assert town is not None and "The other 13 towns ranged from" in town.caption
     assert district is not None and "The other 2 districts ranged from" in district.caption
     assert {key for key, _name, _values in district.lines} == {"westreach", "eastmarch", "sound-isles"}
+
+
+# (least, greatest, unit, decimals, starts at zero): recycling-like rates far from zero, loans near it,
+# response times in minutes, a change that crosses zero
+RANGES = [(39.2, 59.3, "percent", 1, False), (86.3, 99.9, "percent", 1, False), (2.0, 6.3, "loans", 1, True),
+          (6.4, 11.9, "minutes", 1, False), (644.0, 1370.0, "per 1,000 residents", 0, True),
+          (-4.2, 3.1, "percent", 1, True), (42100.0, 42698.0, "persons", 0, False)]
+
+
+@pytest.mark.parametrize("least, greatest, unit, decimals, zero", RANGES)
+def test_a_series_axis_starts_at_zero_or_just_below_the_data_and_says_so(
+        least: float, greatest: float, unit: str, decimals: int, zero: bool) -> None:
+    def fmt(x: float) -> str:
+        return phrasing.value(x, unit, decimals)
+
+    step = (greatest - least) / 5
+    lines: list[tuple[str, str, list[float | None]]] = [
+        ("a", "North Quay", [least + step * j for j in range(6)]),
+        ("b", "Little Thrift", [greatest - step * j for j in range(6)])]
+    spec = charts.series_spec("Rate", unit, PERIODS, lines, "a", fmt, "town")
+    assert spec is not None
+    fig = charts.figure(spec)
+    fig.draw_without_rendering()
+    assert _texts_outside(fig) == []
+    bottom, top = fig.axes[0].get_ylim()  # matplotlib's own axis, as drawn
+    assert bottom <= least and top >= greatest
+    labels = [label for _t, label in spec.ticks]
+    assert labels[0] == next(t.get_text() for t in fig.axes[0].texts if t.get_text() == labels[0])  # labelled
+    broken = [ln for ln in fig.axes[0].lines if ln.get_gid() == "axis-break"]
+    if zero:  # zero is near: the axis includes it, with a plain zero line and no break mark
+        assert bottom <= 0 <= top and not broken
+        assert greatest - least >= 0.45 * (top - bottom)  # the data still fill about half the axis
+    else:  # common practice: a truncated axis starts at a round value just below the data and shows a break
+        assert bottom > 0
+        assert least - bottom <= 0.25 * (top - bottom), (bottom, least, top)
+        assert len(broken) == 1 and b'id="axis-break"' in charts._save(spec, "svg")
+    assert len(labels) <= 7 and not any(".0%" in label or ".0 " in label for label in labels)
+
+
+def test_many_periods_label_the_latest_and_never_overlap() -> None:
+    quarters = [f"{y}-Q{q}" for y in range(2021, 2026) for q in range(1, 5)][:-1]  # 19 quarters, to 2025-Q3
+
+    def fmt(x: float) -> str:
+        return phrasing.value(x, "percent", 1)
+
+    lines: list[tuple[str, str, list[float | None]]] = [
+        ("a", "North Quay", [40 + j % 4 for j in range(len(quarters))])]
+    spec = charts.series_spec("Rate", "percent", quarters, lines, "a", fmt, "town")
+    assert spec is not None
+    fig = charts.figure(spec)
+    fig.draw_without_rendering()
+    renderer = fig.canvas.get_renderer()
+    boxes = sorted(((t.get_window_extent(renderer), t.get_text()) for t in fig.axes[0].texts
+                    if t.get_text() in quarters), key=lambda b: b[0].x0)
+    shown = [text for _box, text in boxes]
+    assert shown[-1] == "2025-Q3" and len(shown) >= 3
+    extents = [(b.x0, b.x1) for b, _t in boxes]
+    assert all(left[1] < right[0] for left, right in zip(extents, extents[1:])), extents

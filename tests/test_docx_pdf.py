@@ -95,3 +95,8 @@ def test_word_publication_lays_out_as_a_readable_report(demo_cli: Cli, tmp_path:
     assert [title for title, _page in top] == expected
     assert [page for _t, page in top] == sorted(page for _t, page in top)
     assert top[-1][1] > top[0][1]  # the sections run over several pages
+    # the contents list each heading with the page it is on, as LibreOffice laid it out (dot leaders)
+    for title, page in top:
+        shown = next((m.group(1) for line in lines if (m := re.fullmatch(rf"{re.escape(title)}[ .]*(\d+)", line))),
+                     None)
+        assert shown == str(page), f"contents line of {title!r}: page {shown}, the heading is on page {page}"

@@ -19,7 +19,7 @@ import pytest
 from helpers import Cli, resolve_every_recheck
 from sqlalchemy import select
 
-from stetline.formats import FIGURE_NOTES, TOC_INSTRUCTION, neutralise
+from stetline.formats import FIGURE_NOTES, PAGE_REFERENCE, neutralise
 from stetline.store.models import Event
 from stetline.workspace import open_workspace
 
@@ -336,7 +336,7 @@ def test_docx_structure_styles_and_toc(published: dict[str, Any], demo_files: Pa
     assert headings[:len(towns) + 1] == ["Overview", *towns] and headings[-1] == FIGURE_NOTES
     assert sorted(headings[len(towns) + 1:-1]) == sorted(labels)
     contents = [p.text for p in paragraphs if p.style.name == "Contents Entry"]
-    assert contents == headings  # the contents show the headings without refreshing the field
+    assert [c.split("\t")[0] for c in contents] == headings  # the headings shown without refreshing anything
     assert "Environment" in [p.text for p in paragraphs if p.style.name == "Heading 2"]
     assert len(document.tables) > 100 and [c.text for c in document.tables[-1].rows[0].cells][0] == "Rank"
     pictures = document.inline_shapes
@@ -345,8 +345,13 @@ def test_docx_structure_styles_and_toc(published: dict[str, Any], demo_files: Pa
     with zipfile.ZipFile(path) as z:
         body = z.read("word/document.xml").decode("utf-8")
     w = "{http://schemas.openxmlformats.org/wordprocessingml/2006/main}"
-    fields = [f.text for f in ElementTree.fromstring(body).iter(f"{w}instrText")]
-    assert fields == [TOC_INSTRUCTION] == ['TOC \\o "1-1" \\h \\z \\u']
+    tree = ElementTree.fromstring(body)
+    fields = [(f.text or "").strip() for f in tree.iter(f"{w}instrText")]
+    # each contents line ends with a page reference to a bookmark that spans its heading
+    marks = [b.get(f"{w}name") for p in tree.iter(f"{w}p") for b in p.iter(f"{w}bookmarkStart")
+             if any(s.get(f"{w}val") == "Heading1" for s in p.iter(f"{w}pStyle"))]
+    assert len(marks) == len(headings) and fields == [PAGE_REFERENCE.format(name=m) for m in marks]
+    assert PAGE_REFERENCE.format(name=marks[0]) == f"PAGEREF {marks[0]} \\h"
     tampered = next(p for p in paragraphs if p.style.name == "Statement" and "North Quay recycled" in p.text)
     assert tampered.text == TAMPERED_SHOWN  # stored as text, not markup
 

@@ -6,7 +6,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from flask import Blueprint, render_template, request
+from flask import Blueprint, render_template, request, url_for
 
 from stetline import actions, comments, datachecks
 from stetline.livefields import LiveFields
@@ -101,7 +101,7 @@ def accept_clean_form() -> str:
 @bp.post("/recheck/accept-clean")
 def accept_clean() -> Any:
     """Accept every clean proposal (each its own event), if the count is still the one confirmed."""
-    from flask import flash, redirect, url_for
+    from flask import flash, redirect
 
     from stetline.accounts import authorize
     from stetline.errors import Forbidden, StetlineError
@@ -141,12 +141,49 @@ def changes() -> Any:
         log = changelog(s, request.args.get("from") or None, request.args.get("to") or None)
     except StetlineError as exc:
         return render_template("recheck/changes.html", log=None, error=web_message(exc), labels=labels), 200
-    return render_template("recheck/changes.html", log=log, error=None, labels=labels, places=_places(s, log),
-                           noun=entity_noun())
+    places = _places(s, log)
+    entity, topic = request.args.get("entity") or "", request.args.get("topic") or ""
+    every = [(p["key"], p["name"]) for p in places]
+    topics = {c["topic"]: c["label"] for p in places for c in p["cells"] if c["topic"]}
+    shown = _filtered(places, entity, topic)
+    query: dict[str, Any] = {"from": log.from_edition, "to": log.to_edition, "topic": topic or None}
+    for place in shown:
+        place["href"] = url_for("recheck.changes", **query, entity=place["key"]) + f"#place-{place['key']}"
+    return render_template("recheck/changes.html", log=log, error=None, labels=labels, places=shown,
+                           noun=entity_noun(), every=every, topics=sorted(topics.items(), key=lambda t: t[1]),
+                           entity=entity, topic=topic, open_all=len(shown) == 1,
+                           carried=[c for c in log.carried if _about(c["slot"], entity, topic)],
+                           gone=[g for g in log.gone if _about(g, entity, topic)])
+
+
+def _filtered(places: list[dict[str, Any]], entity: str, topic: str) -> list[dict[str, Any]]:
+    """The places of the changes page narrowed to one entity ("all": the changes across all) and topic,
+    each with its counts: topics, changed values and flipped claims."""
+    shown = []
+    for place in places:
+        cells = [c for c in place["cells"] if not topic or c["topic"] == topic]
+        if cells and (not entity or place["key"] == entity):
+            shown.append({**place, "cells": cells, "changed_values": sum(1 for c in cells if c["value"]),
+                          "changed_claims": sum(len(c["claims"]) for c in cells)})
+    return shown
 
 
 #: the statement of a cell whose text the changes page quotes, when several of the cell's changed
 _QUOTED_FIRST = ("blurb", "roundup", "profile", "headline")
+
+
+def _place_of(slot: str) -> tuple[str | None, str | None]:
+    """The entity and topic a slot is about (None for a topic's or an entity's statement as a whole)."""
+    parts = slot.split("/")
+    entity = parts[1] if len(parts) == 3 or (len(parts) == 2 and parts[0] == "profile") else None
+    topic = parts[-1] if len(parts) == 3 or (len(parts) == 2 and parts[0] != "profile") else None
+    return entity, topic
+
+
+def _about(slot: str, entity: str, topic: str) -> bool:
+    """True when a slot is about the entity ("all": no one entity) and topic chosen ("" for any)."""
+    at, on = _place_of(slot)
+    return (not entity or (at or "all") == entity) and (not topic or on == topic)
 
 
 def _places(s: Any, log: Any) -> list[dict[str, Any]]:
@@ -164,9 +201,7 @@ def _places(s: Any, log: Any) -> list[dict[str, Any]]:
     cells: dict[tuple[str | None, str | None], dict[str, Any]] = {}
 
     def cell(slot: str) -> dict[str, Any]:
-        parts = slot.split("/")
-        entity = parts[1] if len(parts) == 3 or (len(parts) == 2 and parts[0] == "profile") else None
-        topic = parts[-1] if len(parts) == 3 or (len(parts) == 2 and parts[0] != "profile") else None
+        entity, topic = _place_of(slot)
         return cells.setdefault((entity, topic), {
             "entity": entity, "topic": topic, "label": topics.get(topic or "", "All indicators"),
             "slots": [], "claims": [], "value": None, "quoted": None})
@@ -193,4 +228,5 @@ def _places(s: Any, log: Any) -> list[dict[str, Any]]:
             kv[0][0] is not None, entity_order.get(kv[0][0] or "", 0), topic_order.get(kv[0][1] or "", -1))):
         c["quoted"] = c["quoted"][1] if c["quoted"] else None
         grouped.setdefault(entity, []).append(c)
-    return [{"entity": e, "name": names.get(e, e) if e else "Across all", "cells": cs} for e, cs in grouped.items()]
+    return [{"entity": e, "key": e or "all", "name": names.get(e, e) if e else "Across all", "cells": cs}
+            for e, cs in grouped.items()]

@@ -97,3 +97,33 @@ def test_the_statement_page_charts_are_readable_on_a_phone(page: Page, live: Liv
     points = charts.FONT_SIZE * 4 / 3
     smallest = min(points * i["shown"] / i["natural"] for i in images)
     assert smallest >= MIN_CHART_TEXT_PX, f"chart labels shown at {smallest:.1f} px on a 390 px screen"
+
+
+RANKED = """() => [...document.querySelectorAll("table.ranked")].map(table => {
+    const wrap = table.closest(".table-wrap");
+    const lines = [...table.querySelectorAll("tbody td:last-child")].map(td => {
+        const range = document.createRange();
+        range.selectNodeContents(td);
+        const tops = new Set([...range.getClientRects()].map(r => Math.round(r.top)));
+        return { text: td.textContent.trim(), lines: tops.size };
+    });
+    return { heading: table.querySelector("thead th:last-child").textContent.trim(), cells: lines,
+             hidden: wrap.scrollWidth - wrap.clientWidth };
+})"""
+
+
+@pytest.mark.parametrize("size,viewport", SIZES, ids=[s for s, _ in SIZES])
+def test_the_ranked_tables_change_column_reads_on_one_line(page: Page, report: Path, screens: Path, size: str,
+                                                          viewport: dict[str, int]) -> None:
+    page.set_viewport_size(viewport)
+    page.goto(report.as_uri())
+    _shoot(page, screens, f"report-ranked-{size}.png", "table.ranked")
+    tables: list[dict[str, Any]] = page.evaluate(RANKED)
+    assert len(tables) >= 10  # a ranked table per topic
+    wrapped = [(t["heading"], c["text"]) for t in tables for c in t["cells"] if c["lines"] != 1]
+    assert not wrapped, wrapped  # "+0.3 percentage points" broke over three lines on a phone
+    assert all(t["hidden"] <= 1 for t in tables), [t["heading"] for t in tables if t["hidden"] > 1]  # no scrolling
+    # a change in percentage points says its unit once, in the heading (ONS Service Manual, "Percentages")
+    assert "Change (percentage points)" in [t["heading"] for t in tables]
+    width: dict[str, Any] = page.evaluate(WIDTH)
+    assert width["scroll"] <= width["inner"], width
