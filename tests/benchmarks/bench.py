@@ -322,7 +322,8 @@ def run(args: argparse.Namespace, work: Path) -> bool:
                           "--entities", str(paths["entities"])], work, memory=True)
     summary = json.loads(first.stdout)
     slots = int(summary["slots"])
-    print(f"first load: {slots:,} statements ({args.kinds} kinds), {summary['observations_written']:,} "
+    kinds = "every kind" if args.kinds == "every" else "the default kinds"
+    print(f"first load: {slots:,} statements ({kinds}), {summary['observations_written']:,} "
           f"observations in {first.seconds:.2f} s ({peaks(first)})", flush=True)
 
     if not args.memory_only:
