@@ -302,7 +302,7 @@ class _Versions(Mapping[str, int]):
 
 def _write_as_drafted(ws: Workspace, session: Session, ctx: Context, read_states: Callable[[], dict[str, SlotState]],
                       edition_id: int, by: str, progress: Progress, summary: LoadSummary) -> None:
-    """Draft, reconcile, write and count a kind at a time, so no more than a kind or two of drafts is held at once.
+    """Draft, reconcile, write and count a batch at a time (one kind, or part of one), holding no more drafts than that.
 
     The same decisions, in the same order, and the same rows as reconciling every draft at once
     (reconcile.reconcile), then the slots no draft came for; the summary counts them all. The

@@ -36,6 +36,8 @@ PARALLEL_FROM = 5_000
 WORKERS_ENV = "STETLINE_WORKERS"
 #: a worker pickles its drafts this many rows at a time (one pickle per row costs ten times the CPU)
 _ROWS_A_PICKLE = 1_000
+#: the loading process takes a worker's drafts this many at a time (a kind at full size is 100,000)
+_DRAFTS_A_BATCH = 10_000
 #: one process reports drafting progress every this many statements
 _REPORT_EVERY = 2_000
 
@@ -72,8 +74,10 @@ def draft_each_kind(ctx: Context, phrasing_dir: Path | None, workers: int = 1,
                     progress: Progress = no_progress, start: str | None = None) -> Iterator[list[Draft]]:
     """Draft as :func:`draft_kinds` does, handing over each kind's drafts in kind order as they are ready.
 
-    A load writes each kind's drafts and lets them go before the next kind comes, so it never
-    holds every draft of the edition. Drafting starts (and is reported) at the call.
+    A load writes each batch of drafts and lets it go before the next comes, so it never holds
+    every draft of the edition. A batch holds drafts of one kind only: the whole kind in one
+    process; from workers, at most :data:`_DRAFTS_A_BATCH` (a kind back before the kinds ahead
+    of it waits in its file). Drafting starts (and is reported) at the call.
     """
     kinds = chosen(ctx.kinds)
     workers = min(workers, len(kinds))
@@ -102,7 +106,7 @@ def _one_process(ctx: Context, phrasing_dir: Path | None, kinds: tuple[Any, ...]
 
 def _in_workers(ctx: Context, phrasing_dir: Path | None, kinds: tuple[Any, ...], workers: int,
                 progress: Progress, method: str) -> Iterator[list[Draft]]:
-    ready: dict[int, list[Draft]] = {}
+    ready: dict[int, Path] = {}  # kinds back from their workers, still in their files
     drafted = 0
     following = 0  # the next kind to hand over
     with tempfile.TemporaryDirectory(prefix="stetline-drafts-") as folder, ProcessPoolExecutor(
@@ -113,16 +117,16 @@ def _in_workers(ctx: Context, phrasing_dir: Path | None, kinds: tuple[Any, ...],
         try:
             while pending:
                 done, _ = wait(pending, return_when=FIRST_COMPLETED)
-                for future in done:
-                    sent = Path(future.result())  # a worker's error (a template that fails) is raised here
-                    ready[pending.pop(future)] = batch = [Draft.from_row(row) for row in _rows_of(sent)]
-                    sent.unlink()
-                    drafted += len(batch)
-                    del batch
-                progress("drafting statements", drafted, None)
+                for future in done:  # a worker's error (a template that fails) is raised here
+                    ready[pending.pop(future)] = Path(future.result())
                 while following in ready:
-                    yield ready.pop(following)
+                    sent = ready.pop(following)
+                    for batch in _batches_of(sent):
+                        drafted += len(batch)
+                        yield batch
+                    sent.unlink()
                     following += 1
+                    progress("drafting statements", drafted, None)
         finally:
             for future in pending:
                 future.cancel()
@@ -161,6 +165,18 @@ def _draft_kind(index: int, folder: str) -> str:
                 gc.collect(0)  # the reference cycles each render leaves (Jinja2's contexts): freed, not kept
         pickle.dump(rows, out, pickle.HIGHEST_PROTOCOL)
     return str(path)
+
+
+def _batches_of(path: Path) -> Iterator[list[Draft]]:
+    """A kind's drafts from its worker's file, :data:`_DRAFTS_A_BATCH` at a time, in the order drafted."""
+    batch: list[Draft] = []
+    for row in _rows_of(path):
+        batch.append(Draft.from_row(row))
+        if len(batch) == _DRAFTS_A_BATCH:
+            yield batch
+            batch = []
+    if batch:
+        yield batch
 
 
 def _rows_of(path: Path) -> Iterator[tuple[Any, ...]]:
