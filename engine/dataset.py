@@ -65,8 +65,12 @@ class Dataset:
     @property
     def latest_period(self) -> str:
         """The latest period label of the format most topics use (the edition's period)."""
+        return self.latest_period_of(self.latest_periods)
+
+    def latest_period_of(self, latest_periods: dict[str, str]) -> str:
+        """The edition's period, from what :attr:`latest_periods` gave (each goes through every observation)."""
         obs = self.observations
-        return self.latest_periods[periods.lead_format(obs["topic"], obs["period"])]
+        return latest_periods[periods.lead_format(obs["topic"], obs["period"])]
 
 
 def _check_columns(table: Table, required: Iterable[str], optional: Iterable[str]) -> list[Problem]:

@@ -12,7 +12,7 @@ import gc
 import hashlib
 import sys
 import threading
-from collections.abc import Collection, Iterator
+from collections.abc import Callable, Collection, Iterator, Mapping
 from contextlib import contextmanager
 from functools import lru_cache
 from importlib import metadata
@@ -31,7 +31,7 @@ from stetline.drafting import Context, Draft
 from stetline.errors import StetlineError
 from stetline.facts import compute_facts
 from stetline.kinds import COMPOSED, KINDS, composed_facts
-from stetline.loadsummary import LoadSummary, count_unrenderable, summarise
+from stetline.loadsummary import LoadSummary, count_unrenderable, finish, summarise, tally
 from stetline.progress import Progress, no_progress
 from stetline.reconcile import Decision, SlotState, reconcile, reconcile_drafted, reconcile_gone
 from stetline.slotstatus import house_style, recheck_unrenderable
@@ -71,7 +71,7 @@ def _gc_paused() -> Iterator[None]:
                 gc.enable()
 
 
-def _label(session: Session, requested: str | None, dataset: Dataset) -> str:
+def _label(session: Session, requested: str | None, base: str) -> str:
     if requested is not None:
         requested = requested.strip()
         if not requested or "/" in requested:
@@ -79,7 +79,6 @@ def _label(session: Session, requested: str | None, dataset: Dataset) -> str:
         if ops.label_taken(session, requested):
             raise StetlineError(f"edition {requested!r} already exists; choose another label with --edition")
         return requested
-    base = dataset.latest_period
     label, n = base, 1
     while ops.label_taken(session, label):
         n += 1
@@ -199,7 +198,9 @@ def load_edition(
             observations, topics, entities,
             known_topics=ops.topics_frame(session), known_entities=ops.entities_frame(session),
         )
-        edition_label = _label(session, label, dataset)
+        latest_periods = dataset.latest_periods  # worked out once: each reading goes through every observation
+        latest_period = dataset.latest_period_of(latest_periods)
+        edition_label = _label(session, label, latest_period)
         mapping = None if renames is None else rename_mod.read_checked(session, renames, dataset.observations)
         plan = None
         current = ops.current_edition(session)
@@ -208,15 +209,17 @@ def load_edition(
         progress("computing facts", 0, None)
         ctx = edition_context(session, dataset.observations, dataset.topics, dataset.entities, earlier, edition_label,
                               dataset.breakdowns)
+        del earlier
         inputs = drafting_inputs(ws, ctx)
-        states = ops.slot_states(session)
         streamed = False
         if mapping is None and current is not None and (current.summary or {}).get(DRAFTED_FROM) == inputs:
             progress("reconciling", 0, None)
+            states = ops.slot_states(session)
             decisions, by_slot, drafted = _reconcile_as_drafted(session, states, dataset.topics, dataset.entities, ctx)
         elif mapping is None and not dry_run:  # drafted, reconciled and written a kind at a time, below
-            streamed, decisions, by_slot, drafted = True, [], {}, set()
+            streamed, decisions, by_slot, drafted, states = True, [], {}, set(), {}
         else:
+            states = ops.slot_states(session)
             drafts = draft_context(ws, ctx, progress)
             progress("reconciling", 0, len(drafts))
             if mapping is not None:
@@ -237,7 +240,7 @@ def load_edition(
             session.rollback()
             return summary
         edition = Edition(
-            label=edition_label, loaded_by=by, files=dataset.files, latest_period=dataset.latest_period,
+            label=edition_label, loaded_by=by, files=dataset.files, latest_period=latest_period,
             period_format=dataset.period_format, observations=len(dataset.observations),
         )
         session.add(edition)
@@ -245,56 +248,88 @@ def load_edition(
         ops.replace_metadata(session, dataset.topics, dataset.entities)
         # a first load inserts into empty tables: their indexes are built once the rows are in
         with ops.indexes_deferred(session, (SlotRow, DraftRow, Observation)) as deferred:
-            if not streamed:  # a streamed load reports drafting as it writes
-                progress("writing statements", 0, len(decisions))
-            if plan is not None:
-                rename_mod.record(session, plan, edition.id, by)
             if streamed:
-                decisions, drafted = _write_as_drafted(ws, session, ctx, states, edition.id, by, progress)
+                # the observations first: the frames compared for it are let go before the workers
+                # start, and the drafting workers, forked next, read the slots' states none of
+                _store_observations(session, edition.id, dataset, stored, summary, progress)
+                del stored
+                _write_as_drafted(ws, session, ctx, lambda: ops.slot_states(session), edition.id, by, progress,
+                                  summary)
                 del ctx
-                summarise(summary, decisions, drafted, states)
-            else:
+            else:  # a streamed load reports drafting as it writes
+                progress("writing statements", 0, len(decisions))
+                if plan is not None:
+                    rename_mod.record(session, plan, edition.id, by)
                 ops.apply_decisions(session, edition.id, decisions, by_slot, by)
-            if plan is not None:
-                rename_mod.move(session, plan, by)
+                if plan is not None:
+                    rename_mod.move(session, plan, by)
             del decisions, by_slot, states, drafted  # the drafts are written: free them before the observations
             count_unrenderable(summary, recheck_unrenderable(session, by=by))
-            progress("writing observations", 0, len(dataset.observations))
-            written = ops.store_observations(session, edition.id, dataset.observations, stored)
-            summary.observations_written = written["inserted"]
-            summary.breakdowns_written = ops.store_breakdowns(session, edition.id, dataset.breakdowns)["inserted"]
+            if not streamed:
+                _store_observations(session, edition.id, dataset, stored, summary, progress)
             if deferred:
                 progress("building indexes", 0, None)
         session.flush()
         summary.totals = ops.workspace_counts(session).totals()
-        edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs, LATEST_PERIODS: dataset.latest_periods}
+        edition.summary = {**summary.to_json(), DRAFTED_FROM: inputs, LATEST_PERIODS: latest_periods}
         ops.add_event(session, by, "load", edition_id=edition.id, detail=summary.to_json())
     return summary
 
 
-def _write_as_drafted(ws: Workspace, session: Session, ctx: Context, states: dict[str, SlotState], edition_id: int,
-                      by: str, progress: Progress) -> tuple[list[Decision], set[str]]:
-    """Draft, reconcile and write a kind at a time, so no more than a kind or two of drafts is held at once.
+def _store_observations(session: Session, edition_id: int, dataset: Dataset, stored: pd.DataFrame,
+                        summary: LoadSummary, progress: Progress) -> None:
+    """Version the edition's observations and subgroups against the stored ones; counted into the summary."""
+    progress("writing observations", 0, len(dataset.observations))
+    summary.observations_written = ops.store_observations(session, edition_id, dataset.observations, stored)["inserted"]
+    summary.breakdowns_written = ops.store_breakdowns(session, edition_id, dataset.breakdowns)["inserted"]
+
+
+class _Versions(Mapping[str, int]):
+    """Each slot's version as its state was read (what apply_decisions needs), without a dict of its own."""
+
+    def __init__(self, states: dict[str, SlotState]) -> None:
+        self.states = states
+
+    def __getitem__(self, slot: str) -> int:
+        return self.states[slot].version
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self.states)
+
+    def __len__(self) -> int:
+        return len(self.states)
+
+
+def _write_as_drafted(ws: Workspace, session: Session, ctx: Context, read_states: Callable[[], dict[str, SlotState]],
+                      edition_id: int, by: str, progress: Progress, summary: LoadSummary) -> None:
+    """Draft, reconcile, write and count a batch at a time (one kind, or part of one), holding no more drafts than that.
 
     The same decisions, in the same order, and the same rows as reconciling every draft at once
-    (reconcile.reconcile), then the slots no draft came for. Returns the decisions and the slots drafted.
+    (reconcile.reconcile), then the slots no draft came for; the summary counts them all. The
+    slots' states are read once the drafting has started (forked workers share none of them), and
+    each kind's are let go once it is written: what stays is the slots no draft came for.
     """
-    decisions: list[Decision] = []
-    drafted: set[str] = set()
-    versions = ops.slot_versions(session)
-    human = [sid for sid, state in states.items() if state.human]  # only their composed facts are read
+    states: dict[str, SlotState] | None = None
+    touched = 0
+    human = ops.slots_with_work(session)  # only their composed facts are read
     for batch in draft_each_kind(ctx, ws.phrasing_dir, worker_count(len(ctx.facts.cells)), progress, facts_for=human):
+        if states is None:
+            states = read_states()
         some, by_slot = reconcile_drafted(states, batch)
         del batch
-        ops.apply_decisions(session, edition_id, some, by_slot, by, versions)
-        decisions += some
-        drafted.update(by_slot)
+        ops.apply_decisions(session, edition_id, some, by_slot, by, _Versions(states))
+        touched += tally(summary, some, by_slot.keys(), states)
+        for slot in by_slot:
+            states.pop(slot, None)
         del some, by_slot
-    progress("reconciling", 0, len(drafted))  # the slots no draft came for
-    gone = reconcile_gone(states, drafted)
-    progress("writing statements", len(decisions), len(decisions) + len(gone))
-    ops.apply_decisions(session, edition_id, gone, {}, by, versions)
-    return decisions + gone, drafted
+    if states is None:
+        states = read_states()
+    progress("reconciling", 0, summary.slots)  # the slots no draft came for
+    gone = reconcile_gone(states, ())
+    progress("writing statements", summary.slots, summary.slots + len(gone))
+    ops.apply_decisions(session, edition_id, gone, {}, by, _Versions(states))
+    touched += tally(summary, gone, (), states)
+    finish(summary, touched)
 
 
 def _reconcile_as_drafted(
@@ -360,11 +395,9 @@ def redraft(ws: Workspace, *, by: str, progress: Progress = no_progress) -> Load
         subgroups = _with_times(ops.breakdowns_frame(session), edition.period_format)
         ctx = edition_context(session, obs, topics, entities, earlier, edition.label, subgroups)
         inputs = drafting_inputs(ws, ctx)
-        states = ops.slot_states(session)
-        decisions, drafted = _write_as_drafted(ws, session, ctx, states, edition.id, by, progress)
-        del ctx
         summary = LoadSummary(edition.label)
-        summarise(summary, decisions, drafted, states)
+        _write_as_drafted(ws, session, ctx, lambda: ops.slot_states(session), edition.id, by, progress, summary)
+        del ctx
         count_unrenderable(summary, recheck_unrenderable(session, by=by))
         session.flush()
         summary.totals = ops.workspace_counts(session).totals()

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from collections.abc import Collection
+from collections.abc import Collection, Iterable
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -75,7 +75,17 @@ class LoadSummary:
 def summarise(summary: LoadSummary, decisions: list[Decision], drafts: Collection[str],
                states: dict[str, SlotState]) -> None:
     """Count what the decisions do into the summary; ``drafts`` holds the id of every slot drafted this time."""
-    summary.slots = len(drafts)
+    finish(summary, tally(summary, decisions, drafts, states))
+
+
+def tally(summary: LoadSummary, decisions: Iterable[Decision], drafts: Collection[str],
+          states: dict[str, SlotState]) -> int:
+    """Add some of a load's decisions to the summary (a load may count them a kind at a time).
+
+    ``drafts``: the slots drafted with these decisions (none for the slots no draft came for);
+    returns how many of them went to or stayed in recheck, for :func:`finish`.
+    """
+    summary.slots += len(drafts)
     touched = 0
     for d in decisions:
         state = states.get(d.slot)
@@ -97,7 +107,12 @@ def summarise(summary: LoadSummary, decisions: list[Decision], drafts: Collectio
         elif d.silent:
             summary.updated += 1
         summary.rebased += len(d.rebase)
-    summary.drafts_written = sum(1 for d in decisions if d.write_draft)
+        summary.drafts_written += d.write_draft
+    return touched
+
+
+def finish(summary: LoadSummary, touched: int) -> None:
+    """Count the unchanged statements once every decision is tallied (``touched``: what tally returned)."""
     summary.unchanged = summary.slots - summary.drafted - summary.updated - touched
 
 

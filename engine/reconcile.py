@@ -59,7 +59,7 @@ class HumanWork:
     basis: Basis
 
 
-@dataclass
+@dataclass(slots=True)  # one per slot of the workspace: no __dict__ each
 class SlotState:
     """What the store knows of a slot before the refresh."""
 
@@ -68,6 +68,7 @@ class SlotState:
     gone: bool
     status: str
     work: list[HumanWork] = field(default_factory=list)
+    version: int = 0  # the slot row's version, which a refresh's write increments
 
     @property
     def human(self) -> bool:

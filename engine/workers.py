@@ -39,6 +39,8 @@ PARALLEL_FROM = 5_000
 WORKERS_ENV = "STETLINE_WORKERS"
 #: a worker pickles its drafts this many rows at a time (one pickle per row costs ten times the CPU)
 _ROWS_A_PICKLE = 1_000
+#: the loading process takes a worker's drafts this many at a time (a kind at full size is 100,000)
+_DRAFTS_A_BATCH = 10_000
 #: one process reports drafting progress every this many statements
 _REPORT_EVERY = 2_000
 
@@ -76,8 +78,10 @@ def draft_each_kind(ctx: Context, phrasing_dir: Path | None, workers: int = 1,
                     facts_for: Collection[str] | None = None) -> Iterator[list[Draft]]:
     """Draft as :func:`draft_kinds` does, handing over each kind's drafts in kind order as they are ready.
 
-    A load writes each kind's drafts and lets them go before the next kind comes, so it never
-    holds every draft of the edition. Drafting starts (and is reported) at the call.
+    A load writes each batch of drafts and lets it go before the next comes, so it never holds
+    every draft of the edition. A batch holds drafts of one kind only: the whole kind in one
+    process; from workers, at most :data:`_DRAFTS_A_BATCH` (a kind back before the kinds ahead
+    of it waits in its file). Drafting starts (and is reported) at the call.
     ``facts_for``: the slots whose composed facts are read (those with human work); the workers
     send no other slot's (default: every slot's, as one process keeps them).
     """
@@ -109,7 +113,7 @@ def _one_process(ctx: Context, phrasing_dir: Path | None, kinds: tuple[Any, ...]
 
 def _in_workers(ctx: Context, phrasing_dir: Path | None, kinds: tuple[Any, ...], workers: int,
                 progress: Progress, method: str, facts_for: frozenset[str] | None) -> Iterator[list[Draft]]:
-    ready: dict[int, Path] = {}  # a kind's file, read when the kinds before it are handed over
+    ready: dict[int, Path] = {}  # kinds back from their workers, still in their files
     drafted = 0
     following = 0  # the next kind to hand over
     tasks = drafting_tasks(kinds)
@@ -122,17 +126,16 @@ def _in_workers(ctx: Context, phrasing_dir: Path | None, kinds: tuple[Any, ...],
                 done, _ = wait(pending, return_when=FIRST_COMPLETED)
                 for future in done:
                     pending.remove(future)
-                    for index, name, n in future.result():  # a worker's error (a template that fails) is raised here
+                    for index, name, _n in future.result():  # a worker's error (a template that fails) is raised here
                         ready[index] = Path(name)
-                        drafted += n
-                progress("drafting statements", drafted, None)
                 while following in ready:
                     sent = ready.pop(following)
-                    batch: list[Draft] = [SentDraft(row) for row in _rows_of(sent)]
+                    for batch in _batches_of(sent):
+                        drafted += len(batch)
+                        yield batch
                     sent.unlink()
-                    yield batch
-                    del batch
                     following += 1
+                    progress("drafting statements", drafted, None)
         finally:
             for future in pending:
                 future.cancel()
@@ -227,6 +230,18 @@ class _DraftFile:
         if not self._out.closed:
             pickle.dump(self._rows, self._out, pickle.HIGHEST_PROTOCOL)
             self._out.close()
+
+
+def _batches_of(path: Path) -> Iterator[list[Draft]]:
+    """A kind's drafts from its worker's file, :data:`_DRAFTS_A_BATCH` at a time, in the order drafted."""
+    batch: list[Draft] = []
+    for row in _rows_of(path):
+        batch.append(SentDraft(row))
+        if len(batch) == _DRAFTS_A_BATCH:
+            yield batch
+            batch = []
+    if batch:
+        yield batch
 
 
 def _rows_of(path: Path) -> Iterator[tuple[Any, ...]]:

@@ -1,4 +1,4 @@
-"""Page latency at two sizes: the entity page, the topic page and the recheck queue.
+"""Page latency at two sizes: the entity page, the topic page, the recheck queue and the statement page.
 
 ``python tests/benchmarks/pages.py --measure SMALL BIG [--requests 100]`` opens both workspaces'
 web apps in this process (Flask's test client: no network, the server's own work only), asks
@@ -8,6 +8,14 @@ hits both alike, and prints the times as JSON. ``bench.py`` runs it on a 3,000-s
 workspace and the full-size one and prints the ratios of their medians and 95th percentiles;
 the pages are paged (50 statements), so the ratios stay near 1 when the queries use their
 indexes and grow with the workspace when they scan.
+
+The statement page is asked for twice over: ``statement page (cold)`` shows blurbs never shown
+before in the process (its two charts are drawn with matplotlib, the series one with a line for
+every entity of the level, so it grows with the number of entities), then ``statement page (warm)``
+shows the same blurbs again, in the same order, when their chart specs and drawings are read from
+the caches keyed by the statement's digest (stetline.web.charts, stetline.charts). The two
+workspaces' chart folders start empty in a benchmark run; a cold page that finds its chart file
+there (a run in a kept folder) reads it instead of drawing.
 """
 
 from __future__ import annotations
@@ -21,7 +29,8 @@ import sys
 import time
 from pathlib import Path
 
-PAGES = ("entity page", "topic page", "recheck queue")
+COLD, WARM = "statement page (cold)", "statement page (warm)"
+PAGES = ("entity page", "topic page", "recheck queue", COLD, WARM)  # the cold page comes before the warm one
 WARM_UP = 5
 
 
@@ -40,13 +49,26 @@ class _Site:
             self.in_recheck = ops.count_slots(s, ops.SlotFilter(status="recheck"))
         self.client = create_app(self.ws, {"TESTING": True}).test_client()
         self.rng = random.Random(random_state)
+        cells = len(self.entities) * len(self.topics)
+        # blurbs (drafted with the default kinds and with every kind) in an order of their own, never repeated cold
+        self.fresh = iter(self.rng.sample(range(cells), cells))
+        self.shown: list[str] = []
+        self.again = 0
 
     def url(self, page: str) -> str:
-        """A page's address: a different entity or topic each time."""
+        """A page's address: a different entity or topic each time; a statement never shown before
+        (cold), or one shown cold before, in the order they were (warm)."""
         if page == "entity page":
             return f"/entities/{self.rng.choice(self.entities)}"
         if page == "topic page":
             return f"/topics/{self.rng.choice(self.topics)}"
+        if page == COLD:
+            entity, topic = divmod(next(self.fresh), len(self.topics))
+            self.shown.append(f"/statements/blurb/{self.entities[entity]}/{self.topics[topic]}")
+            return self.shown[-1]
+        if page == WARM:
+            self.again += 1
+            return self.shown[(self.again - 1) % len(self.shown)]
         return "/recheck"
 
     def time(self, page: str) -> float:
@@ -57,6 +79,8 @@ class _Site:
         took = time.perf_counter() - start
         if response.status_code != 200:
             raise SystemExit(f"{address}: HTTP {response.status_code}")
+        if page in (COLD, WARM) and response.data.count(b"data:image/svg+xml") < 2:
+            raise SystemExit(f"{address}: the page shows no series and ranking charts")
         return took
 
 

@@ -5,7 +5,7 @@ A draft row is written only when a slot's text, evidence or claims change.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
@@ -48,8 +48,9 @@ def slot_states(session: Session) -> dict[str, SlotState]:
     from stetline.reconcile import Basis, HumanWork, SlotState
 
     states = {
-        sid: SlotState(sid, dig, gone, status)
-        for sid, dig, gone, status in session.execute(select(Slot.id, Slot.digest, Slot.gone, Slot.status))
+        sid: SlotState(sid, dig, gone, status, [], version)
+        for sid, dig, gone, status, version in session.execute(
+            select(Slot.id, Slot.digest, Slot.gone, Slot.status, Slot.version))
     }
     for layer in session.scalars(select(Layer).where(Layer.dropped_at.is_(None)).order_by(Layer.id)):
         states[layer.slot_id].work.append(
@@ -58,6 +59,13 @@ def slot_states(session: Session) -> dict[str, SlotState]:
     for appr in session.scalars(select(Approval).where(Approval.dropped_at.is_(None)).order_by(Approval.id)):
         states[appr.slot_id].work.append(HumanWork(appr.id, "approval", appr.text, None, Basis.from_json(appr.basis)))
     return states
+
+
+def slots_with_work(session: Session) -> set[str]:
+    """The slots that carry an active layer or approval (SlotState.human), without reading the work."""
+    layered = select(Layer.slot_id).where(Layer.dropped_at.is_(None))
+    approved = select(Approval.slot_id).where(Approval.dropped_at.is_(None))
+    return set(session.scalars(layered.union(approved)))
 
 
 def current_drafts(session: Session, slot_ids: Iterable[str]) -> list[DraftText]:
@@ -86,12 +94,13 @@ class Applied:
 
 def apply_decisions(
     session: Session, edition_id: int, decisions: Sequence[Decision], drafts: dict[str, DraftText], by: str,
-    versions: dict[str, int] | None = None,
+    versions: Mapping[str, int] | None = None,
 ) -> Applied:
     """Write a refresh's decisions in bulk: new drafts, slot states, rebased human work, events.
 
-    ``versions`` (from :func:`slot_versions`, read before any of a load's writes) lets a load apply
-    its decisions in several calls, a kind at a time, without reading every slot's version each time.
+    ``versions`` (each slot's version as :func:`slot_versions` or :func:`slot_states` read it, before
+    any of a load's writes) lets a load apply its decisions in several calls, a kind at a time,
+    without reading every slot's version each time.
     """
     next_id = (session.scalar(select(func.max(Draft.id))) or 0) + 1
     if versions is None:
