@@ -172,7 +172,8 @@ def test_a_pattern_across_quarterly_topics_is_said_without_raw_labels() -> None:
     out = draft_texts(rows, [topic("alpha"), topic("beta"), topic("gamma")], PLACES)
     profile, _e, claims = out["profile/e5"]
     assert claims["data_check"] == ["alpha", "beta", "gamma"]  # against a year earlier, as the movement counts
-    assert "On all three indicators compared, it moved the opposite way to most other towns, and it was the only one to do so." in profile
+    assert ("On all three indicators compared, it moved the opposite way to most other towns, and it was the only one"
+            " to do so.") in profile
     assert "On all three indicators compared, Colne moved the opposite way to most other towns." in out["headline"][0]
     assert not [slot for slot, (text, _e, _c) in out.items() if RAW.search(text)]
     assert "the third quarter of 2024" in out["movement/alpha"][0]

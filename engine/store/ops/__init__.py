@@ -91,8 +91,8 @@ from stetline.store.ops.refresh import (
     current_drafts,
     hold_writers,
     slot_states,
-    slots_with_work,
     slot_versions,
+    slots_with_work,
     table_counts,
 )
 from stetline.store.ops.search import (
@@ -130,7 +130,8 @@ __all__ = [
     "all_active_approvals", "slot_statuses", "listed", "SlotFilter", "list_slots", "count_slots",
     "status_counts", "status_counts_by", "status_counts_of", "recheck_options", "recheck_reason_counts",
     "Counts", "describe_totals", "workspace_counts", "CurrentDraft", "current_of_kind",
-    "indexes_deferred", "hold_writers", "slot_states", "slots_with_work", "current_drafts", "Applied", "apply_decisions", "slot_versions",
+    "indexes_deferred", "hold_writers", "slot_states", "slots_with_work", "current_drafts", "Applied",
+    "apply_decisions", "slot_versions",
     "table_counts",
     "add_event", "events_for", "recent_events", "events_by_action", "latest_event", "events_after", "first_edition_of",
     "COMMENT_KINDS", "add_comment", "comments_for", "drafts_as_of", "gone_as_of", "layer_types_by_slot",
