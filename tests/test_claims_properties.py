@@ -415,6 +415,9 @@ def test_a_first_edition_with_one_period_says_what_it_covers() -> None:
     assert "no indicator moved" not in text
 
 
+RISE_BY = re.compile(r"\b(rose by|a rise of|up|went up by) [0-9]")  # the four wordings of a rise
+
+
 def test_steady_follows_the_unit_the_topic_change_column_prints_in() -> None:
     # +0.04 on 42.324%: 0.0 percentage points at one decimal, but 0.0945% (prints "0.1%") as a relative change
     rate = {"topic": "rate", "label": "Take-up rate", "unit": "percent", "better": "higher", "decimals": 1}
@@ -422,11 +425,11 @@ def test_steady_follows_the_unit_the_topic_change_column_prints_in() -> None:
             ("e1", "rate", 2025, 51.0), ("e2", "rate", 2024, 60.0), ("e2", "rate", 2025, 61.0)]
     assert yearly(rows, [rate])["change/e0/rate"][2]["direction"] == "flat"
     text, _e, claims = yearly(rows, [{**rate, "change": "relative"}])["change/e0/rate"]
-    assert claims["direction"] == "up" and "rose by 0.1%" in text
+    assert claims["direction"] == "up" and RISE_BY.search(text) and "0.1%" in text
     # +0.04 on 900 tonnes: 0.0044% (prints "0.0%"), but 0.04 tonnes at two decimals in the topic's own unit
     waste = {"topic": "w", "label": "Waste", "unit": "tonnes", "better": "lower", "decimals": 2}
     rows = [("e0", "w", 2024, 900.0), ("e0", "w", 2025, 900.04), ("e1", "w", 2024, 500.0),
             ("e1", "w", 2025, 510.0), ("e2", "w", 2024, 600.0), ("e2", "w", 2025, 610.0)]
     assert yearly(rows, [waste])["change/e0/w"][2]["direction"] == "flat"
     text, _e, claims = yearly(rows, [{**waste, "change": "absolute"}])["change/e0/w"]
-    assert claims["better"] == "worsened" and "a rise of 0.04 tonnes" in text
+    assert claims["better"] == "worsened" and RISE_BY.search(text) and "0.04 tonnes" in text
