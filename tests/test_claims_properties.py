@@ -85,7 +85,7 @@ def expected_change(rows: list[tuple], latest: float, meta: dict) -> tuple[str, 
     if not usable(now) or not usable(before) or now[4] == "break":
         return None
     change = now[2] - before[2]
-    flat = prints_as_zero(change, before[2], meta["unit"], meta["decimals"], meta["change"])
+    flat = prints_as_zero(change, before[2], meta["unit"], meta["decimals"], meta.get("change", ""))
     if not math.isnan(now[3]) and not math.isnan(before[3]):
         flat = flat or abs(change) <= math.sqrt(now[3] ** 2 + before[3] ** 2)
     direction = "flat" if flat else ("up" if change > 0 else "down")
@@ -117,7 +117,7 @@ def expected_streak(rows: list[tuple], meta: dict, spacing: float, natural: floa
         if not usable(now) or not usable(before) or now[1] - before[1] > spacing + 1e-6:
             break
         change = now[2] - before[2]
-        zero = prints_as_zero(change, before[2], meta["unit"], meta["decimals"], meta["change"])
+        zero = prints_as_zero(change, before[2], meta["unit"], meta["decimals"], meta.get("change", ""))
         if not math.isnan(now[3]) and not math.isnan(before[3]):
             zero = zero or abs(change) <= math.sqrt(now[3] ** 2 + before[3] ** 2)
         sign = 0 if zero else (1 if change > 0 else -1) * direction

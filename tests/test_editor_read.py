@@ -79,8 +79,9 @@ def test_a_seasons_record_is_a_figure_not_a_quarter() -> None:
 def test_a_run_one_way_that_ends_on_a_seasons_low_says_though() -> None:
     # "has risen for three quarters in a row, to 216.39 points …, the lowest third quarter since 2007"
     third = {2019: 40.0, 2020: 60.0, 2021: 60.0, 2022: 60.0, 2023: 60.0, 2024: 60.0}
+    # counted quarter on quarter (compare_with=previous): against a year earlier the run would be a fall
     out = draft(_quarters(third, {"2024-Q4": 42.0, "2025-Q1": 44.0, "2025-Q2": 47.0, "2025-Q3": 50.0}),
-                RATE, "quarter")
+                RATE, "quarter", compare_with="previous")
     trend = out["trend/a/rate"]
     assert trend.claims["streak"] == "improved:3" and trend.claims["record"] == "lowest-since:2019-Q3"
     assert ", though that was the lowest third-quarter figure since 2019" in trend.text

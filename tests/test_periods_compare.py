@@ -236,7 +236,7 @@ def expected_year_earlier(rows: list[tuple], latest: str, meta: dict) -> tuple[s
         return "unknown", "n/a"
     assert now is not None and before is not None
     change = now[3] - before[3]
-    flat = prints_as_zero(change, before[3], meta["unit"], meta["decimals"], meta["change"])
+    flat = prints_as_zero(change, before[3], meta["unit"], meta["decimals"], meta.get("change", ""))
     if not math.isnan(now[4]) and not math.isnan(before[4]):
         flat = flat or abs(change) <= math.sqrt(now[4] ** 2 + before[4] ** 2)
     direction = "flat" if flat else ("up" if change > 0 else "down")
