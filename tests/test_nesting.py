@@ -212,7 +212,8 @@ def coast_obs(coast_value: float | None) -> pd.DataFrame:
 def test_a_standing_says_its_place_within_its_parent_and_compares_with_the_parents_value() -> None:
     d = drafts_for(COAST, coast_obs(46.0))["standing/t2/recycling"]
     # t2 is 47.0: third of the six Coast towns (50, 48, 47, 45, 44, 41); the district's own figure is 46.0
-    assert "Town 2 was the third best of six towns in Coast District, above the Coast District figure of 46.0%." in d.text
+    assert ("Town 2 was the third best of six towns in Coast District, above the Coast District figure of 46.0%."
+            in d.text)
     assert d.claims["parent_basis"] == "parent" and d.claims["vs_parent"] == "above"
     assert d.evidence["sibling_rank"]["value"] == 3 and d.evidence["sibling_rank_of"]["value"] == 6
     blurb = drafts_for(COAST, coast_obs(46.0))["blurb/t2/recycling"]
